@@ -1,0 +1,35 @@
+"""Physical and model constants, each with its source.
+
+Physical constants come from :mod:`scipy.constants` (CODATA). Model constants are the vetted values of
+the project's design notes; "from memory" marks a value recalled rather than re-read from the paper.
+"""
+
+from __future__ import annotations
+
+from scipy import constants as _sc
+
+#: Vacuum permeability μ0 in T·m/A (CODATA, via scipy.constants).
+MU0_T_M_PER_A: float = _sc.mu_0
+
+#: μ0 × (1 nA/T) expressed in ppm·Å. A current susceptibility J (nA/T) in a field B induces a current
+#: I = J·B; its field at distance r scales as μ0 I / r, so μ0·J is a length, and
+#: 4π×1e-7 T·m/A × 1e-9 A/T = 1.2566e-15 m = 1.2566e-5 Å = 12.566 ppm·Å.
+MU0_PPM_A_PER_NA_T: float = _sc.mu_0 * 1e-9 * 1e10 * 1e6
+
+#: Net ring-current susceptibility of benzene, nA/T. Ab initio value ≈ 11.8–12 nA/T
+#: (Fliegl, Sundholm, Taubert, Jusélius, Klopper, J. Phys. Chem. A 2009, 113, 8668; from memory).
+BENZENE_CURRENT_NA_PER_T: float = 12.0
+
+#: Half-separation of the Johnson–Bovey double loop above and below the ring plane, Å
+#: (Johnson & Bovey, J. Chem. Phys. 1958, 29, 1012).
+JB_SEPARATION_A: float = 0.64
+
+#: Points closer than this to a loop wire are regularised and reported (design notes §6).
+WIRE_CUTOFF_A: float = 0.2
+
+#: Beyond this many loop radii the exact forms lose precision; the point-dipole form is used
+#: (design notes §5).
+FAR_FIELD_RADII: float = 10.0
+
+#: Boltzmann constant in kcal/(mol·K) (CODATA R / 4184 J/kcal, via scipy.constants).
+KB_KCAL_PER_MOL_K: float = _sc.R / 4184.0
