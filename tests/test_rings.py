@@ -1,0 +1,139 @@
+"""Circuit perception and ring geometry."""
+
+import numpy as np
+import pytest
+from hypothesis import given, settings, strategies as st
+from numpy.testing import assert_allclose
+from rdkit import Chem
+from scipy.spatial.transform import Rotation
+
+from ringshift.errors import InputError
+from ringshift.rings import (
+    circuit_geometry,
+    find_circuits,
+    plane_fit,
+)
+
+
+def _mol(smi):
+    return Chem.AddHs(Chem.MolFromSmiles(smi))
+
+
+# Faces of ordinary fused aromatics equal RDKit's SSSR rings (reference library: RDKit ring perception).
+@pytest.mark.parametrize(
+    "smiles",
+    ["c1ccccc1", "c1ccc2ccccc2c1", "c1ccc2cc3ccccc3cc2c1", "c1ccc2cccc2cc1", "c1ccncc1", "c1cc[nH]c1",
+     "c1ccc2[nH]ccc2c1"],
+    ids=["benzene", "naphthalene", "anthracene", "azulene", "pyridine", "pyrrole", "indole"],
+)
+def test_faces_match_rdkit_sssr_for_fused_aromatics(smiles):
+    mol = _mol(smiles)
+    faces = {frozenset(c.atoms) for c in find_circuits(mol) if c.carries_loop}
+    rdkit_rings = {frozenset(r) for r in mol.GetRingInfo().AtomRings()}
+    assert faces == rdkit_rings
+
+
+def test_perimeter_of_naphthalene_is_the_10_ring():
+    # Naphthalene's perimeter is the 10-atom outline (textbook, common practice, no source).
+    circuits = find_circuits(_mol("c1ccc2ccccc2c1"))
+    per = [c for c in circuits if c.kind == "perimeter"]
+    assert len(per) == 1 and per[0].size == 10 and not per[0].carries_loop
+
+
+def test_bridged_annulene_circuit_is_the_10_perimeter():
+    # 1,6-methano[10]annulene: the conjugated circuit is the 10-atom perimeter; RDKit's own rings are
+    # the two 7-rings through the CH2 bridge (design notes §6; Vogel & Roth, Angew. Chem. 1964, from memory).
+    mol = _mol("C1=CC=C2CC(=C1)C=CC=C2")
+    rdkit_sizes = sorted(len(r) for r in mol.GetRingInfo().AtomRings())
+    assert rdkit_sizes == [7, 7]
+    loops = [c for c in find_circuits(mol) if c.carries_loop]
+    assert [c.size for c in loops] == [10]
+    bridge = [a.GetIdx() for a in mol.GetAtoms() if a.GetSymbol() == "C" and a.GetTotalNumHs() == 2]
+    assert not set(bridge) & set(loops[0].atoms)
+
+
+def test_porphine_faces():
+    # Porphine: 24 pi atoms, 28 pi bonds → cycle space of dimension 28 − 24 + 1 = 5 (Euler, textbook):
+    # four pyrrole rings and the inner 16-ring.
+    mol = _mol("C1=CC2=NC1=CC3=CC=C(N3)C=C4C=CC(=N4)C=C5C=CC(=C5)N2")
+    loops = [c for c in find_circuits(mol) if c.carries_loop]
+    assert sorted(c.size for c in loops) == [5, 5, 5, 5, 16]
+
+
+def test_user_circuit_validation():
+    mol = _mol("c1ccccc1")
+    (c,) = find_circuits(mol, user_circuits=[[0, 1, 2, 3, 4, 5]])
+    assert c.kind == "user" and c.atoms == (0, 1, 2, 3, 4, 5)
+    with pytest.raises(InputError, match="not bonded"):
+        find_circuits(mol, user_circuits=[[0, 2, 1, 3, 4, 5]])
+    with pytest.raises(InputError, match="out of range"):
+        find_circuits(mol, user_circuits=[[0, 1, 99]])
+
+
+def _hexagon(side=1.397):
+    ang = np.arange(6) * np.pi / 3
+    return np.stack([side * np.cos(ang), side * np.sin(ang), np.zeros(6)], axis=1)
+
+
+def test_regular_hexagon_geometry():
+    # Regular hexagon: circumradius = side, area = 3*sqrt(3)/2 * side^2 (textbook geometry).
+    hexa = _hexagon()
+    geo = circuit_geometry(hexa[None], list(range(6)))
+    assert_allclose(geo.radius_A, [1.397], rtol=1e-12)
+    assert_allclose(geo.area_A2, [1.5 * np.sqrt(3) * 1.397**2], rtol=1e-12)
+    assert_allclose(geo.planarity_rms_A, [0.0], atol=1e-12)
+    assert_allclose(geo.normal[0], [0, 0, 1], atol=1e-12)  # counter-clockwise about +z
+    assert_allclose(geo.max_misalignment_deg, [0.0], atol=1e-6)
+
+
+def test_normal_follows_atom_order():
+    hexa = _hexagon()
+    geo = circuit_geometry(hexa[None], [0, 5, 4, 3, 2, 1])
+    assert_allclose(geo.normal[0], [0, 0, -1], atol=1e-12)
+
+
+def test_chair_is_not_planar():
+    # Cyclohexane chair: alternate atoms ±0.25 Å from the mean plane (textbook geometry, from memory);
+    # RMS deviation equals that displacement exactly for an ideal ±h puckering.
+    hexa = _hexagon(1.45)
+    hexa[:, 2] = 0.25 * (-1.0) ** np.arange(6)
+    geo = circuit_geometry(hexa[None], list(range(6)))
+    assert_allclose(geo.planarity_rms_A, [0.25], rtol=1e-12)
+    assert geo.max_misalignment_deg[0] > 10
+
+
+def test_collinear_ring_is_refused():
+    pts = np.zeros((1, 3, 3))
+    pts[0, :, 0] = [0.0, 1.0, 2.0]
+    with pytest.raises(InputError, match="collinear"):
+        circuit_geometry(pts, [0, 1, 2])
+
+
+@settings(max_examples=40, deadline=None)
+@given(
+    rot=st.lists(st.floats(-np.pi, np.pi), min_size=3, max_size=3),
+    shift=st.lists(st.floats(-50, 50), min_size=3, max_size=3),
+    n=st.integers(3, 20),
+    seed=st.integers(0, 10_000),
+)
+def test_geometry_is_invariant_under_rigid_motions(rot, shift, n, seed):
+    # Invariance under rotation and translation (common practice, no source).
+    rng = np.random.default_rng(seed)
+    ang = np.sort(rng.uniform(0, 2 * np.pi, n))
+    ang += np.linspace(0, 2 * np.pi, n, endpoint=False) - ang  # keep a convex, well-spread polygon
+    r = rng.uniform(1.0, 4.0)
+    pts = np.stack([r * np.cos(ang), r * np.sin(ang), rng.normal(0, 0.05, n)], axis=1)
+    R = Rotation.from_euler("xyz", rot).as_matrix()
+    moved = pts @ R.T + np.asarray(shift)
+    a = circuit_geometry(pts[None], list(range(n)))
+    b = circuit_geometry(moved[None], list(range(n)))
+    assert_allclose(b.radius_A, a.radius_A, rtol=1e-9)
+    assert_allclose(b.area_A2, a.area_A2, rtol=1e-9)
+    assert_allclose(b.planarity_rms_A, a.planarity_rms_A, atol=1e-9)
+    assert_allclose(b.normal[0], R @ a.normal[0], atol=1e-9)
+
+
+def test_plane_fit_stack_shapes():
+    pts = np.stack([_hexagon(), _hexagon(1.5)])
+    c, n, rms = plane_fit(pts)
+    assert c.shape == (2, 3) and n.shape == (2, 3) and rms.shape == (2,)
