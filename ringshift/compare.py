@@ -1,0 +1,540 @@
+"""Compare predicted ring-current shifts with an observed ¹H peak list.
+
+Given per-hydrogen-group predictions (:class:`GroupModel`), a priori circuit currents
+(:class:`CircuitPrior`) and observed peaks (:class:`ObservedPeak`), :func:`compare` assigns peaks to
+groups, fits the circuit currents with their uncertainty and weighs the evidence for a diatropic,
+paratropic or no current in each circuit.
+
+Model (linear in the currents; Bradley, Jirásek, Anderson & Peeks, Chem. Sci. 2023, 14, 1762 fitted
+porphyrin-nanoring currents this way)::
+
+    δ_obs,i = ref_i + u_class(i) + Σ_c J_c g_ic + q_i + ε_i
+
+* ``ref_i`` the table reference shift of group i (ppm) and ``u_k`` one offset per proton class
+  shared by the groups of that class, prior u_k ~ N(0, s_k²) with s_k the largest ``ref_sd_ppm``
+  among the groups of class k;
+* ``J_c`` the current of circuit c (nA/T, > 0 diatropic), prior N(prior, prior_sd²);
+* ``g_ic`` the ring-current shift of group i per nA/T of circuit c (ppm per nA/T, positive =
+  downfield per unit diatropic current);
+* ``q_i`` the fixed π-charge term (ppm);
+* ε_i ~ N(0, σ²), σ the model error: 0.3 ppm by default (:data:`DEFAULT_NOISE_PPM`, the typical
+  size of the residual scatter of additive reference-shift plus ring-current models; common practice,
+  no source), or chosen by maximum evidence over :data:`NOISE_GRID_PPM` with ``noise_ppm="auto"``.
+
+Each assigned group is one observation. Posterior and evidence are closed form
+(:mod:`ringshift.evidence`); assignment is optimal matching on integral slots
+(:mod:`ringshift.assign`), alternated with the fit until the assignment is stable, from several
+starting currents (a priori, its mirror image, zero, and ``n_random_starts`` draws from the sign
+prior using ``seed``). The best assignment is the one of lowest cost::
+
+    cost = −2 ln Z(assigned shifts) + overflow_cost_per_h × (protons beyond integrals)
+           + missing_cost × (unassigned groups)
+
+so cost differences are on the 2 ln B scale; alternatives within ``alternative_max_delta`` are
+reported. Evidence per circuit: see :mod:`ringshift.evidence` (sign hypotheses from a symmetric prior
+N(0, w²), w = 1.5 × benzene by default; Kass & Raftery, JASA 1995, 90, 773).
+"""
+
+from __future__ import annotations
+
+import math
+import warnings
+from dataclasses import dataclass
+from numbers import Integral, Real
+from typing import Sequence
+
+import numpy as np
+
+from . import assign as _assign
+from .assign import Alternative, GroupAssignment, PeakSummary, group_results, peak_label
+from .constants import BENZENE_CURRENT_NA_PER_T
+from .errors import AssignmentWarning, InputError
+from .evidence import (CLAIM_VERDICT, CircuitEvidence, CircuitFit, ClaimCheck, ToDictMixin, circuit_fits,
+                       claim_check, to_plain)
+
+__all__ = ["ObservedPeak", "GroupModel", "CircuitPrior", "compare", "rank_candidates", "Comparison",
+           "CandidateScore", "CircuitFit", "CircuitEvidence", "ClassOffset", "GroupAssignment", "PeakSummary",
+           "Alternative", "ClaimCheck"]
+
+#: Default model error σ of a predicted shift, ppm (common practice, no source).
+DEFAULT_NOISE_PPM: float = 0.3
+#: Grid of σ values (ppm) searched by ``noise_ppm="auto"`` (maximum evidence).
+NOISE_GRID_PPM: tuple[float, ...] = (0.1, 0.15, 0.2, 0.3, 0.45, 0.7, 1.0)
+#: Width w (nA/T) of the symmetric prior whose halves are the sign hypotheses: 1.5 × benzene.
+SIGN_PRIOR_SD_NA_PER_T: float = 1.5 * BENZENE_CURRENT_NA_PER_T
+#: Surcharge per proton placed beyond a peak's integral (one proton ≈ a 2σ residual).
+OVERFLOW_COST_PER_H: float = 4.0
+#: Cost of leaving a group unassigned (a 5σ outlier).
+MISSING_COST: float = 25.0
+#: Alternatives are reported when their cost exceeds the best by less than this (2 ln B units).
+ALTERNATIVE_MAX_DELTA: float = 2.0
+#: Peak kinds never assigned to groups.
+IGNORED_KINDS: frozenset[str] = frozenset({"solvent", "impurity", "reference"})
+#: Claims and the verdict that supports each.
+
+
+# ----------------------------------------------------------------------------------------- inputs
+@dataclass(frozen=True)
+class ObservedPeak:
+    """One observed ¹H peak.
+
+    Attributes
+    ----------
+    shift_ppm : float
+        Chemical shift, ppm.
+    integral : float or None
+        Integral in any unit (scaled to protons, see ``integral_scale`` of :func:`compare`); None if
+        unknown.
+    fixed_groups : tuple of int or None
+        Indices of groups the user assigns to this peak; they are kept there.
+    label : str
+        Name used in reports (default: the shift).
+    kind : str
+        "signal" (default); kinds in :data:`IGNORED_KINDS` ("solvent", "impurity", "reference") are
+        never assigned.
+    """
+
+    shift_ppm: float
+    integral: float | None = None
+    fixed_groups: tuple[int, ...] | None = None
+    label: str = ""
+    kind: str = "signal"
+
+
+@dataclass(frozen=True, eq=False)
+class GroupModel:
+    """Prediction for one group of equivalent hydrogens.
+
+    Attributes
+    ----------
+    label : str
+    atoms : tuple of int
+        Hydrogen atom indices.
+    parents : tuple of int
+        Indices of the heavy atoms carrying them.
+    n_h : int
+        Number of protons (≥ 1).
+    proton_class : str
+        Reference class; groups of one class share a fitted offset.
+    ref_ppm, ref_sd_ppm : float
+        Table reference shift and its spread (> 0), ppm.
+    g_ppm_per_nA_T : ndarray, shape (n_circuits,)
+        Ring-current shift per nA/T of each circuit, ppm per nA/T (positive = downfield for a
+        diatropic current).
+    charge_ppm : float
+        π-charge shift term, ppm (fixed).
+    """
+
+    label: str
+    atoms: tuple[int, ...]
+    parents: tuple[int, ...]
+    n_h: int
+    proton_class: str
+    ref_ppm: float
+    ref_sd_ppm: float
+    g_ppm_per_nA_T: np.ndarray
+    charge_ppm: float = 0.0
+
+    def __post_init__(self):
+        try:
+            g = np.array(self.g_ppm_per_nA_T, dtype=np.float64).reshape(-1)
+        except (TypeError, ValueError):
+            return  # left as given; the validation gate of compare() reports it
+        g.setflags(write=False)
+        object.__setattr__(self, "g_ppm_per_nA_T", g)
+
+
+@dataclass(frozen=True)
+class CircuitPrior:
+    """A priori current of one circuit (e.g. Hückel–London), used as a weak prior.
+
+    Attributes
+    ----------
+    label : str
+    prior_nA_per_T : float
+        Prior mean, nA/T (> 0 diatropic).
+    prior_sd_nA_per_T : float
+        Prior sd, nA/T (> 0); default 1.5 × benzene.
+    """
+
+    label: str
+    prior_nA_per_T: float
+    prior_sd_nA_per_T: float = SIGN_PRIOR_SD_NA_PER_T
+
+
+# ---------------------------------------------------------------------------------------- results
+@dataclass(frozen=True)
+class ClassOffset(ToDictMixin):
+    """Fitted offset of one proton class from its table references, ppm."""
+
+    proton_class: str
+    offset_ppm: float
+    sd_ppm: float
+    prior_sd_ppm: float
+
+@dataclass(frozen=True)
+class Comparison(ToDictMixin):
+    """Result of :func:`compare`.
+
+    ``verdict`` is the verdict of the circuit with the largest evidence margin (``verdict_circuit``).
+    ``cost`` is the assignment cost (module docstring), ``log10_evidence`` the log10 marginal
+    likelihood of the assigned shifts. ``start`` names the starting current of the winning search,
+    ``iterations`` its assignment/fit cycles and ``converged`` whether it reached a fixed point.
+    """
+
+    verdict: str
+    verdict_circuit: str
+    circuits: tuple[CircuitFit, ...]
+    assignment: tuple[GroupAssignment, ...]
+    peaks: tuple[PeakSummary, ...]
+    unassigned_peaks: tuple[int, ...]
+    unassigned_groups: tuple[int, ...]
+    ignored_peaks: tuple[int, ...]
+    alternatives: tuple[Alternative, ...]
+    claim: ClaimCheck | None
+    class_offsets: tuple[ClassOffset, ...]
+    noise_ppm: float
+    noise_estimated: bool
+    integral_scale: float
+    converged: bool
+    iterations: int
+    start: str
+    cost: float
+    log10_evidence: float
+
+    def to_dict(self) -> dict:
+        """Plain JSON-able dict; unassigned peaks and groups are given with labels."""
+        out = to_plain(self)
+        out["unassigned_peaks"] = [
+            {"index": int(i), "label": self.peaks[i].label, "shift_ppm": float(self.peaks[i].shift_ppm)}
+            for i in self.unassigned_peaks
+        ]
+        out["unassigned_groups"] = [
+            {"index": int(i), "label": self.assignment[i].label} for i in self.unassigned_groups
+        ]
+        return out
+
+
+@dataclass(frozen=True)
+class CandidateScore(ToDictMixin):
+    """Rank of one candidate structure by :func:`rank_candidates`.
+
+    ``cost`` = the comparison cost + ``unassigned_peak_cost`` × unassigned signal peaks;
+    ``log10_bf_vs_best`` = −(cost − best cost) / (2 ln 10); ``probability`` ∝ exp(−cost/2) with
+    equal prior probabilities of the candidates.
+    """
+
+    name: str
+    rank: int
+    cost: float
+    log10_bf_vs_best: float
+    probability: float
+    comparison: Comparison
+
+# ------------------------------------------------------------------------------------- validation
+def _number(value, source: str, *, positive: bool = False, nonneg: bool = False) -> float:
+    if isinstance(value, (bool, np.bool_)) or not isinstance(value, (Real, np.floating, np.integer)):
+        raise InputError(f"expected a real number, got {value!r}", source)
+    value = float(value)
+    if not math.isfinite(value):
+        raise InputError(f"expected a finite number, got {value}", source)
+    if positive and value <= 0.0:
+        raise InputError(f"expected a number > 0, got {value}", source)
+    if nonneg and value < 0.0:
+        raise InputError(f"expected a number >= 0, got {value}", source)
+    return value
+
+
+def _validate(groups, peaks, circuits) -> None:
+    """The one validation gate of this module; raises InputError with a one-line message."""
+    for name, seq, cls in (("groups", groups, GroupModel), ("peaks", peaks, ObservedPeak),
+                           ("circuits", circuits, CircuitPrior)):
+        if isinstance(seq, (str, bytes)) or not isinstance(seq, Sequence):
+            raise InputError(f"expected a sequence of {cls.__name__}, got {type(seq).__name__}", name)
+        if len(seq) == 0:
+            raise InputError(f"expected at least one {cls.__name__}, got none", name)
+        for i, item in enumerate(seq):
+            if not isinstance(item, cls):
+                raise InputError(f"expected a {cls.__name__}, got {type(item).__name__}", f"{name}[{i}]")
+    n_circ = len(circuits)
+    for i, c in enumerate(circuits):
+        _number(c.prior_nA_per_T, f"circuits[{i}].prior_nA_per_T")
+        _number(c.prior_sd_nA_per_T, f"circuits[{i}].prior_sd_nA_per_T", positive=True)
+    for i, g in enumerate(groups):
+        src = f"groups[{i}]"
+        if isinstance(g.n_h, bool) or not isinstance(g.n_h, (Integral, np.integer)) or g.n_h < 1:
+            raise InputError(f"expected an integer >= 1, got {g.n_h!r}", f"{src}.n_h")
+        _number(g.ref_ppm, f"{src}.ref_ppm")
+        _number(g.ref_sd_ppm, f"{src}.ref_sd_ppm", positive=True)
+        _number(g.charge_ppm, f"{src}.charge_ppm")
+        garr = g.g_ppm_per_nA_T
+        if not isinstance(garr, np.ndarray) or garr.shape != (n_circ,):
+            shape = getattr(garr, "shape", type(garr).__name__)
+            raise InputError(f"expected {n_circ} values (one per circuit), got {shape}", f"{src}.g_ppm_per_nA_T")
+        if not np.all(np.isfinite(garr)):
+            raise InputError(f"expected finite values, got {garr.tolist()}", f"{src}.g_ppm_per_nA_T")
+        if not isinstance(g.proton_class, str) or not g.proton_class:
+            raise InputError(f"expected a non-empty class name, got {g.proton_class!r}", f"{src}.proton_class")
+    owner: dict[int, int] = {}
+    for i, p in enumerate(peaks):
+        src = f"peaks[{i}]"
+        _number(p.shift_ppm, f"{src}.shift_ppm")
+        if p.integral is not None:
+            _number(p.integral, f"{src}.integral", nonneg=True)
+        for j in p.fixed_groups or ():
+            if isinstance(j, bool) or not isinstance(j, (Integral, np.integer)) or not 0 <= j < len(groups):
+                raise InputError(f"expected group indices 0..{len(groups) - 1}, got {j!r}", f"{src}.fixed_groups")
+            if int(j) in owner and owner[int(j)] != i:
+                raise InputError(f"group {j} is already fixed to peaks[{owner[int(j)]}]", f"{src}.fixed_groups")
+            owner[int(j)] = i
+        if p.fixed_groups and p.kind in IGNORED_KINDS:
+            raise InputError(f"a {p.kind!r} peak cannot hold fixed groups", f"{src}.fixed_groups")
+    if all(p.kind in IGNORED_KINDS for p in peaks):
+        raise InputError("every peak is a solvent/impurity/reference peak; expected at least one signal", "peaks")
+
+
+def _check_options(noise_ppm, claim, n_alternatives, n_random_starts, integral_scale) -> None:
+    if noise_ppm is not None and not (isinstance(noise_ppm, str) and noise_ppm == "auto"):
+        _number(noise_ppm, "noise_ppm", positive=True)
+    if claim is not None and claim not in CLAIM_VERDICT:
+        raise InputError(f"expected one of {sorted(CLAIM_VERDICT)} or None, got {claim!r}", "claim")
+    for name, v in (("n_alternatives", n_alternatives), ("n_random_starts", n_random_starts)):
+        if isinstance(v, bool) or not isinstance(v, (Integral, np.integer)) or v < 0:
+            raise InputError(f"expected an integer >= 0, got {v!r}", name)
+    if integral_scale is not None:
+        _number(integral_scale, "integral_scale", positive=True)
+
+
+def _build_problem(groups, peaks, circuits, noise, integral_scale, overflow_cost, missing_cost):
+    classes = list(dict.fromkeys(g.proton_class for g in groups))
+    n, K, C = len(groups), len(classes), len(circuits)
+    X = np.zeros((n, K + C))
+    for i, g in enumerate(groups):
+        X[i, classes.index(g.proton_class)] = 1.0
+        X[i, K:] = g.g_ppm_per_nA_T
+    class_sd = [max(g.ref_sd_ppm for g in groups if g.proton_class == k) for k in classes]
+    prior_mean = np.array([0.0] * K + [c.prior_nA_per_T for c in circuits])
+    prior_sd = np.array(class_sd + [c.prior_sd_nA_per_T for c in circuits])
+    integrals = np.array([np.nan if p.integral is None else p.integral for p in peaks], dtype=np.float64)
+    active = np.array([p.kind not in IGNORED_KINDS for p in peaks])
+    has_integral = np.isfinite(integrals) & active
+    n_h = np.array([g.n_h for g in groups], dtype=np.int64)
+    if integral_scale is None:
+        total = float(np.sum(integrals[has_integral]))
+        every = bool(np.all(has_integral[active]))
+        integral_scale = n_h.sum() / total if every and total > 0 else 1.0
+    slots = _assign.slot_counts(np.where(active, integrals, np.nan), integral_scale)
+    fixed = np.full(n, -1, dtype=np.int64)
+    for p_index, p in enumerate(peaks):
+        for j in p.fixed_groups or ():
+            fixed[int(j)] = p_index
+    problem = _assign.SearchProblem(
+        peak_ppm=np.array([p.shift_ppm for p in peaks], dtype=np.float64), slots=slots,
+        has_integral=has_integral, active=active,
+        base=np.array([g.ref_ppm + g.charge_ppm for g in groups]), X=X, n_h=n_h, fixed=fixed,
+        prior_mean=prior_mean, prior_sd=prior_sd, n_classes=K, noise=float(noise),
+        overflow_cost=float(overflow_cost), missing_cost=float(missing_cost),
+    )
+    return problem, classes, float(integral_scale)
+
+
+
+def _circuit_results(problem: _assign.SearchProblem, a, fit, circuits, width: float) -> tuple[CircuitFit, ...]:
+    X, y = problem.data(a)
+    return circuit_fits(X, y, problem.prior_mean, problem.prior_sd, problem.noise, problem.n_classes, fit,
+                        circuits, width)
+
+
+def _check_search_options(width, overflow_cost, missing_cost, max_delta, max_iter) -> None:
+    _number(width, "sign_prior_sd_nA_per_T", positive=True)
+    _number(overflow_cost, "overflow_cost_per_h", nonneg=True)
+    _number(missing_cost, "missing_cost", nonneg=True)
+    _number(max_delta, "alternative_max_delta", nonneg=True)
+    if isinstance(max_iter, bool) or not isinstance(max_iter, (Integral, np.integer)) or max_iter < 1:
+        raise InputError(f"expected an integer >= 1, got {max_iter!r}", "max_iter")
+
+
+# ------------------------------------------------------------------------------------- public API
+def compare(
+    groups: Sequence[GroupModel],
+    peaks: Sequence[ObservedPeak],
+    circuits: Sequence[CircuitPrior],
+    *,
+    noise_ppm: float | str | None = None,
+    claim: str | None = None,
+    n_alternatives: int = 3,
+    seed: int = 0,
+    n_random_starts: int = 2,
+    sign_prior_sd_nA_per_T: float = SIGN_PRIOR_SD_NA_PER_T,
+    integral_scale: float | None = None,
+    overflow_cost_per_h: float = OVERFLOW_COST_PER_H,
+    missing_cost: float = MISSING_COST,
+    alternative_max_delta: float = ALTERNATIVE_MAX_DELTA,
+    max_iter: int = 25,
+) -> Comparison:
+    """Assign peaks to groups, fit the circuit currents and weigh the evidence for their sign.
+
+    Parameters
+    ----------
+    groups : sequence of GroupModel, length n
+        Predictions per hydrogen group; each ``g_ppm_per_nA_T`` has shape (n_circuits,).
+    peaks : sequence of ObservedPeak, length P
+    circuits : sequence of CircuitPrior, length n_circuits
+    noise_ppm : float, "auto" or None, optional
+        Model error σ (ppm); None → :data:`DEFAULT_NOISE_PPM`; "auto" → the value of
+        :data:`NOISE_GRID_PPM` with the lowest cost (maximum evidence).
+    claim : {"aromatic", "antiaromatic", "nonaromatic"}, optional
+        Checked against the overall verdict.
+    n_alternatives : int, optional
+        Maximum number of alternative assignments reported (cost within ``alternative_max_delta``).
+    seed : int, optional
+        Seed of the random starting currents; the result is deterministic for a given seed.
+    n_random_starts : int, optional
+        Starting currents drawn from N(0, w²) in addition to diatropic, paratropic and zero.
+    sign_prior_sd_nA_per_T : float, optional
+        Width w of the prior whose halves are the sign hypotheses (default 1.5 × benzene).
+    integral_scale : float, optional
+        Protons per integral unit; None → total protons of the groups / sum of the signal-peak
+        integrals when every signal peak has one, else 1 (integrals already in protons).
+    overflow_cost_per_h, missing_cost : float, optional
+        Assignment penalties (see :mod:`ringshift.assign`).
+    alternative_max_delta : float, optional
+        Cost window (2 ln B units) of reported alternatives.
+    max_iter : int, optional
+        Maximum assignment/fit cycles per start.
+
+    Returns
+    -------
+    Comparison
+
+    Raises
+    ------
+    InputError
+        Empty or malformed groups, peaks or circuits, non-finite values, negative integrals,
+        invalid fixed assignments or options.
+    """
+    _validate(groups, peaks, circuits)
+    _check_options(noise_ppm, claim, n_alternatives, n_random_starts, integral_scale)
+    _check_search_options(sign_prior_sd_nA_per_T, overflow_cost_per_h, missing_cost, alternative_max_delta,
+                          max_iter)
+    groups, peaks, circuits = tuple(groups), tuple(peaks), tuple(circuits)
+    width = float(sign_prior_sd_nA_per_T)
+    if noise_ppm == "auto":
+        grid = NOISE_GRID_PPM
+    else:
+        grid = (DEFAULT_NOISE_PPM if noise_ppm is None else float(noise_ppm),)
+    run = None
+    for noise in grid:
+        problem, classes, scale = _build_problem(groups, peaks, circuits, noise, integral_scale,
+                                                 overflow_cost_per_h, missing_cost)
+        starts = _assign.starting_points(problem.prior_mean, problem.prior_sd, problem.n_classes,
+                                         int(n_random_starts), width, int(seed))
+        state = _assign.search(problem, starts, int(max_iter))
+        if run is None or state.score < run[1].score - 1e-9:
+            run = (problem, state, classes, scale)
+    problem, state, classes, scale = run
+    state, neigh = _assign.polish(problem, state, int(max_iter))
+    a, fit = state.assignment, state.fit
+
+    circuit_fits = _circuit_results(problem, a, fit, circuits, width)
+    strongest = max(range(len(circuit_fits)), key=lambda c: (circuit_fits[c].evidence.two_ln_bf_margin, -c))
+    verdict = circuit_fits[strongest].verdict
+
+    alternatives = []
+    for key in sorted(neigh, key=lambda k: (neigh[k][0], k)):
+        sc, alt, alt_fit = neigh[key]
+        if sc - state.score >= alternative_max_delta or len(alternatives) >= n_alternatives:
+            break
+        label = lambda p: peak_label(peaks[p]) if p >= 0 else None  # noqa: E731
+        changes = tuple((groups[i].label, label(int(a[i])), label(int(alt[i])))
+                        for i in np.flatnonzero(alt != a))
+        alt_circuits = _circuit_results(problem, alt, alt_fit, circuits, width)
+        alternatives.append(Alternative(
+            delta_cost=float(sc - state.score), changes=changes,
+            currents_nA_per_T=tuple(float(cf.current_nA_per_T) for cf in alt_circuits),
+            verdicts=tuple(cf.verdict for cf in alt_circuits),
+        ))
+
+    held = [tuple(int(i) for i in np.flatnonzero(a == p)) for p in range(len(peaks))]
+    peak_rows = tuple(PeakSummary(
+        index=p, label=peak_label(pk), shift_ppm=float(pk.shift_ppm),
+        integral=None if pk.integral is None else float(pk.integral), kind=pk.kind,
+        slots=int(problem.slots[p]) if problem.has_integral[p] else None, groups=held[p],
+        assigned_h=int(sum(groups[i].n_h for i in held[p])),
+    ) for p, pk in enumerate(peaks))
+    unassigned_groups = tuple(int(i) for i in np.flatnonzero(a < 0))
+    if unassigned_groups:
+        names = ", ".join(groups[i].label for i in unassigned_groups)
+        warnings.warn(f"no peak assigned to group(s) {names}", AssignmentWarning, stacklevel=2)
+    offsets = tuple(ClassOffset(k, float(fit.mean[j]), float(math.sqrt(fit.cov[j, j])), float(problem.prior_sd[j]))
+                    for j, k in enumerate(classes))
+    return Comparison(
+        verdict=verdict, verdict_circuit=circuit_fits[strongest].label, circuits=circuit_fits,
+        assignment=group_results(problem, a, fit, groups, peaks, classes), peaks=peak_rows,
+        unassigned_peaks=tuple(p for p in range(len(peaks)) if problem.active[p] and not held[p]),
+        unassigned_groups=unassigned_groups,
+        ignored_peaks=tuple(p for p in range(len(peaks)) if not problem.active[p]),
+        alternatives=tuple(alternatives),
+        claim=None if claim is None else claim_check(claim, circuit_fits[strongest], verdict),
+        class_offsets=offsets, noise_ppm=float(problem.noise), noise_estimated=noise_ppm == "auto",
+        integral_scale=scale, converged=bool(state.converged), iterations=int(state.iterations),
+        start=state.start, cost=float(state.score), log10_evidence=float(fit.log_evidence / math.log(10.0)),
+    )
+
+
+def rank_candidates(
+    candidates: Sequence[tuple[str, Sequence[GroupModel], Sequence[CircuitPrior]]],
+    peaks: Sequence[ObservedPeak],
+    *,
+    noise_ppm: float | str | None = None,
+    seed: int = 0,
+    n_random_starts: int = 2,
+    n_alternatives: int = 0,
+    integral_scale: float | None = None,
+    unassigned_peak_cost: float = MISSING_COST,
+) -> list[CandidateScore]:
+    """Rank candidate structures (isomers, tautomers, charge states) by how well they explain the peaks.
+
+    Each candidate is compared with :func:`compare`; its cost adds ``unassigned_peak_cost`` per
+    signal peak it leaves unexplained. Costs are on the 2 ln B scale; when candidates assign
+    different numbers of groups the costs compare likelihoods of different data, which is
+    approximate (an :class:`~ringshift.errors.AssignmentWarning` says so).
+
+    Parameters
+    ----------
+    candidates : sequence of (name, groups, circuits)
+    peaks : sequence of ObservedPeak
+    noise_ppm, seed, n_random_starts, n_alternatives, integral_scale
+        Passed to :func:`compare`.
+    unassigned_peak_cost : float, optional
+        Cost per unassigned signal peak (default :data:`MISSING_COST`).
+
+    Returns
+    -------
+    list of CandidateScore
+        Best first (rank 1).
+    """
+    if isinstance(candidates, (str, bytes)) or not isinstance(candidates, Sequence) or len(candidates) == 0:
+        raise InputError("expected a non-empty sequence of (name, groups, circuits)", "candidates")
+    _number(unassigned_peak_cost, "unassigned_peak_cost", nonneg=True)
+    results = []
+    for i, cand in enumerate(candidates):
+        if not isinstance(cand, (tuple, list)) or len(cand) != 3 or not isinstance(cand[0], str):
+            raise InputError("expected a (name, groups, circuits) triple", f"candidates[{i}]")
+        name, groups, circuits = cand
+        comp = compare(groups, peaks, circuits, noise_ppm=noise_ppm, seed=seed, n_random_starts=n_random_starts,
+                       n_alternatives=n_alternatives, integral_scale=integral_scale)
+        results.append((name, comp.cost + unassigned_peak_cost * len(comp.unassigned_peaks), comp))
+    n_assigned = {sum(g.peak_index is not None for g in r[2].assignment) for r in results}
+    if len(n_assigned) > 1:
+        warnings.warn("candidates assign different numbers of groups; their costs are only approximately "
+                      "comparable", AssignmentWarning, stacklevel=2)
+    costs = np.array([r[1] for r in results])
+    best = float(costs.min())
+    weights = np.exp(-0.5 * (costs - best))
+    prob = weights / weights.sum()
+    order = sorted(range(len(results)), key=lambda j: (costs[j], j))
+    return [CandidateScore(name=results[j][0], rank=r + 1, cost=float(costs[j]),
+                           log10_bf_vs_best=float(-(costs[j] - best) / (2.0 * math.log(10.0))),
+                           probability=float(prob[j]), comparison=results[j][2])
+            for r, j in enumerate(order)]
