@@ -1,27 +1,14 @@
-"""Ring-current-free reference shifts by proton class, and assembly of a predicted shift.
+"""Ring-current-free reference shifts by proton class, and assembly of a predicted ¹H shift.
 
-A predicted ¹H shift is the sum of three explicit parts::
-
-    δ_pred = δ_ref(proton class) + Δδ_rc (ring current, = −σ_rc) + Δδ_q (π-charge term)
-
-This module supplies the first part and the (trivial, deliberately explicit) sum.
-
-*Proton classes.* :func:`classify_hydrogens` gives every hydrogen of an RDKit molecule a stable class
-identifier (``"sp2_CH_aromatic_type"``, ``"bridge_CH2_over_pi"``, ``"NH_pyrrole_type"``, ...) from
-its bonded neighbourhood alone. The rules, in order of priority, are documented in
-:func:`classify_hydrogens`.
-
-*Ring-current free.* The reference values must not contain a ring current, or the ring current is
-counted twice (once in the reference, once in the model). The packaged table
-(``ringshift/data/reference_shifts.csv``) therefore takes them from non-aromatic model compounds:
-conjugated atropic polyenes for CH on π rings, olefinic compounds carrying the heteroatom for CH next
-to N/O/S, allylic and alkyl compounds for sp3 CH. A CH on a ring that RDKit flags aromatic gets the
-same reference as an olefinic CH of a conjugated ring: its aromatic character is what the ring-current
-term supplies. The file header states the basis; :attr:`ReferenceTable.basis` carries it.
-
-*User tables.* :func:`load_reference_table` reads a CSV with the columns
-``proton_class,ref_ppm,sd_ppm,source,description`` (``#`` lines are notes); its rows override packaged
-rows of the same class or add new classes.
+δ_pred = δ_ref(proton class) + Δδ_rc (ring current, = −σ_rc) + Δδ_q (π-charge term). This module gives
+the first part (:func:`classify_hydrogens`, :func:`reference_shifts`) and the explicit sum
+(:func:`assemble_prediction`). The references must contain no ring current, or it is counted twice:
+the packaged table (``ringshift/data/reference_shifts.csv``, basis in its header and in
+:attr:`ReferenceTable.basis`) takes them from non-aromatic model compounds: atropic conjugated
+polyenes for CH on π rings, olefins carrying the heteroatom for CH next to N/O/S, allylic and alkyl
+compounds for sp3 CH. A CH on a ring RDKit flags aromatic gets the same reference as an olefinic CH of
+a conjugated ring: its aromatic character is what the ring-current term supplies. A user CSV with the
+same columns overrides or extends the table (:func:`load_reference_table`).
 """
 
 from __future__ import annotations
@@ -42,18 +29,9 @@ from rdkit import Chem
 
 from .errors import InputError
 
-__all__ = [
-    "ReferenceShift",
-    "ReferenceTable",
-    "ReferenceArrays",
-    "CSV_COLUMNS",
-    "FALLBACK_CLASS",
-    "load_reference_table",
-    "classify_hydrogens",
-    "reference_shifts",
-    "reference_arrays",
-    "assemble_prediction",
-]
+__all__ = ["ReferenceShift", "ReferenceTable", "ReferenceArrays", "CSV_COLUMNS", "FALLBACK_CLASS",
+           "load_reference_table", "classify_hydrogens", "reference_shifts", "reference_arrays",
+           "assemble_prediction"]
 
 #: Columns of a reference-shift CSV, in this order.
 CSV_COLUMNS: tuple[str, ...] = ("proton_class", "ref_ppm", "sd_ppm", "source", "description")
@@ -70,27 +48,16 @@ _CLASS_NAME = re.compile(r"^[A-Za-z][A-Za-z0-9_]*$")
 _PACKAGE_CSV = "reference_shifts.csv"
 
 
-# --------------------------------------------------------------------------------------------------
-# Data classes
-# --------------------------------------------------------------------------------------------------
+# --- Data classes ---------------------------------------------------------------------------------
 
 
 @dataclass(frozen=True)
 class ReferenceShift:
     """Ring-current-free reference shift of one proton class.
 
-    Attributes
-    ----------
-    proton_class : str
-        Stable identifier, e.g. ``"sp2_CH_ring_conjugated"``, ``"sp3_CH3_on_pi"``.
-    ref_ppm : float
-        Reference δ, ppm vs TMS, containing no ring current.
-    sd_ppm : float
-        Typical spread (one standard deviation) of the class, ppm; > 0.
-    source : str
-        Citation (handbook or paper), or ``"common practice, no source"`` / ``"from memory"`` notes.
-    description : str
-        What the class covers, in words.
+    Attributes: ``proton_class`` (stable identifier, e.g. ``"sp3_CH3_on_pi"``); ``ref_ppm`` (reference
+    δ, ppm vs TMS, no ring current in it); ``sd_ppm`` (typical 1-sd spread of the class, ppm, > 0);
+    ``source`` (citation, or "from memory" / "common practice, no source"); ``description``.
     """
 
     proton_class: str
@@ -102,16 +69,11 @@ class ReferenceShift:
 
 @dataclass(frozen=True)
 class ReferenceTable:
-    """A set of reference shifts keyed by proton class.
+    """Reference shifts keyed by proton class.
 
-    Attributes
-    ----------
-    entries : Mapping[str, ReferenceShift]
-        Read-only mapping proton class -> entry.
-    name : str
-        Where the table came from (packaged default, user file).
-    basis : str
-        How the values were made ring-current free (the notes of the CSV header).
+    Attributes: ``entries`` (read-only mapping proton class -> :class:`ReferenceShift`, file order);
+    ``name`` (where the table came from); ``basis`` (how the values were made ring-current free: the
+    ``#`` notes of the CSV files). ``table[cls]`` raises :class:`InputError` for an unknown class.
     """
 
     entries: Mapping[str, ReferenceShift]
@@ -121,22 +83,18 @@ class ReferenceTable:
     def __post_init__(self) -> None:
         for key, entry in self.entries.items():
             if key != entry.proton_class:
-                raise InputError(
-                    f"entry under key {key!r} has proton_class {entry.proton_class!r}; "
-                    "expected the key to equal the class",
-                    source=f"ReferenceTable {self.name!r}",
-                )
+                raise InputError(f"entry under key {key!r} has proton_class "
+                                 f"{entry.proton_class!r}; expected the key to equal the class",
+                                 source=f"ReferenceTable {self.name!r}")
         object.__setattr__(self, "entries", MappingProxyType(dict(self.entries)))
 
     def __getitem__(self, proton_class: str) -> ReferenceShift:
         try:
             return self.entries[proton_class]
         except KeyError:
-            raise InputError(
-                f"no entry for proton class {proton_class!r}; expected one of "
-                f"{len(self.entries)} classes, add a row for it to a user CSV",
-                source=f"reference table {self.name!r}",
-            ) from None
+            raise InputError(f"no entry for proton class {proton_class!r}; expected one of its "
+                             f"{len(self.entries)} classes, or add a row for it to a user CSV",
+                             source=f"reference table {self.name!r}") from None
 
     def __contains__(self, proton_class: object) -> bool:
         return proton_class in self.entries
@@ -152,18 +110,10 @@ class ReferenceTable:
 
 @dataclass(frozen=True, eq=False)
 class ReferenceArrays:
-    """Reference shifts of a set of hydrogens as aligned arrays (input to fits and predictions).
+    """Reference shifts of hydrogens as aligned read-only arrays (input to fits and predictions).
 
-    Attributes
-    ----------
-    h_indices : numpy.ndarray, shape (n,), int64
-        Atom indices of the hydrogens.
-    proton_classes : tuple of str, length n
-        Class of each hydrogen.
-    ref_ppm : numpy.ndarray, shape (n,), float64
-        Reference δ of each hydrogen, ppm.
-    sd_ppm : numpy.ndarray, shape (n,), float64
-        Spread of each hydrogen's class, ppm.
+    Attributes: ``h_indices`` (n,) int64 atom indices; ``proton_classes`` (n strings);
+    ``ref_ppm`` (n,) float64 reference δ, ppm; ``sd_ppm`` (n,) float64 class spread, ppm.
     """
 
     h_indices: np.ndarray
@@ -172,16 +122,21 @@ class ReferenceArrays:
     sd_ppm: np.ndarray
 
 
-# --------------------------------------------------------------------------------------------------
-# Reading tables
-# --------------------------------------------------------------------------------------------------
+# --- Reading tables -------------------------------------------------------------------------------
+
+
+def _number(text: str, column: str, where: str, ok, expected: str) -> float:
+    try:
+        value = float(text)
+    except ValueError:
+        value = math.nan
+    if not (math.isfinite(value) and ok(value)):
+        raise InputError(f"{column} {text!r} is not usable; expected {expected}", source=where)
+    return value
 
 
 def _parse_table_text(text: str, label: str) -> tuple[dict[str, ReferenceShift], str]:
-    """Parse CSV text into entries (file order) and the joined ``#`` note lines.
-
-    Raises InputError naming ``label:line`` for any bad row.
-    """
+    """Entries (file order) and joined ``#`` notes of CSV text; bad rows name ``label:line``."""
     notes: list[str] = []
     header: list[str] | None = None
     entries: dict[str, ReferenceShift] = {}
@@ -201,53 +156,27 @@ def _parse_table_text(text: str, label: str) -> tuple[dict[str, ReferenceShift],
         fields = [f.strip() for f in fields]
         if header is None:
             if tuple(fields) != CSV_COLUMNS:
-                raise InputError(
-                    f"header is {','.join(fields)!r}; expected the first non-comment line to be "
-                    f"{','.join(CSV_COLUMNS)!r}",
-                    source=where,
-                )
+                raise InputError(f"header is {','.join(fields)!r}; expected the first non-comment "
+                                 f"line to be {','.join(CSV_COLUMNS)!r}", source=where)
             header = fields
             continue
         if len(fields) != len(CSV_COLUMNS):
-            raise InputError(
-                f"row has {len(fields)} fields; expected {len(CSV_COLUMNS)} "
-                f"({','.join(CSV_COLUMNS)}); quote fields that contain commas",
-                source=where,
-            )
+            raise InputError(f"row has {len(fields)} fields; expected {len(CSV_COLUMNS)} "
+                             f"({','.join(CSV_COLUMNS)}); quote fields that contain commas",
+                             source=where)
         name, ref_s, sd_s, source, description = fields
         if not _CLASS_NAME.match(name):
-            raise InputError(
-                f"proton_class {name!r} is not an identifier; expected letters, digits and "
-                "underscores, starting with a letter",
-                source=where,
-            )
+            raise InputError(f"proton_class {name!r} is not an identifier; expected letters, digits, "
+                             "underscores, starting with a letter", source=where)
         if name in entries:
             raise InputError(f"proton_class {name!r} appears twice; expected one row per class",
                              source=where)
-        try:
-            ref = float(ref_s)
-        except ValueError:
-            raise InputError(f"ref_ppm {ref_s!r} is not a number; expected ppm vs TMS",
-                             source=where) from None
-        if not (math.isfinite(ref) and _REF_RANGE_PPM[0] <= ref <= _REF_RANGE_PPM[1]):
-            raise InputError(
-                f"ref_ppm {ref_s!r} is outside {_REF_RANGE_PPM[0]:g}..{_REF_RANGE_PPM[1]:g} ppm; "
-                "expected a 1H shift",
-                source=where,
-            )
-        try:
-            sd = float(sd_s)
-        except ValueError:
-            raise InputError(f"sd_ppm {sd_s!r} is not a number; expected a spread in ppm",
-                             source=where) from None
-        if not (math.isfinite(sd) and sd > 0.0):
-            raise InputError(f"sd_ppm {sd_s!r} must be a finite number > 0 ppm", source=where)
+        ref = _number(ref_s, "ref_ppm", where, lambda x: _REF_RANGE_PPM[0] <= x <= _REF_RANGE_PPM[1],
+                      f"a 1H shift within {_REF_RANGE_PPM[0]:g}..{_REF_RANGE_PPM[1]:g} ppm")
+        sd = _number(sd_s, "sd_ppm", where, lambda x: x > 0.0, "a spread > 0 ppm")
         if not source:
-            raise InputError(
-                "source is empty; expected a citation, 'from memory' or "
-                "'common practice, no source'",
-                source=where,
-            )
+            raise InputError("source is empty; expected a citation, 'from memory' or "
+                             "'common practice, no source'", source=where)
         entries[name] = ReferenceShift(name, ref, sd, source, description)
     if header is None:
         raise InputError(f"no header line; expected {','.join(CSV_COLUMNS)!r}", source=label)
@@ -258,11 +187,12 @@ def _read_text(path: Path) -> str:
     try:
         return path.read_text(encoding="utf-8-sig")
     except FileNotFoundError:
-        raise InputError("file not found; expected a reference-shift CSV", source=str(path)) from None
+        problem = "file not found"
     except IsADirectoryError:
-        raise InputError("is a folder; expected a reference-shift CSV file", source=str(path)) from None
+        problem = "is a folder"
     except UnicodeDecodeError:
-        raise InputError("is not UTF-8 text; expected a reference-shift CSV", source=str(path)) from None
+        problem = "is not UTF-8 text"
+    raise InputError(f"{problem}; expected a reference-shift CSV file", source=str(path))
 
 
 def _packaged_table() -> ReferenceTable:
@@ -279,13 +209,12 @@ def load_reference_table(path: str | Path | None = None, *, extend_default: bool
     Parameters
     ----------
     path : str or Path, optional
-        A CSV with the columns ``proton_class,ref_ppm,sd_ppm,source,description`` (first non-comment
-        line is this header; ``#`` lines are notes and become part of ``basis``). ``None`` gives the
-        packaged table.
+        UTF-8 CSV, one row per line, columns ``proton_class,ref_ppm,sd_ppm,source,description``
+        (first non-comment line is this header; ``#`` lines are notes, appended to ``basis``; quote
+        fields containing commas). ``None`` gives the packaged table.
     extend_default : bool, keyword-only
-        With a path: ``True`` (default) lets the user rows override packaged rows of the same class and
-        add new classes; ``False`` uses the user rows alone (the classifier's classes missing from the
-        file then raise when they are needed).
+        With a path: ``True`` lets user rows override packaged rows of the same class and add new
+        classes; ``False`` uses the user rows alone (a class they lack raises when it is needed).
 
     Returns
     -------
@@ -294,7 +223,7 @@ def load_reference_table(path: str | Path | None = None, *, extend_default: bool
     Raises
     ------
     InputError
-        File missing or unreadable, wrong header, bad row (message names ``file:line``).
+        File missing or unreadable, wrong header, bad row (the message names ``file:line``).
     """
     default = _packaged_table()
     if path is None:
@@ -310,9 +239,7 @@ def load_reference_table(path: str | Path | None = None, *, extend_default: bool
     return ReferenceTable(entries=merged, name=f"{default.name} + {path}", basis=basis)
 
 
-# --------------------------------------------------------------------------------------------------
-# Classification
-# --------------------------------------------------------------------------------------------------
+# --- Classification -------------------------------------------------------------------------------
 
 _MULTIPLE = (Chem.BondType.DOUBLE, Chem.BondType.TRIPLE, Chem.BondType.AROMATIC)
 _LONE_PAIR_DONORS = (7, 8, 16)
@@ -332,11 +259,9 @@ def _prepared_copy(mol) -> Chem.Mol:
                          "structure", source="mol")
     for atom in copy.GetAtoms():
         if atom.GetAtomicNum() != 1 and atom.GetTotalNumHs(includeNeighbors=False) > 0:
-            raise InputError(
-                f"atom {atom.GetIdx()} ({atom.GetSymbol()}) carries hydrogens that are not atoms; "
-                "expected explicit H atoms, add them with Chem.AddHs(mol)",
-                source="mol",
-            )
+            raise InputError(f"atom {atom.GetIdx()} ({atom.GetSymbol()}) carries hydrogens that "
+                             "are not atoms; expected explicit H atoms, add them with "
+                             "Chem.AddHs(mol)", source="mol")
     return copy
 
 
@@ -345,12 +270,8 @@ def _has_multiple_bond(atom) -> bool:
 
 
 def _pi_atoms(mol) -> frozenset[int]:
-    """Indices of atoms of the conjugated π system.
-
-    An atom is π if it is aromatic or has a double/triple bond; a charged or radical atom with only
-    single bonds but a π neighbour (carbocation, carbanion in a Kekulé ion); and a neutral
-    lone-pair atom (N, O, S) with only single bonds that joins two π atoms (pyrrole-type N, furan O).
-    """
+    """π atoms: aromatic or multiply bonded; charged/radical C next to one (Kekulé ions); neutral
+    N/O/S with single bonds joining two of them (pyrrole-type N, furan-type O)."""
     core = {a.GetIdx() for a in mol.GetAtoms() if a.GetAtomicNum() > 1 and _has_multiple_bond(a)}
     pi = set(core)
     for atom in mol.GetAtoms():
@@ -395,9 +316,7 @@ def _share_pi_circuit(mol, pi: frozenset[int], u: int, v: int) -> bool:
         return v in seen, seen
 
     ok, component = connected(None)
-    if not ok:
-        return False
-    return all(connected(w)[0] for w in component if w not in (u, v))
+    return ok and all(connected(w)[0] for w in component if w not in (u, v))
 
 
 def _is_carbonyl_carbon(atom) -> bool:
@@ -432,10 +351,10 @@ def _classify_pi_ch(carbon, n_h: int, pi: frozenset[int]) -> str:
             return "sp_CH_alkyne_conjugated" if any(nb.GetIdx() in pi for nb in far) \
                 else "sp_CH_alkyne"
     if _is_carbonyl_carbon(carbon):
-        others = [nb for nb in heavy
-                  if not (nb.GetAtomicNum() == 8
-                          and carbon.GetOwningMol().GetBondBetweenAtoms(
-                              carbon.GetIdx(), nb.GetIdx()).GetBondType() == Chem.BondType.DOUBLE)]
+        others = [b.GetOtherAtom(carbon) for b in carbon.GetBonds()
+                  if b.GetOtherAtom(carbon).GetAtomicNum() > 1
+                  and not (b.GetBondType() == Chem.BondType.DOUBLE
+                           and b.GetOtherAtom(carbon).GetAtomicNum() == 8)]
         if any(nb.GetAtomicNum() in (7, 8) for nb in others):
             return "CHO_formyl_heteroatom"
         if all(nb.GetAtomicNum() == 6 for nb in others):
@@ -511,7 +430,7 @@ def _classify_sp3_ch(carbon, n_h: int, pi: frozenset[int]) -> str:
 
 def _classify_nh(nitrogen, pi: frozenset[int]) -> str:
     heavy = _heavy_neighbours(nitrogen)
-    if not heavy or any(nb.GetAtomicNum() not in (6,) for nb in heavy):
+    if not heavy or any(nb.GetAtomicNum() != 6 for nb in heavy):
         return FALLBACK_CLASS  # NH3, hydrazines, N-oxides, ...
     if any(_is_carbonyl_carbon(nb) for nb in heavy):
         return "NH_amide"
@@ -583,17 +502,16 @@ def classify_hydrogens(mol, h_indices: Iterable[int] | None = None) -> dict[int,
     Parameters
     ----------
     mol : rdkit.Chem.Mol
-        Molecule with explicit H atoms (``Chem.AddHs``). Aromatic flags are used as given (a
-        Kekulé input gives ``sp2_CH_ring_conjugated`` where an aromatised one gives
-        ``sp2_CH_aromatic_type``; both classes share one reference in the packaged table). The
-        molecule is not modified.
+        Explicit H atoms (``Chem.AddHs``); not modified. Aromatic flags are used as given: Kekulé
+        input gives ``sp2_CH_ring_conjugated`` where aromatised input gives ``sp2_CH_aromatic_type``,
+        two classes with one reference in the packaged table.
     h_indices : iterable of int, optional
         Atom indices of the hydrogens to classify; default all hydrogens.
 
     Returns
     -------
     dict[int, str]
-        H atom index -> proton class, in the order of ``h_indices`` (or atom order).
+        H atom index -> proton class, in the order of ``h_indices`` (default atom order).
 
     Notes
     -----
@@ -636,26 +554,10 @@ def classify_hydrogens(mol, h_indices: Iterable[int] | None = None) -> dict[int,
 
 def reference_shifts(mol, table: ReferenceTable | None = None,
                      h_indices: Iterable[int] | None = None) -> dict[int, ReferenceShift]:
-    """Reference shift of each hydrogen.
+    """Reference shift of each hydrogen: H atom index -> the table entry of its class.
 
-    Parameters
-    ----------
-    mol : rdkit.Chem.Mol
-        Molecule with explicit H atoms (see :func:`classify_hydrogens`).
-    table : ReferenceTable, optional
-        Default: the packaged table (:func:`load_reference_table`).
-    h_indices : iterable of int, optional
-        Hydrogens to report; default all.
-
-    Returns
-    -------
-    dict[int, ReferenceShift]
-        H atom index -> the table entry of its class.
-
-    Raises
-    ------
-    InputError
-        As :func:`classify_hydrogens`, or the table lacks a class that is needed.
+    ``mol`` and ``h_indices`` as in :func:`classify_hydrogens`; ``table`` defaults to the packaged
+    table. Raises :class:`InputError` as there, or when the table lacks a class that is needed.
     """
     if table is None:
         table = load_reference_table()
@@ -668,15 +570,7 @@ def reference_shifts(mol, table: ReferenceTable | None = None,
 
 def reference_arrays(mol, *, table: ReferenceTable | None = None,
                      h_indices: Iterable[int] | None = None) -> ReferenceArrays:
-    """Reference shifts as aligned arrays, in the order of ``h_indices`` (default: atom order).
-
-    Parameters and errors as :func:`reference_shifts`.
-
-    Returns
-    -------
-    ReferenceArrays
-        ``h_indices`` (n,), ``proton_classes`` (n), ``ref_ppm`` (n,), ``sd_ppm`` (n,); read-only.
-    """
+    """:func:`reference_shifts` as a :class:`ReferenceArrays` (order of ``h_indices``, default atoms)."""
     refs = reference_shifts(mol, table, h_indices)
     idx = np.fromiter(refs.keys(), dtype=np.int64, count=len(refs))
     ref = np.array([r.ref_ppm for r in refs.values()], dtype=np.float64)
@@ -687,9 +581,7 @@ def reference_arrays(mol, *, table: ReferenceTable | None = None,
                            ref_ppm=ref, sd_ppm=sd)
 
 
-# --------------------------------------------------------------------------------------------------
-# Assembly
-# --------------------------------------------------------------------------------------------------
+# --- Assembly -------------------------------------------------------------------------------------
 
 
 def _as_vector(values, name: str) -> np.ndarray:
@@ -730,13 +622,10 @@ def assemble_prediction(ref_ppm, ring_current_ppm, charge_ppm) -> np.ndarray:
     InputError
         An input is not 1-D, not finite, or the lengths differ.
     """
-    parts = [_as_vector(ref_ppm, "ref_ppm"), _as_vector(ring_current_ppm, "ring_current_ppm"),
-             _as_vector(charge_ppm, "charge_ppm")]
-    lengths = {p.shape[0] for p in parts}
-    if len(lengths) != 1:
-        raise InputError(
-            f"lengths are {parts[0].shape[0]}, {parts[1].shape[0]}, {parts[2].shape[0]}; expected "
-            "ref_ppm, ring_current_ppm and charge_ppm of equal length (one value per proton)",
-            source="assemble_prediction",
-        )
-    return parts[0] + parts[1] + parts[2]
+    ref, rc, q = (_as_vector(ref_ppm, "ref_ppm"), _as_vector(ring_current_ppm, "ring_current_ppm"),
+                  _as_vector(charge_ppm, "charge_ppm"))
+    if not ref.shape == rc.shape == q.shape:
+        raise InputError(f"lengths are {ref.shape[0]}, {rc.shape[0]}, {q.shape[0]}; expected ref_ppm, "
+                         "ring_current_ppm and charge_ppm of equal length (one value per proton)",
+                         source="assemble_prediction")
+    return ref + rc + q
