@@ -29,7 +29,7 @@ import os
 import re
 import unicodedata
 import warnings
-from dataclasses import dataclass, replace
+from dataclasses import asdict, dataclass, replace
 
 import numpy as np
 from scipy.signal import find_peaks, peak_widths
@@ -205,6 +205,15 @@ class PeakList:
     def sample_peaks(self) -> tuple[Peak, ...]:
         """The peaks of ``kind == "sample"`` (those to be assigned)."""
         return tuple(p for p in self.peaks if p.kind == "sample")
+
+    def to_dict(self) -> dict:
+        """Plain JSON-able dict; the spectrum is summarised (points, ppm range, noise σ), not copied."""
+        spec = self.spectrum
+        return {"source": self.source, "observe_mhz": self.observe_mhz, "warnings": list(self.warnings),
+                "peaks": [{**asdict(p), "fixed_atoms": list(p.fixed_atoms or []) or None} for p in self.peaks],
+                "spectrum": None if spec is None else {
+                    "source": spec.source, "points": int(spec.ppm.size), "noise_sigma": spec.noise_sigma,
+                    "ppm_range": [float(spec.ppm.min()), float(spec.ppm.max())]}}
 
 
 # ------------------------------------------------------------------------------------------- CSV

@@ -5,6 +5,7 @@ All spectra and peak lists here are invented (hand-encoded or synthetic Lorentzi
 
 from __future__ import annotations
 
+import json
 import math
 import tempfile
 import warnings
@@ -162,7 +163,8 @@ def test_codec_round_trip_property(values, form, width):
     lines = jcamp.encode_xydata(np.linspace(10, 0, y.size), y, form, width=width)
     decoded, checks = jcamp.decode_xydata(list(enumerate(lines, 1)), npoints=y.size)
     assert decoded == values
-    assert_allclose([c[1] for c in checks], np.linspace(10, 0, y.size)[[c[2] for c in checks]], rtol=1e-9, atol=1e-9)
+    expected_x = np.linspace(10, 0, y.size)[[c[2] for c in checks]]  # X at each line start labels its point
+    assert_allclose([c[1] for c in checks], expected_x, rtol=1e-9, atol=1e-9)
 
 
 def invented_peaks():
@@ -260,7 +262,7 @@ def test_lorentzian_area_and_width():
     # (textbook identity). The picker integrates ±10 FWHM = ±20γ → (2/π) arctan 20 = 0.9682.
     spec = simulate_spectrum([Peak(5.0, 3.0, width_hz=2.0)], points=65536)
     (peak,) = pick_peaks(spec)
-    assert_allclose(peak.integral, 3.0 * 2 / math.pi * math.atan(20.0), rtol=5e-3)  # grid: 8 points/FWHM
+    assert_allclose(peak.integral, 3.0 * 2 / math.pi * math.atan(20.0), rtol=5e-3)  # grid: 16 points per FWHM
     assert_allclose(peak.width_hz, 2.0, rtol=0.02)  # linear interpolation of the half-height crossings
     assert_allclose(peak.shift_ppm, 5.0, rtol=0, atol=1e-5)
     # Height of a Lorentzian = I/(πγ), γ = 1 Hz / 400 MHz = 0.0025 ppm: 381.97 (2 % for the grid).
@@ -343,6 +345,25 @@ def test_peak_count_rule(tmp_path):
         read_peaks(path, n_hydrogens=2)  # 40 > 32
 
 
+def test_compound_file_reads_first_data_block():
+    # Link block (##BLOCKS=2) holding a peak-table block and a spectrum block: the first data block
+    # (the peak table) is read and the second reported (JCAMP-DX compound files, Davies & Lampen 1993).
+    inner = jdx_peaks(rows="7.5, 2\n")
+    text = ("##TITLE=link\n##JCAMP-DX=5.01\n##BLOCKS=2\n" + inner + header()
+            + "10 1 2 3 3 2 1 0 -1 -2 -3\n##END=\n##END=\n")
+    data = jcamp.parse_jcamp_text(text)
+    assert data.peak_ppm == (7.5,) and data.ppm is None
+    assert any("2 data blocks" in w for w in data.warnings)
+
+
+def test_latin1_fallback_and_json(tmp_path):
+    path = write(tmp_path, "latin.csv", "ppm,label\n7.5,5 \xb5L sample\n".encode("latin-1"))
+    pl = read_peaks(path)
+    assert pl.peaks[0].label == "5 µL sample" and "not valid UTF-8; read as Latin-1" in pl.warnings
+    out = json.loads(json.dumps(read_peaks(DATA / "ramp_affn.jdx").to_dict()))
+    assert out["spectrum"]["points"] == 10 and out["spectrum"]["ppm_range"] == [1.0, 10.0]
+
+
 def test_dispatch_by_content(tmp_path):
     jdx = write(tmp_path, "spectrum.txt", (DATA / "peaks_xy.jdx").read_text())
     csv_path = write(tmp_path, "peaks.dat", "ppm\n7.5\n")
@@ -392,14 +413,16 @@ BAD_JCAMP = [
     ("peak-out-of-range", jdx_peaks(rows="-25, 1\n"), "outside"),
     ("bad-number", jdx_peaks(rows="7.2, x\n"), "not a number"),
     ("ntuples", "##TITLE=t\n##JCAMP-DX=5.01\n##NTUPLES=NMR SPECTRUM\n##END NTUPLES=x\n##END=\n", "NTUPLES"),
-    ("npoints-mismatch", header(npoints=11) + "10 1 2 3 3 2 1 0 -1 -2 -3\n##END=\n", "NPOINTS=11 but ##XYDATA holds 10"),
+    ("npoints-mismatch", header(npoints=11) + "10 1 2 3 3 2 1 0 -1 -2 -3\n##END=\n",
+     "NPOINTS=11 but ##XYDATA holds 10"),
     ("too-many-values", header(npoints=3) + "10 1 2 3 4\n##END=\n", "more values than NPOINTS=3"),
     ("y-check-failed", header() + "10AJJ%j\n6Cjjjjj\n1c\n##END=\n", "Y-check failed"),
     ("bad-character", header() + "10 1 2 3 ? 2\n##END=\n", "unexpected character '\\?'"),
     ("dif-first", header() + "10J\n##END=\n", "DIF value with no preceding"),
     ("missing-firstx", header().replace("##FIRSTX=10\n", "") + "10 1\n##END=\n", "##FIRSTX="),
     ("infinite-lastx", header().replace("##LASTX=1", "##LASTX=inf") + "10 1\n##END=\n", "not a finite number"),
-    ("hz-spectrum-no-frequency", header(xunits="HZ").replace("##.OBSERVE FREQUENCY=400.0\n", "") + "10 1\n##END=\n",
+    ("hz-spectrum-no-frequency",
+     header(xunits="HZ").replace("##.OBSERVE FREQUENCY=400.0\n", "") + "10 1\n##END=\n",
      "no ##.OBSERVE FREQUENCY"),
     ("xunits-cm", header(xunits="1/CM") + "10 1\n##END=\n", "expected PPM or HZ"),
 ]
@@ -488,8 +511,8 @@ VALID_HEAD = header(npoints=10)
 def mutated_xydata(draw):
     """A valid encoded spectrum, sometimes with one character replaced (corruption)."""
     values = draw(st.lists(st.integers(-10**6, 10**6), min_size=2, max_size=40))
-    lines = jcamp.encode_xydata(np.linspace(10, 1, len(values)), np.array(values), draw(st.sampled_from(jcamp.FORMS)),
-                                width=draw(st.integers(10, 80)))
+    form, width = draw(st.sampled_from(jcamp.FORMS)), draw(st.integers(10, 80))
+    lines = jcamp.encode_xydata(np.linspace(10, 1, len(values)), np.array(values), form, width=width)
     text = "\n".join(lines)
     if draw(st.booleans()):
         i = draw(st.integers(0, len(text) - 1))
