@@ -89,20 +89,13 @@ def _unit(x, name: str) -> np.ndarray:
     return v / norm
 
 
-def _nonneg(x, name: str) -> float:
+def _nonneg(x, name: str, strict: bool = False) -> float:
     try:
         val = float(x)
     except (TypeError, ValueError):
         raise InputError(f"{name}: expected a number, got {x!r}") from None
-    if not np.isfinite(val) or val < 0:
-        raise InputError(f"{name}: expected a finite number >= 0, got {x!r}")
-    return val
-
-
-def _positive(x, name: str) -> float:
-    val = _nonneg(x, name)
-    if val <= 0:
-        raise InputError(f"{name}: expected a number > 0, got {x!r}")
+    if not np.isfinite(val) or val < 0 or (strict and val == 0):
+        raise InputError(f"{name}: expected a finite number {'>' if strict else '>='} 0, got {x!r}")
     return val
 
 
@@ -191,44 +184,52 @@ def _segment_kernel(points, verts, ia, ib, dirs, weights, chunk_size):
     for d in range(nd):
         C[:, 4 * d] = weights[d] * (cab @ dirs[d])
         C[:, 4 * d + 1:4 * d + 4] = weights[d][:, None] * np.cross(dirs[d], e)
-    Y = np.empty((5, V.shape[0]))  # |r − v|² = [r, |r|², 1] · [−2v, 1, |v|²]
-    Y[:3] = -2.0 * V.T
-    Y[3] = 1.0
-    Y[4] = np.einsum("ij,ij->i", V, V)
+    Yt = np.empty((V.shape[0], 5))  # |r − v|² = [−2v, 1, |v|²] · [r, |r|², 1]
+    Yt[:, :3] = -2.0 * V
+    Yt[:, 3] = 1.0
+    Yt[:, 4] = np.einsum("ij,ij->i", V, V)
+    Ct = np.ascontiguousarray(C.T)
+    L2c, screen_c = L2[:, None], screen[:, None]
 
+    # Layout (vertex, point): every elementwise pass runs over long contiguous rows, and the two ends
+    # of a closed polygon's segments are plain row slices of D (no copies).
     n = pts.shape[0]
-    out = np.empty((n, nd))
+    ptsT = np.ascontiguousarray(pts.T)
+    out = np.empty((nd, n))
     near = np.zeros(n, dtype=bool)
-    X = np.empty((min(chunk_size, max(n, 1)), 5))
+    X = np.empty((5, min(chunk_size, max(n, 1))))
     with np.errstate(divide="ignore", invalid="ignore", over="ignore"):
         for lo in range(0, n, chunk_size):
-            r = pts[lo:lo + chunk_size]
-            x = X[:r.shape[0]]
-            x[:, :3] = r
-            x[:, 3] = np.einsum("ij,ij->i", r, r)
-            x[:, 4] = 1.0
-            D = x @ Y
+            hi = min(n, lo + chunk_size)
+            x = X[:, :hi - lo]
+            x[:3] = ptsT[:, lo:hi]
+            np.einsum("ij,ij->j", x[:3], x[:3], out=x[3])
+            x[4] = 1.0
+            D = Yt @ x
             np.maximum(D, 0.0, out=D)
             np.sqrt(D, out=D)
-            Da, Db = D[:, ia], D[:, ib]
+            Da, Db = D[ia], D[ib]
             s = Da + Db
-            cand = s < screen
+            cand = s < screen_c
             F = np.multiply(Da, Db)
             t = np.multiply(s, s)
-            t -= L2
+            t -= L2c
             F *= t
             np.divide(s, F, out=F)  # F = s / (|a||b|(s² − L²)); g·u = 2·T·F
             if cand.any():
-                rows, cols = np.nonzero(cand)
-                F_reg, hit = _regularised_factor(r[rows], pa[cols], pb[cols], L[cols], rc)
-                F[rows[hit], cols[hit]] = F_reg[hit]
-                near[lo + rows[hit]] = True
-            H = F @ C
+                seg, row = np.nonzero(cand)
+                F_reg, hit = _regularised_factor(pts[lo + row], pa[seg], pb[seg], L[seg], rc)
+                F[seg[hit], row[hit]] = F_reg[hit]
+                near[lo + row[hit]] = True
+            H = Ct @ F
             H *= 2.0
-            o = out[lo:lo + chunk_size]
             for d in range(nd):
-                o[:, d] = H[:, 4 * d] + np.einsum("ij,ij->i", r, H[:, 4 * d + 1:4 * d + 4])
-    return out, near
+                o = out[d, lo:hi]
+                np.multiply(x[0], H[4 * d + 1], out=o)
+                o += H[4 * d]
+                o += x[1] * H[4 * d + 2]
+                o += x[2] * H[4 * d + 3]
+    return out.T, near
 
 
 def _regularised_factor(r, pa, pb, L, rc):
@@ -257,22 +258,6 @@ def _regularised_factor(r, pa, pb, L, rc):
     den = 2.0 * rc * rc * Da * Db * (u * Db + (u - L) * Da)
     F_cap = np.divide(q * q * (2.0 * u - L), den, out=np.zeros_like(u), where=~mid & (den != 0))
     return np.where(mid, F_mid, F_cap), hit
-
-
-def _near_wire(points, pa, pb, chunk_size):
-    """(n,) bool: point within WIRE_CUTOFF_A of any segment pa[k] → pb[k]."""
-    rc = WIRE_CUTOFF_A
-    near = np.zeros(points.shape[0], dtype=bool)
-    e = pb - pa
-    L = np.sqrt(np.einsum("ij,ij->i", e, e))
-    for lo in range(0, points.shape[0], chunk_size):
-        r = points[lo:lo + chunk_size, None, :]
-        s = np.linalg.norm(r - pa, axis=2) + np.linalg.norm(r - pb, axis=2)
-        rows, cols = np.nonzero(s < L + 2.0 * rc)
-        if rows.size:
-            _, hit = _regularised_factor(points[lo + rows], pa[cols], pb[cols], L[cols], rc)
-            near[lo + rows[hit]] = True
-    return near
 
 
 # ----------------------------------------------------------------------------------------------------
@@ -318,7 +303,7 @@ def segment_field(points, starts, ends, *, currents=None, chunk_size=None) -> np
     out, near = _segment_kernel(pts, verts, np.arange(m), np.arange(m, 2 * m), np.eye(3),
                                 np.tile(w, (3, 1)), _chunk(chunk_size, 2 * m))
     _warn_near(int(near.sum()))
-    return out
+    return np.ascontiguousarray(out)
 
 
 def _check_lengths(a, b, name):
@@ -453,7 +438,7 @@ def johnson_bovey_shielding(points, centre, normal, radius_A, *, separation_A=JB
     pts = _array(points, "points", (-1, 3), "points of shape (n, 3)")
     c = _array(centre, "centre", (3,), "a centre of shape (3,)")
     n = _unit(normal, "normal")
-    a = _positive(radius_A, "radius_A")
+    a = _nonneg(radius_A, "radius_A", strict=True)
     h = _nonneg(separation_A, "separation_A")
     rel = pts - c
     z = rel @ n
@@ -493,7 +478,7 @@ def point_dipole_shielding(points, centre, normal, area_A2):
     pts = _array(points, "points", (-1, 3), "points of shape (n, 3)")
     c = _array(centre, "centre", (3,), "a centre of shape (3,)")
     n = _unit(normal, "normal")
-    S = _positive(area_A2, "area_A2")
+    S = _nonneg(area_A2, "area_A2", strict=True)
     rel = pts - c
     R = np.sqrt(np.einsum("ij,ij->i", rel, rel))
     z = rel @ n
@@ -553,7 +538,9 @@ def haigh_mallion_shielding(points, vertices, normal, *, chunk_size=None):
         d = np.linalg.norm(r[:, None, :] - V[None], axis=2)
         inv3 = np.maximum(d, WIRE_CUTOFF_A) ** -3
         out[lo:lo + chunk] = 0.5 * np.einsum("ij,ij->i", twoS, inv3 + np.roll(inv3, -1, axis=1))
-    _warn_near(int(_near_wire(P, V, Vn, chunk).sum()), stacklevel=3)
+    verts = np.concatenate([V, V[:1]])
+    near = _segment_kernel(P, verts, slice(0, m), slice(1, m + 1), n[None], np.ones((1, m)), chunk)[1]
+    _warn_near(int(near.sum()), stacklevel=3)
     return _MU0_4PI / 3.0 * out
 
 
