@@ -126,12 +126,11 @@ def _polygon(vertices, normal, name: str = "vertices") -> tuple[np.ndarray, np.n
     return (v if a_n > 0 else v[::-1].copy()), n
 
 
-def _warn_near(count: int, stacklevel: int = 3) -> None:
+def _warn_near(count: int, stacklevel: int = 3, what: str = "a current wire",
+               how: str = f"regularised (wire treated as a {WIRE_CUTOFF_A} Å-radius conductor)") -> None:
     if count:
-        warnings.warn(GeometryWarning(
-            f"{count} point(s) lie within {WIRE_CUTOFF_A} Å of a current wire; their shielding was "
-            f"regularised (wire treated as a {WIRE_CUTOFF_A} Å-radius conductor) and is unreliable"),
-            stacklevel=stacklevel)
+        warnings.warn(GeometryWarning(f"{count} point(s) lie within {WIRE_CUTOFF_A} Å of {what}; their "
+                                      f"shielding was {how} and is unreliable"), stacklevel=stacklevel)
 
 
 # ----------------------------------------------------------------------------------------------------
@@ -484,7 +483,8 @@ def point_dipole_shielding(points, centre, normal, area_A2):
     z = rel @ n
     cos2 = np.divide(z * z, R * R, out=np.ones_like(R), where=R > 0)
     close = R < WIRE_CUTOFF_A
-    _warn_near(int(close.sum()), stacklevel=3)
+    _warn_near(int(close.sum()), stacklevel=3, what="the dipole centre",
+               how=f"computed at R = {WIRE_CUTOFF_A} Å")
     R = np.maximum(R, WIRE_CUTOFF_A)
     return -_MU0_4PI * (S / 3.0) * (1.0 - 3.0 * cos2) / R ** 3
 
