@@ -39,10 +39,10 @@ keep f = 1 (their k already encodes the bond). ``"scf"``: the C–C lengths are 
 geometry but made self-consistent with the π bond orders through the linear bond-order/bond-length
 relation r = 1.520 − 0.186 p Å (a linearisation of Coulson, Proc. R. Soc. A 1939, 169, 413, from
 memory; it passes through ethylene 1.334 Å at p = 1 and benzene 1.396 Å at p = 2/3), then β(r) as for
-``"distance"``. The iteration starts from a small (±0.01 Å) bond alternation along the RDKit Kekulé
-structure, so that it leaves the equal-bond solution when that solution is unstable (the
-Longuet-Higgins–Salem alternation of large annulenes). See :mod:`ringshift.pisystem` for what this does
-to [18]annulene.
+``"distance"``. The search starts from a small (±0.01 Å) bond alternation along the RDKit Kekulé
+structure and accepts only a stable, closed-shell fixed point, so it leaves the equal-bond solution
+when that is unstable (the Longuet-Higgins–Salem alternation of large annulenes). See
+:mod:`ringshift.pisystem` for what this does to [18]annulene.
 """
 
 from __future__ import annotations
@@ -50,29 +50,14 @@ from __future__ import annotations
 import numpy as np
 from scipy import constants as _sc
 
+from ringshift.errors import InputError
+
 __all__ = [
-    "HETERO_PARAMETERS",
-    "BETA_REF_LENGTH_A",
-    "BETA_DECAY_A",
-    "COULSON_R0_A",
-    "COULSON_SLOPE_A",
-    "BETA0_EV",
-    "beta_distance_factor",
-    "huckel_matrix",
-    "occupy",
-    "density_matrix",
-    "london_bond_response",
-    "scf_cc_lengths",
-    "bond_polarizability",
-    "kirchhoff_decomposition",
-    "node_divergence",
-    "regular_polygon",
-    "plane_fit",
-    "circuit_normals",
-    "circuit_incidence",
-    "p_orbital_axes",
-    "benzene_reference_response",
-    "absolute_current_nA_per_T",
+    "HETERO_PARAMETERS", "BETA_REF_LENGTH_A", "BETA_DECAY_A", "COULSON_R0_A", "COULSON_SLOPE_A", "BETA0_EV",
+    "beta_distance_factor", "huckel_matrix", "occupy", "density_matrix", "london_bond_response",
+    "bond_polarizability", "scf_cc_lengths", "kirchhoff_decomposition", "node_divergence", "plane_fit",
+    "p_orbital_axes", "circuit_normals", "circuit_incidence", "regular_polygon", "benzene_reference_response",
+    "absolute_current_nA_per_T", "pi_charge_shift_ppm", "PI_CHARGE_PPM_PER_E",
 ]
 
 _DL = "Derflinger & Lischka, Monatsh. Chem. 1969, 100, 1003"
@@ -81,25 +66,15 @@ _VC = "Van-Catledge, J. Org. Chem. 1980, 45, 4801 (from memory)"
 
 #: atom type -> (h_X, k_CX, source). Carbon of any charge is the reference (h 0, k 1).
 HETERO_PARAMETERS: dict[str, tuple[float, float, str]] = {
-    "C": (0.0, 1.0, "reference"),
-    "C+": (0.0, 1.0, "reference"),
-    "C-": (0.0, 1.0, "reference"),
-    "C.": (0.0, 1.0, "reference"),
-    "N_pyridine": (0.83, 1.06, _DL),
-    "N_nitrile": (0.83, 1.06, _DL + " (pyridine-type N)"),
+    "C": (0.0, 1.0, "reference"), "C+": (0.0, 1.0, "reference"),
+    "C-": (0.0, 1.0, "reference"), "C.": (0.0, 1.0, "reference"),
+    "N_pyridine": (0.83, 1.06, _DL), "N_nitrile": (0.83, 1.06, _DL + " (pyridine-type N)"),
     "N-": (0.83, 1.06, _DL + " (pyridine-type core; approximation)"),
-    "N_pyrrole": (1.47, 1.30, _DL),
-    "N+_pyridinium": (2.0, 1.0, _ST),
-    "O_furan": (2.06, 1.31, _DL),
-    "O_carbonyl": (1.18, 1.93, _DL),
-    "O-": (1.18, 1.93, _DL + " (carbonyl-type core; approximation)"),
-    "O+_pyrylium": (2.5, 1.0, _ST),
-    "S_thiophene": (1.11, 0.69, _VC),
-    "S_thione": (1.11, 0.69, _VC + " (thiophene-type S; approximation)"),
-    "B": (-1.0, 0.7, _ST),
-    "F": (2.84, 0.68, _DL),
-    "Cl": (1.45, 0.57, _DL),
-    "Br": (1.16, 0.38, _DL),
+    "N_pyrrole": (1.47, 1.30, _DL), "N+_pyridinium": (2.0, 1.0, _ST),
+    "O_furan": (2.06, 1.31, _DL), "O_carbonyl": (1.18, 1.93, _DL),
+    "O-": (1.18, 1.93, _DL + " (carbonyl-type core; approximation)"), "O+_pyrylium": (2.5, 1.0, _ST),
+    "S_thiophene": (1.11, 0.69, _VC), "S_thione": (1.11, 0.69, _VC + " (thiophene-type S; approximation)"),
+    "B": (-1.0, 0.7, _ST), "F": (2.84, 0.68, _DL), "Cl": (1.45, 0.57, _DL), "Br": (1.16, 0.38, _DL),
     "I": (0.78, 0.19, _DL),
 }
 
@@ -114,6 +89,10 @@ COULSON_SLOPE_A = 0.186
 #: (Castro Neto et al., Rev. Mod. Phys. 2009, 81, 109; from memory), carried to 1.397 Å by β(r).
 BETA0_EV = -2.8 * float(np.exp((1.42 - BETA_REF_LENGTH_A) / BETA_DECAY_A))
 
+#: Shift per π charge: Δδ = k·q, q = Z − P (q > 0 electron-poor, downfield); 10.7 ppm/e
+#: (Schaefer & Schneider, Can. J. Chem. 1963, 41, 966; from memory).
+PI_CHARGE_PPM_PER_E = 10.7
+
 #: Levels closer than this (units of |β|) count as degenerate.
 DEGENERACY_TOL = 1e-6
 
@@ -121,13 +100,7 @@ DEGENERACY_TOL = 1e-6
 def beta_distance_factor(r_A) -> np.ndarray:
     """β(r)/β0 = exp(−(r − 1.397 Å)/0.3106 Å) (Longuet-Higgins & Salem 1959, from memory).
 
-    Parameters
-    ----------
-    r_A : (m,) array_like, Å
-
-    Returns
-    -------
-    (m,) float64, dimensionless
+    Parameters: r_A (m,) bond lengths in Å. Returns: (m,) float64, dimensionless.
     """
     r = np.asarray(r_A, dtype=np.float64)
     return np.exp(-(r - BETA_REF_LENGTH_A) / BETA_DECAY_A)
@@ -136,18 +109,9 @@ def beta_distance_factor(r_A) -> np.ndarray:
 def huckel_matrix(h_diag, bonds, resonance) -> np.ndarray:
     """Hückel matrix in units of |β| (x = (E − α)/|β|, bonding negative).
 
-    Parameters
-    ----------
-    h_diag : (n,) array_like
-        Coulomb parameters h_X (α_X = α + h_X β).
-    bonds : (m, 2) int array_like
-        Local indices (0..n−1) of bonded pairs.
-    resonance : (m,) array_like
-        β_rs/β0 (k_rs × f(r) × overlap), usually positive.
-
-    Returns
-    -------
-    h0 : (n, n) float64, symmetric; h0_rr = −h_r, h0_rs = −resonance_rs.
+    Parameters: h_diag (n,) Coulomb parameters h_X (α_X = α + h_X β); bonds (m, 2) local index pairs;
+    resonance (m,) β_rs/β0 (k_rs × f(r) × overlap). Returns: h0 (n, n) float64 symmetric with
+    h0_rr = −h_r and h0_rs = −resonance_rs.
     """
     h = np.asarray(h_diag, dtype=np.float64)
     n = h.shape[0]
@@ -189,12 +153,8 @@ def occupy(energies, n_electrons: int, *, tol: float = DEGENERACY_TOL):
     if n == 0 or n_electrons == 0:
         return occ, False, False, None
     # shells of (near-)degenerate levels
-    shells = []
-    start = 0
-    for i in range(1, n + 1):
-        if i == n or e[i] - e[i - 1] > tol:
-            shells.append((start, i))
-            start = i
+    cuts = [0] + [i for i in range(1, n) if e[i] - e[i - 1] > tol] + [n]
+    shells = list(zip(cuts[:-1], cuts[1:]))
     left = float(n_electrons)
     homo_shell = None
     for si, (a, b) in enumerate(shells):
@@ -219,16 +179,9 @@ def occupy(energies, n_electrons: int, *, tol: float = DEGENERACY_TOL):
 
 
 def density_matrix(vectors, occ) -> np.ndarray:
-    """P = Σ_k n_k c_k c_kᵀ for real MO coefficients.
+    """P = Σ_k n_k c_k c_kᵀ for real MO coefficients: vectors (n, n) columns, occ (n,).
 
-    Parameters
-    ----------
-    vectors : (n, n) array_like, columns are MOs
-    occ : (n,) array_like
-
-    Returns
-    -------
-    (n, n) float64; diagonal = π populations, off-diagonal = Coulson bond orders.
+    Returns (n, n) float64: diagonal = π populations, off-diagonal = Coulson bond orders.
     """
     c = np.asarray(vectors, dtype=np.float64)
     return (c * np.asarray(occ, dtype=np.float64)) @ c.T
@@ -426,13 +379,10 @@ def kirchhoff_decomposition(bond_currents, incidence):
     jb = np.atleast_2d(np.asarray(bond_currents, dtype=np.float64))
     inc = np.asarray(incidence, dtype=np.float64)
     if inc.shape[1] == 0:
-        return np.zeros((jb.shape[0], 0)), float(np.max(np.ones(1) if np.any(jb) else np.zeros(1)))
-    x, *_ = np.linalg.lstsq(inc, jb.T, rcond=None)
-    fit = inc @ x
-    norms = np.linalg.norm(jb, axis=1)
-    res = np.linalg.norm(fit.T - jb, axis=1)
-    scale = max(float(np.max(norms)), 1e-300)
-    return x.T, float(np.max(res) / scale)
+        return np.zeros((jb.shape[0], 0)), 1.0 if np.any(jb) else 0.0
+    x = np.linalg.lstsq(inc, jb.T, rcond=None)[0]
+    res = np.linalg.norm((inc @ x).T - jb, axis=1)
+    return x.T, float(np.max(res) / max(float(np.max(np.linalg.norm(jb, axis=1))), 1e-300))
 
 
 def node_divergence(bond_currents, bonds, n_nodes: int) -> np.ndarray:
@@ -501,8 +451,7 @@ def p_orbital_axes(xyz, centres, neighbours, bonds):
             axes[k], ok[k] = v / np.linalg.norm(v), True
     adj = [[] for _ in range(n)]
     for i, j in b:
-        adj[i].append(j)
-        adj[j].append(i)
+        adj[i].append(j), adj[j].append(i)
     for _ in range(n):  # centres without a defined axis inherit one from a π neighbour
         todo = [k for k in range(n) if not ok[k] and any(ok[m] for m in adj[k])]
         if not todo:
@@ -623,3 +572,28 @@ def absolute_current_nA_per_T(g_A2, beta0_eV: float = BETA0_EV):
     e_over_hbar = _sc.e / _sc.hbar  # 1/(T m²)
     beta_j = abs(beta0_eV) * _sc.e
     return 2.0 * e_over_hbar**2 * beta_j * 1e-20 * np.asarray(g_A2, dtype=np.float64) * 1e9
+
+
+def pi_charge_shift_ppm(charges_on_parent_atoms, *, k_ppm_per_e: float = PI_CHARGE_PPM_PER_E) -> np.ndarray:
+    """π-charge shift Δδ = k·q of a proton on an atom of π charge q = Z − P (ppm, positive = downfield).
+
+    Excess π density (q < 0) moves the proton upfield: k ≈ 10.7 ppm per electron (Schaefer &
+    Schneider, Can. J. Chem. 1963, 41, 966; from memory); Fraenkel et al. (J. Am. Chem. Soc. 1960, 82,
+    5846) measured C5H5⁻ 1.85 ppm upfield and C7H7⁺ 1.9 ppm downfield of benzene.
+
+    Parameters
+    ----------
+    charges_on_parent_atoms : (n,) array_like, electrons
+    k_ppm_per_e : float, keyword-only
+
+    Returns
+    -------
+    (n,) float64, ppm. Apply separately from the ring-current term.
+    """
+    try:
+        q = np.asarray(charges_on_parent_atoms, dtype=np.float64).reshape(-1)
+    except (TypeError, ValueError):
+        raise InputError("charges_on_parent_atoms: expected a sequence of π charges (numbers)") from None
+    if not np.all(np.isfinite(q)):
+        raise InputError("charges_on_parent_atoms: contains NaN or inf; expected finite π charges")
+    return k_ppm_per_e * q

@@ -17,17 +17,21 @@ the rest go into the p orbital (sp: half of the rest). This gives C 1, C⁻ 2, C
 pyrrole N 2, furan O and thiophene S 2, carbonyl O 1, B 0, pyridinium N⁺ 1. The core charge is
 Z = electrons + q, so the π charges q_r = Z_r − P_rr add up to the formal charge on the π atoms.
 
-[18]annulene and the β model (measured, see the package tests and the report)
--------------------------------------------------------------------------------
-Hückel–London with uniform β gives 3.14 × benzene for a regular [18]annulene, and β(r) from an MMFF94
-geometry (nearly equal bonds) about the same. ``beta_model="scf"`` replaces the C–C lengths by the
-self-consistent Coulson lengths (r = 1.520 − 0.186 p; calibrated on ethylene and benzene bond lengths,
-molecules other than [18]annulene) with β(r) of Longuet-Higgins & Salem. That makes (4n+2)-annulenes
-with N ≥ 18 alternate (regular-polygon [18]annulene: 1.386/1.417 Å), lowers regular [18]annulene to
-about 2.3 × benzene and [26]annulene from 4.6 × to about 1.3 ×, and leaves benzene (1.396 Å), the
-smaller annulenes and naphthalene essentially unchanged. It does not reach the ≈1.2 × that the observed
-inner/outer shifts of [18]annulene suggest; no further factor is applied, since nothing outside
-[18]annulene itself would calibrate it.
+[18]annulene and the β model (measured; tests/test_pisystem.py)
+----------------------------------------------------------------
+Hückel–London overestimates large (4n+2)-annulenes: uniform β gives 3.14 × benzene for a regular
+18-gon and 2.24 × for the real-shaped (honeycomb, 120°, 1.397 Å) [18]annulene; β(r) on MMFF94 bonds of
+1.33–1.35 Å gives more (2.3–2.7 ×). The a priori treatment here is ``beta_model="scf"``: C–C lengths
+made self-consistent with the π bond orders through Coulson's relation r = 1.520 − 0.186 p (fixed by the
+bond lengths of ethylene and benzene, and checked against those of naphthalene and cyclooctatetraene,
+never against [18]annulene), with β(r) of Longuet-Higgins & Salem. It leaves benzene and [14]annulene
+essentially equal-bonded (2.44 → 2.40 × for a regular [14]) but makes N ≥ 18 alternate (1.386/1.417 Å
+for [18]) and lowers regular [18], [26], [30]annulene from 3.14, 4.55, 5.26 to 2.59, 1.50, 1.13 ×;
+naphthalene goes from 1.093 to 1.009, anthracene from 1.084/1.279 to 0.932/1.239. For the honeycomb
+[18]annulene it gives 1.85 × benzene, i.e. an inner/outer shift difference of 19.6 ppm with the
+Johnson–Bovey double loop of :mod:`ringshift.fields`, against 12.2 ppm observed (it would need 1.15 ×):
+the treatment removes about a third of the excess but not all of it. No further factor is applied,
+because nothing but [18]annulene itself would calibrate it.
 """
 
 from __future__ import annotations
@@ -37,10 +41,13 @@ from typing import Sequence
 
 import numpy as np
 from rdkit import Chem
+from scipy.sparse import coo_matrix
+from scipy.sparse.csgraph import connected_components
 
 from ringshift import huckel as hk
 from ringshift.constants import BENZENE_CURRENT_NA_PER_T
 from ringshift.errors import InputError
+from ringshift.huckel import PI_CHARGE_PPM_PER_E, pi_charge_shift_ppm
 
 __all__ = [
     "PiSystem", "HuckelResult", "LondonCurrents", "perceive_pi", "circuit_electrons", "huckel_class",
@@ -48,9 +55,6 @@ __all__ = [
     "BETA_MODELS",
 ]
 
-#: Shift per π charge: Δδ = k·q, q = Z − P (q > 0 electron-poor, downfield); 10.7 ppm/e
-#: (Schaefer & Schneider, Can. J. Chem. 1963, 41, 966; from memory).
-PI_CHARGE_PPM_PER_E = 10.7
 BETA_MODELS = ("uniform", "distance", "scf")
 _ELEMENTS = {5: "B", 6: "C", 7: "N", 8: "O", 9: "F", 16: "S", 17: "Cl", 35: "Br", 53: "I"}
 _PT = Chem.GetPeriodicTable()
@@ -255,29 +259,14 @@ def _atom_type(atom, pi: int) -> str | None:
 
 
 def _components(atoms, bonds) -> list[tuple[int, ...]]:
-    adj = {a: [] for a in atoms}
-    for i, j in bonds:
-        adj[i].append(j)
-        adj[j].append(i)
-    seen, out = set(), []
-    for a in atoms:
-        if a in seen:
-            continue
-        comp, stack = [], [a]
-        seen.add(a)
-        while stack:
-            x = stack.pop()
-            comp.append(x)
-            for y in adj[x]:
-                if y not in seen:
-                    seen.add(y)
-                    stack.append(y)
-        out.append(tuple(sorted(comp)))
-    return sorted(out)
-
-
-def _plane(points: np.ndarray) -> tuple[np.ndarray, np.ndarray, float]:
-    return hk.plane_fit(points)
+    """Connected components of the π graph (scipy.sparse.csgraph), as sorted tuples of atom indices."""
+    if not atoms:
+        return []
+    idx = {a: k for k, a in enumerate(atoms)}
+    e = np.array([(idx[i], idx[j]) for i, j in bonds], dtype=np.intp).reshape(-1, 2)
+    graph = coo_matrix((np.ones(len(e)), (e[:, 0], e[:, 1])), shape=(len(atoms), len(atoms)))
+    labels = connected_components(graph, directed=False)[1]
+    return sorted(tuple(a for a, lab in zip(atoms, labels) if lab == k) for k in set(labels))
 
 
 def _p_axes(mol, xyz: np.ndarray, atoms, bonds) -> tuple[np.ndarray, list[str]]:
@@ -330,12 +319,10 @@ def perceive_pi(mol, coords=None) -> PiSystem:
         if a not in seeds and (pi != 1 or atom.GetNumRadicalElectrons()):
             if any(n.GetIdx() in seeds for n in atom.GetNeighbors()):
                 pi_atoms.add(a)
-    for atom in mol.GetAtoms():  # conjugated atoms we cannot parametrise
-        if atom.GetIdx() not in pi_atoms and atom.GetAtomicNum() > 1 and any(b.GetIsConjugated() for b in atom.GetBonds()) \
-                and any(n.GetIdx() in pi_atoms for n in atom.GetNeighbors()) and atom.GetTotalDegree() <= 3 \
-                and atom.GetIdx() not in counts:
-            notes.append(f"atom {atom.GetIdx()} ({atom.GetSymbol()}) looks conjugated but has no Hückel "
-                         "parameters here; left out of the π system")
+    notes += [f"atom {at.GetIdx()} ({at.GetSymbol()}) looks conjugated but has no Hückel parameters here; "
+              "left out of the π system" for at in mol.GetAtoms()
+              if at.GetIdx() not in counts and at.GetAtomicNum() > 1 and at.GetTotalDegree() <= 3
+              and any(b.GetIsConjugated() for b in at.GetBonds()) and any(n.GetIdx() in pi_atoms for n in at.GetNeighbors())]
     atoms = tuple(sorted(pi_atoms))
     bonds = tuple(sorted((i, j) for (i, j) in orders if i in pi_atoms and j in pi_atoms))
     electrons = tuple(counts[a] for a in atoms)
@@ -363,7 +350,7 @@ def perceive_pi(mol, coords=None) -> PiSystem:
         if poor:
             notes.append("poor p-orbital overlap (β scaled by |cos|) at bonds "
                          + ", ".join(f"{b} |cos| = {o:.2f}" for b, o in poor[:6]) + (" ..." if len(poor) > 6 else ""))
-        dev = tuple(_plane(xyz[list(f)])[2] for f in frags)
+        dev = tuple(hk.plane_fit(xyz[list(f)])[2] for f in frags)
         planar = tuple(d <= _PLANAR_TOL_A for d in dev)
         for f, d in zip(frags, dev):
             if d > _PLANAR_TOL_A:
@@ -398,9 +385,9 @@ def _check_circuit(pi: PiSystem, circuit, name: str) -> tuple[int, ...]:
 def circuit_electrons(pi: PiSystem, circuit_atoms, mol) -> int:
     """π electrons of one circuit (monocycle, perimeter, ring of a fused system).
 
-    Sum of the atoms' contributions, except that an sp2 carbon whose Kekulé double bond goes to N, O
-    or S outside the circuit gives its electron to that bond (counts 0), the rule of RDKit's
-    aromaticity model (tropone, 2-pyridone: 6; p-benzoquinone: 4).
+    Sum of the atoms' contributions, except that an sp2 carbon with an exocyclic (non-ring) Kekulé double
+    bond to N, O or S gives its electron to that bond (counts 0), the rule of RDKit's aromaticity model
+    (tropone, 2-pyridone: 6; p-benzoquinone: 4).
     """
     _check_mol(mol)
     atoms = set(_check_circuit(pi, circuit_atoms, "circuit_atoms"))
@@ -413,7 +400,8 @@ def circuit_electrons(pi: PiSystem, circuit_atoms, mol) -> int:
             for (i, j), o in kek.items():
                 other = j if i == a else i if j == a else None
                 if other is not None and o >= 2 and other not in atoms \
-                        and mol.GetAtomWithIdx(other).GetAtomicNum() in (7, 8, 16):
+                        and mol.GetAtomWithIdx(other).GetAtomicNum() in (7, 8, 16) \
+                        and not mol.GetBondBetweenAtoms(a, other).IsInRing():
                     n = 0
         total += n
     return total
@@ -438,7 +426,7 @@ def _hetero_k(ta: str, tb: str) -> float:
     return float(np.sqrt(ka * kb))
 
 
-def _setup(pi: PiSystem, mol, xyz, beta_model, distortion):
+def _setup(pi: PiSystem, mol, xyz, distortion):
     idx = {a: k for k, a in enumerate(pi.atoms)}
     lb = np.array([(idx[i], idx[j]) for i, j in pi.bonds], dtype=np.intp).reshape(-1, 2)
     hd = np.array([hk.HETERO_PARAMETERS[t][0] for t in pi.atom_types])
@@ -452,7 +440,7 @@ def _setup(pi: PiSystem, mol, xyz, beta_model, distortion):
     else:
         ov, lengths = np.ones(len(lb)), None
     dist = np.ones(len(lb)) if distortion is None else np.where(dbl, 1.0 + distortion, 1.0 - distortion)
-    return idx, lb, hd, k, is_cc, dbl, ov, lengths, dist
+    return lb, hd, k, is_cc, dbl, ov, lengths, dist
 
 
 def huckel(pi: PiSystem, mol, coords=None, *, beta_model: str = "distance", distortion: float | None = None) -> HuckelResult:
@@ -482,7 +470,7 @@ def huckel(pi: PiSystem, mol, coords=None, *, beta_model: str = "distance", dist
     xyz = _check_coords(mol, coords, required=beta_model != "uniform")
     if distortion is not None and not (isinstance(distortion, (int, float)) and -1.0 < float(distortion) < 1.0):
         raise InputError(f"distortion: expected a bond-alternation fraction in (-1, 1), got {distortion!r}")
-    idx, lb, hd, k, is_cc, dbl, ov, lengths, dist = _setup(pi, mol, xyz, beta_model, distortion)
+    lb, hd, k, is_cc, dbl, ov, lengths, dist = _setup(pi, mol, xyz, distortion)
     notes, converged = [], True
     if beta_model == "uniform":
         res, used_len = k * dist * ov, None
@@ -603,28 +591,3 @@ def london_currents(pi: PiSystem, mol, coords, circuits: Sequence[Sequence[int]]
         circuit_response_rel=_frozen(resp), circuit_currents_rel=_frozen(rel),
         circuit_currents_nA_per_T=_frozen(rel * BENZENE_CURRENT_NA_PER_T),
         circuit_currents_abs_nA_per_T=_frozen(rel * bz_abs), kirchhoff_residual=resid, conservation_residual=cons)
-
-
-def pi_charge_shift_ppm(charges_on_parent_atoms, *, k_ppm_per_e: float = PI_CHARGE_PPM_PER_E) -> np.ndarray:
-    """π-charge shift Δδ = k·q of a proton on an atom of π charge q = Z − P (ppm, positive = downfield).
-
-    Excess π density (q < 0) moves the proton upfield: k ≈ 10.7 ppm per electron (Schaefer &
-    Schneider, Can. J. Chem. 1963, 41, 966; from memory); Fraenkel et al. (J. Am. Chem. Soc. 1960, 82,
-    5846) measured C5H5⁻ 1.85 ppm upfield and C7H7⁺ 1.9 ppm downfield of benzene.
-
-    Parameters
-    ----------
-    charges_on_parent_atoms : (n,) array_like, electrons
-    k_ppm_per_e : float, keyword-only
-
-    Returns
-    -------
-    (n,) float64, ppm. Apply separately from the ring-current term.
-    """
-    try:
-        q = np.asarray(charges_on_parent_atoms, dtype=np.float64).reshape(-1)
-    except (TypeError, ValueError):
-        raise InputError("charges_on_parent_atoms: expected a sequence of π charges (numbers)") from None
-    if not np.all(np.isfinite(q)):
-        raise InputError("charges_on_parent_atoms: contains NaN or inf; expected finite π charges")
-    return k_ppm_per_e * q
