@@ -253,14 +253,14 @@ def encode_xydata(x: np.ndarray, y: np.ndarray, form: str = "DIF", *, width: int
         raise InputError(f"compress={form!r}; expected one of {', '.join(FORMS)}", "compress")
     lines: list[str] = []
     if form != "DIF":
-        def tok(v: int) -> str:
-            return {"AFFN": f" {v}", "PAC": f"{v:+d}", "SQZ": _pseudo(v, _SQZ_OUT)}[form]
+        tok = {"AFFN": lambda v: f" {v}", "PAC": lambda v: f"{v:+d}", "SQZ": lambda v: _pseudo(v, _SQZ_OUT)}[form]
+        tokens = [tok(v) for v in y]
         i = 0
         while i < n:
-            line = xt[i] + tok(y[i])
+            line = xt[i] + tokens[i]
             i += 1
-            while i < n and len(line) + len(tok(y[i])) <= width:
-                line += tok(y[i])
+            while i < n and len(line) + len(tokens[i]) <= width:
+                line += tokens[i]
                 i += 1
             lines.append(line)
         return lines
@@ -323,10 +323,10 @@ def _blocks(text: str, source: str) -> list[dict]:
             if not stack:
                 break
         elif name in _DATA_LABELS:
-            if name in block["data"]:
+            if name in block["data"] and name != "DATATABLE":  # NTUPLES pages repeat ##DATA TABLE
                 raise InputError(f"second ##{m.group(1).strip()}= in one block", where)
             data_lines = []
-            block["data"][name] = (lineno, value, data_lines)
+            block["data"].setdefault(name, (lineno, value, data_lines))
         elif name not in block["labels"]:
             last_label = block["labels"][name] = [value, lineno]
     if stack:
@@ -401,7 +401,7 @@ def parse_jcamp_text(text: str, *, source: str = "<string>") -> JcampData:
         notes.append(f"##JCAMP-DX={version!r}: version not 4.x/5.x, read as 5.01")
     if "NMR" not in lab.text("DATATYPE", "NMR").upper():
         notes.append(f"##DATA TYPE={lab.text('DATATYPE')!r} is not an NMR type")
-    if re.sub(r"[\s^]", "", lab.text(".OBSERVENUCLEUS", "1H")).upper() not in ("1H", "H1", "H"):
+    if re.sub(r"[^0-9A-Za-z]", "", lab.text(".OBSERVENUCLEUS", "1H")).upper() not in ("1H", "H1", "H"):
         notes.append(f"##.OBSERVE NUCLEUS={lab.text('.OBSERVENUCLEUS')}: not 1H")
     xunits = lab.text("XUNITS").strip().upper()
     if xunits not in ("PPM", "HZ"):

@@ -412,7 +412,8 @@ BAD_JCAMP = [
     ("peak-npoints", jdx_peaks(npoints="##NPOINTS=2\n"), "NPOINTS=2 but"),
     ("peak-out-of-range", jdx_peaks(rows="-25, 1\n"), "outside"),
     ("bad-number", jdx_peaks(rows="7.2, x\n"), "not a number"),
-    ("ntuples", "##TITLE=t\n##JCAMP-DX=5.01\n##NTUPLES=NMR SPECTRUM\n##END NTUPLES=x\n##END=\n", "NTUPLES"),
+    ("ntuples", "##TITLE=t\n##JCAMP-DX=5.01\n##NTUPLES=NMR SPECTRUM\n##PAGE=N=1\n##DATA TABLE=(X++(R..R)), XYDATA\n"
+     "1 2 3\n##PAGE=N=2\n##DATA TABLE=(X++(I..I)), XYDATA\n1 2 3\n##END NTUPLES=NMR SPECTRUM\n##END=\n", "NTUPLES"),
     ("npoints-mismatch", header(npoints=11) + "10 1 2 3 3 2 1 0 -1 -2 -3\n##END=\n",
      "NPOINTS=11 but ##XYDATA holds 10"),
     ("too-many-values", header(npoints=3) + "10 1 2 3 4\n##END=\n", "more values than NPOINTS=3"),
