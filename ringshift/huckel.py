@@ -49,13 +49,15 @@ from __future__ import annotations
 
 import numpy as np
 from scipy import constants as _sc
+from scipy.sparse import coo_matrix
+from scipy.sparse.csgraph import breadth_first_order
 
 from ringshift.errors import InputError
 
 __all__ = [
     "HETERO_PARAMETERS", "BETA_REF_LENGTH_A", "BETA_DECAY_A", "COULSON_R0_A", "COULSON_SLOPE_A", "BETA0_EV",
-    "beta_distance_factor", "huckel_matrix", "occupy", "density_matrix", "london_bond_response",
-    "bond_polarizability", "scf_cc_lengths", "kirchhoff_decomposition", "node_divergence", "plane_fit",
+    "beta_distance_factor", "huckel_matrix", "occupy", "solve_fragments", "density_matrix", "london_bond_response",
+    "bond_polarizability", "scf_cc_lengths", "kirchhoff_decomposition", "plane_fit",
     "p_orbital_axes", "circuit_normals", "circuit_incidence", "regular_polygon", "benzene_reference_response",
     "absolute_current_nA_per_T", "pi_charge_shift_ppm", "PI_CHARGE_PPM_PER_E",
 ]
@@ -127,23 +129,15 @@ def huckel_matrix(h_diag, bonds, resonance) -> np.ndarray:
 def occupy(energies, n_electrons: int, *, tol: float = DEGENERACY_TOL):
     """Aufbau occupations; a partly filled degenerate shell is filled evenly (fractional occupations).
 
-    Parameters
-    ----------
-    energies : (n,) array_like, ascending, units of |β|
-    n_electrons : int, 0 <= n_electrons <= 2n
+    Parameters: energies (n,) ascending, units of |β|; n_electrons int in 0..2n.
 
     Returns
     -------
-    occ : (n,) float64
-        Occupation numbers (0..2).
-    open_shell : bool
-        True when the highest occupied shell is not completely filled (radical or degenerate
-        half-filled shell).
-    degenerate_homo : bool
-        True when the highest occupied shell has more than one orbital.
-    gap : float or None
-        e(LUMO) − e(HOMO) ≥ 0 in |β| (0.0 for a partly filled shell); None if there is no occupied
-        or no empty level.
+    occ : (n,) float64 occupation numbers (0..2)
+    open_shell : bool, the highest occupied shell is not full (radical, degenerate half-filled shell)
+    degenerate_homo : bool, the highest occupied shell has more than one orbital
+    gap : float or None, e(LUMO) − e(HOMO) ≥ 0 in |β| (0.0 for a partly filled shell; None if there
+        is no occupied or no empty level)
     """
     e = np.asarray(energies, dtype=np.float64)
     n = e.shape[0]
@@ -178,6 +172,41 @@ def occupy(energies, n_electrons: int, *, tol: float = DEGENERACY_TOL):
     return occ, open_shell, degenerate_homo, gap
 
 
+def solve_fragments(h0, fragments, n_electrons):
+    """Diagonalise a block-diagonal Hückel matrix fragment by fragment, each with its own electrons.
+
+    Parameters
+    ----------
+    h0 : (n, n) Hückel matrix (no elements between fragments)
+    fragments : sequence of local index arrays partitioning 0..n−1
+    n_electrons : sequence of int, π electrons of each fragment
+
+    Returns
+    -------
+    energies (n,) ascending; vectors (n, n) columns; occ (n,); labels (n,) fragment of each MO;
+    open_shell (any fragment); degenerate_homo (any fragment); degenerate_open (a fragment with a partly
+    filled degenerate HOMO shell); gap (smallest fragment HOMO–LUMO gap, None if none is defined).
+    """
+    h = np.asarray(h0, dtype=np.float64)
+    n = h.shape[0]
+    e, c, occ, lab = np.zeros(n), np.zeros((n, n)), np.zeros(n), np.zeros(n, dtype=np.intp)
+    col, flags, gaps = 0, [False, False, False], []
+    for f, (idx, ne) in enumerate(zip(fragments, n_electrons)):
+        idx = np.asarray(idx, dtype=np.intp)
+        ef, cf = np.linalg.eigh(h[np.ix_(idx, idx)])
+        of, op, dg, gp = occupy(ef, int(ne))
+        sl = slice(col, col + idx.size)
+        e[sl], occ[sl], lab[sl] = ef, of, f
+        c[idx, sl] = cf
+        col += idx.size
+        flags = [flags[0] or op, flags[1] or dg, flags[2] or (op and dg)]
+        if gp is not None:
+            gaps.append(gp)
+    order = np.argsort(e, kind="stable")
+    return (e[order], c[:, order], occ[order], lab[order], flags[0], flags[1], flags[2],
+            min(gaps) if gaps else None)
+
+
 def density_matrix(vectors, occ) -> np.ndarray:
     """P = Σ_k n_k c_k c_kᵀ for real MO coefficients: vectors (n, n) columns, occ (n,).
 
@@ -187,7 +216,7 @@ def density_matrix(vectors, occ) -> np.ndarray:
     return (c * np.asarray(occ, dtype=np.float64)) @ c.T
 
 
-def london_bond_response(h0, xyz, bonds, energies, vectors, occ, *, tol: float = DEGENERACY_TOL):
+def london_bond_response(h0, xyz, bonds, energies, vectors, occ, *, labels=None, tol: float = DEGENERACY_TOL):
     """First-order Hückel–London bond currents for unit b = eB/ħ along x, y and z.
 
     Parameters
@@ -197,6 +226,8 @@ def london_bond_response(h0, xyz, bonds, energies, vectors, occ, *, tol: float =
     bonds : (m, 2) local index pairs (i, j)
     energies, vectors : eigen-decomposition of h0 (ascending, columns)
     occ : (n,) occupations
+    labels : (n,) int, optional
+        Fragment of each MO (from :func:`solve_fragments`); MOs of different fragments do not couple.
     tol : float
         Levels with different occupations closer than this make the response undefined.
 
@@ -224,6 +255,9 @@ def london_bond_response(h0, xyz, bonds, energies, vectors, occ, *, tol: float =
     dn = nocc[None, :] - nocc[:, None]  # n_k − n_l at [l, k]
     de = e[None, :] - e[:, None]  # e_k − e_l at [l, k]
     mask = np.abs(dn) > 1e-12
+    if labels is not None:
+        lab = np.asarray(labels)
+        mask &= lab[None, :] == lab[:, None]
     if np.any(mask & (np.abs(de) <= tol)):
         raise ValueError("degenerate levels with different occupations: open shell, no linear response")
     f = np.zeros_like(de)
@@ -279,22 +313,13 @@ def scf_cc_lengths(h_diag, bonds, fixed_resonance, is_cc, overlap, kekule_double
     bond–bond polarisability, is below 1 and the shell is closed; otherwise it is displaced along the
     unstable mode (or the Kekulé pattern) and the search restarts.
 
-    Parameters
-    ----------
-    h_diag : (n,) Coulomb parameters
-    bonds : (m, 2) local index pairs
-    fixed_resonance : (m,) β_rs/β0 of bonds whose β does not depend on length (k_CX); ignored for C–C
-    is_cc : (m,) bool, True for C–C bonds (iterated)
-    overlap : (m,) multiplicative factors on every β (|cos ω| alignment, explicit distortion)
-    kekule_double : (m,) bool, double bonds of a Kekulé structure (seed of the alternation)
-    n_electrons : int
+    Parameters: h_diag (n,) Coulomb parameters; bonds (m, 2) local index pairs; fixed_resonance (m,)
+    β_rs/β0 of bonds whose β does not depend on length (k_CX; ignored for C–C); is_cc (m,) bool, the
+    iterated C–C bonds; overlap (m,) factors on every β (|cos ω| alignment, explicit distortion);
+    kekule_double (m,) bool, double bonds of a Kekulé structure (the seed); n_electrons int.
 
-    Returns
-    -------
-    lengths : (m,) float64, Å (C–C entries self-consistent; others 0 and not used)
-    converged : bool
-        True if a stable, closed-shell fixed point was found.
-    n_iter : int
+    Returns: lengths (m,) float64 Å (C–C entries self-consistent, others 0 and unused); converged (True
+    if a stable, closed-shell fixed point was found); n_iter.
     """
     hd = np.asarray(h_diag, dtype=np.float64)
     b = np.asarray(bonds, dtype=np.intp).reshape(-1, 2)
@@ -385,16 +410,6 @@ def kirchhoff_decomposition(bond_currents, incidence):
     return x.T, float(np.max(res) / max(float(np.max(np.linalg.norm(jb, axis=1))), 1e-300))
 
 
-def node_divergence(bond_currents, bonds, n_nodes: int) -> np.ndarray:
-    """Net current leaving each node, (k, n_nodes), for currents (k, m) on bonds (m, 2) (i → j)."""
-    jb = np.atleast_2d(np.asarray(bond_currents, dtype=np.float64))
-    b = np.asarray(bonds, dtype=np.intp).reshape(-1, 2)
-    out = np.zeros((jb.shape[0], n_nodes))
-    np.add.at(out, (slice(None), b[:, 0]), jb)
-    np.add.at(out, (slice(None), b[:, 1]), -jb)
-    return out
-
-
 def plane_fit(points) -> tuple[np.ndarray, np.ndarray, float]:
     """Least-squares plane through points (k, 3) by SVD: (centroid (3,), unit normal (3,), largest
     |deviation| in Å). Fewer than 3 points: normal +z, deviation 0."""
@@ -432,49 +447,30 @@ def p_orbital_axes(xyz, centres, neighbours, bonds):
     x = np.asarray(xyz, dtype=np.float64)
     n = len(centres)
     b = np.asarray(bonds, dtype=np.intp).reshape(-1, 2)
-    axes = np.zeros((n, 3))
-    ok = np.zeros(n, bool)
-    height = np.zeros(n)
+    axes, ok, height = np.zeros((n, 3)), np.zeros(n, bool), np.zeros(n)
     for k, (a, nb) in enumerate(zip(centres, neighbours)):
         u = x[list(nb)] - x[a]
         u /= np.maximum(np.linalg.norm(u, axis=1), 1e-12)[:, None]
+        v = np.cross(u[1] - u[0], u[2] - u[0]) if len(nb) == 3 else np.cross(u[0], u[1]) if len(nb) == 2 else 0 * x[a]
         if len(nb) == 3:
-            v = np.cross(u[1] - u[0], u[2] - u[0])
             pn = np.cross(x[nb[1]] - x[nb[0]], x[nb[2]] - x[nb[0]])
-            if np.linalg.norm(pn) > 1e-9:
-                height[k] = abs(np.dot(x[a] - x[nb[0]], pn)) / np.linalg.norm(pn)
-        elif len(nb) == 2:
-            v = np.cross(u[0], u[1])
-        else:
-            v = np.zeros(3)
+            height[k] = abs(np.dot(x[a] - x[nb[0]], pn)) / np.linalg.norm(pn) if np.linalg.norm(pn) > 1e-9 else 0.0
         if np.linalg.norm(v) > 0.1:
             axes[k], ok[k] = v / np.linalg.norm(v), True
-    adj = [[] for _ in range(n)]
-    for i, j in b:
-        adj[i].append(j), adj[j].append(i)
-    for _ in range(n):  # centres without a defined axis inherit one from a π neighbour
-        todo = [k for k in range(n) if not ok[k] and any(ok[m] for m in adj[k])]
-        if not todo:
-            break
-        for k in todo:
-            axes[k] = next(axes[m] for m in adj[k] if ok[m])
-            ok[k] = True
-    if not ok.all():
-        axes[~ok] = plane_fit(x[list(centres)])[1]
-    seen = np.zeros(n, bool)
-    for s0 in range(n):
-        if seen[s0]:
+    graph = coo_matrix((np.ones(len(b)), (b[:, 0], b[:, 1])), shape=(n, n))
+    done = np.zeros(n, bool)
+    for s0 in [k for k in range(n) if ok[k]] + list(range(n)):  # each component from a defined axis
+        if done[s0]:
             continue
-        seen[s0] = True
-        stack = [s0]
-        while stack:
-            p = stack.pop()
-            for q in adj[p]:
-                if not seen[q]:
-                    if np.dot(axes[p], axes[q]) < 0:
-                        axes[q] = -axes[q]
-                    seen[q] = True
-                    stack.append(q)
+        if not ok[s0]:
+            axes[s0], ok[s0] = plane_fit(x[list(centres)])[1], True
+        order, pred = breadth_first_order(graph, s0, directed=False, return_predecessors=True)
+        for q in order[1:]:  # undefined axes (one neighbour, linear) inherit; signs follow the tree
+            if not ok[q]:
+                axes[q], ok[q] = axes[pred[q]], True
+            elif np.dot(axes[pred[q]], axes[q]) < 0:
+                axes[q] = -axes[q]
+        done[order] = True
     twist = next((k for k, (i, j) in enumerate(b) if np.dot(axes[i], axes[j]) < -0.2), None)
     return axes, height, twist
 

@@ -103,8 +103,9 @@ class HuckelResult:
     """Hückel levels of a π system; arrays are read-only, aligned with ``pi.atoms`` / ``pi.bonds``.
 
     energies_beta (n,) ascending, x = (E − α)/|β| (bonding negative); vectors (n, n) MO columns;
-    occupations (n,); homo_lumo_gap_beta (None if undefined; 0 for a partly filled shell);
-    open_shell; degenerate_homo; charges (n,) q = Z − P_rr (e); bond_orders (n_bonds,) Coulson P_rs;
+    occupations (n,), each π fragment filled with its own electrons; homo_lumo_gap_beta (smallest
+    over fragments; None if undefined; 0 for a partly filled shell); open_shell; degenerate_homo;
+    degenerate_open_shell (a partly filled degenerate HOMO shell); mo_fragment (n,); charges (n,) q = Z − P_rr (e); bond_orders (n_bonds,) Coulson P_rs;
     resonance (n_bonds,) β_rs/β0 used; bond_lengths_A (n_bonds,) lengths entering β(r) (geometry, or
     self-consistent C–C lengths for "scf"; None for "uniform"); beta_model; parameters (table and
     citations); converged (scf); warnings.
@@ -124,6 +125,8 @@ class HuckelResult:
     parameters: dict = field(default_factory=dict)
     converged: bool = True
     warnings: tuple[str, ...] = ()
+    degenerate_open_shell: bool = False
+    mo_fragment: np.ndarray | None = None
 
 
 @dataclass(frozen=True, eq=False)
@@ -190,9 +193,11 @@ def _check_coords(mol, coords, required: bool, name: str = "coords") -> np.ndarr
     return xyz
 
 
-def _check_model(beta_model: str) -> None:
+def _check_model(beta_model: str, pi) -> None:
     if beta_model not in BETA_MODELS:
         raise InputError(f"beta_model: expected one of {', '.join(BETA_MODELS)}, got {beta_model!r}")
+    if not isinstance(pi, PiSystem):
+        raise InputError(f"pi: expected a PiSystem from perceive_pi, got {type(pi).__name__}")
 
 
 # ---------------------------------------------------------------------------------------------------
@@ -241,7 +246,8 @@ def _atom_type(atom, pi: int) -> str | None:
         return "C+" if q > 0 else "C-" if q < 0 else ("C." if atom.GetNumRadicalElectrons() else "C")
     if sym == "N":
         if core == 1:
-            return "N-" if q < 0 else "N_nitrile" if atom.GetHybridization() == Chem.HybridizationType.SP else "N_pyridine"
+            sp = atom.GetHybridization() == Chem.HybridizationType.SP
+            return "N-" if q < 0 else "N_nitrile" if sp else "N_pyridine"
         if core == 2:
             return "N+_pyridinium" if q > 0 else "N_pyrrole"
     if sym == "O":
@@ -322,7 +328,8 @@ def perceive_pi(mol, coords=None) -> PiSystem:
     notes += [f"atom {at.GetIdx()} ({at.GetSymbol()}) looks conjugated but has no Hückel parameters here; "
               "left out of the π system" for at in mol.GetAtoms()
               if at.GetIdx() not in counts and at.GetAtomicNum() > 1 and at.GetTotalDegree() <= 3
-              and any(b.GetIsConjugated() for b in at.GetBonds()) and any(n.GetIdx() in pi_atoms for n in at.GetNeighbors())]
+              and any(b.GetIsConjugated() for b in at.GetBonds())
+              and any(n.GetIdx() in pi_atoms for n in at.GetNeighbors())]
     atoms = tuple(sorted(pi_atoms))
     bonds = tuple(sorted((i, j) for (i, j) in orders if i in pi_atoms and j in pi_atoms))
     electrons = tuple(counts[a] for a in atoms)
@@ -369,7 +376,7 @@ def huckel_class(n_electrons) -> str:
     return "odd" if n_electrons % 2 else ("4n+2" if n_electrons % 4 == 2 else "4n")
 
 
-def _check_circuit(pi: PiSystem, circuit, name: str) -> tuple[int, ...]:
+def _check_circuit(pi: PiSystem, circuit, name: str, closed: bool = False) -> tuple[int, ...]:
     try:
         cyc = tuple(int(a) for a in circuit)
     except (TypeError, ValueError):
@@ -379,6 +386,11 @@ def _check_circuit(pi: PiSystem, circuit, name: str) -> tuple[int, ...]:
     missing = [a for a in cyc if a not in set(pi.atoms)]
     if missing:
         raise InputError(f"{name}: atoms {missing} are not π atoms; expected a cycle of π atoms")
+    bset = set(pi.bonds)
+    bad = [(a, b) for a, b in zip(cyc, cyc[1:] + cyc[:1]) if closed and (min(a, b), max(a, b)) not in bset]
+    if bad:
+        raise InputError(f"{name}: atoms {bad[0][0]} and {bad[0][1]} are consecutive but not π-bonded; "
+                         "expected the atoms in ring order")
     return cyc
 
 
@@ -410,20 +422,17 @@ def circuit_electrons(pi: PiSystem, circuit_atoms, mol) -> int:
 # ---------------------------------------------------------------------------------------------------
 # Hückel
 # ---------------------------------------------------------------------------------------------------
-def _frozen(a) -> np.ndarray:
-    arr = np.array(a, dtype=np.float64)
+def _frozen(a, dtype=np.float64) -> np.ndarray:
+    arr = np.array(a, dtype=dtype)
     arr.setflags(write=False)
     return arr
 
 
 def _hetero_k(ta: str, tb: str) -> float:
-    ka, kb = hk.HETERO_PARAMETERS[ta][1], hk.HETERO_PARAMETERS[tb][1]
-    ca, cb = ta.startswith("C"), tb.startswith("C")
-    if ca and cb:
-        return 1.0
-    if ca or cb:
-        return kb if ca else ka
-    return float(np.sqrt(ka * kb))
+    """k_XY: 1 for C–C, k_CX for C–X, sqrt(k_CX k_CY) for X–Y (common practice, no source)."""
+    ka = 1.0 if ta.startswith("C") else hk.HETERO_PARAMETERS[ta][1]
+    kb = 1.0 if tb.startswith("C") else hk.HETERO_PARAMETERS[tb][1]
+    return ka * kb if ta.startswith("C") or tb.startswith("C") else float(np.sqrt(ka * kb))
 
 
 def _setup(pi: PiSystem, mol, xyz, distortion):
@@ -432,18 +441,20 @@ def _setup(pi: PiSystem, mol, xyz, distortion):
     hd = np.array([hk.HETERO_PARAMETERS[t][0] for t in pi.atom_types])
     k = np.array([_hetero_k(pi.atom_types[i], pi.atom_types[j]) for i, j in lb])
     is_cc = np.array([pi.atom_types[i].startswith("C") and pi.atom_types[j].startswith("C") for i, j in lb], bool)
-    dbl = np.array([o >= 2 for o in pi.bond_kekule], bool) if len(pi.bond_kekule) == len(pi.bonds) else np.zeros(len(lb), bool)
+    dbl = np.array([o >= 2 for o in pi.bond_kekule], bool).reshape(-1) if pi.bond_kekule else np.zeros(len(lb), bool)
     if xyz is not None and pi.atoms:
         axes, _ = _p_axes(mol, xyz, pi.atoms, pi.bonds)
         ov = np.array([min(1.0, abs(np.dot(axes[i], axes[j]))) for i, j in lb])
-        lengths = np.linalg.norm(xyz[[pi.atoms[i] for i in lb[:, 0]]] - xyz[[pi.atoms[j] for j in lb[:, 1]]], axis=1) if len(lb) else np.zeros(0)
+        ends = np.array(pi.bonds, dtype=np.intp).reshape(-1, 2)
+        lengths = np.linalg.norm(xyz[ends[:, 0]] - xyz[ends[:, 1]], axis=1)
     else:
         ov, lengths = np.ones(len(lb)), None
     dist = np.ones(len(lb)) if distortion is None else np.where(dbl, 1.0 + distortion, 1.0 - distortion)
     return lb, hd, k, is_cc, dbl, ov, lengths, dist
 
 
-def huckel(pi: PiSystem, mol, coords=None, *, beta_model: str = "distance", distortion: float | None = None) -> HuckelResult:
+def huckel(pi: PiSystem, mol, coords=None, *, beta_model: str = "distance",
+           distortion: float | None = None) -> HuckelResult:
     """Hückel levels, occupations, π charges and bond orders.
 
     Parameters
@@ -464,42 +475,46 @@ def huckel(pi: PiSystem, mol, coords=None, *, beta_model: str = "distance", dist
     HuckelResult
     """
     _check_mol(mol)
-    if not isinstance(pi, PiSystem):
-        raise InputError(f"pi: expected a PiSystem from perceive_pi, got {type(pi).__name__}")
-    _check_model(beta_model)
+    _check_model(beta_model, pi)
     xyz = _check_coords(mol, coords, required=beta_model != "uniform")
     if distortion is not None and not (isinstance(distortion, (int, float)) and -1.0 < float(distortion) < 1.0):
         raise InputError(f"distortion: expected a bond-alternation fraction in (-1, 1), got {distortion!r}")
     lb, hd, k, is_cc, dbl, ov, lengths, dist = _setup(pi, mol, xyz, distortion)
     notes, converged = [], True
+    frags = [np.searchsorted(pi.atoms, f) for f in pi.fragments]
+    f_elec = [sum(pi.electrons[i] for i in f) for f in frags]
     if beta_model == "uniform":
         res, used_len = k * dist * ov, None
     elif beta_model == "distance":
         res = np.where(is_cc, hk.beta_distance_factor(lengths), k) * dist * ov
         used_len = lengths
-    else:
-        r, converged, nit = hk.scf_cc_lengths(hd, lb, k, is_cc, ov * dist, dbl, pi.n_electrons)
-        if not converged:
-            notes.append(f"scf bond lengths not converged after {nit} iterations")
+    else:  # each fragment keeps its own electrons
+        r = np.zeros(len(lb))
+        for f_idx, f_el in zip(frags, f_elec):
+            sel = np.flatnonzero(np.isin(lb[:, 0], f_idx))
+            loc = np.searchsorted(f_idx, lb[sel])
+            r[sel], ok, nit = hk.scf_cc_lengths(hd[f_idx], loc, k[sel], is_cc[sel], (ov * dist)[sel], dbl[sel], f_el)
+            if not ok:
+                converged = False
+                notes.append(f"scf bond lengths: no stable closed-shell solution after {nit} iterations")
         res = np.where(is_cc, hk.beta_distance_factor(np.where(is_cc, r, hk.BETA_REF_LENGTH_A)), k) * dist * ov
         used_len = np.where(is_cc, r, lengths)
     h0 = hk.huckel_matrix(hd, lb, res)
-    e, c = np.linalg.eigh(h0) if len(hd) else (np.zeros(0), np.zeros((0, 0)))
-    occ, open_shell, deg, gap = hk.occupy(e, pi.n_electrons)
+    e, c, occ, labels, open_shell, deg, deg_open, gap = hk.solve_fragments(h0, frags, f_elec)
     p = hk.density_matrix(c, occ)
     if open_shell:
-        notes.append("open shell: " + ("degenerate, partly filled HOMO" if deg else "singly occupied HOMO"))
+        notes.append("open shell: " + ("degenerate, partly filled HOMO" if deg_open else "singly occupied HOMO"))
     elif gap is not None and gap < 0.05:
         notes.append(f"near-degenerate HOMO/LUMO (gap {gap:.3g} |β|): currents are large and geometry-sensitive")
-    used = sorted(set(pi.atom_types))
-    params = {"table": {t: hk.HETERO_PARAMETERS[t] for t in used}, "beta_model": beta_model,
+    params = {"table": {t: hk.HETERO_PARAMETERS[t] for t in sorted(set(pi.atom_types))}, "beta_model": beta_model,
               "beta_r": "beta0*exp(-(r-1.397)/0.3106), Longuet-Higgins & Salem 1959 (from memory)",
               "coulson": f"r = {hk.COULSON_R0_A} - {hk.COULSON_SLOPE_A} p (Coulson 1939, linearised; from memory)",
               "overlap": "|cos| of POAV-type p-orbital axes" if xyz is not None else "none (no coordinates)",
               "distortion": distortion}
     return HuckelResult(
         energies_beta=_frozen(e), vectors=_frozen(c), occupations=_frozen(occ), homo_lumo_gap_beta=gap,
-        open_shell=open_shell, degenerate_homo=deg, charges=_frozen(np.array(pi.core_charges, float) - np.diag(p)),
+        open_shell=open_shell, degenerate_homo=deg, degenerate_open_shell=deg_open, mo_fragment=_frozen(labels, np.intp),
+        charges=_frozen(np.array(pi.core_charges, float) - np.diag(p)),
         bond_orders=_frozen(p[lb[:, 0], lb[:, 1]] if len(lb) else np.zeros(0)), resonance=_frozen(res),
         bond_lengths_A=None if used_len is None else _frozen(used_len), beta_model=beta_model,
         parameters=params, converged=converged, warnings=tuple(notes))
@@ -536,19 +551,11 @@ def london_currents(pi: PiSystem, mol, coords, circuits: Sequence[Sequence[int]]
         open shell with degenerate partly filled HOMO).
     """
     _check_mol(mol)
-    if not isinstance(pi, PiSystem):
-        raise InputError(f"pi: expected a PiSystem from perceive_pi, got {type(pi).__name__}")
-    _check_model(beta_model)
+    _check_model(beta_model, pi)
     xyz = _check_coords(mol, coords, required=True)
     if isinstance(circuits, (str, bytes)) or not hasattr(circuits, "__iter__"):
         raise InputError("circuits: expected a sequence of atom-index cycles")
-    cyc = [_check_circuit(pi, c, f"circuits[{n}]") for n, c in enumerate(circuits)]
-    bond_set = {b: n for n, b in enumerate(pi.bonds)}
-    for n, c in enumerate(cyc):
-        for a, b in zip(c, c[1:] + c[:1]):
-            if (min(a, b), max(a, b)) not in bond_set:
-                raise InputError(f"circuits[{n}]: atoms {a} and {b} are consecutive but not π-bonded; "
-                                 "expected the atoms in ring order")
+    cyc = [_check_circuit(pi, c, f"circuits[{n}]", closed=True) for n, c in enumerate(circuits)]
     if normals is None:
         nrm = circuit_normals(xyz, cyc)
     else:
@@ -563,7 +570,9 @@ def london_currents(pi: PiSystem, mol, coords, circuits: Sequence[Sequence[int]]
     base = dict(field_dirs=_frozen(np.eye(3)), circuits=tuple(oriented), normals=_frozen(nrm.reshape(-1, 3)),
                 circuit_max_deviation_A=_frozen(devs), benzene_abs_nA_per_T=bz_abs, beta_model=beta_model,
                 beta0_eV=float(beta0_eV), huckel=hr)
-    notes = list(pi.warnings) + list(hr.warnings)
+    notes = list(pi.warnings) + list(hr.warnings) + [
+        f"circuit {n} ({len(c)} atoms) is non-planar: largest deviation {d:.2f} Å from its plane; the current "
+        "is its response to a field along its mean normal" for n, (c, d) in enumerate(zip(oriented, devs)) if d > _PLANAR_TOL_A]
     none = dict(bond_currents_rel=None, bond_currents_nA_per_T=None, circuit_response_rel=None,
                 circuit_currents_rel=None, circuit_currents_nA_per_T=None, circuit_currents_abs_nA_per_T=None,
                 kirchhoff_residual=None, conservation_residual=None)
@@ -573,15 +582,18 @@ def london_currents(pi: PiSystem, mol, coords, circuits: Sequence[Sequence[int]]
     h0 = hk.huckel_matrix([hk.HETERO_PARAMETERS[t][0] for t in pi.atom_types], lb, hr.resonance)
     status = ("open shell: degenerate, partly filled HOMO (e.g. a D_Nh 4n annulene); Hückel–London gives no "
               "finite current. Pass a distortion (bond alternation) or a geometry that breaks the degeneracy")
-    if hr.open_shell and hr.degenerate_homo:
+    if hr.degenerate_open_shell:
         return LondonCurrents(status=status, open_shell=True, warnings=tuple(notes), **base, **none)
     try:
-        g = hk.london_bond_response(h0, xyz[list(pi.atoms)], lb, hr.energies_beta, hr.vectors, hr.occupations)
+        g = hk.london_bond_response(h0, xyz[list(pi.atoms)], lb, hr.energies_beta, hr.vectors, hr.occupations,
+                                    labels=hr.mo_fragment)
     except ValueError:
         return LondonCurrents(status=status, open_shell=True, warnings=tuple(notes), **base, **none)
     diat = g / g_bz  # diatropic-sense current from i to j, benzene = 1
     x, resid = hk.kirchhoff_decomposition(diat, inc)
-    div = hk.node_divergence(diat, lb, len(pi.atoms))
+    div = np.zeros((3, len(pi.atoms)))  # net current leaving each atom
+    np.add.at(div, (slice(None), lb[:, 0]), diat)
+    np.add.at(div, (slice(None), lb[:, 1]), -diat)
     cons = float(np.max(np.abs(div)) / max(np.max(np.abs(diat)), 1e-300)) if diat.size else 0.0
     resp = x.T  # (n_circuits, 3)
     rel = np.einsum("ca,ca->c", resp, nrm.reshape(-1, 3))
