@@ -553,6 +553,8 @@ def london_currents(pi: PiSystem, mol, coords, circuits: Sequence[Sequence[int]]
     _check_mol(mol)
     _check_model(beta_model, pi)
     xyz = _check_coords(mol, coords, required=True)
+    if isinstance(beta0_eV, bool) or not isinstance(beta0_eV, (int, float)) or not np.isfinite(beta0_eV) or beta0_eV == 0:
+        raise InputError(f"beta0_eV: expected a finite non-zero resonance integral in eV (e.g. -3.0), got {beta0_eV!r}")
     if isinstance(circuits, (str, bytes)) or not hasattr(circuits, "__iter__"):
         raise InputError("circuits: expected a sequence of atom-index cycles")
     cyc = [_check_circuit(pi, c, f"circuits[{n}]", closed=True) for n, c in enumerate(circuits)]

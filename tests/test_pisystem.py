@@ -563,6 +563,7 @@ BAD = [
     ("circuit short", lambda m, x, pi: circuit_electrons(pi, [0, 1], m)),
     ("normals shape", lambda m, x, pi: london_currents(pi, m, x, _rings(m), normals=np.ones((2, 3)))),
     ("distortion", lambda m, x, pi: huckel(pi, m, x, distortion=1.5)),
+    ("beta0", lambda m, x, pi: london_currents(pi, m, x, _rings(m), beta0_eV="big")),
     ("mol type", lambda m, x, pi: perceive_pi("c1ccccc1")),
     ("pi type", lambda m, x, pi: huckel("pi", m, x)),
     ("class negative", lambda m, x, pi: huckel_class(-2)),
