@@ -1,0 +1,231 @@
+"""Command-line interface (click). Thin: parse options, call the pipeline, format the output.
+
+Error contract: bad input prints one line ``ringshift: error: ...`` on stderr and exits 2; an
+internal error prints one line with a hint to rerun with ``--debug`` and exits 1; ``--debug``
+shows the traceback. Warnings are one line each on stderr.
+"""
+
+from __future__ import annotations
+
+import sys
+import warnings
+
+import click
+
+from ringshift.errors import InputError, OutputError, RingshiftWarning
+
+EXIT_BAD_INPUT = 2
+EXIT_INTERNAL = 1
+
+
+def _show_warning(message, category, filename, lineno, file=None, line=None):  # noqa: ARG001
+    text = " ".join(str(message).split())
+    tag = "warning" if issubclass(category, RingshiftWarning) else category.__name__
+    print(f"ringshift: {tag}: {text}", file=sys.stderr)
+
+
+def _circuit_option(values):
+    out = []
+    for v in values:
+        try:
+            out.append([int(x) for x in v.replace(",", " ").split()])
+        except ValueError:
+            raise InputError(f"expected atom indices separated by commas (e.g. 0,1,2,3,4,5), got {v!r}",
+                             "--circuit") from None
+    return out or None
+
+
+structure_options = [
+    click.option("--charge", type=int, default=None, help="Net charge (needed for XYZ input of ions)."),
+    click.option("--conformers", type=click.IntRange(1, 5000), default=None,
+                 help="Conformers to generate when no 3D coordinates are given "
+                      "[default: 30, or 200 with a ring of 12 or more atoms]."),
+    click.option("--seed", type=int, default=42, show_default=True, help="Random seed for conformer generation."),
+    click.option("--temperature", type=click.FloatRange(1.0, 2000.0), default=298.15, show_default=True,
+                 help="Temperature (K) for Boltzmann weights."),
+]
+
+model_options = [
+    click.option("--model", type=click.Choice(["polygon", "johnson-bovey", "haigh-mallion", "dipole", "network"]),
+                 default="polygon", show_default=True, help="Shielding model."),
+    click.option("--currents", type=click.Choice(["huckel", "benzene"]), default="huckel", show_default=True,
+                 help="A priori current of each circuit: Hueckel-London, or 12 nA/T on RDKit-aromatic rings."),
+    click.option("--beta", "beta_model", type=click.Choice(["scf", "distance", "uniform"]), default="scf",
+                 show_default=True,
+                 help="Resonance integrals of the Hueckel step: self-consistent bond lengths, geometry, or uniform."),
+    click.option("--scale", multiple=True, metavar="LABEL=FACTOR",
+                 help="Multiply a circuit's current, e.g. --scale M1=0.8 (repeatable)."),
+    click.option("--set-current", "set_current", multiple=True, metavar="LABEL=NA_PER_T",
+                 help="Set a circuit's current in nA/T (J > 0 diatropic), e.g. --set-current R1=-6."),
+    click.option("--circuit", multiple=True, metavar="I,J,K,...",
+                 help="Give a circuit explicitly as ring-ordered atom indices (0-based; repeatable)."),
+]
+
+
+def _apply(options):
+    def deco(f):
+        for opt in reversed(options):
+            f = opt(f)
+        return f
+    return deco
+
+
+@click.group(context_settings={"help_option_names": ["-h", "--help"]})
+@click.option("--debug", is_flag=True, help="Show tracebacks of errors.")
+@click.version_option(package_name="ringshift")
+@click.pass_context
+def cli(ctx, debug):
+    """ringshift: ring-current 1H NMR shifts of pi-conjugated rings.
+
+    STRUCTURE arguments are a SMILES string or a MOL/SDF/XYZ file.
+    """
+    ctx.ensure_object(dict)
+    ctx.obj["debug"] = debug
+
+
+def _load(structure, charge, conformers, seed, temperature):
+    from ringshift.structure import load_structure
+
+    return load_structure(structure, charge=charge, conformers=conformers, seed=seed, temperature_K=temperature)
+
+
+def _run_predict(structure, charge, conformers, seed, temperature, model, currents, beta_model, scale, set_current,
+                 circuit):
+    from ringshift.predict import parse_assignments, predict
+
+    s = _load(structure, charge, conformers, seed, temperature)
+    return predict(s, model=model, currents=currents, beta_model=beta_model, scale=parse_assignments(scale, "--scale"),
+                   set_current=parse_assignments(set_current, "--set-current"),
+                   user_circuits=_circuit_option(circuit))
+
+
+def _emit(text: str, output, force: bool):
+    from ringshift.output import atomic_write
+
+    if output:
+        atomic_write(output, text, force=force)
+        click.echo(f"wrote {output}", err=True)
+    else:
+        click.echo(text, nl=False)
+
+
+@cli.command("predict")
+@click.argument("structure")
+@_apply(structure_options)
+@_apply(model_options)
+@click.option("--format", "fmt", type=click.Choice(["table", "json", "csv"]), default="table", show_default=True)
+@click.option("-o", "--output", type=click.Path(dir_okay=False), default=None, help="Write to FILE (atomically).")
+@click.option("--force", is_flag=True, help="Overwrite an existing output file.")
+def predict_cmd(structure, charge, conformers, seed, temperature, model, currents, beta_model, scale, set_current,
+                circuit, fmt, output, force):
+    """Ring-current shift of every hydrogen of STRUCTURE."""
+    from ringshift import output as out
+
+    pred = _run_predict(structure, charge, conformers, seed, temperature, model, currents, beta_model, scale,
+                        set_current, circuit)
+    if fmt == "json":
+        text = out.to_json(out.prediction_to_dict(pred))
+    elif fmt == "csv":
+        text = out.prediction_csv(pred)
+    else:
+        text = out.prediction_table(pred)
+    _emit(text, output, force)
+
+
+@cli.command("compare")
+@click.argument("structure")
+@click.argument("peaks", type=click.Path(dir_okay=False))
+@_apply(structure_options)
+@_apply(model_options)
+@click.option("--solvent", default=None, help="Deuterated solvent whose residual peak is flagged (e.g. CDCl3).")
+@click.option("--claim", type=click.Choice(["aromatic", "antiaromatic", "nonaromatic"]), default=None,
+              help="Check an aromaticity claim against the spectrum.")
+@click.option("--noise", default=None, metavar="PPM|auto",
+              help="Model error of a predicted shift in ppm [default: 0.3], or 'auto' (maximum evidence).")
+@click.option("--format", "fmt", type=click.Choice(["text", "json"]), default="text", show_default=True)
+@click.option("-o", "--output", type=click.Path(dir_okay=False), default=None, help="Write to FILE (atomically).")
+@click.option("--force", is_flag=True, help="Overwrite an existing output file.")
+def compare_cmd(structure, peaks, charge, conformers, seed, temperature, model, currents, beta_model, scale,
+                set_current, circuit, solvent, claim, noise, fmt, output, force):
+    """Assign the observed PEAKS (CSV/TSV or JCAMP-DX) to STRUCTURE, fit its ring currents, give a verdict."""
+    from ringshift import analysis
+    from ringshift import output as out
+    from ringshift.peaks import read_peaks
+
+    pred = _run_predict(structure, charge, conformers, seed, temperature, model, currents, beta_model, scale,
+                        set_current, circuit)
+    pl = read_peaks(peaks, n_hydrogens=len(pred.protons), solvent=solvent)
+    res = analysis.run_compare(pred, pl, claim=claim, noise_ppm=_noise(noise), seed=seed)
+    if fmt == "json":
+        text = out.to_json(analysis.comparison_to_dict(res))
+    else:
+        text = analysis.comparison_text(res)
+    _emit(text, output, force)
+
+
+def _noise(value):
+    if value is None or value == "auto":
+        return value
+    try:
+        v = float(value)
+    except ValueError:
+        raise InputError(f"expected a positive number of ppm or 'auto', got {value!r}", "--noise") from None
+    if not v > 0 or v != v or v == float("inf"):
+        raise InputError(f"expected a positive number of ppm, got {value!r}", "--noise")
+    return v
+
+
+@cli.command("pi")
+@click.argument("structure")
+@_apply(structure_options)
+@click.option("--beta", "beta_model", type=click.Choice(["scf", "distance", "uniform"]), default="scf",
+              show_default=True, help="Resonance integrals of the Hueckel step.")
+@click.option("--plot", type=click.Path(dir_okay=False), default=None,
+              help="Write a diagram of the pi levels (PNG or SVG by extension).")
+@click.option("--format", "fmt", type=click.Choice(["text", "json"]), default="text", show_default=True)
+@click.option("--force", is_flag=True, help="Overwrite an existing plot file.")
+def pi_cmd(structure, charge, conformers, seed, temperature, beta_model, plot, fmt, force):
+    """Pi-electron counts, 4n+2/4n class, planarity, Hueckel levels and circuit currents of STRUCTURE."""
+    from ringshift import output as out
+    from ringshift.pisummary import pi_summary, pi_text
+
+    s = _load(structure, charge, conformers, seed, temperature)
+    summary = pi_summary(s, beta_model=beta_model)
+    if plot:
+        from ringshift.report.figures import save_levels_figure
+
+        save_levels_figure(summary, plot, force=force)
+        click.echo(f"wrote {plot}", err=True)
+    click.echo(out.to_json(summary) if fmt == "json" else pi_text(summary), nl=False)
+
+
+def main(argv=None):
+    """Console entry point with the project's error contract."""
+    argv = sys.argv[1:] if argv is None else list(argv)
+    debug = "--debug" in argv
+    warnings.showwarning = _show_warning
+    try:
+        cli.main(args=argv, prog_name="ringshift", standalone_mode=False)
+    except click.exceptions.Abort:
+        print("ringshift: aborted", file=sys.stderr)
+        sys.exit(EXIT_INTERNAL)
+    except click.exceptions.ClickException as exc:
+        # usage errors: one line, exit 2
+        msg = " ".join(exc.format_message().split())
+        print(f"ringshift: error: {msg}", file=sys.stderr)
+        sys.exit(EXIT_BAD_INPUT)
+    except (InputError, OutputError) as exc:
+        if debug:
+            raise
+        print(f"ringshift: error: {exc}", file=sys.stderr)
+        sys.exit(EXIT_BAD_INPUT)
+    except KeyboardInterrupt:
+        print("ringshift: interrupted", file=sys.stderr)
+        sys.exit(130)
+    except Exception as exc:  # internal error
+        if debug:
+            raise
+        print(f"ringshift: internal error: {type(exc).__name__}: {' '.join(str(exc).split())} "
+              f"(rerun with --debug for the traceback)", file=sys.stderr)
+        sys.exit(EXIT_INTERNAL)
+    sys.exit(0)

@@ -1,0 +1,94 @@
+"""The π-system judgement of a structure as plain data: counts, classes, planarity, levels, currents.
+
+Used by ``ringshift pi`` and the report. Built on :func:`ringshift.predict.predict` (circuits and
+Hückel–London currents) and :func:`ringshift.pisystem.huckel` (levels of the most populated
+conformer).
+"""
+
+from __future__ import annotations
+
+import numpy as np
+
+from ringshift import pisystem
+from ringshift.output import CAUTION, _r, circuit_to_dict
+from ringshift.predict import predict
+
+
+def pi_summary(structure, *, beta_model: str = "scf", prediction=None) -> dict:
+    """Plain-data π summary of a structure (the JSON form of ``ringshift pi``)."""
+    pred = prediction if prediction is not None else predict(structure, currents="huckel", beta_model=beta_model)
+    pi = pred.pi
+    best = int(np.argmax(structure.weights))
+    levels = None
+    if pi is not None and pi.atoms:
+        hr = pisystem.huckel(pi, structure.mol, structure.coords[best], beta_model=beta_model)
+        levels = {
+            "energies_beta": [_r(x) for x in hr.energies_beta],
+            "occupations": [_r(x, 3) for x in hr.occupations],
+            "homo_lumo_gap_beta": _r(hr.homo_lumo_gap_beta),
+            "open_shell": bool(hr.open_shell),
+            "degenerate_homo": bool(hr.degenerate_homo),
+            "convention": "x = (E - alpha)/|beta|; bonding levels negative",
+            "parameters": {k: str(v) for k, v in dict(hr.parameters).items()},
+        }
+    n_el = int(pi.n_electrons) if pi is not None else 0
+    return {
+        "ringshift_result": "pi_system",
+        "name": structure.name,
+        "charge": structure.charge,
+        "pi_atoms": list(pi.atoms) if pi is not None else [],
+        "pi_electrons": n_el,
+        "huckel_class": pisystem.huckel_class(n_el) if pi is not None and pi.atoms else None,
+        "fragments": [list(f) for f in pi.fragments] if pi is not None else [],
+        "radical": bool(pi.radical) if pi is not None else False,
+        "beta_model": beta_model,
+        "circuits": [circuit_to_dict(cr) for cr in pred.circuits],
+        "perimeters": [circuit_to_dict(cr) for cr in pred.perimeters],
+        "levels": levels,
+        "warnings": list(pred.warnings),
+        "caution": CAUTION,
+    }
+
+
+def _verdict(c: dict) -> str:
+    cls, planar = c.get("huckel_class"), c.get("planar")
+    if cls is None:
+        return "not a pi circuit"
+    shape = "planar enough" if planar else "too far from planar for continuous overlap"
+    return f"{c['pi_electrons']} pi e, {cls}, {shape}"
+
+
+def pi_text(summary: dict) -> str:
+    """Readable text of :func:`pi_summary`."""
+    lines = [f"{summary['name']}: {summary['pi_electrons']} pi electrons on {len(summary['pi_atoms'])} atoms "
+             f"({summary['huckel_class'] or 'no pi system'}), charge {summary['charge']:+d}, "
+             f"{len(summary['fragments'])} fragment(s)"]
+    if summary["radical"]:
+        lines.append("  radical: odd pi-electron count (open shell at the Hueckel level)")
+    lines.append("")
+    lines.append("circuits (current: Hueckel-London, relative to benzene with the same parameters)")
+    for c in summary["circuits"] + summary["perimeters"]:
+        cur = c.get("current_rel_benzene")
+        cur_txt = ("no loop (descriptive)" if c["kind"] == "perimeter" else
+                   "no number: " + c["current_source"] if cur is None else
+                   f"{cur:+.2f} x benzene = {c['current_nA_per_T']:+.1f} nA/T "
+                   f"({'diatropic' if cur > 0 else 'paratropic' if cur < 0 else 'none'})")
+        lines.append(f"  {c['label']:<4} {c['size']:>3}-atom {c['kind']:<10} {_verdict(c)}; "
+                     f"RMS {c['planarity_rms_A']:.2f} A, p-misalignment {c['max_p_misalignment_deg']:.0f} deg; "
+                     f"{cur_txt}")
+    lv = summary.get("levels")
+    if lv:
+        lines.append("")
+        gap = lv["homo_lumo_gap_beta"]
+        lines.append(f"Hueckel levels ({lv['convention']}); HOMO-LUMO gap "
+                     f"{'n/a' if gap is None else f'{gap:.3f} |beta|'}; "
+                     f"{'OPEN SHELL' if lv['open_shell'] else 'closed shell'}")
+        e = lv["energies_beta"]
+        occ = lv["occupations"]
+        for k in range(len(e) - 1, -1, -1):
+            lines.append(f"  {e[k]:+8.4f}  {'*' * int(round(occ[k])) or '.'}")
+    for w in summary["warnings"]:
+        lines.append(f"note: {w}")
+    lines.append("")
+    lines.append(f"Caution: {CAUTION}")
+    return "\n".join(lines) + "\n"
