@@ -12,7 +12,7 @@ $(STAMP): pyproject.toml
 	touch $(STAMP)
 
 demo: $(STAMP)
-	$(VENV)/bin/ringshift demo
+	$(VENV)/bin/ringshift demo --force
 
 # pytest exits 5 when it collected no tests; that is a broken suite, reported as such.
 test: $(STAMP)

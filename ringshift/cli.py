@@ -199,6 +199,22 @@ def pi_cmd(structure, charge, conformers, seed, temperature, beta_model, plot, f
     click.echo(out.to_json(summary) if fmt == "json" else pi_text(summary), nl=False)
 
 
+@cli.command("demo")
+@click.option("-o", "--output", "out_dir", type=click.Path(file_okay=False), default="ringshift_demo_output",
+              show_default=True, help="Folder for the demo reports.")
+@click.option("--force", is_flag=True, help="Replace an existing output folder.")
+@click.option("--quiet", is_flag=True, help="No progress messages.")
+def demo_cmd(out_dir, force, quiet):
+    """Run compare and report on the bundled, invented demo scenario."""
+    from ringshift.demo import run_demo
+
+    def progress(msg):
+        if not quiet:
+            click.echo(f"... {msg}", err=True)
+
+    click.echo(run_demo(out_dir, force=force, progress=progress), nl=False)
+
+
 def main(argv=None):
     """Console entry point with the project's error contract."""
     argv = sys.argv[1:] if argv is None else list(argv)
