@@ -1,0 +1,801 @@
+"""Structure input: SMILES, MOL/SDF or XYZ to an explicit-H molecule with a weighted conformer ensemble.
+
+Numbering. SMILES: heavy atoms get 0..n_heavy-1 in SMILES order; every hydrogen follows, explicit ``[H]``
+atoms of the SMILES (E/Z anchors) first in SMILES order, then the added H in the order of their parent
+atoms, so ``[H]/C1=C/...`` and ``C1=C...`` number their heavy atoms alike. MOL/SDF/XYZ: every atom keeps
+its file position (H included); H missing from a MOL/SDF file are appended.
+
+Stereo. A SMILES is sanitised without aromaticity perception: RDKit's aromatic form of [18]annulene drops
+its E/Z marks. The Kekulé molecule is embedded with its stereo; aromaticity is perceived only on the
+returned molecule, which keeps the bond stereo labels (design notes §6-7).
+
+Conformers (no 3D input). ETKDG v3 with macrocycle torsions (Wang, Witek, Landrum & Riniker, J. Chem.
+Inf. Model. 2020, 60, 2044), MMFF94 minimisation (Halgren, J. Comput. Chem. 1996, 17, 490) on a copy,
+rejection of conformers that contradict the E/Z input, an energy window, greedy heavy-atom RMSD pruning
+over graph automorphisms, Boltzmann weights. Generated conformers are sorted by energy.
+"""
+
+from __future__ import annotations
+
+import math
+from dataclasses import dataclass
+from pathlib import Path
+
+import numpy as np
+from rdkit import Chem, rdBase
+from rdkit.Chem import rdDetermineBonds, rdDistGeom, rdForceFieldHelpers
+from scipy import constants as _sc
+
+from ringshift.constants import KB_KCAL_PER_MOL_K
+from ringshift.errors import InputError
+
+__all__ = ["Structure", "load_structure", "read_mol_records", "group_equivalent_hydrogens", "ez_stereo_check",
+           "kabsch_rmsd", "boltzmann_weights", "default_conformer_count", "ENERGY_PROPERTIES",
+           "H_SYMMETRY_TOLERANCE_A"]
+
+_KEKULE_OPS = Chem.SanitizeFlags.SANITIZE_ALL ^ Chem.SanitizeFlags.SANITIZE_SETAROMATICITY
+_SUFFIXES = {".mol": "mol", ".sdf": "sdf", ".sd": "sdf", ".xyz": "xyz"}
+_FORMATS = {"smiles": "smiles", "smi": "smiles", "mol": "mol", "sdf": "sdf", "sd": "sdf", "xyz": "xyz"}
+_ELEMENTS = {Chem.GetPeriodicTable().GetElementSymbol(z): z for z in range(1, 119)}
+_KCAL_PER_KJ = 1.0 / 4.184                                                    # thermochemical calorie
+_KCAL_PER_HARTREE = _sc.physical_constants["Hartree energy"][0] * _sc.N_A / 4184.0    # CODATA via SciPy
+
+#: SD data fields read as conformer energies (case-insensitive, first match wins) and their factor to
+#: kcal/mol. Only differences matter: energies are made relative to the lowest record.
+ENERGY_PROPERTIES: tuple[tuple[str, float], ...] = (
+    ("energy_kcal_mol", 1.0), ("e_kcal_mol", 1.0), ("rel_energy_kcal_mol", 1.0), ("relative_energy_kcal_mol", 1.0),
+    ("mmff94_energy", 1.0), ("energy", 1.0), ("relative_energy", 1.0), ("e_rel", 1.0),
+    ("energy_kj_mol", _KCAL_PER_KJ), ("e_kj_mol", _KCAL_PER_KJ),
+    ("energy_hartree", _KCAL_PER_HARTREE), ("e_hartree", _KCAL_PER_HARTREE), ("energy_eh", _KCAL_PER_HARTREE))
+
+#: Largest atomic displacement (Å) for an approximate symmetry operation in group_equivalent_hydrogens.
+#: MMFF94 breaks the symmetry of C5H5- or C7H7+ by < 0.1 Å; swapping diastereotopic or [18]annulene
+#: inner/outer protons needs moves of > 1 Å.
+H_SYMMETRY_TOLERANCE_A: float = 0.5
+
+_MACROCYCLE_RING = 12            # design notes §7: 30 conformers miss [18]annulene's planar minimum
+_CONFORMERS_RIGID, _CONFORMERS_MACROCYCLE = 30, 200
+_MAX_AUTOMORPHISMS = 1000
+
+
+@dataclass(frozen=True)
+class Structure:
+    """A molecule with explicit hydrogens and a weighted conformer ensemble.
+
+    Attributes
+    ----------
+    name : str
+        Display name: record name, file stem, or the SMILES.
+    source : str
+        What the user gave (path or SMILES).
+    mol : rdkit.Chem.Mol
+        Explicit-H molecule, sanitised with RDKit aromaticity, bond stereo kept; carries the conformers
+        (ids 0..n_conf-1 in the order of ``coords``). Numbering: see the module docstring.
+    coords : numpy.ndarray, shape (n_conf, n_atoms, 3)
+        Coordinates in Å, float64, C-contiguous, read-only.
+    weights : numpy.ndarray, shape (n_conf,)
+        Conformer populations, summing to 1.
+    energies_kcal_mol : numpy.ndarray, shape (n_conf,), or None
+        Energies relative to the lowest (MMFF94/UFF or an SD field), kcal/mol; None when unknown.
+    charge : int
+        Net formal charge.
+    h_groups : tuple of tuple of int
+        Groups of equivalent 1H atom indices, each sorted, groups sorted by first index.
+    provenance : dict
+        How the coordinates were obtained: format, method, counts, seed, temperature, thresholds.
+    """
+
+    name: str
+    source: str
+    mol: Chem.Mol
+    coords: np.ndarray
+    weights: np.ndarray
+    energies_kcal_mol: np.ndarray | None
+    charge: int
+    h_groups: tuple[tuple[int, ...], ...]
+    provenance: dict
+
+
+# --------------------------------------------------------------------------------------- array kernels
+def kabsch_rmsd(a: np.ndarray, b: np.ndarray) -> np.ndarray:
+    """RMSD after optimal superposition by translation and proper rotation.
+
+    Closed form from the singular values of the covariance matrix (Kabsch, Acta Cryst. A 1976, 32, 922;
+    Coutsias, Seok & Dill, J. Comput. Chem. 2004, 25, 1849).
+
+    Parameters
+    ----------
+    a, b : numpy.ndarray, shape (..., n, 3)
+        Point sets in Å; leading axes broadcast.
+
+    Returns
+    -------
+    numpy.ndarray, shape (...)
+        RMSD in Å.
+    """
+    a = np.asarray(a, dtype=np.float64)
+    b = np.asarray(b, dtype=np.float64)
+    a = a - a.mean(axis=-2, keepdims=True)
+    b = b - b.mean(axis=-2, keepdims=True)
+    cov = np.swapaxes(a, -1, -2) @ b
+    s = np.linalg.svd(cov, compute_uv=False)
+    d = np.where(np.linalg.det(cov) < 0.0, -1.0, 1.0)
+    msd = (np.sum(a * a, axis=(-1, -2)) + np.sum(b * b, axis=(-1, -2))
+           - 2.0 * (s[..., 0] + s[..., 1] + d * s[..., 2])) / a.shape[-2]
+    return np.sqrt(np.clip(msd, 0.0, None))
+
+
+def boltzmann_weights(energies_kcal_mol: np.ndarray, temperature_K: float) -> np.ndarray:
+    """Boltzmann populations p_i = exp(-E_i / kT) / sum_j exp(-E_j / kT).
+
+    Parameters
+    ----------
+    energies_kcal_mol : numpy.ndarray, shape (n,)
+        Energies in kcal/mol, any zero.
+    temperature_K : float
+        Temperature in K (> 0).
+
+    Returns
+    -------
+    numpy.ndarray, shape (n,)
+        Weights summing to 1 (empty for empty input).
+    """
+    e = np.asarray(energies_kcal_mol, dtype=np.float64).reshape(-1)
+    if e.size == 0:
+        return e.copy()
+    w = np.exp(-(e - e.min()) / (KB_KCAL_PER_MOL_K * float(temperature_K)))
+    return w / w.sum()
+
+
+def _dihedral_deg(p0, p1, p2, p3) -> float:
+    """Dihedral angle p0-p1-p2-p3 in degrees, (-180, 180]."""
+    b1 = (p2 - p1) / np.linalg.norm(p2 - p1)
+    v = (p0 - p1) - np.dot(p0 - p1, b1) * b1
+    w = (p3 - p2) - np.dot(p3 - p2, b1) * b1
+    return float(np.degrees(np.arctan2(np.dot(np.cross(b1, v), w), np.dot(v, w))))
+
+
+def _fit(p: np.ndarray, q: np.ndarray, improper: bool) -> tuple[np.ndarray, np.ndarray]:
+    """Least-squares rotation R (det +1, or -1 if ``improper``) and t with p @ R.T + t ~ q (Kabsch 1976)."""
+    pc, qc = p.mean(axis=0), q.mean(axis=0)
+    u, _, vt = np.linalg.svd((p - pc).T @ (q - qc))
+    d = 1.0 if np.linalg.det(vt.T @ u.T) >= 0 else -1.0
+    rot = vt.T @ np.diag([1.0, 1.0, -d if improper else d]) @ u.T
+    return rot, qc - pc @ rot.T
+
+
+# --------------------------------------------------------------------------------------- stereo
+def _cis_references(mol: Chem.Mol) -> list[tuple[int, int, int, int, bool, str]]:
+    """(a, i, j, d, want_cis, label) for every double bond i=j with E/Z or cis/trans stereo."""
+    out, cip = [], None
+    for bond in mol.GetBonds():
+        st = bond.GetStereo()
+        refs = list(bond.GetStereoAtoms())
+        if len(refs) != 2 or st not in (Chem.BondStereo.STEREOE, Chem.BondStereo.STEREOZ,
+                                         Chem.BondStereo.STEREOCIS, Chem.BondStereo.STEREOTRANS):
+            continue
+        (a, d), i, j = refs, bond.GetBeginAtomIdx(), bond.GetEndAtomIdx()
+        if st in (Chem.BondStereo.STEREOCIS, Chem.BondStereo.STEREOTRANS):
+            cis = st == Chem.BondStereo.STEREOCIS
+            out.append((a, i, j, d, cis, "cis" if cis else "trans"))
+            continue
+        if cip is None:                      # the CIP ranks behind RDKit's E/Z labels, on a copy
+            cip = list(Chem.ComputeAtomCIPRanks(Chem.Mol(mol)))
+        flips = sum(max((n.GetIdx() for n in mol.GetAtomWithIdx(end).GetNeighbors() if n.GetIdx() != other),
+                        key=lambda k: cip[k]) != ref for end, ref, other in ((i, a, j), (j, d, i)))
+        z = st == Chem.BondStereo.STEREOZ
+        out.append((a, i, j, d, z ^ (flips % 2 == 1), "Z" if z else "E"))
+    return out
+
+
+def _ez_problems(refs, x: np.ndarray) -> list[str]:
+    out = []
+    for a, i, j, d, want_cis, label in refs:
+        dih = _dihedral_deg(x[a], x[i], x[j], x[d])
+        if (abs(dih) < 90.0) != want_cis:
+            out.append(f"bond {i}-{j} should be {label} but dihedral {a}-{i}-{j}-{d} is {dih:.0f} deg")
+    return out
+
+
+def ez_stereo_check(mol_with_stereo: Chem.Mol, coords: np.ndarray) -> list[str]:
+    """Compare every specified double-bond stereo with the dihedral angle in a geometry.
+
+    Parameters
+    ----------
+    mol_with_stereo : rdkit.Chem.Mol
+        Molecule whose bonds carry E/Z (CIP) or cis/trans (reference-atom) stereo.
+    coords : numpy.ndarray, shape (n_atoms, 3)
+        One conformer in Å.
+
+    Returns
+    -------
+    list of str
+        One message per contradicting bond (|dihedral| > 90 deg for cis, < 90 deg for trans); empty if fine.
+    """
+    x = np.asarray(coords, dtype=np.float64)
+    if x.shape != (mol_with_stereo.GetNumAtoms(), 3):
+        raise InputError(f"expected shape ({mol_with_stereo.GetNumAtoms()}, 3), got {x.shape}", source="coords")
+    return _ez_problems(_cis_references(mol_with_stereo), x)
+
+
+def _coordinate_kind(mol: Chem.Mol) -> str:
+    """'none' (no or all-zero coordinates), '2d' or '3d'. A file flagged 3D with all z = 0 counts as 3D
+    (a planar molecule) only if it has X-H bonds, all 0.85-1.25 Å long, which a 2D drawing lacks."""
+    if mol.GetNumConformers() == 0 or not np.any(x := mol.GetConformer().GetPositions()):
+        return "none"
+    if not np.all(np.isfinite(x)):
+        raise InputError("non-finite atom coordinates")
+    if not mol.GetConformer().Is3D():
+        return "2d"
+    if np.ptp(x[:, 2]) > 1e-4:
+        return "3d"
+    xh = [np.linalg.norm(x[b.GetBeginAtomIdx()] - x[b.GetEndAtomIdx()]) for b in mol.GetBonds()
+          if 1 in (b.GetBeginAtom().GetAtomicNum(), b.GetEndAtom().GetAtomicNum())]
+    return "3d" if xh and all(0.85 <= v <= 1.25 for v in xh) else "2d"
+
+
+def _sanitize_kekule(mol: Chem.Mol, source: str) -> None:
+    """Sanitise in place without aromaticity perception (Kekulé bonds, E/Z kept)."""
+    try:
+        with rdBase.BlockLogs():
+            Chem.SanitizeMol(mol, _KEKULE_OPS)
+            Chem.Kekulize(mol, clearAromaticFlags=True)
+    except Exception as exc:            # RDKit raises several MolSanitizeException subclasses
+        raise InputError(f"RDKit cannot sanitise the molecule ({' '.join(str(exc).split())})", source=source) from None
+
+
+# --------------------------------------------------------------------------------------- hydrogens
+def _graph(mol: Chem.Mol, nodes, tags: dict | None = None) -> Chem.Mol:
+    """Induced subgraph on ``nodes`` with elements and connectivity only (single bonds; no charges,
+    aromaticity or stereo), so resonance forms and a localised written charge ([cH-]) keep the symmetry;
+    ``tags`` {atom: int} become isotopes, which atom matching respects."""
+    pos = {int(a): k for k, a in enumerate(nodes)}
+    rw = Chem.RWMol()
+    for a in pos:
+        atom = Chem.Atom(mol.GetAtomWithIdx(a).GetAtomicNum())
+        atom.SetIsotope(int((tags or {}).get(a, 0)))
+        atom.SetNoImplicit(True)
+        rw.AddAtom(atom)
+    for b in mol.GetBonds():
+        if b.GetBeginAtomIdx() in pos and b.GetEndAtomIdx() in pos:
+            rw.AddBond(pos[b.GetBeginAtomIdx()], pos[b.GetEndAtomIdx()], Chem.BondType.SINGLE)
+    rw.UpdatePropertyCache(strict=False)
+    return rw.GetMol()
+
+
+def _automorphisms(graph: Chem.Mol) -> np.ndarray:
+    """(n_aut, n) automorphisms of a graph, identity first, at most _MAX_AUTOMORPHISMS."""
+    ident = tuple(range(graph.GetNumAtoms()))
+    found = graph.GetSubstructMatches(graph, uniquify=False, useChirality=False, maxMatches=_MAX_AUTOMORPHISMS)
+    return np.array([ident] + [m for m in found if m != ident], dtype=int).reshape(-1, len(ident))
+
+
+def _free_single_bonds(mol: Chem.Mol, rank: list[int], hybridization, n_subs):
+    """(Y, Z, other neighbours of Y) over non-ring, non-conjugated single bonds Y-Z where Y has the given
+    hybridisation and ``n_subs(k)`` other neighbours, all of one topological class."""
+    for bond in mol.GetBonds():
+        if bond.GetBondType() != Chem.BondType.SINGLE or bond.IsInRing() or bond.GetIsConjugated():
+            continue
+        for y, z in ((bond.GetBeginAtom(), bond.GetEndAtom()), (bond.GetEndAtom(), bond.GetBeginAtom())):
+            subs = [n.GetIdx() for n in y.GetNeighbors() if n.GetIdx() != z.GetIdx()]
+            if y.GetHybridization() == hybridization and n_subs(len(subs)) and len({rank[k] for k in subs}) == 1:
+                yield y.GetIdx(), z.GetIdx(), subs
+
+
+def _rotor_sites(mol: Chem.Mol, rank: list[int]) -> tuple[np.ndarray, set, dict]:
+    """Anchor atom of each rotor H (-1: rigid H), heavy atoms beyond rotor centres, and graph tags.
+
+    Symmetric rotors: sp3 Y with >= 2 other neighbours of one class and nothing beyond two bonds (CH3,
+    NH3+, C(CH3)3, SiMe3); their H share the anchor Y. O-H and S-H protons are anchored to their atom.
+    Tags (1 + isotope + 200 n_H + 1000 sum Z of removed neighbours) keep the reduced graph faithful.
+    """
+    anchor, beyond, sides = np.full(mol.GetNumAtoms(), -1), set(), []
+    for y, _, subs in _free_single_bonds(mol, rank, Chem.HybridizationType.SP3, lambda k: k >= 2):
+        side = set(subs) | {m.GetIdx() for k in subs for m in mol.GetAtomWithIdx(k).GetNeighbors()} - {y}
+        if all(mol.GetAtomWithIdx(k).GetDegree() == 1 for k in side - set(subs)):
+            sides.append((len(side), y, side))
+    for _, y, side in sorted(sides, reverse=True):             # outermost first: tBu before its CH3
+        if y not in beyond:
+            for k in side:
+                if mol.GetAtomWithIdx(k).GetAtomicNum() > 1:
+                    beyond.add(k)
+                elif anchor[k] < 0:
+                    anchor[k] = y
+    for at in mol.GetAtoms():
+        nbs = list(at.GetNeighbors())
+        if at.GetAtomicNum() in (8, 16) and len(nbs) == 2 and sorted(n.GetAtomicNum() > 1 for n in nbs) == [False, True]:
+            h = next(n.GetIdx() for n in nbs if n.GetAtomicNum() == 1)
+            anchor[h] = at.GetIdx() if anchor[h] < 0 else anchor[h]
+    tags = {at.GetIdx(): 1 + at.GetIsotope() + 200 * at.GetTotalNumHs(includeNeighbors=True)
+            + 1000 * sum(n.GetAtomicNum() for n in at.GetNeighbors() if n.GetIdx() in beyond) for at in mol.GetAtoms()}
+    return anchor, beyond, tags
+
+
+def _ring_flips(mol: Chem.Mol, x: np.ndarray, rank: list[int], anchor: np.ndarray, beyond: set, tol_A: float):
+    """(atoms, images) of 180 deg flips that carry a group onto itself within ``tol_A``: the group beyond
+    a free single bond Y-Z, Y sp2 with two other neighbours of one class (phenyl on an sp3 carbon)."""
+    for y, z, subs in _free_single_bonds(mol, rank, Chem.HybridizationType.SP2, lambda k: k == 2):
+        side, stack = {y}, list(subs)
+        while stack:
+            k = stack.pop()
+            if k not in side:
+                side.add(k)
+                stack.extend(n.GetIdx() for n in mol.GetAtomWithIdx(k).GetNeighbors())
+        atoms = np.array(sorted(k for k in side if anchor[k] < 0 and k not in beyond), dtype=int)
+        u = (x[y] - x[z]) / np.linalg.norm(x[y] - x[z])
+        moved = (x[atoms] - x[y]) @ (2.0 * np.outer(u, u) - np.eye(3)) + x[y]
+        d = np.linalg.norm(moved[:, None] - x[atoms][None], axis=2)
+        elem = np.array([mol.GetAtomWithIdx(int(k)).GetAtomicNum() for k in atoms])
+        d[elem[:, None] != elem[None, :]] = np.inf
+        best = np.argmin(d, axis=1)
+        if np.max(d[np.arange(atoms.size), best]) <= tol_A and np.unique(best).size == atoms.size:
+            yield atoms, atoms[best]
+
+
+def group_equivalent_hydrogens(mol: Chem.Mol, coords: np.ndarray, *,
+                               tol_A: float = H_SYMMETRY_TOLERANCE_A) -> tuple[tuple[int, ...], ...]:
+    """Groups of NMR-equivalent protons: the graph symmetry that the 3D geometry realises.
+
+    Two 1H are equivalent when a graph automorphism maps one onto the other and a rotation or
+    reflection of the reference geometry realises it with every atom within ``tol_A`` (approximate
+    point-group symmetry). Fast motions are averaged first: H of a symmetric rotor (CH3, NH3+,
+    C(CH3)3, ...) form one site, O-H/S-H follow their atom, and a phenyl on an sp3 carbon may flip by
+    180 deg. Graph symmetry alone (``Chem.CanonicalRankAtoms(mol, breakTies=False)``) lumps
+    [18]annulene's inner and outer H and diastereotopic CH2 protons; no rotation or reflection of the
+    geometry swaps those. Slower motions (ring inversion, the twist of [2.2]paracyclophane) are not
+    averaged. Deuterium and tritium are not 1H and are left out.
+
+    Parameters
+    ----------
+    mol : rdkit.Chem.Mol
+        Sanitised explicit-H molecule.
+    coords : numpy.ndarray, shape (n_atoms, 3) or (n_conf, n_atoms, 3)
+        Reference geometry in Å, normally the lowest-energy conformer (first of a stack).
+    tol_A : float
+        Largest atomic displacement (Å) for a symmetry operation to count.
+
+    Returns
+    -------
+    tuple of tuple of int
+        Sorted groups of H atom indices, ordered by first index; empty without hydrogens.
+    """
+    x = np.asarray(coords, dtype=np.float64)
+    x, n = (x[0] if x.ndim == 3 else x), mol.GetNumAtoms()
+    if x.shape != (n, 3):
+        raise InputError(f"expected shape ({n}, 3), got {x.shape}", source="coords")
+    hs = [at.GetIdx() for at in mol.GetAtoms() if at.GetAtomicNum() == 1 and at.GetIsotope() in (0, 1)]
+    if not hs:
+        return ()
+    rank = list(Chem.CanonicalRankAtoms(_graph(mol, range(n), {at.GetIdx(): at.GetIsotope() for at in mol.GetAtoms()}),
+                                        breakTies=False, includeChirality=False))
+    anchor, beyond, tags = _rotor_sites(mol, rank)
+    uf = list(range(n))
+
+    def union(a: int, b: int) -> None:
+        roots = []
+        for k in (int(a), int(b)):
+            while uf[k] != k:
+                uf[k] = uf[uf[k]]
+                k = uf[k]
+            roots.append(k)
+        uf[roots[0]] = roots[1]
+
+    for h in hs:
+        if anchor[h] >= 0:
+            union(h, anchor[h])
+    anchors = {int(a) for a in anchor if a >= 0}
+    rigid = [h for h in hs if anchor[h] < 0]
+    frame = [a for a in range(n) if a not in beyond and a not in hs]
+    spread = np.linalg.svd(x[frame] - x[frame].mean(axis=0), compute_uv=False) if len(frame) > 1 else [0.0, 0.0]
+    if len(frame) < 3 or spread[1] < 0.05:        # point or line: the H fix the orientation
+        frame, rigid = frame + rigid, []
+    frame, rigid = np.array(frame, dtype=int), np.array(rigid, dtype=int)
+    slots = np.full((n, 3), -1)                   # rigid H of each heavy atom
+    parents = np.array([mol.GetAtomWithIdx(int(h)).GetNeighbors()[0].GetIdx() for h in rigid], dtype=int)
+    for h, p in zip(rigid, parents):
+        slots[p, int(np.argmax(slots[p] < 0))] = h
+    follow = [k for k, a in enumerate(frame) if int(a) in anchors or mol.GetAtomWithIdx(int(a)).GetAtomicNum() == 1]
+    image = np.arange(n)
+    for perm in _automorphisms(_graph(mol, frame, tags)):
+        p, q = x[frame], x[frame[perm]]
+        image[frame] = frame[perm]
+        for improper in (False, True):
+            if not improper and np.array_equal(perm, np.arange(perm.size)):
+                continue
+            rot, t = _fit(p, q, improper)
+            if np.max(np.linalg.norm(p @ rot.T + t - q, axis=1)) > tol_A:
+                continue
+            if rigid.size:
+                cand = slots[image[parents]]
+                d = np.linalg.norm((x[rigid] @ rot.T + t)[:, None] - x[cand], axis=2)
+                d[cand < 0] = np.inf
+                best = cand[np.arange(rigid.size), np.argmin(d, axis=1)]
+                if np.max(np.min(d, axis=1)) > tol_A or np.unique(best).size != best.size:
+                    continue
+                for h, g in zip(rigid, best):
+                    union(h, g)
+            for k in follow:
+                union(frame[k], frame[perm[k]])
+    for atoms, images in _ring_flips(mol, x, rank, anchor, beyond, tol_A):
+        for a, b in zip(atoms, images):
+            if int(a) in anchors or mol.GetAtomWithIdx(int(a)).GetAtomicNum() == 1:
+                union(a, b)
+    groups: dict[int, list[int]] = {}
+    for h in hs:
+        k = h
+        while uf[k] != k:
+            k = uf[k]
+        groups.setdefault(k, []).append(h)
+    return tuple(sorted(tuple(sorted(g)) for g in groups.values()))
+
+
+# --------------------------------------------------------------------------------------- readers
+def _read_text(path: Path) -> str:
+    try:
+        text = path.read_text(encoding="utf-8")
+    except FileNotFoundError:
+        raise InputError("file not found", source=str(path)) from None
+    except (OSError, UnicodeDecodeError) as exc:
+        raise InputError(f"cannot read the file as text ({type(exc).__name__})", source=str(path)) from None
+    if not text.strip():
+        raise InputError("file is empty", source=str(path))
+    return text
+
+
+def read_mol_records(path) -> list[Chem.Mol]:
+    """Read every record of a MOL or SD file with its explicit hydrogens.
+
+    Records are sanitised without aromaticity perception (Kekulé bonds) and get stereo from their
+    coordinates (3D geometry; or 2D wedges and drawn double bonds). SD data fields are kept as
+    properties; no hydrogens are added.
+
+    Parameters
+    ----------
+    path : str or os.PathLike
+        A .mol, .sdf or .sd file.
+
+    Returns
+    -------
+    list of rdkit.Chem.Mol
+        One molecule per record, in file order.
+    """
+    path = Path(path)
+    text = _read_text(path)
+    lines = text.splitlines()
+    starts = [1] + [k + 2 for k, line in enumerate(lines) if line.strip() == "$$$$"]
+    supplier = Chem.SDMolSupplier()
+    supplier.SetData(text, sanitize=False, removeHs=False, strictParsing=True)
+    with rdBase.BlockLogs():
+        mols = list(supplier)
+    records = []
+    for k, mol in enumerate(mols):
+        where = f"{path}:{starts[min(k, len(starts) - 1)]}"
+        if mol is None and not supplier.GetItemText(k).strip():
+            continue
+        if mol is None or mol.GetNumAtoms() == 0:
+            raise InputError(f"record {k + 1} is not a readable MOL block with atoms", source=where)
+        _sanitize_kekule(mol, where)
+        try:
+            kind = _coordinate_kind(mol)
+        except InputError as exc:
+            raise InputError(exc.bare_message, source=where) from None
+        if kind == "3d":
+            Chem.AssignStereochemistryFrom3D(mol)
+        elif kind == "2d":
+            Chem.AssignChiralTypesFromBondDirs(mol)
+            Chem.DetectBondStereochemistry(mol)
+            Chem.AssignStereochemistry(mol, cleanIt=True, force=True)
+        records.append(mol)
+    if not records:
+        raise InputError("no molecule record found (expected a MOL block or SD records)", source=str(path))
+    return records
+
+
+def _read_xyz(path: Path) -> tuple[list[str], np.ndarray]:
+    """Element symbols and (n_frames, n_atoms, 3) coordinates (Å) of a one- or multi-frame XYZ file."""
+    lines = _read_text(path).splitlines()
+    frames, symbols, k = [], None, 0
+    while k < len(lines):
+        if not lines[k].strip():
+            k += 1
+            continue
+        head, frame = lines[k].split(), len(frames) + 1
+        if len(head) != 1 or not head[0].isdigit() or int(head[0]) < 1:
+            raise InputError(f"expected the atom count of frame {frame} (one positive integer), got "
+                             f"{lines[k].strip()[:40]!r}; is the previous frame's count right?", source=f"{path}:{k + 1}")
+        n = int(head[0])
+        if k + 2 + n > len(lines):
+            raise InputError(f"frame {frame} announces {n} atoms but the file ends after {len(lines) - k - 2} "
+                             f"atom lines", source=f"{path}:{k + 1}")
+        syms, xyz = [], np.empty((n, 3))
+        for m in range(n):
+            parts, where = lines[k + 2 + m].split(), f"{path}:{k + 3 + m}"
+            sym = parts[0].capitalize() if parts else ""
+            try:
+                if len(parts) < 4 or sym not in _ELEMENTS:
+                    raise ValueError
+                xyz[m] = [float(v) for v in parts[1:4]]
+            except ValueError:
+                raise InputError(f"expected 'element x y z' (atom {m + 1} of {n}, frame {frame}), got "
+                                 f"{lines[k + 2 + m].strip()[:40]!r}", source=where) from None
+            if not np.all(np.isfinite(xyz[m])):
+                raise InputError("non-finite coordinate", source=where)
+            syms.append(sym)
+        if symbols is not None and syms != symbols:
+            raise InputError(f"frame {frame} does not list the atoms of frame 1 in the same order", source=f"{path}:{k + 1}")
+        symbols = syms
+        frames.append(xyz)
+        k += 2 + n
+    return symbols, np.stack(frames)
+
+
+def _mol_from_xyz(path: Path, charge: int) -> tuple[Chem.Mol, np.ndarray]:
+    symbols, frames = _read_xyz(path)
+    rw = Chem.RWMol()
+    for sym in symbols:
+        rw.AddAtom(Chem.Atom(sym))
+    conf = Chem.Conformer(len(symbols))
+    conf.SetPositions(frames[0])
+    conf.Set3D(True)
+    rw.AddConformer(conf, assignId=True)
+    mol = rw.GetMol()
+    try:
+        with rdBase.BlockLogs():
+            rdDetermineBonds.DetermineBonds(mol, charge=int(charge))
+    except Exception as exc:
+        raise InputError(f"cannot assign bonds with net charge {charge} ({' '.join(str(exc).split())}); if this "
+                         f"is an ion, give its charge with --charge", source=str(path)) from None
+    _sanitize_kekule(mol, str(path))
+    Chem.AssignStereochemistryFrom3D(mol)
+    return mol, frames
+
+
+def _mol_from_smiles(smiles: str) -> tuple[Chem.Mol, str]:
+    params = Chem.SmilesParserParams()
+    params.sanitize, params.removeHs = False, False
+    with rdBase.BlockLogs():
+        mol = Chem.MolFromSmiles(smiles, params)
+    if mol is None or mol.GetNumAtoms() == 0:
+        raise InputError("not a readable SMILES, nor a path to a .mol, .sdf, .sd or .xyz file", source=smiles)
+    name = mol.GetProp("_Name").strip() if mol.HasProp("_Name") and mol.GetProp("_Name").strip() else smiles
+    _sanitize_kekule(mol, smiles)
+    Chem.AssignStereochemistry(mol, cleanIt=True, force=True)
+    mol = Chem.AddHs(mol)
+    heavy_first = sorted(range(mol.GetNumAtoms()), key=lambda k: (mol.GetAtomWithIdx(k).GetAtomicNum() == 1, k))
+    return Chem.RenumberAtoms(mol, heavy_first), name
+
+
+def _record_energies(records: list[Chem.Mol], source: str) -> tuple[np.ndarray | None, str | None]:
+    names = {p.lower(): p for p in records[0].GetPropNames()}
+    for key, factor in ENERGY_PROPERTIES:
+        if key in names:
+            try:
+                e = np.array([float(rec.GetProp(names[key])) * factor for rec in records])
+            except (KeyError, ValueError):
+                raise InputError(f"every record needs a numeric '{names[key]}' field (record 1 has one)",
+                                 source=source) from None
+            if not np.all(np.isfinite(e)):
+                raise InputError(f"non-finite '{names[key]}' value", source=source)
+            return e - e.min(), names[key]
+    return None, None
+
+
+def _mol_from_molfile(path: Path) -> tuple[Chem.Mol, np.ndarray | None, np.ndarray | None, str, dict]:
+    records = read_mol_records(path)
+    kinds = {_coordinate_kind(rec) == "3d" for rec in records}
+    if len(kinds) > 1:
+        raise InputError("mixes 2D and 3D records; give one kind", source=str(path))
+    first = records[0]
+
+    def signature(m):
+        return [a.GetAtomicNum() for a in m.GetAtoms()], {tuple(sorted((b.GetBeginAtomIdx(), b.GetEndAtomIdx())))
+                                                           for b in m.GetBonds()}
+
+    for k, rec in enumerate(records[1:], start=2):
+        if signature(rec) != signature(first):
+            same = len({Chem.MolToSmiles(Chem.RemoveAllHs(m, sanitize=False), isomericSmiles=False) for m in (rec, first)}) == 1
+            raise InputError(f"record {k} {'lists the atoms of record 1 in another order' if same else 'is another molecule'}"
+                             f"; an ensemble needs one molecule in one atom order (load different molecules one "
+                             f"at a time, e.g. with the batch command)", source=str(path))
+    name = first.GetProp("_Name").strip() if first.HasProp("_Name") and first.GetProp("_Name").strip() else path.stem
+    if kinds == {False}:
+        mol = Chem.AddHs(first)
+        mol.RemoveAllConformers()
+        return mol, None, None, name, {"records": len(records), "hydrogens_added": mol.GetNumAtoms() - first.GetNumAtoms()}
+    with_h = [Chem.AddHs(rec, addCoords=True) for rec in records]
+    energies, prop = _record_energies(records, str(path))
+    mol = Chem.Mol(with_h[0])
+    mol.RemoveAllConformers()
+    return (mol, np.stack([m.GetConformer().GetPositions() for m in with_h]), energies, name,
+            {"records": len(records), "hydrogens_added": mol.GetNumAtoms() - first.GetNumAtoms(), "energy_property": prop})
+
+
+# --------------------------------------------------------------------------------------- conformers
+def default_conformer_count(mol: Chem.Mol) -> int:
+    """Conformers to embed: 200 if a ring (SSSR) has >= 12 atoms, else 30 (design notes §7)."""
+    big = any(len(r) >= _MACROCYCLE_RING for r in mol.GetRingInfo().AtomRings())
+    return _CONFORMERS_MACROCYCLE if big else _CONFORMERS_RIGID
+
+
+def _etkdg(seed: int, basic_knowledge: bool, max_iterations: int = 0) -> rdDistGeom.EmbedParameters:
+    params = rdDistGeom.ETKDGv3()
+    params.randomSeed, params.numThreads, params.maxIterations = int(seed), 0, max_iterations
+    params.useMacrocycleTorsions, params.useBasicKnowledge, params.enforceChirality = True, basic_knowledge, True
+    return params
+
+
+def _embed(mol: Chem.Mol, n: int, seed: int, source: str) -> tuple[Chem.Mol, bool]:
+    """ETKDG v3; falls back to useBasicKnowledge=False ([2.2]paracyclophane, design notes §7). A probe
+    (2 conformers, 20 attempts each) decides first: a failing basic-knowledge run takes minutes."""
+    with rdBase.BlockLogs():
+        basic = len(rdDistGeom.EmbedMultipleConfs(Chem.Mol(mol), 2, _etkdg(seed, True, 20))) > 0
+        for use_basic in ((True, False) if basic else (False,)):
+            work = Chem.Mol(mol)
+            if len(rdDistGeom.EmbedMultipleConfs(work, n, _etkdg(seed, use_basic))) > 0:
+                return work, use_basic
+    raise InputError("RDKit ETKDG could not embed the molecule (also tried useBasicKnowledge=False); supply "
+                     "3D coordinates as SDF or XYZ", source=source)
+
+
+def _optimise(mol: Chem.Mol) -> tuple[np.ndarray, np.ndarray | None, str | None, int]:
+    """MMFF94 (UFF if MMFF lacks parameters) minimisation of every conformer, on a copy: MMFF set-up
+    perceives its own aromaticity in place. Returns coords, energies, force field, not converged."""
+    work, result, ff = Chem.Mol(mol), None, None
+    with rdBase.BlockLogs():
+        if rdForceFieldHelpers.MMFFHasAllMoleculeParams(Chem.Mol(mol)):
+            result, ff = rdForceFieldHelpers.MMFFOptimizeMoleculeConfs(work, numThreads=0, maxIters=2000), "mmff94"
+        elif rdForceFieldHelpers.UFFHasAllMoleculeParams(Chem.Mol(mol)):
+            result, ff = rdForceFieldHelpers.UFFOptimizeMoleculeConfs(work, numThreads=0, maxIters=2000), "uff"
+    coords = np.stack([c.GetPositions() for c in work.GetConformers()])
+    if result is None:
+        return coords, None, None, 0
+    return coords, np.array([e for _, e in result], dtype=np.float64), ff, sum(1 for nc, _ in result if nc)
+
+
+def _prune(heavy_xyz: np.ndarray, perms: np.ndarray, threshold_A: float) -> list[int]:
+    """Greedy pruning of energy-sorted conformers (n_conf, n_heavy, 3): keep one whose RMSD, minimised
+    over automorphisms ``perms`` and proper rotations, to every kept one exceeds ``threshold_A``."""
+    if threshold_A <= 0.0 or heavy_xyz.shape[1] == 0:
+        return list(range(heavy_xyz.shape[0]))
+    keep = [0]
+    for c in range(1, heavy_xyz.shape[0]):
+        if kabsch_rmsd(heavy_xyz[c][perms][:, None], heavy_xyz[keep][None]).min() > threshold_A:
+            keep.append(c)
+    return keep
+
+
+def _generate(mol: Chem.Mol, n: int, seed: int, window: float, rmsd_A: float, source: str):
+    """Embed, minimise, reject E/Z contradictions, apply the window, sort, prune."""
+    embedded, basic = _embed(mol, n, seed, source)
+    coords, energies, ff, not_converged = _optimise(embedded)
+    refs = _cis_references(mol)
+    ok = [c for c in range(coords.shape[0]) if not _ez_problems(refs, coords[c])]
+    if not ok:
+        raise InputError(f"embedded geometry contradicts the E/Z stereo: {_ez_problems(refs, coords[0])[0]} (all "
+                         f"{coords.shape[0]} conformers); check the stereo marks or supply 3D coordinates", source=source)
+    n_ez = len(ok)
+    if energies is not None:
+        e_min = energies[ok].min()
+        ok = sorted((c for c in ok if energies[c] - e_min <= window), key=lambda c: (energies[c], c))
+    heavy = [a.GetIdx() for a in mol.GetAtoms() if a.GetAtomicNum() > 1]
+    tags = {a.GetIdx(): 1 + a.GetTotalNumHs(includeNeighbors=True) for a in mol.GetAtoms()}
+    kept = [ok[k] for k in _prune(coords[ok][:, heavy], _automorphisms(_graph(mol, heavy, tags)), rmsd_A)]
+    info = {"coordinates": "etkdg-v3" + (f"+{ff}" if ff else ""), "embedding_basic_knowledge": basic,
+            "conformers_requested": n, "conformers_embedded": int(coords.shape[0]),
+            "conformers_rejected_ez": int(coords.shape[0] - n_ez), "conformers_kept": len(kept),
+            "not_converged": int(not_converged)}
+    return coords[kept], None if energies is None else energies[kept] - energies[kept].min(), info
+
+
+# --------------------------------------------------------------------------------------- entry point
+def _detect_format(spec: str, fmt: str | None) -> str:
+    if fmt is not None:
+        if str(fmt).lower().lstrip(".") not in _FORMATS:
+            raise InputError(f"unknown format {fmt!r}; expected smiles, mol, sdf or xyz", source="fmt")
+        return _FORMATS[str(fmt).lower().lstrip(".")]
+    suffix = Path(spec).suffix.lower() if len(spec) < 4096 else ""
+    if suffix in _SUFFIXES:
+        return _SUFFIXES[suffix]
+    try:
+        is_file = bool(suffix) and Path(spec).is_file()
+    except OSError:
+        is_file = False
+    if is_file:
+        raise InputError(f"unknown file format {suffix!r}; expected .mol, .sdf, .sd or .xyz (or pass fmt)", source=spec)
+    return "smiles"
+
+
+def _check_options(charge, conformers, temperature_K, energy_window_kcal_mol, rmsd_prune_A) -> None:
+    for label, value, low in (("temperature_K", temperature_K, None), ("energy_window_kcal_mol", energy_window_kcal_mol, 0),
+                              ("rmsd_prune_A", rmsd_prune_A, 0)):
+        if isinstance(value, bool) or not isinstance(value, (int, float)) or not math.isfinite(value) \
+                or (value <= 0 if low is None else value < low):
+            raise InputError(f"expected a finite number {'> 0' if low is None else '>= 0'}, got {value!r}", source=label)
+    for label, value, low in (("conformers", conformers, 1), ("charge", charge, None)):
+        if value is not None and (isinstance(value, bool) or not isinstance(value, (int, np.integer))
+                                  or (low is not None and value < low)):
+            raise InputError(f"expected {'a positive integer' if low else 'an integer'}, got {value!r}", source=label)
+
+
+def load_structure(spec: str, *, charge: int | None = None, conformers: int | None = None, seed: int = 42,
+                   temperature_K: float = 298.15, energy_window_kcal_mol: float = 10.0, rmsd_prune_A: float = 0.3,
+                   fmt: str | None = None) -> Structure:
+    """Read a SMILES or a MOL/SDF/XYZ file into an explicit-H :class:`Structure`.
+
+    Parameters
+    ----------
+    spec : str
+        Path to a .mol/.sdf/.sd/.xyz file (chosen by extension), otherwise a SMILES.
+    charge : int, optional
+        Net charge; used for XYZ bond perception (default 0); must match the formal charges of a
+        SMILES/MOL/SDF input if given.
+    conformers : int, optional
+        Conformers to embed without 3D input (default :func:`default_conformer_count`).
+    seed : int
+        ETKDG random seed; the same seed gives identical coordinates.
+    temperature_K : float
+        Temperature of the Boltzmann weights, K.
+    energy_window_kcal_mol : float
+        Generated conformers more than this above the lowest are dropped, kcal/mol.
+    rmsd_prune_A : float
+        Heavy-atom RMSD (Å, over automorphisms) below which a generated conformer duplicates a lower one.
+    fmt : {"smiles", "mol", "sdf", "xyz"}, optional
+        Force the input format.
+
+    Returns
+    -------
+    Structure
+        Generated conformers sorted by energy. File ensembles (SD records, XYZ frames) keep file order and
+        are neither windowed nor pruned; Boltzmann weights when every SD record has an energy field
+        (:data:`ENERGY_PROPERTIES`), else uniform. H groups come from the lowest-energy (or first) conformer.
+    """
+    if not isinstance(spec, (str, Path)) or not str(spec).strip():
+        raise InputError("expected a SMILES or a path to a .mol, .sdf, .sd or .xyz file", source="spec")
+    spec = str(spec).strip()
+    _check_options(charge, conformers, temperature_K, energy_window_kcal_mol, rmsd_prune_A)
+    kind = _detect_format(spec, fmt)
+    prov: dict = {"format": kind}
+    coords = energies = None
+    if kind == "smiles":
+        base, name = _mol_from_smiles(spec)
+    elif kind == "xyz":
+        base, coords = _mol_from_xyz(Path(spec), 0 if charge is None else int(charge))
+        name = Path(spec).stem
+        prov["frames"] = int(coords.shape[0])
+    else:
+        base, coords, energies, name, extra = _mol_from_molfile(Path(spec))
+        prov.update(extra)
+    net = Chem.GetFormalCharge(base)
+    if charge is not None and charge != net:
+        raise InputError(f"charge={charge} contradicts the net formal charge {net} of the input", source=spec)
+    if coords is None:
+        n = conformers if conformers is not None else default_conformer_count(base)
+        coords, energies, info = _generate(base, int(n), seed, float(energy_window_kcal_mol), float(rmsd_prune_A), spec)
+        prov.update(info, seed=int(seed), rmsd_prune_A=float(rmsd_prune_A),
+                    energy_window_kcal_mol=float(energy_window_kcal_mol))
+    else:
+        prov.update(coordinates="input", conformers_kept=int(coords.shape[0]))
+    prov["temperature_K"] = float(temperature_K)
+    coords = np.ascontiguousarray(coords, dtype=np.float64)
+    mol = Chem.Mol(base)
+    mol.RemoveAllConformers()
+    for c in range(coords.shape[0]):
+        conf = Chem.Conformer(mol.GetNumAtoms())
+        conf.SetPositions(coords[c])
+        conf.Set3D(True)
+        conf.SetId(c)
+        mol.AddConformer(conf)
+    try:
+        Chem.SanitizeMol(mol)                  # aromaticity now; bond stereo labels are kept
+    except Exception as exc:
+        raise InputError(f"RDKit cannot aromatise the molecule ({' '.join(str(exc).split())})", source=spec) from None
+    if energies is not None:
+        weights = boltzmann_weights(energies, temperature_K)
+    else:
+        weights = np.full(coords.shape[0], 1.0 / coords.shape[0])
+    h_groups = group_equivalent_hydrogens(mol, coords[int(np.argmin(energies)) if energies is not None else 0])
+    for arr in (coords, weights, energies):
+        if arr is not None:
+            arr.setflags(write=False)
+    return Structure(name=name, source=spec, mol=mol, coords=coords, weights=weights, energies_kcal_mol=energies,
+                     charge=int(net), h_groups=h_groups, provenance=prov)
