@@ -14,7 +14,11 @@ and :func:`scipy.optimize.linear_sum_assignment` finds the cheapest matching. In
 
 Several groups may share one peak (overlap). Rows of one group have identical costs, so the matching
 splits a group only when capacity forces it; a split group is then placed where most of its protons
-went (ties: the smaller z²), so each group ends at exactly one peak or is missing.
+went (ties: the smaller z²), so each group ends at exactly one peak or is missing; single-group
+moves and pair exchanges that lower the group-level objective then repair what the split may have
+spoiled. When no group is split the matching is exactly optimal (the proton-level problem is a
+relaxation of the group-level one and their costs agree on whole-group assignments); otherwise the
+result is a local optimum (the group-level problem is a generalized assignment problem, NP-hard).
 
 The matching is alternated with the linear-Gaussian fit (:class:`SearchProblem`, :func:`search`):
 fit → predictive mean and variance of every group → z² → matching → fit, until the assignment
@@ -154,16 +158,77 @@ def solve_assignment(
     rows, cols = linear_sum_assignment(cost)
     chosen = col_peak[cols[np.argsort(rows)]]
     start = 0
+    split = False
     for g in free:
         picks = chosen[start : start + n_h[g]]
         start += n_h[g]
+        if np.all(picks == picks[0]):
+            result[g] = int(picks[0])
+            continue
+        split = True
         options, counts = np.unique(picks, return_counts=True)
         top = options[counts == counts.max()]
         if top.size > 1:  # tie: the cheaper place (missing costs missing_cost)
             keyed = [(missing_cost if o < 0 else zg[g, o], o) for o in top]
             top = np.array([min(keyed)[1]])
         result[g] = int(top[0])
-    return result
+    if not split:  # the relaxation's optimum is a whole-group assignment, hence optimal
+        return result
+    return _improve_by_moves(result, zg, free, n_h, np.asarray(slots, dtype=np.int64),
+                             np.asarray(has_integral, dtype=bool), np.flatnonzero(active),
+                             overflow_cost_per_h, missing_cost)
+
+
+def _improve_by_moves(a, zg, free, n_h, slots, has_integral, peaks, over_cost, miss_cost) -> np.ndarray:
+    """Move single free groups, or exchange two, while the group-level objective decreases.
+
+    Repairs what the proton-level matching can get wrong when it splits a group. The objective is
+    Σ_g z²_g,a(g) + over_cost · Σ_p max(0, H_p − slots_p) (known integrals) + miss_cost · #missing.
+    "Missing" is handled as an extra column P of unlimited capacity and cost ``miss_cost``.
+    """
+    n, n_peaks = zg.shape
+    C = np.full((n, n_peaks + 1), FORBIDDEN_COST)
+    C[:, peaks] = zg[:, peaks]
+    C[:, n_peaks] = miss_cost
+    cap = np.append(slots, 0).astype(np.float64)
+    rate = over_cost * np.append(has_integral, False).astype(np.float64)  # surcharge per excess proton
+    place = np.where(a >= 0, a, n_peaks)
+    excess = np.bincount(place, weights=n_h, minlength=n_peaks + 1) - cap  # held − capacity
+    nh = n_h.astype(np.float64)
+    free = np.asarray(free)
+    improved = True
+    while improved:
+        improved = False
+        for g in free:  # single moves
+            p, w = place[g], nh[g]
+            here = C[g, p] + rate[p] * (max(0.0, excess[p]) - max(0.0, excess[p] - w))
+            there = C[g] + rate * (np.maximum(0.0, excess + w) - np.maximum(0.0, excess))
+            there[p] = np.inf
+            q = int(np.argmin(there))
+            if here - there[q] > 1e-9:
+                excess[p] -= w
+                excess[q] += w
+                place[g] = q
+                improved = True
+        for g in free:  # exchanges of two groups' places
+            p = place[g]
+            others = free[place[free] != p]
+            if others.size == 0:
+                continue
+            q = place[others]
+            d = nh[others] - nh[g]
+            ep, eq = excess[p], excess[q]
+            gain = (C[g, p] + C[others, q] - C[g, q] - C[others, p]
+                    + rate[p] * (max(0.0, ep) - np.maximum(0.0, ep + d))
+                    + rate[q] * (np.maximum(0.0, eq) - np.maximum(0.0, eq - d)))
+            k = int(np.argmax(gain))
+            if gain[k] > 1e-9:
+                h, qk = others[k], q[k]
+                excess[p] += d[k]
+                excess[qk] -= d[k]
+                place[g], place[h] = qk, p
+                improved = True
+    return np.where(place == n_peaks, -1, place).astype(np.int64)
 
 
 def overflow_protons(assignment: np.ndarray, n_h: np.ndarray, slots: np.ndarray, has_integral: np.ndarray) -> int:
@@ -326,8 +391,9 @@ def search(problem: SearchProblem, starts, max_iter: int, forbidden: np.ndarray 
     return best
 
 
-def neighbours(problem: SearchProblem, best: SearchState, max_iter: int) -> dict:
-    """Assignments one move from ``best``: pair swaps, and re-solves with one used pair forbidden.
+def neighbours(problem: SearchProblem, best: SearchState) -> dict:
+    """Assignments one move from ``best``: pair swaps, and re-solves (under the fit of ``best``)
+    with one used (group, peak) pair forbidden.
 
     Returns
     -------
@@ -342,8 +408,9 @@ def neighbours(problem: SearchProblem, best: SearchState, max_iter: int) -> dict
     for i in np.flatnonzero((best.assignment >= 0) & (problem.fixed < 0)):
         forbidden = np.zeros((n, n_peaks), dtype=bool)
         forbidden[i, best.assignment[i]] = True
-        st = search(problem, [("alternative", best.fit.mean, best.fit.cov)], max_iter, forbidden)
-        out.setdefault(_key(st.assignment), (st.score, st.assignment, st.fit))
+        a = problem.solve(best.fit.mean, best.fit.cov, forbidden)
+        fit = problem.fit(a)
+        out.setdefault(_key(a), (problem.score(a, fit), a, fit))
     out.pop(_key(best.assignment), None)
     return out
 
@@ -357,15 +424,19 @@ def polish(problem: SearchProblem, best: SearchState, max_iter: int, rounds: int
         The final best state and its neighbours (see :func:`neighbours`).
     """
     for _ in range(rounds):
-        neigh = neighbours(problem, best, max_iter)
+        neigh = neighbours(problem, best)
         key = min(neigh, key=lambda k: (neigh[k][0], k), default=None)
         if key is None or neigh[key][0] >= best.score - 1e-9:
             return best, neigh
         sc, a, fit = neigh[key]
         again = search(problem, [(best.start, fit.mean, fit.cov)], max_iter)
-        moved = SearchState(a, fit, sc, best.iterations, best.converged, best.start)
-        best = dataclasses.replace(again, start=best.start) if again.score < sc - 1e-9 else moved
-    return best, neighbours(problem, best, max_iter)
+        stable = _key(problem.solve(fit.mean, fit.cov)) == _key(a)  # a fixed point of the alternation?
+        moved = SearchState(a, fit, sc, best.iterations + 1, stable, best.start)
+        if again.score < sc - 1e-9:
+            best = dataclasses.replace(again, start=best.start, iterations=best.iterations + again.iterations)
+        else:
+            best = moved
+    return best, neighbours(problem, best)
 
 
 def starting_points(prior_mean: np.ndarray, prior_sd: np.ndarray, n_classes: int, n_random: int,

@@ -429,11 +429,10 @@ def compare(
                                                  overflow_cost_per_h, missing_cost)
         starts = _assign.starting_points(problem.prior_mean, problem.prior_sd, problem.n_classes,
                                          int(n_random_starts), width, int(seed))
-        state = _assign.search(problem, starts, int(max_iter))
+        state, neigh = _assign.polish(problem, _assign.search(problem, starts, int(max_iter)), int(max_iter))
         if run is None or state.score < run[1].score - 1e-9:
-            run = (problem, state, classes, scale)
-    problem, state, classes, scale = run
-    state, neigh = _assign.polish(problem, state, int(max_iter))
+            run = (problem, state, neigh, classes, scale)
+    problem, state, neigh, classes, scale = run
     a, fit = state.assignment, state.fit
 
     circuit_fits = _circuit_results(problem, a, fit, circuits, width)
@@ -496,9 +495,10 @@ def rank_candidates(
     """Rank candidate structures (isomers, tautomers, charge states) by how well they explain the peaks.
 
     Each candidate is compared with :func:`compare`; its cost adds ``unassigned_peak_cost`` per
-    signal peak it leaves unexplained. Costs are on the 2 ln B scale; when candidates assign
-    different numbers of groups the costs compare likelihoods of different data, which is
-    approximate (an :class:`~ringshift.errors.AssignmentWarning` says so).
+    signal peak it leaves unexplained. Costs are on the 2 ln B scale (an unassigned group's
+    likelihood is replaced by its missing cost, so candidates with the same groups compare
+    consistently); when candidates have different numbers of groups the costs compare likelihoods
+    of different data, which is approximate (an :class:`~ringshift.errors.AssignmentWarning` says so).
 
     Parameters
     ----------
@@ -525,10 +525,9 @@ def rank_candidates(
         comp = compare(groups, peaks, circuits, noise_ppm=noise_ppm, seed=seed, n_random_starts=n_random_starts,
                        n_alternatives=n_alternatives, integral_scale=integral_scale)
         results.append((name, comp.cost + unassigned_peak_cost * len(comp.unassigned_peaks), comp))
-    n_assigned = {sum(g.peak_index is not None for g in r[2].assignment) for r in results}
-    if len(n_assigned) > 1:
-        warnings.warn("candidates assign different numbers of groups; their costs are only approximately "
-                      "comparable", AssignmentWarning, stacklevel=2)
+    if len({len(r[2].assignment) for r in results}) > 1:
+        warnings.warn("candidates have different numbers of hydrogen groups; their costs are only "
+                      "approximately comparable", AssignmentWarning, stacklevel=2)
     costs = np.array([r[1] for r in results])
     best = float(costs.min())
     weights = np.exp(-0.5 * (costs - best))

@@ -112,6 +112,9 @@ def linear_gaussian_fit(
     n = y.shape[0]
     X = np.asarray(X, dtype=np.float64).reshape(n, len(m0))
     beta = 1.0 / noise_sd**2
+    if len(m0) == 0:  # no parameters: y ~ N(0, σ² I)
+        log_z = -0.5 * n * math.log(2.0 * math.pi * noise_sd**2) - 0.5 * beta * float(y @ y)
+        return LinearGaussianFit(np.zeros(0), np.zeros((0, 0)), log_z if n else 0.0, n)
     prec0 = 1.0 / s0**2
     A = np.diag(prec0) + beta * (X.T @ X)
     b = prec0 * m0 + beta * (X.T @ y)
