@@ -55,7 +55,7 @@ def test_bridged_annulene_circuit_is_the_10_perimeter():
 def test_porphine_faces():
     # Porphine: 24 pi atoms, 28 pi bonds → cycle space of dimension 28 − 24 + 1 = 5 (Euler, textbook):
     # four pyrrole rings and the inner 16-ring.
-    mol = _mol("C1=CC2=NC1=CC3=CC=C(N3)C=C4C=CC(=N4)C=C5C=CC(=C5)N2")
+    mol = _mol("C1=CC2=CC3=CC=C(N3)C=C4C=CC(=N4)C=C5C=CC(=CC1=N2)N5")
     loops = [c for c in find_circuits(mol) if c.carries_loop]
     assert sorted(c.size for c in loops) == [5, 5, 5, 5, 16]
 
