@@ -1,6 +1,7 @@
 """Assignment of hydrogen groups to observed peaks: optimal matching on integral slots.
 
-Pure array kernels used by :mod:`ringshift.compare`.
+Array kernels (matching, alternating search) used by :mod:`ringshift.compare`, and the per-group,
+per-peak and alternative-assignment result records.
 
 A peak whose integral corresponds to k protons offers k *slots*; a group of n_h equivalent protons
 needs n_h slots. Every proton of every free group is a row of a cost matrix, every slot a column,

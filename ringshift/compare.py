@@ -24,15 +24,19 @@ porphyrin-nanoring currents this way)::
 Each assigned group is one observation. Posterior and evidence are closed form
 (:mod:`ringshift.evidence`); assignment is optimal matching on integral slots
 (:mod:`ringshift.assign`), alternated with the fit until the assignment is stable, from several
-starting currents (a priori, its mirror image, zero, and ``n_random_starts`` draws from the sign
-prior using ``seed``). The best assignment is the one of lowest cost::
+starting currents (every circuit diatropic at |prior|, paratropic at −|prior|, zero, and
+``n_random_starts`` draws from the sign prior using ``seed``), then polished by pair swaps and
+re-solves with one used pair forbidden. The best assignment is the one of lowest cost::
 
     cost = −2 ln Z(assigned shifts) + overflow_cost_per_h × (protons beyond integrals)
            + missing_cost × (unassigned groups)
 
 so cost differences are on the 2 ln B scale; alternatives within ``alternative_max_delta`` are
 reported. Evidence per circuit: see :mod:`ringshift.evidence` (sign hypotheses from a symmetric prior
-N(0, w²), w = 1.5 × benzene by default; Kass & Raftery, JASA 1995, 90, 773).
+N(0, w²), w = 1.5 × benzene by default, the other circuits keeping their priors). A circuit's
+verdict is the hypothesis with the largest evidence if it leads the runner-up by 2 ln B ≥ 2 (the
+"positive" boundary of Kass & Raftery, JASA 1995, 90, 773), else "inconclusive"; the overall
+verdict is that of the circuit with the largest lead.
 """
 
 from __future__ import annotations
@@ -50,7 +54,7 @@ from .assign import Alternative, GroupAssignment, PeakSummary, group_results, pe
 from .constants import BENZENE_CURRENT_NA_PER_T
 from .errors import AssignmentWarning, InputError
 from .evidence import (CLAIM_VERDICT, CircuitEvidence, CircuitFit, ClaimCheck, ToDictMixin, circuit_fits,
-                       claim_check, to_plain)
+                       claim_check, fields_to_plain)
 
 __all__ = ["ObservedPeak", "GroupModel", "CircuitPrior", "compare", "rank_candidates", "Comparison",
            "CandidateScore", "CircuitFit", "CircuitEvidence", "ClassOffset", "GroupAssignment", "PeakSummary",
@@ -70,7 +74,6 @@ MISSING_COST: float = 25.0
 ALTERNATIVE_MAX_DELTA: float = 2.0
 #: Peak kinds never assigned to groups.
 IGNORED_KINDS: frozenset[str] = frozenset({"solvent", "impurity", "reference"})
-#: Claims and the verdict that supports each.
 
 
 # ----------------------------------------------------------------------------------------- inputs
@@ -204,7 +207,7 @@ class Comparison(ToDictMixin):
 
     def to_dict(self) -> dict:
         """Plain JSON-able dict; unassigned peaks and groups are given with labels."""
-        out = to_plain(self)
+        out = fields_to_plain(self)
         out["unassigned_peaks"] = [
             {"index": int(i), "label": self.peaks[i].label, "shift_ppm": float(self.peaks[i].shift_ppm)}
             for i in self.unassigned_peaks
@@ -264,6 +267,11 @@ def _validate(groups, peaks, circuits) -> None:
         src = f"groups[{i}]"
         if isinstance(g.n_h, bool) or not isinstance(g.n_h, (Integral, np.integer)) or g.n_h < 1:
             raise InputError(f"expected an integer >= 1, got {g.n_h!r}", f"{src}.n_h")
+        for name in ("atoms", "parents"):
+            value = getattr(g, name)
+            if not isinstance(value, (tuple, list)) or not all(
+                    isinstance(v, (Integral, np.integer)) and not isinstance(v, bool) for v in value):
+                raise InputError(f"expected a tuple of atom indices, got {value!r}", f"{src}.{name}")
         _number(g.ref_ppm, f"{src}.ref_ppm")
         _number(g.ref_sd_ppm, f"{src}.ref_sd_ppm", positive=True)
         _number(g.charge_ppm, f"{src}.charge_ppm")
@@ -343,6 +351,27 @@ def _circuit_results(problem: _assign.SearchProblem, a, fit, circuits, width: fl
     X, y = problem.data(a)
     return circuit_fits(X, y, problem.prior_mean, problem.prior_sd, problem.noise, problem.n_classes, fit,
                         circuits, width)
+
+
+def _alternatives(problem, state, neigh, groups, peaks, circuits, width, n_max, max_delta):
+    """The cheapest neighbouring assignments within ``max_delta`` of the best, at most ``n_max``."""
+    def where(p: int) -> str | None:
+        return peak_label(peaks[p]) if p >= 0 else None
+
+    out = []
+    a = state.assignment
+    for key in sorted(neigh, key=lambda k: (neigh[k][0], k)):
+        sc, alt, alt_fit = neigh[key]
+        if sc - state.score >= max_delta or len(out) >= n_max:
+            break
+        changes = tuple((groups[i].label, where(int(a[i])), where(int(alt[i]))) for i in np.flatnonzero(alt != a))
+        alt_circuits = _circuit_results(problem, alt, alt_fit, circuits, width)
+        out.append(Alternative(
+            delta_cost=float(sc - state.score), changes=changes,
+            currents_nA_per_T=tuple(float(cf.current_nA_per_T) for cf in alt_circuits),
+            verdicts=tuple(cf.verdict for cf in alt_circuits),
+        ))
+    return tuple(out)
 
 
 def _check_search_options(width, overflow_cost, missing_cost, max_delta, max_iter) -> None:
@@ -439,21 +468,8 @@ def compare(
     strongest = max(range(len(circuit_fits)), key=lambda c: (circuit_fits[c].evidence.two_ln_bf_margin, -c))
     verdict = circuit_fits[strongest].verdict
 
-    alternatives = []
-    for key in sorted(neigh, key=lambda k: (neigh[k][0], k)):
-        sc, alt, alt_fit = neigh[key]
-        if sc - state.score >= alternative_max_delta or len(alternatives) >= n_alternatives:
-            break
-        label = lambda p: peak_label(peaks[p]) if p >= 0 else None  # noqa: E731
-        changes = tuple((groups[i].label, label(int(a[i])), label(int(alt[i])))
-                        for i in np.flatnonzero(alt != a))
-        alt_circuits = _circuit_results(problem, alt, alt_fit, circuits, width)
-        alternatives.append(Alternative(
-            delta_cost=float(sc - state.score), changes=changes,
-            currents_nA_per_T=tuple(float(cf.current_nA_per_T) for cf in alt_circuits),
-            verdicts=tuple(cf.verdict for cf in alt_circuits),
-        ))
-
+    alternatives = _alternatives(problem, state, neigh, groups, peaks, circuits, width, n_alternatives,
+                                 alternative_max_delta)
     held = [tuple(int(i) for i in np.flatnonzero(a == p)) for p in range(len(peaks))]
     peak_rows = tuple(PeakSummary(
         index=p, label=peak_label(pk), shift_ppm=float(pk.shift_ppm),
@@ -473,9 +489,9 @@ def compare(
         unassigned_peaks=tuple(p for p in range(len(peaks)) if problem.active[p] and not held[p]),
         unassigned_groups=unassigned_groups,
         ignored_peaks=tuple(p for p in range(len(peaks)) if not problem.active[p]),
-        alternatives=tuple(alternatives),
+        alternatives=alternatives,
         claim=None if claim is None else claim_check(claim, circuit_fits[strongest], verdict),
-        class_offsets=offsets, noise_ppm=float(problem.noise), noise_estimated=noise_ppm == "auto",
+        class_offsets=offsets, noise_ppm=float(problem.noise), noise_estimated=isinstance(noise_ppm, str),
         integral_scale=scale, converged=bool(state.converged), iterations=int(state.iterations),
         start=state.start, cost=float(state.score), log10_evidence=float(fit.log_evidence / math.log(10.0)),
     )

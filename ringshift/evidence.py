@@ -1,6 +1,8 @@
 """Closed-form Bayesian linear regression and the evidence for a ring current's sign.
 
-Pure array kernels (arrays in, arrays out) used by :mod:`ringshift.compare`.
+Pure array kernels (arrays in, arrays out) used by :mod:`ringshift.compare`, the per-circuit
+result records (:class:`CircuitFit`, :class:`CircuitEvidence`), the claim check and the helper that
+turns result dataclasses into plain JSON-able types.
 
 The model is linear-Gaussian: data ``y`` (n,), design ``X`` (n, p), parameters θ (p,) with an
 independent Gaussian prior θ_k ~ N(m0_k, s0_k²) and noise ε ~ N(0, σ² I). Then the posterior of θ is
@@ -274,10 +276,21 @@ def hypothesis_verdict(
 
 
 # ------------------------------------------------------------------------ results per circuit
+def fields_to_plain(obj) -> dict:
+    """The fields of a dataclass instance as a dict of plain JSON-able values."""
+    return {f.name: to_plain(getattr(obj, f.name)) for f in dataclasses.fields(obj)}
+
+
 def to_plain(value):
-    """Recursively convert dataclasses, tuples and numpy scalars to JSON-able Python types."""
+    """Recursively convert dataclasses, tuples and numpy scalars to JSON-able Python types.
+
+    A nested result record is converted by its own ``to_dict()``, so every record looks the same
+    wherever it appears.
+    """
+    if isinstance(value, ToDictMixin):
+        return value.to_dict()
     if dataclasses.is_dataclass(value) and not isinstance(value, type):
-        return {f.name: to_plain(getattr(value, f.name)) for f in dataclasses.fields(value)}
+        return fields_to_plain(value)
     if isinstance(value, (list, tuple)):
         return [to_plain(v) for v in value]
     if isinstance(value, dict):
@@ -298,7 +311,7 @@ class ToDictMixin:
 
     def to_dict(self) -> dict:
         """Plain JSON-able dict (floats, ints, str, lists, None)."""
-        return to_plain(self)
+        return fields_to_plain(self)
 
 
 @dataclass(frozen=True)

@@ -514,6 +514,8 @@ def test_rank_candidates_picks_generating_structure():
     assert ranked[0].probability > 0.9
     assert all(r.log10_bf_vs_best < -1 for r in ranked[1:])  # each loser at least 10× less likely
     assert_allclose(sum(r.probability for r in ranked), 1.0, rtol=1e-12)
+    as_dict = json.loads(json.dumps(ranked[0].to_dict()))  # nested comparison in its own to_dict form
+    assert as_dict["comparison"] == ranked[0].comparison.to_dict()
 
 
 def test_to_dict_is_plain_json_and_deterministic():
@@ -607,3 +609,19 @@ def test_rank_candidates_bad_input():
         rank_candidates([], p)
     with pytest.raises(InputError, match=r"candidates\[0\]"):
         rank_candidates([("only a name",)], p)
+
+
+def test_invariant_to_peak_and_group_order():
+    # Invariance (design-notes convention): listing peaks or groups in another order must not change
+    # the fitted current or which shift each group gets (invented data; common practice, no source).
+    groups = make_groups()
+    peaks, _ = simulate(groups, [14.0], 0.3, np.random.default_rng(12))
+    base = compare(groups, peaks, PRIOR, n_alternatives=0)
+    shift_of = {r.label: r.observed_ppm for r in base.assignment}
+    rng = np.random.default_rng(0)
+    for _ in range(3):
+        g_perm = [groups[i] for i in rng.permutation(len(groups))]
+        p_perm = [peaks[i] for i in rng.permutation(len(peaks))]
+        other = compare(g_perm, p_perm, PRIOR, n_alternatives=0)
+        assert_allclose(other.circuits[0].current_nA_per_T, base.circuits[0].current_nA_per_T, rtol=1e-9)
+        assert {r.label: r.observed_ppm for r in other.assignment} == shift_of
