@@ -35,14 +35,29 @@ no source).
 -----------
 ``"uniform"``: f = 1. ``"distance"``: f = exp(−(r − 1.397 Å)/0.3106 Å) for C–C bonds, from the
 geometry (Longuet-Higgins & Salem, Proc. R. Soc. A 1959, 251, 172, from memory); bonds to heteroatoms
-keep f = 1 (their k already encodes the bond). ``"scf"``: the C–C lengths are not taken from the
-geometry but made self-consistent with the π bond orders through the linear bond-order/bond-length
-relation r = 1.520 − 0.186 p Å (a linearisation of Coulson, Proc. R. Soc. A 1939, 169, 413, from
-memory; it passes through ethylene 1.334 Å at p = 1 and benzene 1.396 Å at p = 2/3), then β(r) as for
-``"distance"``. The search starts from a small (±0.01 Å) bond alternation along the RDKit Kekulé
-structure and accepts only a stable, closed-shell fixed point, so it leaves the equal-bond solution
-when that is unstable (the Longuet-Higgins–Salem alternation of large annulenes). See
-:mod:`ringshift.pisystem` for what this does to [18]annulene.
+keep f = 1 (their k already encodes the bond). ``"scf"`` and ``"scf-coulson"``: the C–C lengths are not
+taken from the geometry but made self-consistent with the π bond orders through a linear
+bond-order/bond-length relation r = R0 − S p, then β(r) as for ``"distance"``. In the
+Longuet-Higgins–Salem / Su–Schrieffer–Heeger energy E = E_π(β(r)) + Σ ½ K (r − r0)² the stationary
+lengths obey exactly such a relation with S = 2|β'|/K, so S is the electron–lattice coupling that sets
+the Peierls-type alternation of long conjugated chains.
+
+* ``"scf-coulson"`` (the earlier ``"scf"``): R0 = 1.520, S = 0.186 Å, a linearisation of Coulson
+  (Proc. R. Soc. A 1939, 169, 413, from memory) through ethylene 1.334 Å (p = 1) and benzene 1.396 Å
+  (p = 2/3). Measured (:func:`polyene_chain_lengths`): the infinite all-trans polyene comes out
+  1.369/1.437 Å, BLA 0.067 Å, i.e. it under-alternates.
+* ``"scf"`` (calibrated): the line passes through benzene (1.397 Å at p = 2/3, so small 4n+2 rings stay
+  D6h) and S is chosen so that the self-consistent infinite all-trans polyene (analytic band integrals,
+  :func:`calibrate_chain_slope`) has the bond-length alternation of trans-polyacetylene, 0.08 Å
+  (1.36/1.44 Å from nutation NMR; Yannoni & Clarke, Phys. Rev. Lett. 1983, 51, 1191, from memory).
+  This gives S = 0.1988 Å, R0 = 1.5295 Å; the chain comes out 1.365/1.445 Å (the mean is not fitted).
+  Checks not used in the calibration: ethylene 1.331 Å (1.339 Å by electron diffraction), naphthalene
+  and planar cyclooctatetraene within 0.015 / 0.01 Å of experiment (tests/test_pisystem.py). No
+  annulene NMR datum enters; see :mod:`ringshift.pisystem` for what it does to annulene currents.
+
+The search starts from a small (±0.01 Å) bond alternation along the RDKit Kekulé structure and accepts
+only a stable, closed-shell fixed point, so it leaves the equal-bond solution when that is unstable
+(the Longuet-Higgins–Salem alternation of large annulenes).
 """
 
 from __future__ import annotations
@@ -57,7 +72,8 @@ from ringshift.errors import InputError
 __all__ = [
     "HETERO_PARAMETERS", "BETA_REF_LENGTH_A", "BETA_DECAY_A", "COULSON_R0_A", "COULSON_SLOPE_A", "BETA0_EV",
     "beta_distance_factor", "huckel_matrix", "occupy", "solve_fragments", "density_matrix", "london_bond_response",
-    "bond_polarizability", "scf_cc_lengths", "kirchhoff_decomposition", "plane_fit",
+    "bond_polarizability", "scf_cc_lengths", "polyene_chain_lengths", "calibrate_chain_slope",
+    "POLYACETYLENE_BLA_A", "SCF_R0_A", "SCF_SLOPE_A", "SCF_RELATIONS", "kirchhoff_decomposition", "plane_fit",
     "p_orbital_axes", "circuit_normals", "circuit_incidence", "regular_polygon", "benzene_reference_response",
     "absolute_current_nA_per_T", "pi_charge_shift_ppm", "PI_CHARGE_PPM_PER_E",
 ]
@@ -84,9 +100,13 @@ HETERO_PARAMETERS: dict[str, tuple[float, float, str]] = {
 BETA_REF_LENGTH_A = 1.397
 #: Decay length of β(r) = β0 exp(−(r − 1.397)/0.3106), Å (Longuet-Higgins & Salem 1959, from memory).
 BETA_DECAY_A = 0.3106
-#: Linear bond-order/bond-length relation r = R0 − SLOPE·p (Coulson 1939, linearised; from memory).
+#: Linear bond-order/bond-length relation r = R0 − SLOPE·p (Coulson 1939, linearised; from memory):
+#: the ``"scf-coulson"`` model.
 COULSON_R0_A = 1.520
 COULSON_SLOPE_A = 0.186
+#: Bond-length alternation of trans-polyacetylene, Å (1.36 / 1.44 Å; Yannoni & Clarke, Phys. Rev.
+#: Lett. 1983, 51, 1191, from memory): the calibration target of the ``"scf"`` model.
+POLYACETYLENE_BLA_A = 0.08
 #: Absolute β0 at 1.397 Å, eV: the graphene nearest-neighbour hopping t ≈ 2.8 eV at 1.42 Å
 #: (Castro Neto et al., Rev. Mod. Phys. 2009, 81, 109; from memory), carried to 1.397 Å by β(r).
 BETA0_EV = -2.8 * float(np.exp((1.42 - BETA_REF_LENGTH_A) / BETA_DECAY_A))
@@ -303,20 +323,22 @@ def bond_polarizability(vectors, energies, occ, bonds, *, tol: float = DEGENERAC
 
 
 def scf_cc_lengths(h_diag, bonds, fixed_resonance, is_cc, overlap, kekule_double, n_electrons, *,
-                   seed_A: float = 0.01, tol_A: float = 1e-9, max_iter: int = 300, depth: int = 6):
-    """Self-consistent C–C bond lengths from π bond orders: r = 1.520 − 0.186 p, β(r) = β0 e^(−Δr/0.3106).
+                   r0_A: float = COULSON_R0_A, slope_A: float = COULSON_SLOPE_A, seed_A: float = 0.01,
+                   tol_A: float = 1e-9, max_iter: int = 300, depth: int = 6):
+    """Self-consistent C–C bond lengths from π bond orders: r = R0 − S p, β(r) = β0 e^(−Δr/0.3106).
 
     The fixed point r = F(r) is found with Anderson acceleration (Walker & Ni, SIAM J. Numer. Anal.
     2011, 49, 1715) from a small alternation along the Kekulé structure. Anderson can land on an
     unstable fixed point (e.g. equal bonds in a large annulene), so every solution is checked: it is
-    accepted only if the largest eigenvalue of the Jacobian of F, 0.186/0.3106 · π · β(r)/β0 with π the
+    accepted only if the largest eigenvalue of the Jacobian of F, S/0.3106 · π · β(r)/β0 with π the
     bond–bond polarisability, is below 1 and the shell is closed; otherwise it is displaced along the
     unstable mode (or the Kekulé pattern) and the search restarts.
 
     Parameters: h_diag (n,) Coulomb parameters; bonds (m, 2) local index pairs; fixed_resonance (m,)
     β_rs/β0 of bonds whose β does not depend on length (k_CX; ignored for C–C); is_cc (m,) bool, the
     iterated C–C bonds; overlap (m,) factors on every β (|cos ω| alignment, explicit distortion);
-    kekule_double (m,) bool, double bonds of a Kekulé structure (the seed); n_electrons int.
+    kekule_double (m,) bool, double bonds of a Kekulé structure (the seed); n_electrons int; r0_A, slope_A
+    (keyword-only) R0 and S in Å (default the Coulson line of ``"scf-coulson"``).
 
     Returns: lengths (m,) float64 Å (C–C entries self-consistent, others 0 and unused); converged (True
     if a stable, closed-shell fixed point was found); n_iter.
@@ -341,7 +363,7 @@ def scf_cc_lengths(h_diag, bonds, fixed_resonance, is_cc, overlap, kekule_double
 
     def fmap(x):
         _, _, c, occ, _ = solve(x)
-        return COULSON_R0_A - COULSON_SLOPE_A * density_matrix(c, occ)[b[cc, 0], b[cc, 1]]
+        return r0_A - slope_A * density_matrix(c, occ)[b[cc, 0], b[cc, 1]]
 
     seed = np.where(dbl[cc], -1.0, 1.0)
     x = BETA_REF_LENGTH_A + seed_A * seed
@@ -375,7 +397,7 @@ def scf_cc_lengths(h_diag, bonds, fixed_resonance, is_cc, overlap, kekule_double
         if open_shell:
             x = x + 0.02 * seed
             continue
-        d = (fac * COULSON_SLOPE_A / BETA_DECAY_A)[cc]  # ∂F/∂x = slope · π · f/λ
+        d = (fac * slope_A / BETA_DECAY_A)[cc]  # ∂F/∂x = slope · π · f/λ
         pol = bond_polarizability(c, e, occ, b)[np.ix_(cc, cc)]
         lam, vec = np.linalg.eigh(np.sqrt(d)[:, None] * pol * np.sqrt(d)[None, :])
         if lam[-1] < 1.0 - 1e-9:
@@ -386,6 +408,68 @@ def scf_cc_lengths(h_diag, bonds, fixed_resonance, is_cc, overlap, kekule_double
         x = x + 0.02 * mode / np.max(np.abs(mode))
     r[cc] = x
     return r, False, total
+
+
+_GL_X, _GL_W = np.polynomial.legendre.leggauss(400)
+_GL_K, _GL_W = 0.5 * np.pi * (_GL_X + 1.0), 0.5 * np.pi * _GL_W  # Gauss–Legendre on [0, π]
+
+
+def polyene_chain_lengths(r0_A: float, slope_A: float, *, decay_A: float = BETA_DECAY_A, tol_A: float = 1e-12,
+                          max_iter: int = 5000) -> tuple[float, float, float, float]:
+    """Self-consistent bond lengths of the infinite all-trans polyene for r = R0 − S p and β(r).
+
+    Two sites per cell, resonance integrals t1 = f(r1), t2 = f(r2) (f = β/β0 of
+    :func:`beta_distance_factor`, decay ``decay_A``), lower band filled. Coulson bond orders from the
+    band integrals (Gauss–Legendre, 400 nodes): p1 = (1/π) ∫_0^π (t1 + t2 cos k)/ε(k) dk and p2 likewise
+    with t1 ↔ t2, ε = (t1² + t2² + 2 t1 t2 cos k)^½ (p1 = p2 = 2/π for t1 = t2, textbook). The
+    equal-bond solution is unstable for any coupling (Peierls), so the damped iteration starts from an
+    alternated seed and reaches the dimerised one.
+
+    Returns (r_short, r_long, p_short, p_long): Å, Å, bond orders. Raises RuntimeError without
+    convergence.
+    """
+    f = lambda r: np.exp(-(r - BETA_REF_LENGTH_A) / decay_A)  # noqa: E731
+    cosk = np.cos(_GL_K)
+    r1, r2 = r0_A - slope_A * 0.8, r0_A - slope_A * 0.45
+    for _ in range(max_iter):
+        t1, t2 = f(r1), f(r2)
+        eps = np.sqrt(t1 * t1 + t2 * t2 + 2.0 * t1 * t2 * cosk)
+        p1 = float(_GL_W @ ((t1 + t2 * cosk) / eps)) / np.pi
+        p2 = float(_GL_W @ ((t2 + t1 * cosk) / eps)) / np.pi
+        n1, n2 = r0_A - slope_A * p1, r0_A - slope_A * p2
+        if abs(n1 - r1) + abs(n2 - r2) < tol_A:
+            return float(n1), float(n2), p1, p2
+        r1, r2 = 0.5 * (r1 + n1), 0.5 * (r2 + n2)
+    raise RuntimeError("polyene_chain_lengths: no self-consistent solution")
+
+
+def calibrate_chain_slope(bla_A: float, *, r_ref_A: float = BETA_REF_LENGTH_A, p_ref: float = 2.0 / 3.0,
+                          decay_A: float = BETA_DECAY_A) -> tuple[float, float]:
+    """Slope S and intercept R0 of r = R0 − S p that pass through (p_ref, r_ref_A) (benzene: 2/3,
+    1.397 Å) and give the infinite all-trans polyene the bond-length alternation ``bla_A`` (Å).
+
+    Solved with Brent's method on S in [0.05, 0.6] Å. Returns (S, R0) in Å.
+    """
+    from scipy.optimize import brentq
+
+    def excess(s):
+        r1, r2 = polyene_chain_lengths(r_ref_A + s * p_ref, s, decay_A=decay_A)[:2]
+        return (r2 - r1) - bla_A
+
+    s = brentq(excess, 0.05, 0.6, xtol=1e-12)
+    return float(s), float(r_ref_A + s * p_ref)
+
+
+#: The calibrated ``"scf"`` relation r = SCF_R0_A − SCF_SLOPE_A p (module notes), computed here from its
+#: two inputs (benzene 1.397 Å, polyacetylene BLA 0.08 Å): S = 0.1988 Å, R0 = 1.5295 Å.
+SCF_SLOPE_A, SCF_R0_A = calibrate_chain_slope(POLYACETYLENE_BLA_A)
+#: beta_model name -> (R0, S, source) of the self-consistent bond-length models.
+SCF_RELATIONS: dict[str, tuple[float, float, str]] = {
+    "scf": (SCF_R0_A, SCF_SLOPE_A, "through benzene 1.397 A; infinite-polyene BLA 0.08 A of trans-polyacetylene "
+            "(Yannoni & Clarke, Phys. Rev. Lett. 1983, 51, 1191, from memory)"),
+    "scf-coulson": (COULSON_R0_A, COULSON_SLOPE_A, "Coulson 1939, linearised through ethylene and benzene "
+                    "(from memory)"),
+}
 
 
 def kirchhoff_decomposition(bond_currents, incidence):
@@ -545,9 +629,10 @@ def benzene_reference_response(beta_model: str) -> float:
     xyz = regular_polygon(6)
     bonds = np.array([(i, (i + 1) % 6) for i in range(6)])
     ov = np.ones(6)
-    if beta_model == "scf":
+    if beta_model in SCF_RELATIONS:
         dbl = np.array([True, False] * 3)
-        r, _, _ = scf_cc_lengths(np.zeros(6), bonds, np.ones(6), np.ones(6, bool), ov, dbl, 6)
+        r0, slope = SCF_RELATIONS[beta_model][:2]
+        r, _, _ = scf_cc_lengths(np.zeros(6), bonds, np.ones(6), np.ones(6, bool), ov, dbl, 6, r0_A=r0, slope_A=slope)
         res = beta_distance_factor(r)
     else:  # uniform and distance coincide at 1.397 Å
         res = np.ones(6)

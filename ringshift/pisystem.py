@@ -17,21 +17,32 @@ the rest go into the p orbital (sp: half of the rest). This gives C 1, C⁻ 2, C
 pyrrole N 2, furan O and thiophene S 2, carbonyl O 1, B 0, pyridinium N⁺ 1. The core charge is
 Z = electrons + q, so the π charges q_r = Z_r − P_rr add up to the formal charge on the π atoms.
 
-[18]annulene and the β model (measured; tests/test_pisystem.py)
-----------------------------------------------------------------
+Annulenes and the β model (measured; tests/test_pisystem.py)
+-----------------------------------------------------------
 Hückel–London overestimates large (4n+2)-annulenes: uniform β gives 3.14 × benzene for a regular
-18-gon and 2.24 × for the real-shaped (honeycomb, 120°, 1.397 Å) [18]annulene; β(r) on MMFF94 bonds of
-1.33–1.35 Å gives more (2.3–2.7 ×). The a priori treatment here is ``beta_model="scf"``: C–C lengths
-made self-consistent with the π bond orders through Coulson's relation r = 1.520 − 0.186 p (fixed by the
-bond lengths of ethylene and benzene, and checked against those of naphthalene and cyclooctatetraene,
-never against [18]annulene), with β(r) of Longuet-Higgins & Salem. It leaves benzene and [14]annulene
-essentially equal-bonded (2.44 → 2.40 × for a regular [14]) but makes N ≥ 18 alternate (1.386/1.417 Å
-for [18]) and lowers regular [18], [26], [30]annulene from 3.14, 4.55, 5.26 to 2.59, 1.50, 1.13 ×;
-naphthalene goes from 1.093 to 1.009, anthracene from 1.084/1.279 to 0.932/1.239. For the honeycomb
-[18]annulene it gives 1.85 × benzene, i.e. an inner/outer shift difference of 19.6 ppm with the
-Johnson–Bovey double loop of :mod:`ringshift.fields`, against 12.2 ppm observed (it would need 1.15 ×):
-the treatment removes about a third of the excess but not all of it. No further factor is applied,
-because nothing but [18]annulene itself would calibrate it.
+18-gon and 2.24 × for the real-shaped (honeycomb: the coronene perimeter, 120°, 1.397 Å) [18]annulene;
+β(r) on MMFF94 bonds of 1.35–1.36 Å gives more (2.6 ×). The a priori treatment is
+``beta_model="scf"``: C–C lengths made self-consistent with the π bond orders through a linear
+relation r = R0 − S p (the stationarity condition of a Longuet-Higgins–Salem / SSH energy), with β(r)
+of Longuet-Higgins & Salem. Its one free parameter, the electron–lattice coupling S, is calibrated on
+data outside annulene NMR: the line passes through benzene (1.397 Å) and the self-consistent infinite
+all-trans polyene reproduces the bond-length alternation of trans-polyacetylene, 0.08 Å (1.36/1.44 Å;
+Yannoni & Clarke, Phys. Rev. Lett. 1983, 51, 1191, from memory): S = 0.1988 Å, R0 = 1.5295 Å
+(:mod:`ringshift.huckel`). The earlier Coulson line through ethylene and benzene (S = 0.186 Å) remains
+as ``beta_model="scf-coulson"``; it under-alternates the infinite chain (BLA 0.067 Å).
+
+Measured J/J_benzene (distance on the given geometry / scf-coulson / scf), ideal honeycomb perimeters
+(pyrene, coronene, ovalene, circumanthracene; 4, 6, 8, 10 inner H) and MMFF94 geometries relaxed from
+them: [14] 1.65 / 1.63 / 1.63 (MMFF, 0.2 Å non-planar: 1.95 / 1.67 / 1.67; no alternation in either
+scf model); [18] 2.24 / 1.85 / 1.24 (MMFF 2.60 / 1.86 / 1.25; scf bonds 1.374/1.433 Å); [22] 2.61 /
+1.34 / 0.85 (MMFF 3.08 / 1.36 / 0.86); [26] 2.87 / 0.95 / 0.56 (MMFF 3.49 / 0.98 / 0.58). Regular
+polygons: [14] 2.40, [18] 1.74, [22] 1.25, [26] 0.89 with scf. For the honeycomb [18]annulene the
+calibrated model gives an inner/outer shift difference of 13.2 ppm with the Johnson–Bovey double loop
+of :mod:`ringshift.fields` (scf-coulson 19.6 ppm), against 12.2 ppm observed at low temperature
+(Oth, Pure Appl. Chem. 1971, 25, 573, from memory), which was not used in the calibration. The
+agreement is sensitive: [18]annulene sits just above the alternation threshold, and calibrating on a
+chain BLA of 0.070 / 0.075 / 0.085 / 0.090 Å instead of 0.080 Å would give the honeycomb [18]annulene
+1.69 / 1.45 / 1.07 / 0.92 × (18.0 / 15.4 / 11.3 / 9.7 ppm); at 0.060 Å it does not alternate (2.21 ×).
 """
 
 from __future__ import annotations
@@ -55,7 +66,7 @@ __all__ = [
     "BETA_MODELS",
 ]
 
-BETA_MODELS = ("uniform", "distance", "scf")
+BETA_MODELS = ("uniform", "distance", "scf", "scf-coulson")
 _ELEMENTS = {5: "B", 6: "C", 7: "N", 8: "O", 9: "F", 16: "S", 17: "Cl", 35: "Br", 53: "I"}
 _PT = Chem.GetPeriodicTable()
 _OVERLAP_WARN = 0.7  # |cos| below this (misalignment above ~45°) is reported
@@ -107,7 +118,7 @@ class HuckelResult:
     over fragments; None if undefined; 0 for a partly filled shell); open_shell; degenerate_homo;
     degenerate_open_shell (a partly filled degenerate HOMO shell); mo_fragment (n,); charges (n,) q = Z − P_rr (e); bond_orders (n_bonds,) Coulson P_rs;
     resonance (n_bonds,) β_rs/β0 used; bond_lengths_A (n_bonds,) lengths entering β(r) (geometry, or
-    self-consistent C–C lengths for "scf"; None for "uniform"); beta_model; parameters (table and
+    self-consistent C–C lengths for "scf" / "scf-coulson"; None for "uniform"); beta_model; parameters (table and
     citations); converged (scf); warnings.
     """
 
@@ -461,11 +472,11 @@ def huckel(pi: PiSystem, mol, coords=None, *, beta_model: str = "distance",
     ----------
     pi : PiSystem from :func:`perceive_pi`
     mol : rdkit.Chem.Mol (the same molecule)
-    coords : (n_atoms, 3) array_like, Å; required for beta_model "distance" and "scf"
+    coords : (n_atoms, 3) array_like, Å; required for every beta_model except "uniform"
         Used for β(r) ("distance") and for the p-orbital alignment factor |cos ω| of every bond
         (β scaled by |cos| of the angle between the two p-orbital axes; the cosine law for twisted π
         bonds, common practice, no source).
-    beta_model : "uniform" | "distance" | "scf", keyword-only (see :mod:`ringshift.huckel`)
+    beta_model : "uniform" | "distance" | "scf" | "scf-coulson", keyword-only (see :mod:`ringshift.huckel`)
     distortion : float, optional, keyword-only
         Explicit bond alternation δ (|δ| < 1): β × (1 + δ) for the Kekulé double bonds, × (1 − δ)
         for the single bonds. Breaks the degeneracy of D_Nh 4n annulenes (Pople & Untch 1966).
@@ -489,11 +500,13 @@ def huckel(pi: PiSystem, mol, coords=None, *, beta_model: str = "distance",
         res = np.where(is_cc, hk.beta_distance_factor(lengths), k) * dist * ov
         used_len = lengths
     else:  # each fragment keeps its own electrons
+        r0, slope = hk.SCF_RELATIONS[beta_model][:2]
         r = np.zeros(len(lb))
         for f_idx, f_el in zip(frags, f_elec):
             sel = np.flatnonzero(np.isin(lb[:, 0], f_idx))
             loc = np.searchsorted(f_idx, lb[sel])
-            r[sel], ok, nit = hk.scf_cc_lengths(hd[f_idx], loc, k[sel], is_cc[sel], (ov * dist)[sel], dbl[sel], f_el)
+            r[sel], ok, nit = hk.scf_cc_lengths(hd[f_idx], loc, k[sel], is_cc[sel], (ov * dist)[sel], dbl[sel], f_el,
+                                                r0_A=r0, slope_A=slope)
             if not ok:
                 converged = False
                 notes.append(f"scf bond lengths: no stable closed-shell solution after {nit} iterations")
@@ -508,7 +521,9 @@ def huckel(pi: PiSystem, mol, coords=None, *, beta_model: str = "distance",
         notes.append(f"near-degenerate HOMO/LUMO (gap {gap:.3g} |β|): currents are large and geometry-sensitive")
     params = {"table": {t: hk.HETERO_PARAMETERS[t] for t in sorted(set(pi.atom_types))}, "beta_model": beta_model,
               "beta_r": "beta0*exp(-(r-1.397)/0.3106), Longuet-Higgins & Salem 1959 (from memory)",
-              "coulson": f"r = {hk.COULSON_R0_A} - {hk.COULSON_SLOPE_A} p (Coulson 1939, linearised; from memory)",
+              "bond_order_length": ({"relation": f"r = {hk.SCF_RELATIONS[beta_model][0]:.4f} - "
+                                     f"{hk.SCF_RELATIONS[beta_model][1]:.4f} p", "source": hk.SCF_RELATIONS[beta_model][2]}
+                                    if beta_model in hk.SCF_RELATIONS else None),
               "overlap": "|cos| of POAV-type p-orbital axes" if xyz is not None else "none (no coordinates)",
               "distortion": distortion}
     return HuckelResult(

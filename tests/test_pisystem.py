@@ -236,22 +236,65 @@ def test_textbook_huckel_values():
     assert h.homo_lumo_gap_beta == pytest.approx(2 * 0.618034, abs=1e-5)  # naphthalene HOMO/LUMO ±0.618
 
 
-def test_scf_bond_lengths_of_naphthalene_and_cyclooctatetraene():
-    # Self-consistent Coulson lengths against experiment: naphthalene (gas electron diffraction,
-    # C1–C2 1.371, C2–C3 1.412, C1–C9 1.422, C9–C10 1.420 Å; Ketkar & Fink, J. Mol. Struct. 1981, 77,
-    # 139, from memory) within 0.015 Å; cyclooctatetraene 1.340 / 1.476 Å (Traetteberg, Acta Chem.
-    # Scand. 1966, 20, 1724, from memory; tub-shaped, here planar) within 0.03 Å.
+@pytest.mark.parametrize("model", ["scf", "scf-coulson"], ids=["scf", "scf-coulson"])
+def test_scf_bond_lengths_of_naphthalene_and_cyclooctatetraene(model):
+    # Self-consistent lengths against experiment (neither is used to fix either relation): naphthalene
+    # (gas electron diffraction, C1–C2 1.371, C2–C3 1.412, C1–C9 1.422, C9–C10 1.420 Å; Ketkar & Fink,
+    # J. Mol. Struct. 1981, 77, 139, from memory) within 0.015 Å; cyclooctatetraene 1.340 / 1.476 Å
+    # (Traetteberg, Acta Chem. Scand. 1966, 20, 1724, from memory; tub-shaped, here planar) within 0.03 Å.
     m, xyz = _flat("c1ccc2ccccc2c1")
     pi = perceive_pi(m, xyz)
-    h = huckel(pi, m, xyz, beta_model="scf")
+    h = huckel(pi, m, xyz, beta_model=model)
     assert h.converged
     r = dict(zip(pi.bonds, h.bond_lengths_A))
     assert_allclose([r[(0, 1)], r[(0, 9)], r[(3, 8)], r[(2, 3)]], [1.412, 1.371, 1.420, 1.422], atol=0.015)
-    assert_allclose(h.bond_lengths_A, hk.COULSON_R0_A - hk.COULSON_SLOPE_A * h.bond_orders, atol=1e-8)
+    r0, slope = hk.SCF_RELATIONS[model][:2]
+    assert_allclose(h.bond_lengths_A, r0 - slope * h.bond_orders, atol=1e-8)  # the relation holds (identity)
     m, xyz = _ring(8)
-    h = huckel(perceive_pi(m, xyz), m, xyz, beta_model="scf")
+    h = huckel(perceive_pi(m, xyz), m, xyz, beta_model=model)
     assert not h.open_shell and h.converged
     assert_allclose([h.bond_lengths_A.min(), h.bond_lengths_A.max()], [1.340, 1.476], atol=0.03)
+
+
+def test_scf_keeps_benzene_d6h_and_ethylene_sensible():
+    # Benzene is D6h with 1.397 Å bonds (textbook; the calibrated line passes through it, and the equal-bond
+    # solution must also be the stable one, tolerance 1e-6 Å). Ethylene C=C 1.339 Å (electron diffraction;
+    # Bartell et al., J. Chem. Phys. 1965, 42, 2683, from memory) is not used by the calibrated "scf" line:
+    # within 0.01 Å (it gives 1.331 Å, close to the equilibrium r_e ≈ 1.331 Å).
+    m, xyz = _ring(6)
+    h = huckel(perceive_pi(m, xyz), m, xyz, beta_model="scf")
+    assert h.converged
+    assert_allclose(h.bond_lengths_A, np.full(6, 1.397), atol=1e-6)
+    m, xyz = _embed("C=C")
+    h = huckel(perceive_pi(m, xyz), m, xyz, beta_model="scf")
+    assert_allclose(h.bond_lengths_A, [1.339], atol=0.01)
+
+
+def test_infinite_polyene_alternation_and_its_calibration():
+    # The calibrated "scf" line reproduces trans-polyacetylene, 1.36 / 1.44 Å (nutation NMR; Yannoni &
+    # Clarke, Phys. Rev. Lett. 1983, 51, 1191, from memory): the BLA 0.08 Å is fitted (1e-9 Å), the two
+    # lengths themselves are a check (0.01 Å, the two decimals of the data). The Coulson line through
+    # ethylene and benzene under-alternates (measured 0.067 Å).
+    r1, r2, p1, p2 = hk.polyene_chain_lengths(hk.SCF_R0_A, hk.SCF_SLOPE_A)
+    assert r2 - r1 == pytest.approx(hk.POLYACETYLENE_BLA_A, abs=1e-9)
+    assert_allclose([r1, r2], [1.36, 1.44], atol=0.01)
+    assert hk.SCF_R0_A - hk.SCF_SLOPE_A * 2 / 3 == pytest.approx(hk.BETA_REF_LENGTH_A, abs=1e-12)
+    c1, c2 = hk.polyene_chain_lengths(hk.COULSON_R0_A, hk.COULSON_SLOPE_A)[:2]
+    assert 0.06 < c2 - c1 < 0.075
+    # Band integrals: with vanishing coupling the bond orders tend to the uniform chain's 2/π (textbook;
+    # tolerance 2e-3 for the residual alternation and the log-singular integrand).
+    assert_allclose(hk.polyene_chain_lengths(1.5, 1e-3)[2:], [2 / np.pi] * 2, atol=2e-3)
+
+
+def test_large_annulene_scf_alternation_approaches_the_chain_limit():
+    # Independent numerical route: full diagonalisation of [98]annulene (regular polygon, Anderson
+    # iteration with a stability check) against the band integrals of the infinite chain. The finite-ring
+    # correction at N = 98 (4n+2, gapped chain) is measured 1e-7 Å; tolerance 1e-5 Å.
+    m, xyz = _ring(98)
+    h = huckel(perceive_pi(m, xyz), m, xyz, beta_model="scf")
+    assert h.converged
+    r1, r2 = hk.polyene_chain_lengths(hk.SCF_R0_A, hk.SCF_SLOPE_A)[:2]
+    assert_allclose([h.bond_lengths_A.min(), h.bond_lengths_A.max()], [r1, r2], atol=1e-5)
 
 
 # ------------------------------------------------------------------------- Hückel–London currents
@@ -446,31 +489,43 @@ def test_benzene_current_from_beta():
 
 def test_annulene18_models_and_observed_shift_difference():
     # The [18]annulene over-estimate, measured on the honeycomb geometry (all bonds 1.397 Å, six inner H):
-    # uniform/distance 2.24 × benzene; the self-consistent Coulson lengths alternate (≈1.386/1.417 Å) and
-    # lower it. Observed low-temperature inner/outer difference 12.2 ppm (inner −2.99, outer 9.28 ppm;
-    # Oth, Pure Appl. Chem. 1971, 25, 573, from memory) is checked separately (xfail below).
+    # uniform/distance 2.24 × benzene; the self-consistent lengths alternate (Longuet-Higgins & Salem
+    # 1959) and lower it, the more so the stronger the coupling (calibrated scf: 1.374/1.433 Å; Coulson
+    # line: 1.386/1.417 Å).
     m, xyz, cyc, _, _ = _annulene18()
     pi = perceive_pi(m, xyz)
     j = {mod: london_currents(pi, m, xyz, [cyc], beta_model=mod).circuit_currents_rel[0]
-         for mod in ("uniform", "distance", "scf")}
+         for mod in ("uniform", "distance", "scf-coulson", "scf")}
     assert j["uniform"] == pytest.approx(j["distance"], rel=1e-12)
-    assert 1.0 < j["scf"] < j["distance"]
-    r = huckel(pi, m, xyz, beta_model="scf").bond_lengths_A
-    assert np.ptp(r) > 0.02  # self-consistent bond alternation appears (Longuet-Higgins & Salem 1959)
+    assert 1.0 < j["scf"] < j["scf-coulson"] < j["distance"]
+    bla = {mod: np.ptp(huckel(pi, m, xyz, beta_model=mod).bond_lengths_A) for mod in ("scf-coulson", "scf")}
+    assert 0.02 < bla["scf-coulson"] < bla["scf"]
 
 
-@pytest.mark.xfail(strict=True, reason="measured: the scf model gives 1.85 x benzene, an inner/outer "
-                   "difference of about 19.6 ppm against the observed 12.2 ppm; not tuned to [18]annulene")
-def test_annulene18_inner_outer_difference_within_25_percent():
-    # Observed (from memory): 9.28 − (−2.99) = 12.27 ppm (Oth, Pure Appl. Chem. 1971, 25, 573); the
-    # shielding per nA/T from ringshift.fields.polygon_shielding (Johnson–Bovey double loop).
+def _inner_outer_difference(beta_model):
     from ringshift.fields import polygon_shielding
     m, xyz, cyc, h_in, h_out = _annulene18()
     pi = perceive_pi(m, xyz)
-    j = london_currents(pi, m, xyz, [cyc], beta_model="scf").circuit_currents_nA_per_T[0]
+    j = london_currents(pi, m, xyz, [cyc], beta_model=beta_model).circuit_currents_nA_per_T[0]
     n = np.array([0.0, 0.0, 1.0])
-    diff = j * (polygon_shielding(xyz[h_in], xyz[cyc], n).mean() - polygon_shielding(xyz[h_out], xyz[cyc], n).mean())
-    assert diff == pytest.approx(12.27, rel=0.25)
+    return j * (polygon_shielding(xyz[h_in], xyz[cyc], n).mean() - polygon_shielding(xyz[h_out], xyz[cyc], n).mean())
+
+
+def test_annulene18_inner_outer_difference_within_25_percent():
+    # Independent check of the a priori "scf" currents: its one parameter was calibrated on the
+    # bond-length alternation of trans-polyacetylene (Yannoni & Clarke, PRL 1983, 51, 1191, from memory),
+    # never on annulene NMR. Observed low-temperature [18]annulene (from memory): 9.28 − (−2.99) = 12.27 ppm
+    # (Oth, Pure Appl. Chem. 1971, 25, 573); shielding per nA/T from ringshift.fields.polygon_shielding
+    # (Johnson–Bovey double loop). Measured 13.2 ppm; tolerance 25 %, the spread expected of a Hückel-level
+    # model (the result moves by ~2 ppm per 0.005 Å of the calibration BLA; ringshift.pisystem notes).
+    assert _inner_outer_difference("scf") == pytest.approx(12.27, rel=0.25)
+
+
+@pytest.mark.xfail(strict=True, reason="measured: the uncalibrated Coulson line (scf-coulson) gives 1.85 x benzene, "
+                   "an inner/outer difference of 19.6 ppm against the observed 12.27 ppm")
+def test_annulene18_inner_outer_difference_coulson_line():
+    # Same check for the earlier Coulson line (ethylene/benzene only; Oth 1971, from memory): known to fail.
+    assert _inner_outer_difference("scf-coulson") == pytest.approx(12.27, rel=0.25)
 
 
 def test_speed_100_pi_atoms():
