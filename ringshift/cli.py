@@ -50,7 +50,7 @@ model_options = [
                  default="polygon", show_default=True, help="Shielding model."),
     click.option("--currents", type=click.Choice(["huckel", "benzene"]), default="huckel", show_default=True,
                  help="A priori current of each circuit: Hueckel-London, or 12 nA/T on RDKit-aromatic rings."),
-    click.option("--beta", "beta_model", type=click.Choice(["scf", "distance", "uniform"]), default="scf",
+    click.option("--beta", "beta_model", type=click.Choice(["scf", "scf-coulson", "distance", "uniform"]), default="scf",
                  show_default=True,
                  help="Resonance integrals of the Hueckel step: self-consistent bond lengths, geometry, or uniform."),
     click.option("--scale", multiple=True, metavar="LABEL=FACTOR",
@@ -178,7 +178,7 @@ def _noise(value):
 @cli.command("pi")
 @click.argument("structure")
 @_apply(structure_options)
-@click.option("--beta", "beta_model", type=click.Choice(["scf", "distance", "uniform"]), default="scf",
+@click.option("--beta", "beta_model", type=click.Choice(["scf", "scf-coulson", "distance", "uniform"]), default="scf",
               show_default=True, help="Resonance integrals of the Hueckel step.")
 @click.option("--plot", type=click.Path(dir_okay=False), default=None,
               help="Write a diagram of the pi levels (PNG or SVG by extension).")

@@ -25,7 +25,7 @@ from ringshift.structure import Structure
 
 MODELS = ("polygon", "johnson-bovey", "haigh-mallion", "dipole", "network")
 CURRENT_SOURCES = ("huckel", "benzene")
-BETA_MODELS = ("scf", "distance", "uniform")
+BETA_MODELS = ("scf", "scf-coulson", "distance", "uniform")
 
 MODEL_DESCRIPTIONS = {
     "polygon": "exact polygon Biot-Savart double loop through the ring atoms (+/-0.64 A, half current each)",
