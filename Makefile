@@ -3,7 +3,7 @@ VENV    := .venv
 PY      := $(VENV)/bin/python
 STAMP   := $(VENV)/.installed-stamp
 
-.PHONY: demo test bench clean
+.PHONY: demo test bench browser clean
 
 $(STAMP): pyproject.toml
 	test -x $(PY) || python3 -m venv $(VENV)
@@ -19,6 +19,11 @@ test: $(STAMP)
 	@$(PY) -m pytest -q; rc=$$?; \
 	if [ $$rc -eq 5 ]; then echo "make test: pytest collected no tests - treating this as a failure" >&2; exit 1; fi; \
 	exit $$rc
+
+# Debian's chromium, used by the test that opens the HTML report headless (needs root and apt).
+browser:
+	@command -v chromium >/dev/null 2>&1 || { apt-get update -qq && DEBIAN_FRONTEND=noninteractive apt-get install -y -qq chromium >/dev/null; }
+	@chromium --version
 
 bench: $(STAMP)
 	$(PY) benchmarks/bench_fields.py
