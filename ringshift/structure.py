@@ -1,18 +1,14 @@
 """Structure input: SMILES, MOL/SDF or XYZ to an explicit-H molecule with a weighted conformer ensemble.
 
-Numbering. SMILES: heavy atoms get 0..n_heavy-1 in SMILES order; every hydrogen follows, explicit ``[H]``
-atoms of the SMILES (E/Z anchors) first in SMILES order, then the added H in the order of their parent
-atoms, so ``[H]/C1=C/...`` and ``C1=C...`` number their heavy atoms alike. MOL/SDF/XYZ: every atom keeps
-its file position (H included); H missing from a MOL/SDF file are appended.
-
-Stereo. A SMILES is sanitised without aromaticity perception: RDKit's aromatic form of [18]annulene drops
-its E/Z marks. The Kekulé molecule is embedded with its stereo; aromaticity is perceived only on the
-returned molecule, which keeps the bond stereo labels (design notes §6-7).
-
-Conformers (no 3D input). ETKDG v3 with macrocycle torsions (Wang, Witek, Landrum & Riniker, J. Chem.
-Inf. Model. 2020, 60, 2044), MMFF94 minimisation (Halgren, J. Comput. Chem. 1996, 17, 490) on a copy,
-rejection of conformers that contradict the E/Z input, an energy window, greedy heavy-atom RMSD pruning
-over graph automorphisms, Boltzmann weights. Generated conformers are sorted by energy.
+Numbering. SMILES: heavy atoms 0..n_heavy-1 in SMILES order, then all H (explicit ``[H]`` of the SMILES
+first, then added H by parent), so ``[H]/C1=C/...`` and ``C1=C...`` number heavy atoms alike. Files: every
+atom keeps its file position; H missing from a MOL/SDF file are appended.
+Stereo. A SMILES is sanitised without aromaticity perception (RDKit's aromatic [18]annulene loses its E/Z
+marks), embedded as a Kekulé molecule with its stereo, and aromatised afterwards; the returned molecule
+keeps the bond stereo labels (design notes §6-7).
+Conformers without 3D input: ETKDG v3 with macrocycle torsions (Wang, Witek, Landrum & Riniker, J. Chem.
+Inf. Model. 2020, 60, 2044), MMFF94 (Halgren, J. Comput. Chem. 1996, 17, 490), E/Z rejection, energy
+window, RMSD pruning over graph automorphisms, Boltzmann weights; sorted by energy.
 """
 
 from __future__ import annotations
@@ -48,10 +44,11 @@ ENERGY_PROPERTIES: tuple[tuple[str, float], ...] = (
     ("energy_kj_mol", _KCAL_PER_KJ), ("e_kj_mol", _KCAL_PER_KJ),
     ("energy_hartree", _KCAL_PER_HARTREE), ("e_hartree", _KCAL_PER_HARTREE), ("energy_eh", _KCAL_PER_HARTREE))
 
-#: Largest atomic displacement (Å) for an approximate symmetry operation in group_equivalent_hydrogens.
-#: MMFF94 breaks the symmetry of C5H5- or C7H7+ by < 0.1 Å; swapping diastereotopic or [18]annulene
-#: inner/outer protons needs moves of > 1 Å.
-H_SYMMETRY_TOLERANCE_A: float = 0.5
+#: Largest heavy-atom displacement (Å) of an approximate symmetry operation (group_equivalent_hydrogens).
+#: Measured on MMFF94 minima: C5H5- is off its D5h symmetry by 0.09 Å, bond-localised
+#: 1,6-methano[10]annulene off C2v by 0.28 Å; operations that would swap diastereotopic protons
+#: (butan-2-ol 0.67 Å, 4-chloro-2-methylpentane 0.96 Å) or D6h [18]annulene's inner/outer H (0.91 Å) move more.
+H_SYMMETRY_TOLERANCE_A: float = 0.4
 
 _MACROCYCLE_RING = 12            # design notes §7: 30 conformers miss [18]annulene's planar minimum
 _CONFORMERS_RIGID, _CONFORMERS_MACROCYCLE = 30, 200
@@ -64,25 +61,23 @@ class Structure:
 
     Attributes
     ----------
-    name : str
-        Display name: record name, file stem, or the SMILES.
-    source : str
-        What the user gave (path or SMILES).
+    name, source : str
+        Display name (record name, file stem or the SMILES) and what the user gave (path or SMILES).
     mol : rdkit.Chem.Mol
-        Explicit-H molecule, sanitised with RDKit aromaticity, bond stereo kept; carries the conformers
-        (ids 0..n_conf-1 in the order of ``coords``). Numbering: see the module docstring.
+        Explicit-H molecule, sanitised with RDKit aromaticity, bond stereo kept, carrying the conformers
+        (ids 0..n_conf-1 as in ``coords``). Numbering: see the module docstring.
     coords : numpy.ndarray, shape (n_conf, n_atoms, 3)
         Coordinates in Å, float64, C-contiguous, read-only.
     weights : numpy.ndarray, shape (n_conf,)
-        Conformer populations, summing to 1.
-    energies_kcal_mol : numpy.ndarray, shape (n_conf,), or None
+        Conformer populations summing to 1.
+    energies_kcal_mol : numpy.ndarray of shape (n_conf,), or None
         Energies relative to the lowest (MMFF94/UFF or an SD field), kcal/mol; None when unknown.
     charge : int
         Net formal charge.
     h_groups : tuple of tuple of int
-        Groups of equivalent 1H atom indices, each sorted, groups sorted by first index.
+        Groups of equivalent 1H indices, each sorted, groups sorted by first index.
     provenance : dict
-        How the coordinates were obtained: format, method, counts, seed, temperature, thresholds.
+        Format, coordinate method, counts, seed, temperature and thresholds.
     """
 
     name: str
@@ -203,14 +198,14 @@ def ez_stereo_check(mol_with_stereo: Chem.Mol, coords: np.ndarray) -> list[str]:
     Parameters
     ----------
     mol_with_stereo : rdkit.Chem.Mol
-        Molecule whose bonds carry E/Z (CIP) or cis/trans (reference-atom) stereo.
+        Molecule whose bonds carry E/Z (CIP) or cis/trans (reference atoms) stereo.
     coords : numpy.ndarray, shape (n_atoms, 3)
-        One conformer in Å.
+        One conformer, Å.
 
     Returns
     -------
     list of str
-        One message per contradicting bond (|dihedral| > 90 deg for cis, < 90 deg for trans); empty if fine.
+        One message per bond whose |dihedral| is > 90 deg for cis or < 90 deg for trans; empty if fine.
     """
     x = np.asarray(coords, dtype=np.float64)
     if x.shape != (mol_with_stereo.GetNumAtoms(), 3):
@@ -336,11 +331,11 @@ def group_equivalent_hydrogens(mol: Chem.Mol, coords: np.ndarray, *,
                                tol_A: float = H_SYMMETRY_TOLERANCE_A) -> tuple[tuple[int, ...], ...]:
     """Groups of NMR-equivalent protons: the graph symmetry that the 3D geometry realises.
 
-    Two 1H are equivalent when a graph automorphism maps one onto the other and a rotation or
-    reflection of the reference geometry realises it with every atom within ``tol_A`` (approximate
-    point-group symmetry). Fast motions are averaged first: H of a symmetric rotor (CH3, NH3+,
-    C(CH3)3, ...) form one site, O-H/S-H follow their atom, and a phenyl on an sp3 carbon may flip by
-    180 deg. Graph symmetry alone (``Chem.CanonicalRankAtoms(mol, breakTies=False)``) lumps
+    Two 1H are equivalent when an automorphism of the heavy-atom graph, realised by a rotation or
+    reflection of the reference geometry with every heavy atom within ``tol_A`` (approximate point-group
+    symmetry), carries one onto the other; each H follows its parent atom (the nearest image among the
+    H of the image atom, one-to-one). Fast motions are averaged first: H of a symmetric rotor (CH3,
+    NH3+, C(CH3)3, ...) form one site, O-H/S-H follow their atom, a phenyl on an sp3 carbon may flip. Graph symmetry alone (``Chem.CanonicalRankAtoms(mol, breakTies=False)``) lumps
     [18]annulene's inner and outer H and diastereotopic CH2 protons; no rotation or reflection of the
     geometry swaps those. Slower motions (ring inversion, the twist of [2.2]paracyclophane) are not
     averaged. Deuterium and tritium are not 1H and are left out.
@@ -410,7 +405,7 @@ def group_equivalent_hydrogens(mol: Chem.Mol, coords: np.ndarray, *,
                 d = np.linalg.norm((x[rigid] @ rot.T + t)[:, None] - x[cand], axis=2)
                 d[cand < 0] = np.inf
                 best = cand[np.arange(rigid.size), np.argmin(d, axis=1)]
-                if np.max(np.min(d, axis=1)) > tol_A or np.unique(best).size != best.size:
+                if np.unique(best).size != best.size:
                     continue
                 for h, g in zip(rigid, best):
                     union(h, g)
