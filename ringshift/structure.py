@@ -236,7 +236,8 @@ def _sanitize_kekule(mol: Chem.Mol, source: str) -> None:
             Chem.SanitizeMol(mol, _KEKULE_OPS)
             Chem.Kekulize(mol, clearAromaticFlags=True)
     except Exception as exc:            # RDKit raises several MolSanitizeException subclasses
-        raise InputError(f"RDKit cannot sanitise the molecule ({' '.join(str(exc).split())})", source=source) from None
+        raise InputError(f"RDKit cannot sanitise the molecule ({' '.join(str(exc).split())})",
+                         source=source) from None
 
 
 # --------------------------------------------------------------------------------------- hydrogens
@@ -298,11 +299,12 @@ def _rotor_sites(mol: Chem.Mol, rank: list[int]) -> tuple[np.ndarray, set, dict]
                     anchor[k] = y
     for at in mol.GetAtoms():
         nbs = list(at.GetNeighbors())
-        if at.GetAtomicNum() in (8, 16) and len(nbs) == 2 and sorted(n.GetAtomicNum() > 1 for n in nbs) == [False, True]:
+        if at.GetAtomicNum() in (8, 16) and sorted(n.GetAtomicNum() > 1 for n in nbs) == [False, True]:
             h = next(n.GetIdx() for n in nbs if n.GetAtomicNum() == 1)
             anchor[h] = at.GetIdx() if anchor[h] < 0 else anchor[h]
     tags = {at.GetIdx(): 1 + at.GetIsotope() + 200 * at.GetTotalNumHs(includeNeighbors=True)
-            + 1000 * sum(n.GetAtomicNum() for n in at.GetNeighbors() if n.GetIdx() in beyond) for at in mol.GetAtoms()}
+            + 1000 * sum(n.GetAtomicNum() for n in at.GetNeighbors() if n.GetIdx() in beyond)
+            for at in mol.GetAtoms()}
     return anchor, beyond, tags
 
 
@@ -335,10 +337,12 @@ def group_equivalent_hydrogens(mol: Chem.Mol, coords: np.ndarray, *,
     reflection of the reference geometry with every heavy atom within ``tol_A`` (approximate point-group
     symmetry), carries one onto the other; each H follows its parent atom (the nearest image among the
     H of the image atom, one-to-one). Fast motions are averaged first: H of a symmetric rotor (CH3,
-    NH3+, C(CH3)3, ...) form one site, O-H/S-H follow their atom, a phenyl on an sp3 carbon may flip. Graph symmetry alone (``Chem.CanonicalRankAtoms(mol, breakTies=False)``) lumps
-    [18]annulene's inner and outer H and diastereotopic CH2 protons; no rotation or reflection of the
-    geometry swaps those. Slower motions (ring inversion, the twist of [2.2]paracyclophane) are not
-    averaged. Deuterium and tritium are not 1H and are left out.
+    NH3+, C(CH3)3, ...) form one site, O-H/S-H follow their atom, a phenyl on an sp3 carbon may flip.
+    Graph symmetry alone (``Chem.CanonicalRankAtoms(mol, breakTies=False)``) lumps [18]annulene's inner
+    and outer H and diastereotopic CH2 protons; no rotation or reflection of the geometry swaps those.
+    Motions that leave a static minimum of lower symmetry are not averaged (ring inversion, the twist of
+    [2.2]paracyclophane, the tilt of meso-aryl groups in porphyrins): such groups come out split, as in
+    the static structure. Deuterium and tritium are not 1H and are left out.
 
     Parameters
     ----------
@@ -361,8 +365,8 @@ def group_equivalent_hydrogens(mol: Chem.Mol, coords: np.ndarray, *,
     hs = [at.GetIdx() for at in mol.GetAtoms() if at.GetAtomicNum() == 1 and at.GetIsotope() in (0, 1)]
     if not hs:
         return ()
-    rank = list(Chem.CanonicalRankAtoms(_graph(mol, range(n), {at.GetIdx(): at.GetIsotope() for at in mol.GetAtoms()}),
-                                        breakTies=False, includeChirality=False))
+    isotopes = {at.GetIdx(): at.GetIsotope() for at in mol.GetAtoms()}
+    rank = list(Chem.CanonicalRankAtoms(_graph(mol, range(n), isotopes), breakTies=False, includeChirality=False))
     anchor, beyond, tags = _rotor_sites(mol, rank)
     uf = list(range(n))
 
@@ -497,7 +501,8 @@ def _read_xyz(path: Path) -> tuple[list[str], np.ndarray]:
         head, frame = lines[k].split(), len(frames) + 1
         if len(head) != 1 or not head[0].isdigit() or int(head[0]) < 1:
             raise InputError(f"expected the atom count of frame {frame} (one positive integer), got "
-                             f"{lines[k].strip()[:40]!r}; is the previous frame's count right?", source=f"{path}:{k + 1}")
+                             f"{lines[k].strip()[:40]!r}; is the previous frame's count right?",
+                             source=f"{path}:{k + 1}")
         n = int(head[0])
         if k + 2 + n > len(lines):
             raise InputError(f"frame {frame} announces {n} atoms but the file ends after {len(lines) - k - 2} "
@@ -517,7 +522,8 @@ def _read_xyz(path: Path) -> tuple[list[str], np.ndarray]:
                 raise InputError("non-finite coordinate", source=where)
             syms.append(sym)
         if symbols is not None and syms != symbols:
-            raise InputError(f"frame {frame} does not list the atoms of frame 1 in the same order", source=f"{path}:{k + 1}")
+            raise InputError(f"frame {frame} does not list the atoms of frame 1 in the same order",
+                             source=f"{path}:{k + 1}")
         symbols = syms
         frames.append(xyz)
         k += 2 + n
@@ -588,21 +594,23 @@ def _mol_from_molfile(path: Path) -> tuple[Chem.Mol, np.ndarray | None, np.ndarr
 
     for k, rec in enumerate(records[1:], start=2):
         if signature(rec) != signature(first):
-            same = len({Chem.MolToSmiles(Chem.RemoveAllHs(m, sanitize=False), isomericSmiles=False) for m in (rec, first)}) == 1
-            raise InputError(f"record {k} {'lists the atoms of record 1 in another order' if same else 'is another molecule'}"
-                             f"; an ensemble needs one molecule in one atom order (load different molecules one "
-                             f"at a time, e.g. with the batch command)", source=str(path))
+            smiles = {Chem.MolToSmiles(Chem.RemoveAllHs(m, sanitize=False), isomericSmiles=False) for m in (rec, first)}
+            what = "lists the atoms of record 1 in another order" if len(smiles) == 1 else "is another molecule"
+            raise InputError(f"record {k} {what}; an ensemble needs one molecule in one atom order (load "
+                             f"different molecules one at a time, e.g. with the batch command)", source=str(path))
     name = first.GetProp("_Name").strip() if first.HasProp("_Name") and first.GetProp("_Name").strip() else path.stem
-    if kinds == {False}:
+    if kinds == {False}:                     # 2D or no coordinates: embed the first record
         mol = Chem.AddHs(first)
         mol.RemoveAllConformers()
-        return mol, None, None, name, {"records": len(records), "hydrogens_added": mol.GetNumAtoms() - first.GetNumAtoms()}
+        return mol, None, None, name, {"records": len(records),
+                                       "hydrogens_added": mol.GetNumAtoms() - first.GetNumAtoms()}
     with_h = [Chem.AddHs(rec, addCoords=True) for rec in records]
     energies, prop = _record_energies(records, str(path))
     mol = Chem.Mol(with_h[0])
     mol.RemoveAllConformers()
-    return (mol, np.stack([m.GetConformer().GetPositions() for m in with_h]), energies, name,
-            {"records": len(records), "hydrogens_added": mol.GetNumAtoms() - first.GetNumAtoms(), "energy_property": prop})
+    info = {"records": len(records), "hydrogens_added": mol.GetNumAtoms() - first.GetNumAtoms(),
+            "energy_property": prop}
+    return mol, np.stack([m.GetConformer().GetPositions() for m in with_h]), energies, name, info
 
 
 # --------------------------------------------------------------------------------------- conformers
@@ -667,7 +675,8 @@ def _generate(mol: Chem.Mol, n: int, seed: int, window: float, rmsd_A: float, so
     ok = [c for c in range(coords.shape[0]) if not _ez_problems(refs, coords[c])]
     if not ok:
         raise InputError(f"embedded geometry contradicts the E/Z stereo: {_ez_problems(refs, coords[0])[0]} (all "
-                         f"{coords.shape[0]} conformers); check the stereo marks or supply 3D coordinates", source=source)
+                         f"{coords.shape[0]} conformers); check the stereo marks or supply 3D coordinates",
+                         source=source)
     n_ez = len(ok)
     if energies is not None:
         e_min = energies[ok].min()
@@ -696,16 +705,18 @@ def _detect_format(spec: str, fmt: str | None) -> str:
     except OSError:
         is_file = False
     if is_file:
-        raise InputError(f"unknown file format {suffix!r}; expected .mol, .sdf, .sd or .xyz (or pass fmt)", source=spec)
+        raise InputError(f"unknown file format {suffix!r}; expected .mol, .sdf, .sd or .xyz (or pass fmt)",
+                         source=spec)
     return "smiles"
 
 
 def _check_options(charge, conformers, temperature_K, energy_window_kcal_mol, rmsd_prune_A) -> None:
-    for label, value, low in (("temperature_K", temperature_K, None), ("energy_window_kcal_mol", energy_window_kcal_mol, 0),
-                              ("rmsd_prune_A", rmsd_prune_A, 0)):
+    for label, value, low in (("temperature_K", temperature_K, None), ("rmsd_prune_A", rmsd_prune_A, 0),
+                              ("energy_window_kcal_mol", energy_window_kcal_mol, 0)):
         if isinstance(value, bool) or not isinstance(value, (int, float)) or not math.isfinite(value) \
                 or (value <= 0 if low is None else value < low):
-            raise InputError(f"expected a finite number {'> 0' if low is None else '>= 0'}, got {value!r}", source=label)
+            raise InputError(f"expected a finite number {'> 0' if low is None else '>= 0'}, got {value!r}",
+                             source=label)
     for label, value, low in (("conformers", conformers, 1), ("charge", charge, None)):
         if value is not None and (isinstance(value, bool) or not isinstance(value, (int, np.integer))
                                   or (low is not None and value < low)):
@@ -765,7 +776,8 @@ def load_structure(spec: str, *, charge: int | None = None, conformers: int | No
         raise InputError(f"charge={charge} contradicts the net formal charge {net} of the input", source=spec)
     if coords is None:
         n = conformers if conformers is not None else default_conformer_count(base)
-        coords, energies, info = _generate(base, int(n), seed, float(energy_window_kcal_mol), float(rmsd_prune_A), spec)
+        coords, energies, info = _generate(base, int(n), seed, float(energy_window_kcal_mol),
+                                           float(rmsd_prune_A), spec)
         prov.update(info, seed=int(seed), rmsd_prune_A=float(rmsd_prune_A),
                     energy_window_kcal_mol=float(energy_window_kcal_mol))
     else:
