@@ -328,7 +328,9 @@ def predict(structure: Structure, *, model: str = "polygon", currents: str = "hu
     h_idx = [a.GetIdx() for a in mol.GetAtoms() if a.GetAtomicNum() == 1]
     with warnings.catch_warnings(record=True) as caught:
         warnings.simplefilter("always", GeometryWarning)
-        g = geometric_factors(coords, h_idx, loops, geoms, model, separation_A=separation_A)
+        # per-circuit factors; the network model's total is replaced below, its breakdown uses the face loops
+        g = geometric_factors(coords, h_idx, loops, geoms, "polygon" if model == "network" else model,
+                              separation_A=separation_A)
     for wr in caught:
         notes.append(str(wr.message))
     per = g * cur[:, :, None]                      # (n_conf, n_loops, n_h)
