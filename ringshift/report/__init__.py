@@ -1,0 +1,22 @@
+"""Figures and the HTML report of ringshift results.
+
+Public entry points (import the submodules directly; they load matplotlib and RDKit drawing code):
+
+* :mod:`ringshift.report.figures`: ``spectrum_figure``, ``contributions_figure``, ``levels_figure``,
+  ``save_levels_figure``, ``save_figure``, ``figure_bytes``;
+* :mod:`ringshift.report.maps`: ``shielding_map_figure``, ``normal_scan_figure`` and the arrays behind
+  them (``shielding_map``, ``normal_scan``);
+* :mod:`ringshift.report.sdf`: ``structure_figure`` (RDKit 2D drawing), ``structure_sdf``, ``write_sdf``;
+* :mod:`ringshift.report.html`: ``write_report``.
+"""
+
+from __future__ import annotations
+
+__all__ = ["write_report"]
+
+
+def write_report(out_dir, prediction, *, compare_result=None, pi_summary=None, force: bool = False) -> dict:
+    """Write a report folder; see :func:`ringshift.report.html.write_report`."""
+    from ringshift.report.html import write_report as _write
+
+    return _write(out_dir, prediction, compare_result=compare_result, pi_summary=pi_summary, force=force)
