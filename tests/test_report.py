@@ -1,0 +1,604 @@
+"""Tests of ringshift.report: figures, shielding maps, the SDF and the HTML report.
+
+Peak lists and spectra here are invented (naphthalene-like shifts, a synthetic Lorentzian trace).
+Figure checks inspect the matplotlib objects (axes, limits, texts, contour sets); numerical checks
+of the maps compare with the Biot–Savart law evaluated independently in this file.
+"""
+
+from __future__ import annotations
+
+import json
+import math
+import re
+import shutil
+import subprocess
+import tempfile
+from html.parser import HTMLParser
+from pathlib import Path
+
+import numpy as np
+import pytest
+from hypothesis import given, settings
+from hypothesis import strategies as st
+from matplotlib.contour import ContourSet
+from matplotlib.figure import Figure
+from numpy.testing import assert_allclose
+from rdkit import Chem
+from scipy import stats
+
+from ringshift.analysis import comparison_to_dict, run_compare
+from ringshift.constants import JB_SEPARATION_A, MU0_PPM_A_PER_NA_T
+from ringshift.errors import InputError, OutputError
+from ringshift.output import CAUTION, prediction_to_dict
+from ringshift.peaks import Peak, PeakList, read_peaks, simulate_spectrum
+from ringshift.pisummary import pi_summary
+from ringshift.predict import predict
+from ringshift.report import figures as F
+from ringshift.report import html as H
+from ringshift.report import maps as M
+from ringshift.report import sdf as S
+from ringshift.report import write_report
+from ringshift.structure import load_structure
+
+R_CC = 1.39   # regular-hexagon circumradius used for the exact benzene geometry, Å
+R_CH = 2.47   # C–H 1.08 Å outward
+
+
+# ------------------------------------------------------------------------------------------ fixtures
+@pytest.fixture(scope="module")
+def tmp_module():
+    d = Path(tempfile.mkdtemp(prefix="ringshift_report_test_"))
+    yield d
+    shutil.rmtree(d, ignore_errors=True)
+
+
+@pytest.fixture(scope="module")
+def hexagon(tmp_module):
+    """Benzene as an exact regular hexagon in the xy plane, J = 12 nA/T set outright."""
+    ang = np.arange(6) * np.pi / 3
+    lines = ["12", "regular hexagon benzene (constructed)"]
+    lines += [f"C {R_CC * math.cos(a):.10f} {R_CC * math.sin(a):.10f} 0.0" for a in ang]
+    lines += [f"H {R_CH * math.cos(a):.10f} {R_CH * math.sin(a):.10f} 0.0" for a in ang]
+    path = tmp_module / "hexagon.xyz"
+    path.write_text("\n".join(lines) + "\n")
+    return predict(load_structure(str(path), charge=0), set_current={"R1": 12.0})
+
+
+@pytest.fixture(scope="module")
+def naphthalene():
+    return predict(load_structure("c1ccc2ccccc2c1"))
+
+
+@pytest.fixture(scope="module")
+def comparison(naphthalene, tmp_module):
+    # invented peak list: two aromatic multiplets, CDCl3, TMS and one unexplained peak
+    path = tmp_module / "invented_naphthalene.csv"
+    path.write_text("shift_ppm,integral\n7.84,4\n7.47,4\n7.26,0.4\n5.30,1\n0.00,0.5\n")
+    pl = read_peaks(str(path), n_hydrogens=len(naphthalene.protons), solvent="CDCl3")
+    return run_compare(naphthalene, pl, claim="aromatic")
+
+
+@pytest.fixture(scope="module")
+def hexane():
+    return predict(load_structure("CCCCCC", conformers=3))
+
+
+@pytest.fixture(scope="module")
+def report(comparison, tmp_module):
+    out = tmp_module / "report_naphthalene"
+    paths = write_report(out, comparison.prediction, compare_result=comparison)
+    return out, paths
+
+
+# ------------------------------------------------------------------------------------------ helpers
+def texts(fig: Figure) -> list[str]:
+    return [t.get_text() for ax in fig.axes for t in ax.texts]
+
+
+def ccw_field_n(points, verts, normal, n_sub=400):
+    """Independent midpoint-rule Biot–Savart: (1/I)(4π/μ0) B·n of a counter-clockwise (about n) loop, Å⁻¹.
+
+    B = (μ0 I / 4π) ∮ dl × (r − r') / |r − r'|³ (Biot–Savart law, any electromagnetism textbook).
+    """
+    n = normal / np.linalg.norm(normal)
+    v = np.asarray(verts, float)
+    # orient counter-clockwise about n
+    area = 0.5 * sum(np.cross(v[k], v[(k + 1) % len(v)]) for k in range(len(v)))
+    if np.dot(area, n) < 0:
+        v = v[::-1]
+    t = (np.arange(n_sub) + 0.5) / n_sub
+    a, b = v, np.roll(v, -1, axis=0)
+    mid = (a[:, None, :] + t[None, :, None] * (b - a)[:, None, :]).reshape(-1, 3)
+    dl = np.repeat((b - a) / n_sub, n_sub, axis=0)
+    d = points[:, None, :] - mid[None]
+    cr = np.cross(dl[None], d)
+    return np.einsum("pqk,k->p", cr / np.linalg.norm(d, axis=2)[..., None] ** 3, n)
+
+
+def double_loop_shift(points, verts, normal, J, h=JB_SEPARATION_A):
+    """Δδ_rc (ppm) of a diatropic J split over loops at ±h (Johnson & Bovey, J. Chem. Phys. 1958, 29, 1012).
+
+    Diatropic = clockwise about n, so b·n = −ccw; σ_iso = −(1/3) J (b·n) (μ0/4π); Δδ = −σ.
+    """
+    n = normal / np.linalg.norm(normal)
+    g = 0.5 * (ccw_field_n(points, verts + h * n, n) + ccw_field_n(points, verts - h * n, n))
+    sigma = (1 / 3) * J * g * MU0_PPM_A_PER_NA_T / (4 * np.pi)
+    return -sigma
+
+
+def polygon_axis_field(z, R, nsides):
+    """(4π/μ0 I) B_z on the axis of a regular n-gon of circumradius R (Biot–Savart, textbook result):
+    n R² sin(2π/n) / ((z² + R² cos²(π/n)) √(z² + R²)); reduces to 2π/R at z = 0 for n → ∞."""
+    return nsides * R**2 * np.sin(2 * np.pi / nsides) / ((z**2 + (R * np.cos(np.pi / nsides)) ** 2) *
+                                                          np.sqrt(z**2 + R**2))
+
+
+# -------------------------------------------------------------------------------------- spectrum
+def test_spectrum_figure_with_comparison(comparison):
+    fig = F.spectrum_figure(comparison)
+    assert len(fig.axes) == 1
+    ax = fig.axes[0]
+    lo, hi = ax.get_xlim()
+    assert lo > hi  # ppm decreases to the right (NMR convention; common practice, no source)
+    t = texts(fig)
+    comp = comparison.comparison
+    for ga in comp.assignment:
+        assert ga.label in t
+        # each fitted position is joined to its assigned peak by a segment (fitted → observed)
+        joins = [ln for ln in ax.lines if len(ln.get_xdata()) == 2 and
+                 np.allclose(ln.get_xdata(), [ga.predicted_ppm, ga.observed_ppm])]
+        assert joins, ga.label
+    assert any(s.endswith("unassigned") and s.startswith("5.30") for s in t)
+    assert "solvent 7.26" in t and "TMS 0.00" in t
+    legend = [x.get_text() for x in fig.legends[0].get_texts()]
+    assert any("unassigned" in x for x in legend)
+
+
+def test_spectrum_figure_draws_observed_trace(naphthalene):
+    # invented trace: two Lorentzians, the taller (4 H, 1 Hz) at 7.84 ppm
+    peaks = [Peak(7.84, 4.0), Peak(7.47, 2.0)]
+    spec = simulate_spectrum(peaks, observe_mhz=400.0, linewidth_hz=1.0, points=16384, sw_ppm=(-1, 11),
+                             noise=1e-3, seed=3)
+    pl = PeakList(tuple(peaks), "invented.jdx", spectrum=spec, observe_mhz=400.0)
+    fig = F.spectrum_figure(naphthalene, pl)
+    trace = fig.axes[0].lines[0]
+    x, y = np.asarray(trace.get_xdata()), np.asarray(trace.get_ydata())
+    assert_allclose(y.max(), 1.0)  # normalised to the tallest point in view
+    # the apex sits at the tallest line's shift within one sampling step (12 ppm / 16383 points)
+    assert abs(x[np.argmax(y)] - 7.84) <= 12 / 16383 + 1e-9
+    assert fig.axes[0].get_xlim()[0] > fig.axes[0].get_xlim()[1]
+
+
+def test_spectrum_figure_prediction_only_sticks(naphthalene):
+    fig = F.spectrum_figure(naphthalene)
+    ax = fig.axes[0]
+    assert ax.get_xlim()[0] > ax.get_xlim()[1]
+    assert [g.label for g in naphthalene.groups] == [s for s in texts(fig) if s.startswith("H")]
+    assert [t.get_text() for t in ax.get_yticklabels()] == ["predicted"]
+
+
+@settings(max_examples=60, deadline=None)
+@given(st.lists(st.floats(-20, 20), min_size=1, max_size=15), st.floats(0.05, 2.0))
+def test_spread_positions_keeps_gap_and_order(xs, gap):
+    out = F.spread_positions(xs, gap)
+    order = np.argsort(xs, kind="stable")
+    s = out[order]
+    assert np.all(np.diff(s) >= gap - 1e-9)  # common practice, no source: labels at least one gap apart
+    # clusters are spread about their mean: the mean position is unchanged
+    assert_allclose(out.mean(), np.mean(xs), atol=1e-9)
+
+
+# --------------------------------------------------------------------------------- contributions
+def test_contributions_figure_with_fit(comparison):
+    fig = F.contributions_figure(comparison)
+    assert len(fig.axes) == 2
+    for ax in fig.axes:
+        lo, hi = ax.get_xlim()
+        assert lo > hi
+    comp = comparison.comparison
+    labels = [t.get_text() for t in fig.axes[0].get_yticklabels()]
+    assert labels == [f"{ga.label} ({ga.n_h} H)" for ga in comp.assignment]
+    # right axes: fitted bars carry the fitted Δδ_rc; error bars are ±1.96 sd, the 95 % two-sided
+    # normal quantile (checked against SciPy)
+    fitted = [p for p in fig.axes[1].patches if p.get_facecolor()[:3] != (1.0, 1.0, 1.0)]
+    assert_allclose(sorted(p.get_width() for p in fitted), sorted(ga.ring_current_ppm for ga in comp.assignment),
+                    rtol=1e-12)
+    rows = F.contribution_rows(comparison)
+    z = stats.norm.ppf(0.975)
+    assert_allclose([r["interval_ppm"] for r in rows], [z * ga.ring_current_sd_ppm for ga in comp.assignment],
+                    rtol=2e-3)  # 1.96 vs 1.95996: rounding of the quantile
+    # the build-up adds up: base + ring current = the comparer's predicted shift
+    assert_allclose([r["base_ppm"] + r["ring_current_ppm"] for r in rows], [ga.predicted_ppm for ga in comp.assignment],
+                    atol=1e-9)
+
+
+def test_contributions_figure_prediction_only(naphthalene):
+    fig = F.contributions_figure(naphthalene)
+    assert len(fig.axes) == 2
+    bars = fig.axes[1].patches
+    assert_allclose(sorted(p.get_width() for p in bars), sorted(g.ring_current_ppm for g in naphthalene.groups))
+    assert fig.axes[1].get_title(loc="left") == "Ring-current part"
+
+
+def test_contributions_figure_no_hydrogens():
+    pred = predict(load_structure("ClC1=C(Cl)C(Cl)=C(Cl)C(Cl)=C1Cl"))
+    with pytest.raises(InputError, match="no hydrogens"):
+        F.contributions_figure(pred)
+
+
+# ---------------------------------------------------------------------------------------- levels
+def test_levels_figure_benzene_textbook():
+    summary = pi_summary(load_structure("c1ccccc1"), beta_model="uniform")
+    # Hückel benzene: x = −2, −1, −1, +1, +1, +2 (α ± 2β, α ± β; any Hückel textbook, from memory)
+    assert_allclose(summary["levels"]["energies_beta"], [-2, -1, -1, 1, 1, 2], atol=1e-4)
+    fig = F.levels_figure(summary)
+    ax = fig.axes[0]
+    levels = [ln for ln in ax.lines if len(ln.get_ydata()) == 2 and ln.get_ydata()[0] == ln.get_ydata()[1]
+              and ln.get_linewidth() == 1.6]
+    assert len(levels) == 6
+    at_minus1 = sorted(np.mean(ln.get_xdata()) for ln in levels if abs(ln.get_ydata()[0] + 1) < 1e-3)
+    assert len(at_minus1) == 2 and at_minus1[1] - at_minus1[0] > 0.5  # degenerate pair side by side
+    t = [x for x in ax.texts]
+    arrows = [x for x in t if x.get_text() in ("\u2191", "\u2193")]
+    assert len(arrows) == 6  # six π electrons
+    homo = [x for x in t if x.get_text() == "HOMO"]
+    lumo = [x for x in t if x.get_text() == "LUMO"]
+    assert len(homo) == 1 and abs(homo[0].get_position()[1] + 1) < 1e-3
+    assert len(lumo) == 1 and abs(lumo[0].get_position()[1] - 1) < 1e-3
+
+
+def test_save_levels_figure_atomic(tmp_path):
+    summary = pi_summary(load_structure("c1ccccc1"), beta_model="uniform")
+    p = F.save_levels_figure(summary, tmp_path / "levels.png")
+    assert p.read_bytes()[:8] == b"\x89PNG\r\n\x1a\n"  # PNG signature (PNG specification)
+    with pytest.raises(OutputError, match="already exists"):
+        F.save_levels_figure(summary, tmp_path / "levels.png")
+    F.save_levels_figure(summary, tmp_path / "levels.png", force=True)
+    assert [x.name for x in tmp_path.iterdir()] == ["levels.png"]  # no temporary left behind
+    with pytest.raises(InputError, match="no pi levels"):
+        F.levels_figure({"levels": None})
+
+
+@pytest.mark.parametrize("ext, head", [(".png", b"\x89PNG"), (".svg", b"<?xml"), (".pdf", b"%PDF")],
+                         ids=["png", "svg", "pdf"])
+def test_save_figure_formats(tmp_path, naphthalene, ext, head):
+    fig = F.contributions_figure(naphthalene)
+    p = F.save_figure(fig, tmp_path / f"c{ext}")
+    data = p.read_bytes()
+    assert data.startswith(head)  # file signatures (PNG, SVG/XML, PDF specifications)
+    if ext == ".svg":
+        assert b"<text" in data  # svg.fonttype 'none' keeps text as text
+
+
+def test_save_figure_bad_extension(tmp_path, naphthalene):
+    with pytest.raises(InputError, match=r"\.png, \.svg or \.pdf"):
+        F.save_figure(F.contributions_figure(naphthalene), tmp_path / "c.jpg")
+
+
+# ------------------------------------------------------------------------------------------- maps
+def test_normal_scan_matches_polygon_axis_formula(hexagon):
+    sc = M.normal_scan(hexagon, z_max_A=4.0, n_points=41)
+    h = JB_SEPARATION_A
+    g = 0.5 * (polygon_axis_field(sc.z_A - h, R_CC, 6) + polygon_axis_field(sc.z_A + h, R_CC, 6))
+    expect = -(1 / 3) * 12.0 * g * MU0_PPM_A_PER_NA_T / (4 * np.pi)
+    # exact geometry, exact formula: agreement to rounding of the XYZ coordinates (1e-10 Å)
+    assert_allclose(sc.shift_ppm, expect, rtol=1e-7)
+    # upfield everywhere above a diatropic ring, weakening with height (textbook ring-current picture)
+    assert np.all(sc.shift_ppm < 0) and np.all(np.diff(sc.shift_ppm[5:]) > 0)
+
+
+def test_normal_scan_figure(hexagon):
+    fig = M.normal_scan_figure(hexagon)
+    ax = fig.axes[0]
+    assert len(fig.axes) == 1
+    assert ax.get_xlim() == (0.0, 4.0)
+    iso = ax.lines[1]
+    assert_allclose(ax.lines[2].get_ydata(), 3 * np.asarray(iso.get_ydata()))  # zz = 3 × iso for a planar loop
+    assert any("at 1 Å" in t for t in texts(fig))
+
+
+@pytest.mark.parametrize("plane, height", [("ring", 0.0), ("ring", 1.0), ("perpendicular", 0.0)],
+                         ids=["ring-plane", "ring+1A", "perpendicular"])
+def test_shielding_map_matches_biot_savart(hexagon, plane, height):
+    m = M.shielding_map(hexagon, plane=plane, height_A=height, extent_A=4.0, grid=41)
+    fr = m.frame
+    rng = np.random.default_rng(7)
+    ii = rng.integers(0, 41, size=(40, 2))
+    second = fr.v if plane == "ring" else fr.n
+    pts = np.array([fr.centre + m.axis_A[i] * fr.u + m.axis_A[j] * second + (height * fr.n if plane == "ring" else 0)
+                    for j, i in ii])
+    got = m.shift_ppm[ii[:, 0], ii[:, 1]]
+    verts = np.array([[R_CC * math.cos(a), R_CC * math.sin(a), 0.0] for a in np.arange(6) * np.pi / 3])
+    ok = np.isfinite(got)
+    expect = double_loop_shift(pts[ok], verts, np.array([0, 0, 1.0]), 12.0)
+    # midpoint rule with 400 steps per edge, points ≥ 0.3 Å from wires: relative error < 1e-4
+    assert_allclose(got[ok], expect, rtol=1e-4, atol=1e-6)
+    if plane == "ring":
+        assert_allclose(abs(fr.n[2]), 1.0)
+
+
+def test_shielding_map_masks_near_wires(hexagon):
+    # the plane through the upper loop (z = +0.64 Å) contains a wire: points within 0.3 Å are blank
+    m = M.shielding_map(hexagon, plane="ring", height_A=JB_SEPARATION_A, extent_A=3.0, grid=61)
+    fr = m.frame
+    a, b = np.meshgrid(m.axis_A, m.axis_A)
+    p2 = np.stack([a.ravel(), b.ravel()], axis=1)
+    verts3 = np.array([[R_CC * math.cos(t), R_CC * math.sin(t), 0.0] for t in np.arange(6) * np.pi / 3])
+    v2 = np.column_stack([(verts3 - fr.centre) @ fr.u, (verts3 - fr.centre) @ fr.v])
+    d = np.full(len(p2), np.inf)
+    for k in range(6):  # plane point-to-segment distance (elementary geometry)
+        s, e = v2[k], v2[(k + 1) % 6]
+        t = np.clip(((p2 - s) @ (e - s)) / ((e - s) @ (e - s)), 0, 1)
+        d = np.minimum(d, np.linalg.norm(p2 - (s + t[:, None] * (e - s)), axis=1))
+    nan = ~np.isfinite(m.shift_ppm.ravel())
+    clear = np.abs(d - M.WIRE_MASK_A) > 1e-6
+    assert np.array_equal(nan[clear], (d < M.WIRE_MASK_A)[clear])
+    assert nan.sum() > 0
+
+
+def test_shielding_map_figure_structure(hexagon):
+    fig = M.shielding_map_figure(hexagon, plane="both", extent_A=5.0, grid=61)
+    assert len(fig.axes) == 3  # ring plane, perpendicular plane, colour bar
+    maps = [M.shielding_map(hexagon, plane=p, extent_A=5.0, grid=61) for p in ("ring", "perpendicular")]
+    values = np.concatenate([x.shift_ppm.ravel() for x in maps])
+    top = np.nanpercentile(np.abs(values), 99)
+    for ax in fig.axes[:2]:
+        sets = [c for c in ax.collections if isinstance(c, ContourSet)]
+        assert len(sets) == 2  # filled bands + labelled lines
+        lv = np.asarray(sets[1].levels)
+        # symmetric 1-2-5 ladder with a zero contour (common practice, no source)
+        assert_allclose(lv, -lv[::-1])
+        assert 0.0 in lv
+        mags = lv[lv > 0]
+        assert all(any(math.isclose(x, d * 10.0**k) for d in (1, 2, 5) for k in range(-1, 3)) for x in mags)
+        assert mags.max() <= top and len(mags) <= 6
+        labels = [t.get_text().replace("\u2212", "-") for t in ax.texts]
+        assert labels and all(float(s) in set(lv) for s in labels)
+        assert ax.get_aspect() == 1.0
+    assert fig.axes[0].get_xlabel() == "in-plane axis u (Å)"
+    assert fig.axes[1].get_ylabel() == "along the ring normal n (Å)"
+
+
+def test_map_of_molecule_without_rings(hexane):
+    with pytest.raises(InputError, match="no conjugated ring"):
+        M.shielding_map_figure(hexane)
+    with pytest.raises(InputError, match="no conjugated ring"):
+        M.normal_scan_figure(hexane)
+
+
+def test_map_bad_arguments(hexagon):
+    with pytest.raises(InputError, match="no circuit labelled 'X9'"):
+        M.shielding_map(hexagon, circuit="X9")
+    with pytest.raises(InputError, match="plane="):
+        M.shielding_map_figure(hexagon, plane="sideways")
+    with pytest.raises(InputError, match="grid="):
+        M.shielding_map(hexagon, grid=5)
+
+
+def test_map_uses_fitted_currents(comparison):
+    loops, origin = M.loops_of(comparison)
+    assert origin == "fitted"
+    assert_allclose([lp.current_nA_per_T for lp in loops], [cf.current_nA_per_T for cf in comparison.comparison.circuits])
+
+
+# ------------------------------------------------------------------------------------ structure/SDF
+def test_structure_figure_notes_are_ascii(naphthalene):
+    svg = S.structure_figure(naphthalene)
+    assert svg.lstrip().startswith("<?xml") and "<svg" in svg
+    assert svg.isascii()
+    png = S.structure_figure(naphthalene, fmt="png")
+    assert png[:4] == b"\x89PNG"
+    with pytest.raises(InputError, match="fmt="):
+        S.structure_figure(naphthalene, fmt="gif")
+
+
+def test_sdf_round_trips_through_rdkit(report, comparison):
+    out, paths = report
+    mol = S.read_sdf(paths["sdf"])  # RDKit SD reader parses atom.dprop lists back into atom properties
+    results = json.loads(paths["results"].read_text())
+    pred = results["prediction"]
+    assert mol.GetNumAtoms() == pred["n_atoms"]
+    assert sum(a.GetAtomicNum() == 1 for a in mol.GetAtoms()) == pred["n_hydrogens"]
+    s = comparison.prediction.structure
+    assert_allclose(mol.GetConformer().GetPositions(), s.coords[S.best_conformer(s)], atol=1e-4)  # 4 decimals
+    for p in pred["protons"]:
+        atom = mol.GetAtomWithIdx(p["index"])
+        assert atom.GetDoubleProp("ring_current_ppm") == p["ring_current_ppm"]
+        assert atom.GetDoubleProp("predicted_ppm") == p["predicted_ppm"]
+    for ga in results["assignment"]:
+        for h in ga["atoms"]:
+            atom = mol.GetAtomWithIdx(h)
+            assert atom.GetProp("group") == ga["label"]
+            assert atom.GetDoubleProp("fitted_ring_current_ppm") == ga["ring_current_ppm"]
+            if ga["observed_ppm"] is not None:
+                assert atom.GetDoubleProp("observed_ppm") == ga["observed_ppm"]
+    assert not mol.GetAtomWithIdx(0).HasProp("ring_current_ppm")  # a carbon has none
+    for c in results["circuits"]:
+        assert mol.GetDoubleProp(f"ringshift_fitted_current_{c['label']}_nA_per_T") == c["current_nA_per_T"]
+    assert Chem.MolToSmiles(Chem.RemoveHs(mol)) == Chem.MolToSmiles(Chem.MolFromSmiles("c1ccc2ccccc2c1"))
+
+
+# -------------------------------------------------------------------------------------------- HTML
+class Cells(HTMLParser):
+    """Collects table cells (with their data-src/data-path) and a few tag facts."""
+
+    def __init__(self):
+        super().__init__()
+        self.cells, self.tags, self.attrs_seen = [], [], []
+        self._cur = None
+        self.tables = 0
+
+    def handle_starttag(self, tag, attrs):
+        a = dict(attrs)
+        self.tags.append(tag)
+        self.attrs_seen.extend(attrs)
+        if tag == "table":
+            self.tables += 1
+        if tag in ("td", "th"):
+            self._cur = [tag, a, ""]
+
+    def handle_data(self, data):
+        if self._cur is not None:
+            self._cur[2] += data
+
+    def handle_endtag(self, tag):
+        if tag in ("td", "th") and self._cur is not None:
+            self.cells.append(tuple(self._cur))
+            self._cur = None
+
+
+_NUM = re.compile(r"^[+-]?\d+(\.\d+)?$")
+
+
+def flat(v):
+    if isinstance(v, list):
+        return [x for y in v for x in flat(y)]
+    return [v]
+
+
+def check_cell(text: str, value):
+    """Displayed text against the JSON value: numbers within half a unit of the last shown digit."""
+    if value is None:
+        assert text == "–"
+        return
+    if isinstance(value, bool):
+        assert text == ("yes" if value else "no")
+        return
+    if isinstance(value, list):
+        vals = flat(value)
+        toks = text.split() if vals else ["–"]
+        assert len(toks) == max(len(vals), 1), (text, value)
+        for t, v in zip(toks, vals):
+            check_cell(t, v)
+        return
+    if isinstance(value, (int, float)):
+        assert _NUM.match(text), text
+        dec = len(text.split(".")[1]) if "." in text else 0
+        assert abs(float(text) - value) <= 0.5 * 10.0**-dec + 1e-12, (text, value)
+        return
+    assert text == str(value)
+
+
+def test_report_tables_equal_json(report):
+    out, paths = report
+    page = paths["html"].read_text(encoding="utf-8")
+    roots = {"results": json.loads(paths["results"].read_text()), "pi": json.loads(paths["pi"].read_text())}
+    parser = Cells()
+    parser.feed(page)
+    checked = 0
+    for tag, attrs, text in parser.cells:
+        text = text.strip()
+        if "data-path" in attrs:
+            check_cell(text, H.resolve_pointer(roots[attrs["data-src"]], attrs["data-path"]))
+            checked += 1
+        elif tag == "td":
+            # a number in a data cell must name its JSON source
+            assert not _NUM.match(text) and not all(_NUM.match(t) for t in text.split() or ["x"]), text
+    assert checked > 150
+    assert parser.tables >= 8
+    # the fitted current, verdict and caution are visible
+    fit = roots["results"]["circuits"][0]["current_nA_per_T"]
+    assert f"{fit:+.2f}" in page
+    assert "The spectrum says: " + roots["results"]["verdict"] in page
+    assert CAUTION in page
+
+
+def test_results_json_is_comparison_dict(report, comparison):
+    out, paths = report
+    expect = json.loads(json.dumps(comparison_to_dict(comparison)))
+    assert json.loads(paths["results"].read_text()) == expect
+
+
+def test_report_is_self_contained(report):
+    out, paths = report
+    page = paths["html"].read_text(encoding="utf-8")
+    parser = Cells()
+    parser.feed(page)
+    assert "script" not in parser.tags and "link" not in parser.tags and "img" not in parser.tags
+    for name, value in parser.attrs_seen:
+        if name in ("href", "xlink:href"):
+            # only internal anchors, or images embedded as data URIs (the rasterised map bands)
+            assert value.startswith("#") or value.startswith("data:image/png;base64,"), value[:60]
+        assert name != "src"
+    assert "@import" not in page and not re.search(r"url\((?!#)", page)
+    # figures inline: structure + spectrum, contributions, two maps, scan, levels
+    assert parser.tags.count("svg") == 7
+    ids = re.findall(r'\bid=["\']([^"\']+)["\']', page)
+    assert len(ids) == len(set(ids))  # ids stay unique across inlined SVGs
+    for key in ("spectrum", "contributions", "map", "map_1A", "normal_scan", "levels"):
+        for ext in ("svg", "png"):
+            p = paths[f"{key}_{ext}"]
+            assert p.is_file() and p.stat().st_size > 1000
+    assert paths["structure_png"].read_bytes()[:4] == b"\x89PNG"
+
+
+def test_report_refuses_existing_folder(report, comparison, tmp_path):
+    out, _ = report
+    with pytest.raises(OutputError, match="already exists; use --force"):
+        write_report(out, comparison.prediction, compare_result=comparison)
+    target = tmp_path / "rep"
+    write_report(target, comparison.prediction)
+    (target / "stale.txt").write_text("old")
+    paths = write_report(target, comparison.prediction, force=True)
+    assert not (target / "stale.txt").exists() and paths["html"].is_file()
+    assert sorted(p.name for p in tmp_path.iterdir()) == ["rep"]  # no temporary or old folders left
+
+
+@pytest.mark.parametrize("where", ["file-parent", "missing-parent", "proc"], ids=["file-parent", "missing", "proc"])
+def test_report_unwritable_path(naphthalene, tmp_path, where):
+    if where == "file-parent":
+        (tmp_path / "plain").write_text("x")
+        target = tmp_path / "plain" / "rep"
+    elif where == "missing-parent":
+        target = tmp_path / "no" / "such" / "rep"
+    else:
+        target = Path("/proc/ringshift-report-test")
+    with pytest.raises(OutputError) as err:
+        write_report(target, naphthalene)
+    msg = str(err.value)
+    assert "\n" not in msg and str(target) in msg
+
+
+def test_report_failure_leaves_nothing(naphthalene, tmp_path, monkeypatch):
+    def boom(*a, **k):
+        raise RuntimeError("simulated failure")
+
+    monkeypatch.setattr(S, "structure_sdf", boom)
+    with pytest.raises(RuntimeError, match="simulated"):
+        write_report(tmp_path / "rep", naphthalene)
+    assert list(tmp_path.iterdir()) == []
+
+
+def test_report_without_rings(hexane, tmp_path):
+    paths = write_report(tmp_path / "rep", hexane)
+    results = json.loads(paths["results"].read_text())
+    assert results == json.loads(json.dumps(prediction_to_dict(hexane)))
+    assert results["circuits"] == []
+    page = paths["html"].read_text(encoding="utf-8")
+    assert "not drawn (no conjugated ring" in page
+    assert "map_svg" not in paths and "spectrum_svg" in paths
+    mol = S.read_sdf(paths["sdf"])
+    assert mol.GetNumAtoms() == 20
+
+
+def test_report_rejects_foreign_comparison(comparison):
+    other = predict(load_structure("c1ccc2ccccc2c1"))
+    with pytest.raises(InputError, match="different prediction"):
+        write_report(Path(tempfile.gettempdir()) / "never-written", other, compare_result=comparison)
+
+
+@pytest.mark.skipif(not Path("/usr/bin/chromium").exists(), reason="headless Chromium not installed at /usr/bin/chromium")
+def test_report_renders_in_headless_chromium(report, tmp_path):
+    import matplotlib.image as mpimg
+
+    out, paths = report
+    shot = tmp_path / "shot.png"
+    cmd = ["/usr/bin/chromium", "--headless", "--no-sandbox", "--disable-gpu", "--disable-quic", "--no-first-run",
+           "--disable-background-networking", "--disable-component-update", "--disable-sync",
+           f"--user-data-dir={tmp_path / 'profile'}", f"--screenshot={shot}", "--window-size=1200,2000",
+           paths["html"].resolve().as_uri()]
+    subprocess.run(cmd, capture_output=True, timeout=90, check=False)
+    assert shot.is_file(), "Chromium wrote no screenshot"
+    img = mpimg.imread(str(shot))
+    # a blank page has std 0; text, tables and figures give a clearly non-zero spread (common practice, no source)
+    assert img[..., :3].std() > 0.05
