@@ -451,8 +451,9 @@ def levels_figure(summary: dict, *, degeneracy_tol: float = 0.05) -> Figure:
     Returns
     -------
     matplotlib.figure.Figure
-        One axes; y is x = (E − α)/|β|. Each electron is an arrow (a fractional occupation is a hollow
-        arrow with its number).
+        One axes; y is x = (E − α)/|β|. Each electron is an arrow glyph (a fractional occupation is a
+        grey arrow with its number); the top occupied level is tagged HOMO (SOMO when singly
+        occupied), the lowest level above it with room LUMO.
     """
     lv = summary.get("levels") if isinstance(summary, dict) else None
     if not lv or not lv.get("energies_beta"):
@@ -487,7 +488,8 @@ def levels_figure(summary: dict, *, degeneracy_tol: float = 0.05) -> Figure:
                     sx = x + (0.13 if n_full else -0.13)
                     ax.text(sx, e[k], "\u2191", ha="center", va="center", fontsize=10, color=PRIOR)
                     ax.text(sx + 0.09, e[k], f"{occ[k]:.2f}", fontsize=6.5, color=INK, va="bottom")
-            tags = [t for k, t in ((homo, "HOMO"), (lumo, "LUMO")) if k in c]
+            somo = homo is not None and occ[homo] < 2 - 1e-6  # half-filled top level: singly occupied
+            tags = [t for k, t in ((homo, "SOMO" if somo else "HOMO"), (lumo, "LUMO")) if k in c]
             if tags:
                 ax.text(xs[-1] + 0.48, e[c[0]], "/".join(tags), va="center", ha="left", fontsize=7.5, color=INK)
         ax.set_xlim(-0.5 * widest - 0.6, 0.5 * widest + 1.2)
