@@ -199,6 +199,73 @@ def pi_cmd(structure, charge, conformers, seed, temperature, beta_model, plot, f
     click.echo(out.to_json(summary) if fmt == "json" else pi_text(summary), nl=False)
 
 
+@cli.command("report")
+@click.argument("structure")
+@click.argument("peaks", required=False, type=click.Path(dir_okay=False))
+@_apply(structure_options)
+@_apply(model_options)
+@click.option("--solvent", default=None, help="Deuterated solvent whose residual peak is flagged (e.g. CDCl3).")
+@click.option("--claim", type=click.Choice(["aromatic", "antiaromatic", "nonaromatic"]), default=None)
+@click.option("--noise", default=None, metavar="PPM|auto", help="Model error of a predicted shift (ppm) or 'auto'.")
+@click.option("-o", "--output", "out_dir", type=click.Path(file_okay=False), required=True,
+              help="New folder for the report (HTML, figures, JSON, SDF).")
+@click.option("--force", is_flag=True, help="Replace an existing report folder.")
+@click.option("--quiet", is_flag=True, help="No progress messages.")
+def report_cmd(structure, peaks, charge, conformers, seed, temperature, model, currents, beta_model, scale,
+               set_current, circuit, solvent, claim, noise, out_dir, force, quiet):
+    """Write a self-contained HTML report (with figures, JSON and SDF) for STRUCTURE [and PEAKS]."""
+    from ringshift import analysis
+    from ringshift.peaks import read_peaks
+    from ringshift.pisummary import pi_summary
+    from ringshift.report import write_report
+
+    say = (lambda m: None) if quiet else (lambda m: click.echo(f"... {m}", err=True))
+    say("structure, pi system and ring currents")
+    pred = _run_predict(structure, charge, conformers, seed, temperature, model, currents, beta_model, scale,
+                        set_current, circuit)
+    res = None
+    if peaks:
+        say("assignment and fit")
+        pl = read_peaks(peaks, n_hydrogens=len(pred.protons), solvent=solvent)
+        res = analysis.run_compare(pred, pl, claim=claim, noise_ppm=_noise(noise), seed=seed)
+    say("figures and report")
+    paths = write_report(out_dir, pred, compare_result=res,
+                         pi_summary=pi_summary(pred.structure, beta_model=beta_model, prediction=pred), force=force)
+    click.echo(f"report: {paths['html']}")
+
+
+@cli.command("map")
+@click.argument("structure")
+@_apply(structure_options)
+@_apply(model_options)
+@click.option("-o", "--output", required=True, type=click.Path(dir_okay=False),
+              help="Figure file (.png, .svg or .pdf).")
+@click.option("--plane", type=click.Choice(["ring", "perpendicular", "both", "scan"]), default="both",
+              show_default=True, help="Mean ring plane, the perpendicular plane, both, or a scan along the normal.")
+@click.option("--height", type=float, default=0.0, show_default=True, help="Offset of the ring plane (A).")
+@click.option("--extent", type=click.FloatRange(1.0, 50.0), default=6.0, show_default=True,
+              help="Half-width of the map (A).")
+@click.option("--grid", type=click.IntRange(11, 601), default=121, show_default=True, help="Points per side.")
+@click.option("--for-circuit", "for_circuit", default=None, metavar="LABEL",
+              help="Centre and orient the map on this circuit [default: the largest].")
+@click.option("--force", is_flag=True, help="Overwrite an existing file.")
+def map_cmd(structure, charge, conformers, seed, temperature, model, currents, beta_model, scale, set_current,
+            circuit, output, plane, height, extent, grid, for_circuit, force):
+    """Shielding map (isotropic ring-current shift, ppm) of STRUCTURE's loops."""
+    from ringshift.report.figures import save_figure
+    from ringshift.report.maps import normal_scan_figure, shielding_map_figure
+
+    pred = _run_predict(structure, charge, conformers, seed, temperature, model, currents, beta_model, scale,
+                        set_current, circuit)
+    if plane == "scan":
+        fig = normal_scan_figure(pred, circuit=for_circuit)
+    else:
+        fig = shielding_map_figure(pred, circuit=for_circuit, plane=plane, height_A=height, extent_A=extent,
+                                   grid=grid)
+    save_figure(fig, output, force=force)
+    click.echo(f"wrote {output}", err=True)
+
+
 @cli.command("demo")
 @click.option("-o", "--output", "out_dir", type=click.Path(file_okay=False), default="ringshift_demo_output",
               show_default=True, help="Folder for the demo reports.")
