@@ -1,0 +1,902 @@
+"""Trajectories and conformer ensembles: streamed frames, weighted shifts, fast exchange.
+
+Reading. :func:`iter_xyz_frames` and :func:`iter_sdf_records` read a multi-frame XYZ or multi-record SD
+file one frame at a time (never the whole file); :func:`predict_trajectory` packs the frames into numpy
+blocks of ``chunk`` frames sized to a memory budget and evaluates the shielding kernels over each block.
+Every frame must list the atoms of the first frame in the same order, else :class:`InputError` naming
+the frame. Rule for damaged files: an XYZ frame cut short by the end of the file (fewer atom lines than
+announced, or a last line without x y z) and an SD record that RDKit cannot parse are skipped with a
+:class:`TrajectoryWarning` naming the frame/record number, and the remaining frames are used (an SD
+record ends at its ``$$$$`` line, so the next record is safe to read). Anything malformed before the
+last XYZ frame is an error: the frame boundaries after it cannot be trusted. ``strict=True`` makes the
+skipped cases errors too.
+
+Energies. XYZ comment lines: ``energy=-123.4``, ``E: -123.4``, ``energy_hartree=-0.5``, or a bare number,
+optionally followed by a unit word (``kcal/mol``, ``kj/mol``, ``hartree``/``Eh``/``au``, ``ev``); without
+a unit the reader's ``energy_unit`` applies (default kcal/mol; xtb and ORCA trajectories write Hartree
+without saying so, ASE's extended XYZ writes eV: pass ``energy_unit``). SD records: the fields of
+:data:`ringshift.structure.ENERGY_PROPERTIES`. Energies become Boltzmann weights
+p_k ∝ exp(−E_k / RT) (CODATA R via SciPy).
+
+Averaging. Per proton, the frame-weighted mean of Δδ_rc and its weighted standard deviation
+sqrt(Σ w (x − x̄)² / Σ w), merged block by block with the pairwise update of Chan, Golub & LeVeque
+(Am. Stat. 1983, 37, 242), with the log-weights re-referenced to the largest so far so that Boltzmann
+factors never overflow. Fast exchange (Gutowsky & Holm, J. Chem. Phys. 1956, 25, 1228: in the fast
+limit the observed shift is the population-weighted mean of the sites) replaces each proton's shift by
+the mean over its exchange group in every frame.
+"""
+
+from __future__ import annotations
+
+import dataclasses
+import itertools
+import math
+import re
+import tempfile
+import time
+import warnings
+from dataclasses import dataclass, field
+from pathlib import Path
+from typing import Iterable, Iterator, Mapping, Sequence
+
+import numpy as np
+from rdkit import Chem, rdBase
+
+from ringshift import fields, pisystem, shifts
+from ringshift.constants import JB_SEPARATION_A, KB_KCAL_PER_MOL_K, MU0_PPM_A_PER_NA_T, WIRE_CUTOFF_A
+from ringshift.errors import GeometryWarning, InputError, RingshiftWarning
+from ringshift.predict import MODELS, Prediction, geometric_factors, network_totals, predict
+from ringshift.rings import MISALIGNMENT_LIMIT_DEG, PLANARITY_LIMIT_A, circuit_geometry
+from ringshift.structure import ENERGY_PROPERTIES, Structure, load_structure
+
+__all__ = ["TrajectoryWarning", "Frame", "FrameStream", "iter_xyz_frames", "iter_sdf_records", "parse_energy",
+           "polygon_shielding_frames", "exchange_groups", "CircuitStats", "TrajectoryPrediction",
+           "predict_trajectory", "predict_trajectory_file", "trajectory_to_dict", "ENERGY_UNITS",
+           "TRAJECTORY_CURRENTS"]
+
+_HARTREE_KCAL = 627.509474      # CODATA 2018 Hartree energy × N_A / 4184 (checked against SciPy in tests)
+#: Energy unit words (lower case) and their factor to kcal/mol.
+ENERGY_UNITS: dict[str, float] = {"kcal/mol": 1.0, "kcal": 1.0, "kj/mol": 1.0 / 4.184, "kj": 1.0 / 4.184,
+                                  "hartree": _HARTREE_KCAL, "eh": _HARTREE_KCAL, "au": _HARTREE_KCAL,
+                                  "ev": 23.0605478}   # eV: CODATA 2018 e × N_A / 4184
+#: Sources of the currents of a trajectory (see :func:`predict_trajectory`).
+TRAJECTORY_CURRENTS = ("huckel", "huckel-per-frame", "benzene")
+_NUM = r"[-+]?(?:\d+\.?\d*|\.\d+)(?:[eEdD][-+]?\d+)?"
+_UNIT = r"(kcal/mol|kcal|kj/mol|kj|hartree|eh|au|ev)\b"
+_KEYED = re.compile(rf"\b(?:energy|e(?=(?:_\w+)?\s*[=:]|\s+[-+.\d]))(?:_(kcal_mol|kj_mol|hartree|eh|ev))?\s*[=:]?\s*({_NUM})\s*(?:{_UNIT})?",
+                    re.IGNORECASE)
+_BARE = re.compile(rf"^\s*({_NUM})\s*(?:{_UNIT})?\s*$", re.IGNORECASE)
+_SUFFIX_UNIT = {"kcal_mol": "kcal/mol", "kj_mol": "kj/mol", "hartree": "hartree", "eh": "eh", "ev": "ev"}
+_PT = Chem.GetPeriodicTable()
+_MU0_4PI = MU0_PPM_A_PER_NA_T / (4.0 * np.pi)
+_PAIRS_PER_BLOCK = 1 << 16       # frame × vertex × proton triples per kernel block (cache-sized)
+_MAX_CHUNK_FRAMES = 4096
+
+
+class TrajectoryWarning(RingshiftWarning):
+    """A trajectory frame or record was skipped (truncated, unreadable), or weights look odd."""
+
+
+@dataclass(frozen=True)
+class Frame:
+    """One frame: 1-based ``number`` in its file, ``coords`` (n_atoms, 3) Å, energy in kcal/mol or None."""
+
+    number: int
+    coords: np.ndarray
+    energy_kcal_mol: float | None = None
+
+
+def parse_energy(comment: str, default_unit: str = "kcal/mol") -> float | None:
+    """Energy (kcal/mol) in an XYZ comment line, or None. Formats: module docstring."""
+    m = _BARE.match(comment) or _KEYED.search(comment)
+    if m is None:
+        return None
+    groups = m.groups()
+    if m.re is _BARE:
+        number, unit = groups[0], groups[1]
+    else:
+        number, unit = groups[1], groups[2] or (_SUFFIX_UNIT.get(groups[0].lower()) if groups[0] else None)
+    value = float(number.replace("d", "e").replace("D", "e"))
+    return value * ENERGY_UNITS[(unit or default_unit).lower()]
+
+
+class FrameStream:
+    """Iterator over the frames of one file; ``skipped`` lists (number, reason) of skipped frames and
+    ``n_seen`` counts every frame met so far (used or skipped). Made by :func:`iter_xyz_frames` /
+    :func:`iter_sdf_records`; iterate once."""
+
+    def __init__(self, path: Path, kind: str, gen_factory, first_text_fn, strict: bool):
+        self.path, self.kind, self.strict = path, kind, strict
+        self.skipped: list[tuple[int, str]] = []
+        self.n_seen = 0
+        self._gen = gen_factory(self)
+        self._first_text = first_text_fn
+
+    def __iter__(self) -> Iterator[Frame]:
+        return self
+
+    def __next__(self) -> Frame:
+        return next(self._gen)
+
+    def _skip(self, number: int, reason: str, where: str) -> None:
+        if self.strict:
+            raise InputError(reason, source=where)
+        self.skipped.append((number, reason))
+        warnings.warn(TrajectoryWarning(f"{where}: {reason}; skipped, the other frames are used"), stacklevel=3)
+
+    def template(self, *, charge: int | None = None) -> Structure:
+        """The first frame as a one-conformer :class:`Structure` (bonds perceived by
+        :func:`ringshift.structure.load_structure`), named after the file."""
+        text = self._first_text()
+        suffix = ".xyz" if self.kind == "xyz" else ".sdf"
+        with tempfile.TemporaryDirectory() as tmp:
+            p = Path(tmp) / f"{self.path.stem}{suffix}"
+            p.write_text(text, encoding="utf-8")
+            s = load_structure(str(p), charge=charge)
+        if s.provenance.get("hydrogens_added"):
+            raise InputError("the first record lacks explicit hydrogens; trajectory records must carry every "
+                             "atom (write them with all H)", source=str(self.path))
+        return dataclasses.replace(s, source=str(self.path), provenance=dict(s.provenance, trajectory=str(self.path)))
+
+
+def _open(path) -> Path:
+    path = Path(path)
+    if not path.is_file():
+        raise InputError("file not found", source=str(path))
+    return path
+
+
+def iter_xyz_frames(path, *, energy_unit: str = "kcal/mol", strict: bool = False) -> FrameStream:
+    """Stream the frames of a (multi-frame) XYZ file.
+
+    Parameters
+    ----------
+    path : str or os.PathLike
+    energy_unit : str
+        Unit of comment-line energies that name none (:data:`ENERGY_UNITS`).
+    strict : bool
+        Raise instead of skipping a truncated final frame.
+
+    Returns
+    -------
+    FrameStream
+        Yields :class:`Frame` with coords (n_atoms, 3) float64 Å; damaged-file rule in the module notes.
+    """
+    path = _open(path)
+    if str(energy_unit).lower() not in ENERGY_UNITS:
+        raise InputError(f"unknown energy unit {energy_unit!r}; expected one of {', '.join(ENERGY_UNITS)}",
+                         source="energy_unit")
+
+    def first_text():
+        with path.open(encoding="utf-8") as fh:
+            head = fh.readline()
+            return head + "".join(itertools.islice(fh, int(head.split()[0]) + 1))
+
+    def gen(stream: FrameStream):
+        ref_tokens = ref_symbols = None
+        line_no = 0
+        with path.open(encoding="utf-8") as fh:
+            while head := fh.readline():
+                line_no += 1
+                if not head.strip():
+                    continue
+                number, start = stream.n_seen + 1, line_no
+                stream.n_seen = number
+                parts = head.split()
+                if len(parts) != 1 or not parts[0].isdigit() or int(parts[0]) < 1:
+                    raise InputError(f"expected the atom count of frame {number} (one positive integer), got "
+                                     f"{head.strip()[:40]!r}", source=f"{path}:{line_no}")
+                n = int(parts[0])
+                if ref_symbols is not None and n != len(ref_symbols):
+                    raise InputError(f"frame {number} has {n} atoms, frame 1 has {len(ref_symbols)}; every frame "
+                                     f"needs the same atoms in the same order", source=f"{path}:{line_no}")
+                comment = fh.readline()
+                lines = [ln for ln in (fh.readline() for _ in range(n)) if ln]
+                line_no += 1 + len(lines)
+                rows = [ln.split() for ln in lines]
+                if not comment or len(lines) < n or (len(rows[-1]) < 4 and _at_eof(fh)):
+                    stream._skip(number, f"frame {number} is truncated (announces {n} atoms, the file ends after "
+                                 f"{len(lines) - (1 if rows and len(rows[-1]) < 4 else 0)} complete atom lines)", f"{path}:{start}")
+                    return
+                tokens = [r[0] for r in rows]
+                try:
+                    xyz = np.array([r[1:4] for r in rows], dtype=np.float64)
+                    if xyz.shape != (n, 3):
+                        raise ValueError
+                except ValueError:
+                    bad = next(k for k, r in enumerate(rows) if len(r) < 4 or not _floats(r[1:4]))
+                    raise InputError(f"expected 'element x y z' (atom {bad + 1} of {n}, frame {number}), got "
+                                     f"{lines[bad].strip()[:40]!r}", source=f"{path}:{start + 2 + bad}") from None
+                if not np.all(np.isfinite(xyz)):
+                    raise InputError(f"non-finite coordinate in frame {number}", source=f"{path}:{start}")
+                if ref_tokens is None:
+                    ref_tokens, ref_symbols = tokens, [_symbol(t, f"{path}:{start + 2 + k}") for k, t in enumerate(tokens)]
+                elif tokens != ref_tokens and [_symbol(t, str(path)) for t in tokens] != ref_symbols:
+                    k = next(k for k, (a, b) in enumerate(zip(tokens, ref_tokens)) if _symbol(a, str(path)) != _symbol(b, str(path)))
+                    raise InputError(f"frame {number} does not list the atoms of frame 1 in the same order (atom "
+                                     f"{k + 1} is {tokens[k]}, frame 1 has {ref_tokens[k]})", source=f"{path}:{start + 2 + k}")
+                yield Frame(number, xyz, parse_energy(comment.strip(), energy_unit))
+
+    return FrameStream(path, "xyz", gen, first_text, strict)
+
+
+def _at_eof(fh) -> bool:
+    pos = fh.tell()
+    if fh.readline() == "":
+        return True
+    fh.seek(pos)
+    return False
+
+
+def _floats(items) -> bool:
+    try:
+        [float(v) for v in items]
+        return True
+    except ValueError:
+        return False
+
+
+def _symbol(token: str, where: str) -> str:
+    if token.isdigit():
+        z = int(token)
+        if 1 <= z <= 118:
+            return _PT.GetElementSymbol(z)
+    sym = token.capitalize()
+    try:
+        if _PT.GetAtomicNumber(sym) > 0:
+            return sym
+    except RuntimeError:
+        pass
+    raise InputError(f"unknown element {token!r}", source=where)
+
+
+def _sd_records(path: Path) -> Iterator[tuple[int, int, str, bool]]:
+    """(record number, first line, text, complete) of each SD record, read line by line."""
+    with path.open(encoding="utf-8") as fh:
+        buf, start, number, line_no = [], 1, 0, 0
+        for line in fh:
+            line_no += 1
+            if line.rstrip("\r\n").strip() == "$$$$":
+                number += 1
+                yield number, start, "".join(buf), True
+                buf, start = [], line_no + 1
+            else:
+                buf.append(line)
+        if "".join(buf).strip():
+            yield number + 1, start, "".join(buf), False
+
+
+def _sd_energy(mol: Chem.Mol) -> float | None:
+    names = {p.lower(): p for p in mol.GetPropNames()}
+    for key, factor in ENERGY_PROPERTIES:
+        if key in names:
+            try:
+                value = float(mol.GetProp(names[key])) * factor
+            except ValueError:
+                return None
+            return value if math.isfinite(value) else None
+    return None
+
+
+def iter_sdf_records(path, *, strict: bool = False) -> FrameStream:
+    """Stream the records of a multi-record SD file as frames.
+
+    Records must carry every atom (hydrogens included) in the order of record 1. A record RDKit cannot
+    parse (or a final record without ``$$$$`` that does not parse) is skipped with a
+    :class:`TrajectoryWarning` (an error with ``strict``). Energies from the SD fields of
+    :data:`ringshift.structure.ENERGY_PROPERTIES`, converted to kcal/mol.
+
+    Returns
+    -------
+    FrameStream
+        Yields :class:`Frame` with coords (n_atoms, 3) float64 Å.
+    """
+    path = _open(path)
+
+    def first_text():
+        for _, _, text, _ in _sd_records(path):
+            return text + "$$$$\n"
+        raise InputError("no SD record found", source=str(path))
+
+    def gen(stream: FrameStream):
+        ref = None
+        for number, start, text, complete in _sd_records(path):
+            stream.n_seen = number
+            where = f"{path}:{start}"
+            with rdBase.BlockLogs():
+                mol = Chem.MolFromMolBlock(text, sanitize=False, removeHs=False, strictParsing=True)
+            if mol is None or mol.GetNumAtoms() == 0 or mol.GetNumConformers() == 0:
+                stream._skip(number, f"record {number} is not a readable MOL block"
+                             + ("" if complete else " (the file ends inside it)"), where)
+                continue
+            for prop in re.finditer(r"^>\s*.*?<([^>]+)>.*\n(.*)$", text.split("M  END", 1)[-1], re.MULTILINE):
+                mol.SetProp(prop.group(1), prop.group(2).strip())
+            elems = [a.GetAtomicNum() for a in mol.GetAtoms()]
+            if ref is None:
+                ref = elems
+            elif elems != ref:
+                what = (f"has {len(elems)} atoms, record 1 has {len(ref)}" if len(elems) != len(ref) else
+                        "does not list the atoms of record 1 in the same order")
+                raise InputError(f"record {number} {what}; every record needs the same atoms in the same order",
+                                 source=where)
+            xyz = np.ascontiguousarray(mol.GetConformer().GetPositions(), dtype=np.float64)
+            if not np.all(np.isfinite(xyz)):
+                raise InputError(f"non-finite coordinate in record {number}", source=where)
+            yield Frame(number, xyz, _sd_energy(mol))
+
+    return FrameStream(path, "sdf", gen, first_text, strict)
+
+
+# ----------------------------------------------------------------------------------------------------
+# Frame-batched polygon kernel
+# ----------------------------------------------------------------------------------------------------
+def _loop_frames(P, V, n):
+    """g·n (Å⁻¹) of unit current along the vertex order of each frame's polygon, and a near-wire flag.
+
+    P (F, k, 3) points and V (F, m, 3) vertices relative to each frame's ring centroid, n (F, 3) unit.
+    Same closed form as :func:`ringshift.fields.segment_field`: with a = P_a − r, b = P_b − r,
+    s = |a| + |b|, g·u = 2 T s / (|a||b| (s² − L²)), T = u·(P_a × P_b) + r·(u × (P_b − P_a)).
+    """
+    Vc = np.concatenate([V, V[:, :1]], axis=1)
+    e = Vc[:, 1:] - Vc[:, :-1]
+    L2 = np.einsum("fmj,fmj->fm", e, e)
+    C = np.empty((V.shape[0], 4, V.shape[1]))
+    C[:, 0] = np.einsum("fmj,fj->fm", np.cross(V, Vc[:, 1:]), n)
+    C[:, 1:] = np.cross(n[:, None, :], e).transpose(0, 2, 1)
+    D = np.matmul(Vc, P.transpose(0, 2, 1))
+    D *= -2.0
+    D += np.einsum("fmj,fmj->fm", Vc, Vc)[:, :, None]
+    D += np.einsum("fkj,fkj->fk", P, P)[:, None, :]
+    np.maximum(D, 0.0, out=D)
+    np.sqrt(D, out=D)
+    Da, Db = D[:, :-1], D[:, 1:]
+    s = Da + Db
+    near = np.any(s < (np.sqrt(L2) + 2.0 * WIRE_CUTOFF_A)[:, :, None], axis=(1, 2))
+    Fm = np.multiply(Da, Db)
+    t = np.multiply(s, s)
+    t -= L2[:, :, None]
+    Fm *= t
+    with np.errstate(divide="ignore", invalid="ignore"):
+        np.divide(s, Fm, out=Fm)
+    H = np.matmul(C, Fm)
+    g = H[:, 0] + np.einsum("fjk,fkj->fk", H[:, 1:], P)
+    return 2.0 * g, near
+
+
+def polygon_shielding_frames(points, vertices, normals, *, separation_A: float = JB_SEPARATION_A):
+    """:func:`ringshift.fields.polygon_shielding` for a conformer stack, vectorised over the frames.
+
+    Parameters
+    ----------
+    points : (n_frames, n, 3) array_like, Å
+    vertices : (n_frames, m, 3) array_like, Å
+        Ring atoms in ring order (closed automatically).
+    normals : (n_frames, 3) array_like
+        Ring normals (the diatropic sense follows the normal, as in :mod:`ringshift.fields`).
+    separation_A : float
+        Johnson–Bovey half-separation (J. Chem. Phys. 1958, 29, 1012), Å.
+
+    Returns
+    -------
+    sigma : (n_frames, n) float64, ppm per nA/T
+        Identical to the per-frame kernel; frames in which a point comes within WIRE_CUTOFF_A of a
+        wire are handed to that kernel (regularised, GeometryWarning).
+    """
+    P0 = np.ascontiguousarray(points, dtype=np.float64)
+    V0 = np.ascontiguousarray(vertices, dtype=np.float64)
+    N0 = np.ascontiguousarray(normals, dtype=np.float64)
+    if P0.ndim != 3 or P0.shape[2] != 3 or V0.shape[:1] + V0.shape[2:] != (P0.shape[0], 3) or V0.ndim != 3 \
+            or V0.shape[1] < 3 or N0.shape != (P0.shape[0], 3):
+        raise InputError(f"expected points (F, n, 3), vertices (F, m>=3, 3), normals (F, 3); got {P0.shape}, "
+                         f"{V0.shape}, {N0.shape}", source="polygon_shielding_frames")
+    h = float(separation_A)
+    F, k, m = P0.shape[0], P0.shape[1], V0.shape[1]
+    out = np.empty((F, k))
+    if F == 0 or k == 0:
+        return out
+    N = N0 / np.linalg.norm(N0, axis=1, keepdims=True)
+    centre = V0.mean(axis=1, keepdims=True)
+    V, P = V0 - centre, P0 - centre
+    area = 0.5 * np.einsum("fj,fj->f", np.cross(V, np.roll(V, -1, axis=1)).sum(axis=1), N)
+    sign = np.where(area < 0.0, -1.0, 1.0)
+    near = np.zeros(F, dtype=bool)
+    step = max(1, _PAIRS_PER_BLOCK // ((m + 1) * k))
+    for lo in range(0, F, step):
+        sl = slice(lo, min(F, lo + step))
+        n = N[sl]
+        if h == 0.0:
+            g, nr = _loop_frames(P[sl], V[sl], n)
+            out[sl] = _MU0_4PI / 3.0 * g
+        else:
+            g_up, n_up = _loop_frames(P[sl] - h * n[:, None, :], V[sl], n)
+            g_dn, n_dn = _loop_frames(P[sl] + h * n[:, None, :], V[sl], n)
+            out[sl], nr = _MU0_4PI / 6.0 * (g_up + g_dn), n_up | n_dn
+        near[sl] = nr
+    out *= sign[:, None]
+    for f in np.flatnonzero(near):       # exact regularised twin for frames with a point near a wire
+        out[f] = fields.polygon_shielding(P0[f], V0[f], N0[f], separation_A=h)
+    return out
+
+
+# ----------------------------------------------------------------------------------------------------
+# Exchange groups and weighted statistics
+# ----------------------------------------------------------------------------------------------------
+def exchange_groups(mol: Chem.Mol, exchange) -> tuple[tuple[int, ...], ...]:
+    """Groups of protons in fast exchange.
+
+    Parameters
+    ----------
+    mol : rdkit.Chem.Mol
+        Explicit-H molecule.
+    exchange : None, "auto" or sequence of sequences of int
+        None: slow exchange (no groups). "auto": H atoms of equal topological rank,
+        ``Chem.CanonicalRankAtoms(mol, breakTies=False)`` (every motion that keeps the bonds is fast, e.g.
+        [18]annulene's inner/outer interconversion at room temperature, diastereotopic CH2). A list: the
+        given groups of H atom indices (disjoint).
+
+    Returns
+    -------
+    tuple of tuple of int
+        Sorted groups of two or more H atoms, ordered by first index.
+    """
+    hs = {a.GetIdx() for a in mol.GetAtoms() if a.GetAtomicNum() == 1}
+    if exchange is None:
+        return ()
+    if isinstance(exchange, str):
+        if exchange != "auto":
+            raise InputError(f"expected None, 'auto' or a list of H index groups, got {exchange!r}", source="exchange")
+        rank = list(Chem.CanonicalRankAtoms(mol, breakTies=False))
+        by: dict[int, list[int]] = {}
+        for h in sorted(hs):
+            by.setdefault(rank[h], []).append(h)
+        groups = [tuple(g) for g in by.values()]
+    else:
+        try:
+            groups = [tuple(sorted(int(a) for a in g)) for g in exchange]
+        except (TypeError, ValueError):
+            raise InputError("expected groups of integer H atom indices, e.g. [[18, 19], [20, 21]]",
+                             source="exchange") from None
+        flat = [a for g in groups for a in g]
+        bad = sorted(set(flat) - hs)
+        if bad:
+            raise InputError(f"atom(s) {bad} are not hydrogens of the molecule", source="exchange")
+        if len(flat) != len(set(flat)):
+            raise InputError("an H atom appears in two exchange groups; expected disjoint groups", source="exchange")
+    return tuple(sorted(g for g in groups if len(g) > 1))
+
+
+class _WeightedMoments:
+    """Weighted mean and sum of squared deviations of (F, K) blocks, merged block by block (Chan, Golub &
+    LeVeque, Am. Stat. 1983, 37, 242); weights come as logs and are re-referenced to the largest seen."""
+
+    def __init__(self, k: int):
+        self.W, self.ref = 0.0, -np.inf
+        self.mean, self.m2 = np.zeros(k), np.zeros(k)
+
+    def add(self, x: np.ndarray, logw: np.ndarray) -> None:
+        top = float(np.max(logw)) if logw.size else -np.inf
+        if not math.isfinite(top):
+            return
+        if top > self.ref:
+            scale = math.exp(self.ref - top) if math.isfinite(self.ref) else 0.0
+            self.W, self.m2, self.ref = self.W * scale, self.m2 * scale, top
+        w = np.exp(logw - self.ref)
+        wc = float(w.sum())
+        if wc == 0.0:
+            return
+        mc = (w @ x) / wc
+        m2c = w @ (x - mc) ** 2
+        total = self.W + wc
+        delta = mc - self.mean
+        self.mean = self.mean + delta * (wc / total)
+        self.m2 = self.m2 + m2c + delta * delta * (self.W * wc / total)
+        self.W = total
+
+    def sd(self) -> np.ndarray:
+        return np.sqrt(np.maximum(self.m2 / self.W, 0.0)) if self.W > 0 else np.zeros_like(self.m2)
+
+
+# ----------------------------------------------------------------------------------------------------
+# Results
+# ----------------------------------------------------------------------------------------------------
+@dataclass(frozen=True)
+class CircuitStats:
+    """Frame-weighted statistics of one circuit (means and weighted standard deviations).
+
+    current in nA/T; radius, planarity RMS in Å; misalignment in degrees; area in Å²;
+    planar_fraction: weighted share of frames within the planarity limits of :mod:`ringshift.rings`.
+    """
+
+    label: str
+    atoms: tuple[int, ...]
+    current_nA_per_T: float
+    current_sd_nA_per_T: float
+    radius_A: float
+    radius_sd_A: float
+    planarity_rms_A: float
+    planarity_rms_sd_A: float
+    max_misalignment_deg: float
+    max_misalignment_sd_deg: float
+    area_A2: float
+    area_sd_A2: float
+    planar_fraction: float
+
+
+@dataclass(frozen=True)
+class TrajectoryGroup:
+    """A final proton group (equivalent by symmetry or exchange); values are means over its members, ppm."""
+
+    label: str
+    atoms: tuple[int, ...]
+    ring_current_ppm: float
+    spread_ppm: float
+    predicted_ppm: float | None
+
+
+@dataclass(frozen=True)
+class TrajectoryPrediction:
+    """Frame-averaged ring-current shifts of a trajectory or ensemble.
+
+    Arrays: ``h_indices`` (n_h,); ``ring_current_ppm``, ``spread_ppm`` (n_h,) Δδ_rc weighted mean and
+    weighted sd over frames after fast-exchange averaging (equal to the ``*_slow_*`` arrays when there is
+    no exchange); ``per_circuit_ppm`` (n_loops, n_h); ``reference_ppm``, ``charge_ppm``,
+    ``predicted_ppm`` (n_h,) (exchange-averaged like the shifts); ``frame_numbers`` (n_frames,) 1-based
+    file positions of the frames used; ``weights`` (n_frames,) normalised; ``energies_kcal_mol``
+    (n_frames,) relative to the lowest, or None. ``template`` is the single-structure prediction that
+    supplied circuits, reference shifts, the π-charge term and (unless per frame) the currents.
+    """
+
+    template: Prediction
+    model: str
+    currents: str
+    h_indices: tuple[int, ...]
+    ring_current_ppm: np.ndarray
+    spread_ppm: np.ndarray
+    ring_current_slow_ppm: np.ndarray
+    spread_slow_ppm: np.ndarray
+    per_circuit_ppm: np.ndarray
+    reference_ppm: np.ndarray
+    charge_ppm: np.ndarray
+    predicted_ppm: np.ndarray
+    exchange_groups: tuple[tuple[int, ...], ...]
+    groups: tuple[TrajectoryGroup, ...]
+    circuits: tuple[CircuitStats, ...]
+    frame_numbers: np.ndarray = field(repr=False)
+    weights: np.ndarray = field(repr=False)
+    energies_kcal_mol: np.ndarray | None = field(repr=False)
+    temperature_K: float = 298.15
+    warnings: tuple[str, ...] = ()
+    provenance: dict = field(default_factory=dict)
+
+    @property
+    def n_frames(self) -> int:
+        return int(self.frame_numbers.shape[0])
+
+
+# ----------------------------------------------------------------------------------------------------
+# Pipeline
+# ----------------------------------------------------------------------------------------------------
+def _frames(frames, energies_kcal_mol) -> Iterator[Frame]:
+    if isinstance(frames, np.ndarray):
+        e = None if energies_kcal_mol is None else np.asarray(energies_kcal_mol, dtype=np.float64).reshape(-1)
+        if e is not None and e.shape[0] != frames.shape[0]:
+            raise InputError(f"expected {frames.shape[0]} energies (one per frame), got {e.shape[0]}",
+                             source="energies_kcal_mol")
+        for k in range(frames.shape[0]):
+            yield Frame(k + 1, frames[k], None if e is None else float(e[k]))
+        return
+    if energies_kcal_mol is not None:
+        raise InputError("energies_kcal_mol goes with an in-memory (n_frames, n_atoms, 3) array; streamed frames "
+                         "carry their own energies", source="energies_kcal_mol")
+    for k, fr in enumerate(frames):
+        yield fr if isinstance(fr, Frame) else Frame(k + 1, np.asarray(fr, dtype=np.float64))
+
+
+def _log_weights(block: list[Frame], weights, temperature_K: float) -> np.ndarray:
+    if isinstance(weights, str):
+        if weights == "uniform":
+            return np.zeros(len(block))
+        missing = next((f.number for f in block if f.energy_kcal_mol is None), None)
+        if missing is not None:
+            raise InputError(f"frame {missing} has no energy; Boltzmann weights need an energy on every frame "
+                             f"(comment line 'energy=...' or an SD energy field)", source="weights")
+        return -np.array([f.energy_kcal_mol for f in block]) / (KB_KCAL_PER_MOL_K * temperature_K)
+    idx = np.array([f.number - 1 for f in block])
+    if idx.max() >= weights.shape[0]:
+        raise InputError(f"got {weights.shape[0]} weights but the trajectory has a frame {idx.max() + 1}",
+                         source="weights")
+    with np.errstate(divide="ignore"):
+        return np.log(weights[idx])
+
+
+def _check_options(template, model, currents, memory_MB, weights, temperature_K):
+    if not isinstance(template, Structure):
+        raise InputError(f"expected a Structure (or frames from iter_xyz_frames/iter_sdf_records), got "
+                         f"{type(template).__name__}", source="template")
+    if model not in MODELS:
+        raise InputError(f"unknown model {model!r}; expected one of {', '.join(MODELS)}", source="model")
+    if currents not in TRAJECTORY_CURRENTS:
+        raise InputError(f"unknown currents {currents!r}; expected one of {', '.join(TRAJECTORY_CURRENTS)}",
+                         source="currents")
+    for name, v in (("memory_MB", memory_MB), ("temperature_K", temperature_K)):
+        if isinstance(v, bool) or not isinstance(v, (int, float)) or not math.isfinite(v) or v <= 0:
+            raise InputError(f"expected a finite number > 0, got {v!r}", source=name)
+    if isinstance(weights, str):
+        if weights not in ("uniform", "boltzmann"):
+            raise InputError(f"expected 'uniform', 'boltzmann' or an array of weights, got {weights!r}", source="weights")
+        return weights
+    w = np.asarray(weights, dtype=np.float64).reshape(-1)
+    if w.size == 0 or not np.all(np.isfinite(w)) or np.any(w < 0) or w.sum() <= 0:
+        raise InputError("expected finite non-negative weights, one per frame, not all zero", source="weights")
+    return w
+
+
+def predict_trajectory(template: Structure | None, frames, *, model: str = "polygon", currents: str = "huckel",
+                       memory_MB: float = 500.0, weights="uniform", temperature_K: float = 298.15, exchange=None,
+                       energies_kcal_mol=None, beta_model: str = "scf", scale: Mapping[str, float] | None = None,
+                       set_current: Mapping[str, float] | None = None,
+                       user_circuits: Sequence[Sequence[int]] | None = None, separation_A: float = JB_SEPARATION_A,
+                       reference_table=None) -> TrajectoryPrediction:
+    """Frame-weighted ring-current shifts over a trajectory or ensemble, streamed in memory-sized chunks.
+
+    Parameters
+    ----------
+    template : Structure or None
+        Topology (atom order, bonds, H groups) and the geometry for the template prediction. None: the
+        first frame of a :class:`FrameStream` (:meth:`FrameStream.template`).
+    frames : FrameStream, iterable of Frame or of (n_atoms, 3) arrays, or ndarray (n_frames, n_atoms, 3)
+        Coordinates in Å, atoms in the template's order.
+    model : str
+        Shielding model (:data:`ringshift.predict.MODELS`). "polygon" runs vectorised over frames
+        (:func:`polygon_shielding_frames`); the others call the per-frame kernels.
+    currents : {"huckel", "benzene", "huckel-per-frame"}
+        "huckel" (default): the Hückel–London currents of the template prediction (the first frame when
+        the template comes from the file), held fixed; "benzene": 12 nA/T on RDKit-aromatic circuits;
+        "huckel-per-frame": a Hückel–London calculation on every frame (slower: one diagonalisation per
+        frame).
+    memory_MB : float
+        Budget for the frame blocks and per-frame arrays; sets the chunk size (at most 4096 frames).
+    weights : "uniform", "boltzmann" or array_like (n_frames,)
+        Frame weights; Boltzmann from frame energies at ``temperature_K``. An array is indexed by the
+        1-based frame number (so skipped frames drop their weight) and must cover every frame.
+    exchange : None, "auto" or list of H index groups
+        Fast-exchange averaging (:func:`exchange_groups`); None keeps every proton apart (slow exchange).
+    energies_kcal_mol : array_like (n_frames,), optional
+        Energies for an in-memory frame array.
+    beta_model, scale, set_current, user_circuits, separation_A, reference_table
+        As for :func:`ringshift.predict.predict` (scale and set_current also apply per frame).
+
+    Returns
+    -------
+    TrajectoryPrediction
+    """
+    t0 = time.perf_counter()
+    if template is None:
+        if not isinstance(frames, FrameStream):
+            raise InputError("without a template, frames must come from iter_xyz_frames or iter_sdf_records",
+                             source="template")
+        template = frames.template()
+    w_given = _check_options(template, model, currents, memory_MB, weights, temperature_K)
+    mol, n_atoms = template.mol, template.mol.GetNumAtoms()
+    base_model = "polygon" if model == "network" else model
+    tpred = predict(template, model=base_model, currents="benzene" if currents == "benzene" else "huckel",
+                    beta_model=beta_model, scale=scale, set_current=set_current, user_circuits=user_circuits,
+                    separation_A=separation_A, reference_table=reference_table)
+    loops = [cr.circuit for cr in tpred.circuits]
+    h_idx = [p.index for p in tpred.protons]
+    n_h, n_l = len(h_idx), len(loops)
+    fixed = np.array([cr.current_nA_per_T or 0.0 for cr in tpred.circuits])
+    notes = list(tpred.warnings)
+    pi = tpred.pi
+    lc_template = None
+    if model == "network":
+        best = int(np.argmax(template.weights))
+        lc_template = pisystem.london_currents(pi, mol, template.coords[best], [c.atoms for c in loops],
+                                               beta_model=beta_model) if loops else None
+        if lc_template is not None and lc_template.status != "ok":
+            raise InputError("the bond-current network model needs Hueckel-London bond currents: "
+                             + lc_template.status, source="model")
+    ex = exchange_groups(mol, exchange)
+    A = np.eye(n_h)
+    pos = {h: k for k, h in enumerate(h_idx)}
+    for g in ex:
+        ks = [pos[h] for h in g]
+        A[np.ix_(ks, ks)] = 1.0 / len(ks)
+    K = 2 * n_h + n_l * n_h + 6 * n_l
+    per_frame_bytes = 8 * (6 * n_atoms + 3 * K + 3 * n_l * n_h)
+    chunk = int(min(_MAX_CHUNK_FRAMES, max(1, 0.5 * memory_MB * 1e6 // per_frame_bytes)))
+    acc = _WeightedMoments(K)
+    numbers, logws, energies = [], [], []
+    block = np.empty((chunk, n_atoms, 3))
+    caught: list = []
+    with warnings.catch_warnings(record=True) as caught:
+        warnings.simplefilter("always", GeometryWarning)
+        warnings.simplefilter("always", TrajectoryWarning)
+        it = _frames(frames, energies_kcal_mol)
+        while True:
+            items = list(itertools.islice(it, chunk))
+            if not items:
+                break
+            for k, fr in enumerate(items):
+                if fr.coords.shape != (n_atoms, 3):
+                    raise InputError(f"frame {fr.number} has coordinates of shape {fr.coords.shape}; the template "
+                                     f"has {n_atoms} atoms", source="frames")
+                block[k] = fr.coords
+            xyz = block[:len(items)]
+            if not np.all(np.isfinite(xyz)):
+                raise InputError("non-finite coordinates in the frames", source="frames")
+            lw = _log_weights(items, w_given if not isinstance(w_given, str) else weights, float(temperature_K))
+            x = _block_features(xyz, template, tpred, loops, h_idx, fixed, model, currents, A, pi, lc_template,
+                                beta_model, scale, set_current, separation_A, notes)
+            acc.add(x, lw)
+            numbers.append([f.number for f in items])
+            logws.append(lw)
+            energies.append([np.nan if f.energy_kcal_mol is None else f.energy_kcal_mol for f in items])
+    for wr in caught:
+        notes.append(str(wr.message))
+    for wr in caught:
+        if issubclass(wr.category, TrajectoryWarning):
+            warnings.warn(wr.message, stacklevel=2)
+    if not numbers:
+        raise InputError("no frame to average (empty trajectory, or every frame was skipped)", source="frames")
+    numbers_a = np.concatenate([np.asarray(n, dtype=np.int64) for n in numbers])
+    lw_all = np.concatenate(logws)
+    if not isinstance(w_given, str):
+        total = getattr(frames, "n_seen", None) or (frames.shape[0] if isinstance(frames, np.ndarray) else int(numbers_a.max()))
+        if w_given.shape[0] != total:
+            raise InputError(f"got {w_given.shape[0]} weights for {total} frames", source="weights")
+    if not np.any(np.isfinite(lw_all)):
+        raise InputError("every frame used has weight zero", source="weights")
+    w_all = np.exp(lw_all - lw_all.max())
+    w_all /= w_all.sum()
+    e_all = np.concatenate([np.asarray(e, dtype=np.float64) for e in energies])
+    e_all = None if np.all(np.isnan(e_all)) else e_all - np.nanmin(e_all)
+    return _assemble(template, tpred, model, currents, loops, h_idx, ex, acc, numbers_a, w_all, e_all,
+                     float(temperature_K), notes, chunk, float(memory_MB), frames, time.perf_counter() - t0,
+                     weights if isinstance(weights, str) else "given")
+
+
+def _block_features(xyz, template, tpred, loops, h_idx, fixed, model, currents, A, pi, lc_template, beta_model,
+                    scale, set_current, separation_A, notes) -> np.ndarray:
+    """Per-frame features (F, K): slow Δδ_rc (n_h), fast Δδ_rc (n_h), per-circuit Δδ_rc (n_l·n_h) and
+    circuit current, radius, planarity, misalignment, area, planar flag (6·n_l)."""
+    F, n_h, n_l, mol = xyz.shape[0], len(h_idx), len(loops), template.mol
+    geoms = [circuit_geometry(xyz, c, mol) for c in loops]
+    cur = np.tile(fixed, (F, 1))
+    london = None
+    if currents == "huckel-per-frame" and n_l:
+        london = [pisystem.london_currents(pi, mol, xyz[k], [c.atoms for c in loops],
+                                           np.array([g.normal[k] for g in geoms]), beta_model=beta_model)
+                  for k in range(F)]
+        for k, lc in enumerate(london):
+            if lc.status == "ok":
+                cur[k] = lc.circuit_currents_nA_per_T
+            else:
+                cur[k] = 0.0
+                notes.append(lc.status)
+        for c, circ in enumerate(loops):
+            if set_current and circ.label in set_current:
+                cur[:, c] = set_current[circ.label]
+            if scale and circ.label in scale:
+                cur[:, c] *= scale[circ.label]
+    if model in ("polygon", "network"):
+        g = np.zeros((F, n_l, n_h))
+        for c, (circ, geo) in enumerate(zip(loops, geoms)):
+            g[:, c] = -polygon_shielding_frames(xyz[:, h_idx], xyz[:, list(circ.atoms)], geo.normal,
+                                                separation_A=separation_A)
+    else:
+        g = geometric_factors(xyz, h_idx, loops, geoms, model, separation_A=separation_A)
+    per = g * cur[:, :, None]
+    total = per.sum(axis=1)
+    if model == "network" and n_h and n_l:
+        if london is not None and any(lc.status != "ok" for lc in london):
+            raise InputError("the bond-current network model needs Hueckel-London bond currents on every frame",
+                             source="model")
+        total = network_totals(dataclasses.replace(template, coords=xyz), pi, london or [lc_template] * F, h_idx,
+                               separation_A)
+    geo = [np.stack([cur[:, c], gm.radius_A, gm.planarity_rms_A, gm.max_misalignment_deg, gm.area_A2,
+                     (gm.planarity_rms_A <= PLANARITY_LIMIT_A) & (gm.max_misalignment_deg <= MISALIGNMENT_LIMIT_DEG)],
+                    axis=1) for c, gm in enumerate(geoms)]
+    return np.concatenate([total, total @ A.T, (per @ A.T).reshape(F, -1)] + geo, axis=1) if geo or n_h else \
+        np.zeros((F, 0))
+
+
+def _assemble(template, tpred, model, currents, loops, h_idx, ex, acc, numbers, w, e, temperature_K, notes, chunk,
+              memory_MB, frames, elapsed, weight_kind) -> TrajectoryPrediction:
+    n_h, n_l = len(h_idx), len(loops)
+    mean, sd = acc.mean, acc.sd()
+    slow, fast = mean[:n_h], mean[n_h:2 * n_h]
+    per = mean[2 * n_h:2 * n_h + n_l * n_h].reshape(n_l, n_h)
+    geo = mean[2 * n_h + n_l * n_h:].reshape(n_l, 6)
+    geo_sd = sd[2 * n_h + n_l * n_h:].reshape(n_l, 6)
+    ref = np.array([p.reference_ppm for p in tpred.protons], dtype=np.float64)
+    chg = np.array([p.charge_ppm for p in tpred.protons], dtype=np.float64)
+    A = np.eye(n_h)
+    pos = {h: k for k, h in enumerate(h_idx)}
+    for g in ex:
+        ks = [pos[h] for h in g]
+        A[np.ix_(ks, ks)] = 1.0 / len(ks)
+    ref, chg = A @ ref, A @ chg
+    pred = shifts.assemble_prediction(ref, fast, chg) if n_h else np.zeros(0)
+    parent = {h: h for h in h_idx}
+
+    def root(a):
+        while parent[a] != a:
+            parent[a] = parent[parent[a]]
+            a = parent[a]
+        return a
+
+    for grp in tuple(template.h_groups) + ex:
+        for h in grp[1:]:
+            parent[root(h)] = root(grp[0])
+    members: dict[int, list[int]] = {}
+    for h in h_idx:
+        members.setdefault(root(h), []).append(h)
+    fast_sd = sd[n_h:2 * n_h]
+    groups = tuple(TrajectoryGroup(f"H{k + 1}", tuple(m), float(np.mean(fast[[pos[h] for h in m]])),
+                                   float(np.mean(fast_sd[[pos[h] for h in m]])), float(np.mean(pred[[pos[h] for h in m]])))
+                   for k, m in enumerate(sorted(members.values())))
+    circuits = tuple(CircuitStats(c.label, tuple(c.atoms), *(float(v) for pair in zip(geo[i, :5], geo_sd[i, :5])
+                                                             for v in pair), float(geo[i, 5]))
+                     for i, c in enumerate(loops))
+    src = {"huckel": f"Hueckel-London currents of the template ({tpred.provenance['beta_model']} beta), fixed",
+           "benzene": "12 nA/T on RDKit-aromatic circuits, fixed",
+           "huckel-per-frame": f"Hueckel-London currents of every frame ({tpred.provenance['beta_model']} beta)"}[currents]
+    prov = {"model": model, "currents": currents, "currents_description": src, "weights": weight_kind,
+            "temperature_K": temperature_K, "chunk_frames": chunk, "memory_MB": memory_MB,
+            "frames_used": int(numbers.shape[0]), "elapsed_s": round(elapsed, 4),
+            "exchange": "none (slow exchange)" if not ex else f"{len(ex)} fast-exchange group(s)",
+            "frames_skipped": [list(s) for s in getattr(frames, "skipped", [])],
+            "source": str(getattr(frames, "path", template.source)), "template": tpred.provenance}
+    arrays = [np.ascontiguousarray(a) for a in (fast, sd[n_h:2 * n_h], slow, sd[:n_h], per, ref, chg, pred, numbers, w)]
+    for a in arrays + ([] if e is None else [e]):
+        a.setflags(write=False)
+    return TrajectoryPrediction(tpred, model, src, tuple(h_idx), *arrays[:4], arrays[4], arrays[5], arrays[6],
+                                arrays[7], ex, groups, circuits, arrays[8], arrays[9], e, temperature_K,
+                                tuple(dict.fromkeys(notes)), prov)
+
+
+def predict_trajectory_file(path, *, charge: int | None = None, energy_unit: str = "kcal/mol", strict: bool = False,
+                            **kwargs) -> TrajectoryPrediction:
+    """Read a multi-frame .xyz or multi-record .sdf/.sd file (streamed) and run :func:`predict_trajectory`
+    with the first frame as template; ``kwargs`` go to :func:`predict_trajectory`."""
+    suffix = Path(str(path)).suffix.lower()
+    if suffix == ".xyz":
+        stream = iter_xyz_frames(path, energy_unit=energy_unit, strict=strict)
+    elif suffix in (".sdf", ".sd"):
+        stream = iter_sdf_records(path, strict=strict)
+    else:
+        raise InputError(f"expected a .xyz, .sdf or .sd trajectory, got {suffix or 'no extension'!r}", source=str(path))
+    return predict_trajectory(stream.template(charge=charge), stream, **kwargs)
+
+
+def trajectory_to_dict(tp: TrajectoryPrediction) -> dict:
+    """Plain-data (JSON) form of a :class:`TrajectoryPrediction`."""
+    r = _round
+    pos = {h: k for k, h in enumerate(tp.h_indices)}
+    labels = [c.label for c in tp.circuits]
+    return {
+        "ringshift_result": "trajectory_prediction", "name": tp.template.structure.name,
+        "source": tp.provenance["source"], "model": tp.model, "currents": tp.currents,
+        "n_frames": tp.n_frames, "weights": tp.provenance["weights"], "temperature_K": tp.temperature_K,
+        "exchange_groups": [list(g) for g in tp.exchange_groups],
+        "circuits": [{k: (list(v) if isinstance(v, tuple) else r(v) if isinstance(v, float) else v)
+                      for k, v in dataclasses.asdict(c).items()} for c in tp.circuits],
+        "protons": [{"index": h, "ring_current_ppm": r(tp.ring_current_ppm[k]), "spread_ppm": r(tp.spread_ppm[k]),
+                     "ring_current_slow_exchange_ppm": r(tp.ring_current_slow_ppm[k]),
+                     "spread_slow_exchange_ppm": r(tp.spread_slow_ppm[k]),
+                     "ring_current_by_circuit_ppm": {lab: r(tp.per_circuit_ppm[c, k]) for c, lab in enumerate(labels)},
+                     "reference_ppm": r(tp.reference_ppm[k]), "charge_ppm": r(tp.charge_ppm[k]),
+                     "predicted_ppm": r(tp.predicted_ppm[k])} for h, k in pos.items()],
+        "groups": [{"label": g.label, "atoms": list(g.atoms), "n_h": len(g.atoms), "ring_current_ppm": r(g.ring_current_ppm),
+                    "spread_ppm": r(g.spread_ppm), "predicted_ppm": r(g.predicted_ppm)} for g in tp.groups],
+        "frames": {"numbers": tp.frame_numbers.tolist(), "weights": [r(x, 8) for x in tp.weights]},
+        "provenance": tp.provenance, "warnings": list(tp.warnings),
+    }
+
+
+def _round(x, nd: int = 4):
+    if x is None or not math.isfinite(float(x)):
+        return None
+    v = round(float(x), nd)
+    return 0.0 if v == 0 else v
