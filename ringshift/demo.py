@@ -83,7 +83,7 @@ def run_demo(out_dir: str | Path, *, force: bool = False, progress=None) -> str:
         lines.append("Both structures against the FJ-14c spectrum:")
         for cs in ranked:
             lines.append(f"  {cs.rank}. {cs.name}: probability {cs.probability:.3f}, "
-                         f"log10 BF vs best {cs.log10_bf_vs_best:+.1f}")
+                         f"log10 BF vs best {cs.log10_bf_vs_best + 0.0:+.1f}")
         if out.exists():
             shutil.rmtree(out)
         tmp.rename(out)
