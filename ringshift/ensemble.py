@@ -603,7 +603,7 @@ def _log_weights(block: list[Frame], weights, temperature_K: float) -> np.ndarra
         return -np.array([f.energy_kcal_mol for f in block]) / (KB_KCAL_PER_MOL_K * temperature_K)
     idx = np.array([f.number - 1 for f in block])
     if idx.max() >= weights.shape[0]:
-        raise InputError(f"got {weights.shape[0]} weights but the trajectory has a frame {idx.max() + 1}",
+        raise InputError(f"got {weights.shape[0]} weights, fewer than the frames (frame {idx.max() + 1} needs one)",
                          source="weights")
     with np.errstate(divide="ignore"):
         return np.log(weights[idx])
