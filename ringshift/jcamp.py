@@ -43,12 +43,13 @@ from dataclasses import dataclass
 
 import numpy as np
 
+from ringshift import limits as _limits
 from ringshift.errors import InputError, OutputError
 
-#: Largest NPOINTS accepted (a guard against absurd or hostile files).
-MAX_POINTS: int = 2**22
-#: Largest file read, bytes.
-MAX_FILE_BYTES: int = 256 * 2**20
+#: Largest NPOINTS accepted (a guard against absurd or hostile files; :mod:`ringshift.limits`).
+MAX_POINTS: int = _limits.MAX_SPECTRUM_POINTS
+#: Largest file read, bytes (:mod:`ringshift.limits`).
+MAX_FILE_BYTES: int = _limits.MAX_FILE_BYTES
 
 _SQZ = {c: (1, d) for d, c in enumerate("@ABCDEFGHI")} | {c: (-1, d + 1) for d, c in enumerate("abcdefghi")}
 _DIF = {c: (1, d) for d, c in enumerate("%JKLMNOPQR")} | {c: (-1, d + 1) for d, c in enumerate("jklmnopqr")}
@@ -100,25 +101,18 @@ class JcampData:
 
 # ------------------------------------------------------------------------------------ text files
 def read_text_file(path: str | os.PathLike) -> tuple[str, tuple[str, ...]]:
-    """Read a text file as UTF-8 (BOM stripped), else Latin-1; returns (text, warnings)."""
+    """Read a text file as UTF-8 (BOM stripped), else Latin-1; returns (text, warnings).
+
+    The limits of :mod:`ringshift.limits` apply (file size, binary content, line length).
+    """
     name = os.fspath(path)
+    raw = _limits.read_text_bytes(name, "a peak list (CSV/TSV) or a JCAMP-DX file")
     try:
-        if os.path.getsize(name) > MAX_FILE_BYTES:
-            raise InputError(f"larger than {MAX_FILE_BYTES // 2**20} MB; expected a peak list or spectrum", name)
-        with open(name, "rb") as handle:
-            raw = handle.read()
-    except FileNotFoundError:
-        raise InputError("file not found", name) from None
-    except IsADirectoryError:
-        raise InputError("is a folder; expected a peak list or spectrum file", name) from None
-    except OSError as exc:
-        raise InputError(f"cannot be read ({exc.strerror or exc})", name) from None
-    if b"\x00" in raw:
-        raise InputError("binary file (NUL bytes); expected a text peak list (CSV/TSV) or JCAMP-DX", name)
-    try:
-        return raw.decode("utf-8-sig"), ()
+        text, notes = raw.decode("utf-8-sig"), ()
     except UnicodeDecodeError:
-        return raw.decode("latin-1"), ("not valid UTF-8; read as Latin-1",)
+        text, notes = raw.decode("latin-1"), ("not valid UTF-8; read as Latin-1",)
+    _limits.check_lines(text, name)
+    return text, notes
 
 
 # ------------------------------------------------------------------------------- ASDF decoding
@@ -380,6 +374,7 @@ def parse_jcamp_text(text: str, *, source: str = "<string>") -> JcampData:
     ``##LASTX``, ``##NPOINTS``), bad numbers, Hz data without ``##.OBSERVE FREQUENCY``, NPOINTS not
     matching the data and unsupported forms.
     """
+    _limits.check_lines(text, source)
     blocks = _blocks(text.lstrip("\ufeff"), source)
     chosen = [b for b in blocks if "XYDATA" in b["data"] or "PEAKTABLE" in b["data"]]
     if not chosen:
@@ -490,10 +485,14 @@ def _peak_table(block, lab, xunits, observe, xfactor, yfactor, source, notes):
             if not math.isfinite(value):
                 raise InputError(f"{item!r} in ##PEAK TABLE is not finite", f"{source}:{lineno}")
             numbers.append((value, lineno))
+            if len(numbers) > size * _limits.MAX_PEAKS:
+                _limits.check_count(len(numbers) // size, _limits.MAX_PEAKS, "peaks in ##PEAK TABLE",
+                                    f"{source}:{lineno}")
     if len(numbers) % size:
         raise InputError(f"##PEAK TABLE={form} holds {len(numbers)} numbers, not a multiple of {size}",
                          f"{source}:{numbers[-1][1]}")
     groups = [numbers[i:i + size] for i in range(0, len(numbers), size)]
+    _limits.check_count(len(groups), _limits.MAX_PEAKS, "peaks in ##PEAK TABLE", f"{source}:{line0}")
     n_declared = lab.number("NPOINTS")
     if n_declared is not None:
         if n_declared != len(groups):

@@ -35,6 +35,7 @@ import numpy as np
 from scipy.signal import find_peaks, peak_widths
 
 from ringshift import jcamp as _jcamp
+from ringshift import limits as _limits
 from ringshift.errors import AssignmentWarning, InputError, OutputError
 from ringshift.jcamp import write_jcamp_spectrum
 
@@ -265,6 +266,7 @@ def parse_peak_table_csv(text: str, *, source: str = "<string>") -> PeakList:
 
 
 def _parse_csv(text: str, source: str) -> tuple[PeakList, tuple[bool, ...]]:
+    _limits.check_lines(text, source)
     notes: list[str] = []
     observe = None
     rows: list[tuple[int, str]] = []
@@ -281,7 +283,13 @@ def _parse_csv(text: str, source: str) -> tuple[PeakList, tuple[bool, ...]]:
         raise InputError("empty peak table: expected a header row (e.g. 'shift_ppm,integral') and peak rows",
                          source)
     head_line, header = rows[0]
-    delim = next((d for d in ("\t", ";", ",") if d in header), None)
+    bare = re.sub(r'"[^"]*"|\([^)]*\)|\[[^\]]*\]', "", header)   # separators inside quotes/brackets are text
+    found = [d for d in ("\t", ";", ",") if d in bare]
+    if len(found) > 1:
+        shown = " and ".join(repr(d) for d in found)
+        raise InputError(f"the header row uses {shown} as separators; ambiguous: use one separator (tab, ';' "
+                         "or ',') throughout", f"{source}:{head_line}")
+    delim = found[0] if found else next((d for d in ("\t", ";", ",") if d in header), None)
 
     def split(line: str, where: str) -> list[str]:
         if delim is None:
@@ -311,6 +319,7 @@ def _parse_csv(text: str, source: str) -> tuple[PeakList, tuple[bool, ...]]:
                          at_head)
     if len(rows) == 1:
         raise InputError("header row but no peak rows", source)
+    _limits.check_count(len(rows) - 1, _limits.MAX_PEAKS, "peak rows", source)
     table = []
     for lineno, line in rows[1:]:
         cells = split(line, f"{source}:{lineno}")
@@ -492,6 +501,9 @@ def _pick(spectrum: Spectrum, prominence_sigma: float, merge_hz: float) -> tuple
     idx, props = find_peaks(y, prominence=max(prominence_sigma * spectrum.noise_sigma, 1e-9 * scale))
     if idx.size == 0:
         return (), []
+    if idx.size > _limits.MAX_PEAKS:
+        raise InputError(f"{idx.size} lines picked, more than the limit of {_limits.MAX_PEAKS} peaks: noise or a "
+                         f"bad baseline; raise the threshold (prominence_sigma={prominence_sigma:g})", spectrum.source)
     fwhm, _, left, right = peak_widths(y, idx, rel_height=0.5, prominence_data=(
         props["prominences"], props["left_bases"], props["right_bases"]))
     lo_n, hi_n = np.clip(idx - 1, 0, None), np.clip(idx + 1, None, y.size - 1)

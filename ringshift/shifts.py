@@ -27,6 +27,7 @@ from typing import Iterable, Mapping
 import numpy as np
 from rdkit import Chem
 
+from . import limits as _limits
 from .errors import InputError
 
 __all__ = ["ReferenceShift", "ReferenceTable", "ReferenceArrays", "CSV_COLUMNS", "FALLBACK_CLASS",
@@ -184,15 +185,15 @@ def _parse_table_text(text: str, label: str) -> tuple[dict[str, ReferenceShift],
 
 
 def _read_text(path: Path) -> str:
+    """UTF-8 text of a user table, within the limits of :mod:`ringshift.limits` (size, binary, lines)."""
+    what = "a reference-shift CSV file"
+    raw = _limits.read_text_bytes(path, what)
     try:
-        return path.read_text(encoding="utf-8-sig")
-    except FileNotFoundError:
-        problem = "file not found"
-    except IsADirectoryError:
-        problem = "is a folder"
+        text = raw.decode("utf-8-sig")
     except UnicodeDecodeError:
-        problem = "is not UTF-8 text"
-    raise InputError(f"{problem}; expected a reference-shift CSV file", source=str(path))
+        raise InputError(f"is not UTF-8 text; expected {what}", source=str(path)) from None
+    _limits.check_lines(text, str(path))
+    return text
 
 
 def _packaged_table() -> ReferenceTable:

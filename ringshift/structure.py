@@ -14,6 +14,8 @@ window, RMSD pruning over graph automorphisms, Boltzmann weights; sorted by ener
 from __future__ import annotations
 
 import math
+import re
+import warnings
 from dataclasses import dataclass
 from pathlib import Path
 
@@ -22,8 +24,9 @@ from rdkit import Chem, rdBase
 from rdkit.Chem import rdDetermineBonds, rdDistGeom, rdForceFieldHelpers
 from scipy import constants as _sc
 
+from ringshift import limits as _limits
 from ringshift.constants import KB_KCAL_PER_MOL_K
-from ringshift.errors import InputError
+from ringshift.errors import GeometryWarning, InputError
 from ringshift.hgroups import H_SYMMETRY_TOLERANCE_A, automorphisms, group_equivalent_hydrogens, symmetry_graph
 
 __all__ = ["Structure", "load_structure", "read_mol_records", "group_equivalent_hydrogens", "ez_stereo_check",
@@ -48,6 +51,8 @@ ENERGY_PROPERTIES: tuple[tuple[str, float], ...] = (
 
 _MACROCYCLE_RING = 12            # design notes §7: 30 conformers miss [18]annulene's planar minimum
 _CONFORMERS_RIGID, _CONFORMERS_MACROCYCLE = 30, 200
+_MAX_SEED = 2**31 - 1            # ETKDG's randomSeed is a C int; -1 means "random"
+_MAX_ABS_CHARGE = 100
 
 
 @dataclass(frozen=True)
@@ -232,15 +237,18 @@ def _sanitize_kekule(mol: Chem.Mol, source: str) -> None:
 
 
 # --------------------------------------------------------------------------------------- readers
-def _read_text(path: Path) -> str:
+def _read_text(path: Path, what: str) -> str:
+    """UTF-8 text of a structure file (BOM stripped), within the limits of :mod:`ringshift.limits`."""
+    raw = _limits.read_text_bytes(path, what)
     try:
-        text = path.read_text(encoding="utf-8")
-    except FileNotFoundError:
-        raise InputError("file not found", source=str(path)) from None
-    except (OSError, UnicodeDecodeError) as exc:
-        raise InputError(f"cannot read the file as text ({type(exc).__name__})", source=str(path)) from None
+        text = raw.decode("utf-8-sig")
+    except UnicodeDecodeError as exc:
+        line = raw[:exc.start].count(b"\n") + 1
+        raise InputError(f"byte 0x{raw[exc.start]:02x} is not UTF-8 text; expected {what} (a binary file, or "
+                         "another encoding?)", source=f"{path}:{line}") from None
     if not text.strip():
-        raise InputError("file is empty", source=str(path))
+        raise InputError(f"file is empty; expected {what}", source=str(path))
+    _limits.check_lines(text, str(path))
     return text
 
 
@@ -262,9 +270,11 @@ def read_mol_records(path) -> list[Chem.Mol]:
         One molecule per record, in file order.
     """
     path = Path(path)
-    text = _read_text(path)
+    text = _read_text(path, "a MOL or SD file")
     lines = text.splitlines()
     starts = [1] + [k + 2 for k, line in enumerate(lines) if line.strip() == "$$$$"]
+    last = next((line.strip() for line in reversed(lines) if line.strip()), "")
+    _limits.check_count(len(starts) - (last == "$$$$"), _limits.MAX_RECORDS, "SD records", str(path))
     supplier = Chem.SDMolSupplier()
     supplier.SetData(text, sanitize=False, removeHs=False, strictParsing=True)
     with rdBase.BlockLogs():
@@ -276,12 +286,15 @@ def read_mol_records(path) -> list[Chem.Mol]:
             continue
         if mol is None or mol.GetNumAtoms() == 0:
             raise InputError(f"record {k + 1} is not a readable MOL block with atoms", source=where)
+        _limits.check_count(mol.GetNumAtoms(), _limits.MAX_ATOMS, f"atoms in record {k + 1}", where)
         _sanitize_kekule(mol, where)
         try:
             kind = _coordinate_kind(mol)
         except InputError as exc:
             raise InputError(exc.bare_message, source=where) from None
         if kind == "3d":
+            _limits.check_coordinates(mol.GetConformer().GetPositions()[None],
+                                      [a.GetSymbol() for a in mol.GetAtoms()], f"{where} (record {k + 1})")
             Chem.AssignStereochemistryFrom3D(mol)
         elif kind == "2d":
             Chem.AssignChiralTypesFromBondDirs(mol)
@@ -295,18 +308,20 @@ def read_mol_records(path) -> list[Chem.Mol]:
 
 def _read_xyz(path: Path) -> tuple[list[str], np.ndarray]:
     """Element symbols and (n_frames, n_atoms, 3) coordinates (Å) of a one- or multi-frame XYZ file."""
-    lines = _read_text(path).splitlines()
+    lines = _read_text(path, "an XYZ file").splitlines()
     frames, symbols, k = [], None, 0
     while k < len(lines):
         if not lines[k].strip():
             k += 1
             continue
         head, frame = lines[k].split(), len(frames) + 1
-        if len(head) != 1 or not head[0].isdigit() or int(head[0]) < 1:
+        if len(head) != 1 or not re.fullmatch(r"[0-9]{1,12}", head[0]) or int(head[0]) < 1:
             raise InputError(f"expected the atom count of frame {frame} (one positive integer), got "
                              f"{lines[k].strip()[:40]!r}; is the previous frame's count right?",
                              source=f"{path}:{k + 1}")
         n = int(head[0])
+        _limits.check_count(n, _limits.MAX_ATOMS, f"atoms in frame {frame}", f"{path}:{k + 1}")
+        _limits.check_count(frame, _limits.MAX_RECORDS, "XYZ frames", f"{path}:{k + 1}")
         if k + 2 + n > len(lines):
             raise InputError(f"frame {frame} announces {n} atoms but the file ends after {len(lines) - k - 2} "
                              f"atom lines", source=f"{path}:{k + 1}")
@@ -330,39 +345,85 @@ def _read_xyz(path: Path) -> tuple[list[str], np.ndarray]:
         symbols = syms
         frames.append(xyz)
         k += 2 + n
-    return symbols, np.stack(frames)
+    stack = np.stack(frames)
+    _limits.check_coordinates(stack, symbols, str(path))
+    return symbols, stack
 
 
-def _mol_from_xyz(path: Path, charge: int) -> tuple[Chem.Mol, np.ndarray]:
-    symbols, frames = _read_xyz(path)
+def _bonds_from_xyz(symbols: list[str], xyz: np.ndarray, charge: int) -> Chem.Mol:
+    """RDKit bond perception (design notes §7); raises RDKit's exception when the charge does not fit."""
     rw = Chem.RWMol()
     for sym in symbols:
         rw.AddAtom(Chem.Atom(sym))
     conf = Chem.Conformer(len(symbols))
-    conf.SetPositions(frames[0])
+    conf.SetPositions(xyz)
     conf.Set3D(True)
     rw.AddConformer(conf, assignId=True)
     mol = rw.GetMol()
+    with rdBase.BlockLogs():
+        rdDetermineBonds.DetermineBonds(mol, charge=int(charge))
+    return mol
+
+
+def _mol_from_xyz(path: Path, charge: int | None) -> tuple[Chem.Mol, np.ndarray]:
+    """Molecule and frames of an XYZ file; ``charge`` None means "not given" (tried as 0)."""
+    symbols, frames = _read_xyz(path)
+    q = 0 if charge is None else int(charge)
     try:
-        with rdBase.BlockLogs():
-            rdDetermineBonds.DetermineBonds(mol, charge=int(charge))
-    except Exception as exc:
-        raise InputError(f"cannot assign bonds with net charge {charge} ({' '.join(str(exc).split())}); if this "
-                         f"is an ion, give its charge with --charge", source=str(path)) from None
+        mol = _bonds_from_xyz(symbols, frames[0], q)
+    except Exception as exc:             # RDKit raises ValueError/RuntimeError on a charge that does not fit
+        why = " ".join(str(exc).split())
+        fits = []
+        if len(symbols) <= 300:          # a few more perceptions (about 1 ms each for 20-50 atoms)
+            for trial in (0, 1, -1, 2, -2, 3, -3):
+                if trial != q and not fits:
+                    try:
+                        _bonds_from_xyz(symbols, frames[0], trial)
+                        fits.append(trial)
+                    except Exception:   # noqa: BLE001 - any failure just means "does not fit"
+                        pass
+        hint = f"; net charge {fits[0]} fits the geometry" if fits else ""
+        no_h = "; the file has no hydrogen atoms (XYZ input needs every atom)" if "H" not in symbols else ""
+        if charge is None:
+            msg = (f"cannot assign bonds for a neutral molecule ({why}){hint}{no_h}; if this is an ion, give "
+                   "its charge with --charge")
+        else:
+            msg = (f"the given charge {q} does not fit the geometry: RDKit cannot assign bonds with it ({why})"
+                   f"{hint}{no_h}; check --charge and that no atom is missing")
+        raise InputError(msg, source=str(path)) from None
+    if "H" not in symbols and "C" in symbols:
+        warnings.warn(GeometryWarning(f"{path}: no hydrogen atoms; an XYZ file must list every atom, so the bonds "
+                                      "were perceived for a hydrogen-free molecule (add the hydrogens)"), stacklevel=3)
     _sanitize_kekule(mol, str(path))
     Chem.AssignStereochemistryFrom3D(mol)
     return mol, frames
 
 
+def _short(text: str, n: int = 60) -> str:
+    """``text`` cut to ``n`` characters for messages."""
+    return text if len(text) <= n else text[: n - 3] + "..."
+
+
 def _mol_from_smiles(smiles: str) -> tuple[Chem.Mol, str]:
+    if len(smiles) > _limits.MAX_SMILES_CHARS:
+        raise InputError(f"SMILES of {len(smiles)} characters exceeds the limit of {_limits.MAX_SMILES_CHARS}; "
+                         "give large molecules as a MOL/SDF or XYZ file", source=_short(smiles))
     params = Chem.SmilesParserParams()
     params.sanitize, params.removeHs = False, False
     with rdBase.BlockLogs():
         mol = Chem.MolFromSmiles(smiles, params)
     if mol is None or mol.GetNumAtoms() == 0:
-        raise InputError("not a readable SMILES, nor a path to a .mol, .sdf, .sd or .xyz file", source=smiles)
+        try:
+            what = "folder" if Path(smiles).is_dir() else "file" if Path(smiles).is_file() else None
+        except (OSError, ValueError):
+            what = None
+        if what:
+            raise InputError(f"is a {what}, not a readable SMILES; expected a .mol, .sdf, .sd or .xyz file "
+                             "(name the file with its extension)", source=smiles)
+        raise InputError("not a readable SMILES, nor a path to a .mol, .sdf, .sd or .xyz file",
+                         source=_short(smiles))
     name = mol.GetProp("_Name").strip() if mol.HasProp("_Name") and mol.GetProp("_Name").strip() else smiles
-    _sanitize_kekule(mol, smiles)
+    _sanitize_kekule(mol, _short(smiles))
     Chem.AssignStereochemistry(mol, cleanIt=True, force=True)
     mol = Chem.AddHs(mol)
     heavy_first = sorted(range(mol.GetNumAtoms()), key=lambda k: (mol.GetAtomWithIdx(k).GetAtomicNum() == 1, k))
@@ -513,7 +574,7 @@ def _detect_format(spec: str, fmt: str | None) -> str:
     return "smiles"
 
 
-def _check_options(charge, conformers, temperature_K, energy_window_kcal_mol, rmsd_prune_A) -> None:
+def _check_options(charge, conformers, seed, temperature_K, energy_window_kcal_mol, rmsd_prune_A) -> None:
     for label, value, low in (("temperature_K", temperature_K, None), ("rmsd_prune_A", rmsd_prune_A, 0),
                               ("energy_window_kcal_mol", energy_window_kcal_mol, 0)):
         if isinstance(value, bool) or not isinstance(value, (int, float)) or not math.isfinite(value) \
@@ -524,6 +585,15 @@ def _check_options(charge, conformers, temperature_K, energy_window_kcal_mol, rm
         if value is not None and (isinstance(value, bool) or not isinstance(value, (int, np.integer))
                                   or (low is not None and value < low)):
             raise InputError(f"expected {'a positive integer' if low else 'an integer'}, got {value!r}", source=label)
+    if conformers is not None and conformers > _limits.MAX_RECORDS:
+        raise InputError(f"expected at most {_limits.MAX_RECORDS} conformers, got {conformers}", source="conformers")
+    if charge is not None and abs(charge) > _MAX_ABS_CHARGE:
+        raise InputError(f"expected a net charge from -{_MAX_ABS_CHARGE} to {_MAX_ABS_CHARGE}, got {charge}",
+                         source="charge")
+    # RDKit reads a negative seed as "random": refuse it, so that every run is reproducible
+    if isinstance(seed, bool) or not isinstance(seed, (int, np.integer)) or not 0 <= seed <= _MAX_SEED:
+        raise InputError(f"expected an integer from 0 to {_MAX_SEED} (RDKit's seed range; a negative seed would "
+                         f"make the conformers random), got {seed!r}", source="seed")
 
 
 def load_structure(spec: str, *, charge: int | None = None, conformers: int | None = None, seed: int = 42,
@@ -561,19 +631,20 @@ def load_structure(spec: str, *, charge: int | None = None, conformers: int | No
     if not isinstance(spec, (str, Path)) or not str(spec).strip():
         raise InputError("expected a SMILES or a path to a .mol, .sdf, .sd or .xyz file", source="spec")
     spec = str(spec).strip()
-    _check_options(charge, conformers, temperature_K, energy_window_kcal_mol, rmsd_prune_A)
+    _check_options(charge, conformers, seed, temperature_K, energy_window_kcal_mol, rmsd_prune_A)
     kind = _detect_format(spec, fmt)
     prov: dict = {"format": kind}
     coords = energies = None
     if kind == "smiles":
         base, name = _mol_from_smiles(spec)
     elif kind == "xyz":
-        base, coords = _mol_from_xyz(Path(spec), 0 if charge is None else int(charge))
+        base, coords = _mol_from_xyz(Path(spec), charge)
         name = Path(spec).stem
         prov["frames"] = int(coords.shape[0])
     else:
         base, coords, energies, name, extra = _mol_from_molfile(Path(spec))
         prov.update(extra)
+    _limits.check_count(base.GetNumAtoms(), _limits.MAX_ATOMS, "atoms (hydrogens included)", _short(spec))
     net = Chem.GetFormalCharge(base)
     if charge is not None and charge != net:
         raise InputError(f"charge={charge} contradicts the net formal charge {net} of the input", source=spec)

@@ -1,0 +1,175 @@
+"""Documented limits of ringshift's inputs, and the checks that enforce them.
+
+Every reader (SMILES, MOL/SDF, XYZ, CSV/TSV peak tables, JCAMP-DX) applies these limits before it
+does expensive work, and a file or string beyond a limit raises
+:class:`~ringshift.errors.InputError` with a one-line message naming the input, the limit and what
+to do. The numbers are generous for real spectra and molecules (the largest porphyrin nanorings
+studied by NMR have a few hundred atoms; a 1D ¹H spectrum has at most a few 10⁵ points) and small
+enough that a hostile or broken file cannot exhaust memory or time.
+
+Safety. Inputs are only ever parsed as text (RDKit's SMILES and MOL parsers, and ringshift's own
+XYZ, CSV and JCAMP-DX readers): nothing read from a file or the command line is executed,
+evaluated (no ``eval``/``exec``) or deserialised with ``pickle``, ``marshal`` or ``yaml``. Binary
+files (with NUL bytes) are refused before parsing.
+
+===========================  ==============  =========================================================
+limit                        value           applies to
+===========================  ==============  =========================================================
+MAX_FILE_BYTES               200 MiB         every input file (structures, peak lists, spectra)
+MAX_LINE_CHARS               100 000         every line of a text input file
+MAX_SMILES_CHARS             10 000          a SMILES given on the command line / to load_structure
+MAX_ATOMS                    2 000           atoms of one molecule, hydrogens included
+MAX_RECORDS                  5 000           SD records or XYZ frames of one ensemble file
+MAX_PEAKS                    10 000          rows of a peak table, JCAMP peaks, picked peaks
+MAX_SPECTRUM_POINTS          4 194 304       NPOINTS of a JCAMP-DX spectrum (2**22)
+MAX_ABS_COORDINATE_A         10 000 Å        every coordinate (larger: wrong units or a crystal cell)
+MIN_EXTENT_A                 0.001 Å         spread of a molecule of ≥ 2 atoms (smaller: all zero?)
+MIN_ATOM_DISTANCE_A          0.5 Å           any two atoms (closer: duplicated or overlapping atoms)
+===========================  ==============  =========================================================
+
+The shortest real interatomic distance is that of H₂, 0.741 Å (CRC Handbook of Chemistry and
+Physics, bond lengths table; from memory), so 0.5 Å cannot refuse a real structure.
+"""
+
+from __future__ import annotations
+
+import os
+
+import numpy as np
+from scipy.spatial import cKDTree
+
+from ringshift.errors import InputError
+
+__all__ = ["MAX_FILE_BYTES", "MAX_LINE_CHARS", "MAX_SMILES_CHARS", "MAX_ATOMS", "MAX_RECORDS", "MAX_PEAKS",
+           "MAX_SPECTRUM_POINTS", "MAX_ABS_COORDINATE_A", "MIN_EXTENT_A", "MIN_ATOM_DISTANCE_A",
+           "check_file_size", "read_text_bytes", "check_lines", "check_count", "check_coordinates"]
+
+MAX_FILE_BYTES: int = 200 * 2**20
+MAX_LINE_CHARS: int = 100_000
+MAX_SMILES_CHARS: int = 10_000
+MAX_ATOMS: int = 2_000
+MAX_RECORDS: int = 5_000
+MAX_PEAKS: int = 10_000
+MAX_SPECTRUM_POINTS: int = 2**22
+MAX_ABS_COORDINATE_A: float = 1.0e4
+MIN_EXTENT_A: float = 1.0e-3
+MIN_ATOM_DISTANCE_A: float = 0.5
+
+
+def check_file_size(path: str | os.PathLike, what: str) -> None:
+    """Raise InputError if ``path`` is larger than :data:`MAX_FILE_BYTES` (``what``: the expected kind
+    of file, for the message). Missing files are left to the reader."""
+    name = os.fspath(path)
+    try:
+        size = os.path.getsize(name)
+    except OSError:
+        return
+    if size > MAX_FILE_BYTES:
+        raise InputError(f"file of {size / 2**20:.0f} MiB exceeds the {MAX_FILE_BYTES // 2**20} MiB limit; "
+                         f"expected {what}", name)
+
+
+def read_text_bytes(path: str | os.PathLike, what: str) -> bytes:
+    """The bytes of a text input file, after the size limit and a binary-content check.
+
+    Parameters
+    ----------
+    path : str or os.PathLike
+    what : str
+        The kind of file expected ("a peak list or spectrum", "an XYZ file", ...), for messages.
+
+    Returns
+    -------
+    bytes
+        File content (not yet decoded).
+
+    Raises
+    ------
+    InputError
+        Missing file, a folder, unreadable, larger than :data:`MAX_FILE_BYTES`, or holding NUL bytes
+        (a binary file).
+    """
+    name = os.fspath(path)
+    check_file_size(name, what)
+    try:
+        with open(name, "rb") as handle:
+            raw = handle.read(MAX_FILE_BYTES + 1)
+    except FileNotFoundError:
+        raise InputError("file not found", name) from None
+    except IsADirectoryError:
+        raise InputError(f"is a folder; expected {what}", name) from None
+    except OSError as exc:
+        raise InputError(f"cannot be read ({exc.strerror or exc})", name) from None
+    if len(raw) > MAX_FILE_BYTES:       # grew while being read, or a device without a size
+        raise InputError(f"more than {MAX_FILE_BYTES // 2**20} MiB; expected {what}", name)
+    if b"\x00" in raw:
+        raise InputError(f"binary file (NUL bytes); expected {what} as text", name)
+    return raw
+
+
+def check_lines(text: str, source: str) -> None:
+    """Raise InputError naming the first line longer than :data:`MAX_LINE_CHARS` characters."""
+    if len(text) <= MAX_LINE_CHARS:
+        return
+    for lineno, line in enumerate(text.splitlines(), 1):
+        if len(line) > MAX_LINE_CHARS:
+            raise InputError(f"line of {len(line)} characters exceeds the {MAX_LINE_CHARS} character limit "
+                             "(a binary file, or line breaks lost?)", f"{source}:{lineno}")
+
+
+def check_count(count: int, limit: int, what: str, source: str) -> None:
+    """Raise InputError if ``count`` (of ``what``, e.g. "atoms") exceeds ``limit``."""
+    if count > limit:
+        raise InputError(f"{count} {what} exceed the limit of {limit} (see ringshift.limits)", source)
+
+
+def check_coordinates(coords, symbols, source: str, *, unit: str = "frame") -> None:
+    """Refuse coordinates no real molecule has, naming the atoms (0-based indices) and the frame.
+
+    Parameters
+    ----------
+    coords : array_like, shape (n_frames, n_atoms, 3)
+        Cartesian coordinates, Å.
+    symbols : sequence of str, length n_atoms
+        Element symbols, for messages.
+    source : str
+        The file, for messages.
+    unit : str
+        What a frame is called in messages ("frame" for XYZ, "record" for SD files).
+
+    Raises
+    ------
+    InputError
+        A NaN or infinite coordinate; one beyond ±:data:`MAX_ABS_COORDINATE_A`; a molecule of at least
+        two atoms all within :data:`MIN_EXTENT_A` of each other; two atoms closer than
+        :data:`MIN_ATOM_DISTANCE_A`.
+    """
+    x = np.asarray(coords, dtype=np.float64)
+    if x.ndim != 3 or x.shape[-1] != 3:
+        raise InputError(f"expected coordinates of shape (n_frames, n_atoms, 3), got {x.shape}", source)
+
+    def name(k: int) -> str:
+        return f"{k} ({symbols[k]})" if k < len(symbols) else str(k)
+
+    for f in range(x.shape[0]):
+        xf = x[f]
+        where = f"{source} ({unit} {f + 1})" if x.shape[0] > 1 else source
+        bad = np.flatnonzero(~np.all(np.isfinite(xf), axis=1))
+        if bad.size:
+            raise InputError(f"non-finite coordinate of atom {name(int(bad[0]))}", where)
+        if xf.size and np.max(np.abs(xf)) > MAX_ABS_COORDINATE_A:
+            k = int(np.argmax(np.max(np.abs(xf), axis=1)))
+            raise InputError(f"coordinate {xf[k][np.argmax(np.abs(xf[k]))]:.4g} of atom {name(k)} is beyond "
+                             f"±{MAX_ABS_COORDINATE_A:g} Å; expected Å near the origin (wrong unit, or a "
+                             "crystal cell?)", where)
+        if xf.shape[0] < 2:
+            continue
+        if np.max(np.ptp(xf, axis=0)) < MIN_EXTENT_A:
+            raise InputError(f"all {xf.shape[0]} atoms lie within {MIN_EXTENT_A:g} Å of each other; expected "
+                             "coordinates in Å (all zero, or written in another unit?)", where)
+        pairs = cKDTree(xf).query_pairs(MIN_ATOM_DISTANCE_A, output_type="ndarray")
+        if pairs.size:
+            d = np.linalg.norm(xf[pairs[:, 0]] - xf[pairs[:, 1]], axis=1)
+            i, j = sorted(int(v) for v in pairs[int(np.argmin(d))])
+            raise InputError(f"atoms {name(i)} and {name(j)} (0-based) are {d.min():.3f} Å apart; expected at "
+                             f"least {MIN_ATOM_DISTANCE_A:g} Å (a duplicated or misplaced atom?)", where)
