@@ -65,8 +65,8 @@ def check_file_size(path: str | os.PathLike, what: str) -> None:
     except OSError:
         return
     if size > MAX_FILE_BYTES:
-        raise InputError(f"file of {size / 2**20:.0f} MiB exceeds the {MAX_FILE_BYTES // 2**20} MiB limit; "
-                         f"expected {what}", name)
+        raise InputError(f"file of {size} bytes exceeds the limit of {MAX_FILE_BYTES} bytes "
+                         f"({MAX_FILE_BYTES / 2**20:g} MiB); expected {what}", name)
 
 
 def read_text_bytes(path: str | os.PathLike, what: str) -> bytes:

@@ -638,6 +638,9 @@ def read_peaks(path: str | os.PathLike, *, n_hydrogens: int | None = None, solve
         eligible = tuple(not e for e in eligible)
     peaks, notes = _flag(peak_list.peaks, solvent, flag_tms, REFERENCE_TOLERANCE_PPM, eligible)
     notes = list(read_notes) + list(peak_list.warnings) + notes
+    if n_hydrogens is not None and not peaks:          # a comparison needs peaks: say why there are none
+        why = "; ".join(w for w in peak_list.warnings if "σ above the noise" in w) or "the file holds no peaks"
+        raise InputError(f"no peaks to compare: {why}; give a peak table or a spectrum with resolved peaks", source)
     if n_hydrogens is not None:
         peaks, more = _normalise(peaks, n_hydrogens)
         n_sample = sum(p.kind == "sample" for p in peaks)

@@ -316,9 +316,9 @@ def _read_xyz(path: Path) -> tuple[list[str], np.ndarray]:
             continue
         head, frame = lines[k].split(), len(frames) + 1
         if len(head) != 1 or not re.fullmatch(r"[0-9]{1,12}", head[0]) or int(head[0]) < 1:
+            hint = "; is the previous frame's count right?" if frame > 1 else ""
             raise InputError(f"expected the atom count of frame {frame} (one positive integer), got "
-                             f"{lines[k].strip()[:40]!r}; is the previous frame's count right?",
-                             source=f"{path}:{k + 1}")
+                             f"{lines[k].strip()[:40]!r}{hint}", source=f"{path}:{k + 1}")
         n = int(head[0])
         _limits.check_count(n, _limits.MAX_ATOMS, f"atoms in frame {frame}", f"{path}:{k + 1}")
         _limits.check_count(frame, _limits.MAX_RECORDS, "XYZ frames", f"{path}:{k + 1}")
