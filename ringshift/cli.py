@@ -266,6 +266,76 @@ def map_cmd(structure, charge, conformers, seed, temperature, model, currents, b
     click.echo(f"wrote {output}", err=True)
 
 
+@cli.command("trajectory")
+@click.argument("frames", type=click.Path(dir_okay=False))
+@click.option("--charge", type=int, default=None, help="Net charge (XYZ frames of ions).")
+@click.option("--model", type=click.Choice(["polygon", "johnson-bovey", "haigh-mallion", "dipole"]),
+              default="polygon", show_default=True)
+@click.option("--currents", type=click.Choice(["huckel", "benzene", "huckel-per-frame"]), default="huckel",
+              show_default=True, help="Currents of the first frame held fixed, 12 nA/T, or Hueckel-London per frame.")
+@click.option("--beta", "beta_model", type=click.Choice(["scf", "scf-coulson", "distance", "uniform"]), default="scf",
+              show_default=True)
+@click.option("--weights", type=click.Choice(["uniform", "boltzmann"]), default="uniform", show_default=True,
+              help="Frame weights (Boltzmann from energies in the XYZ comment lines or SD fields).")
+@click.option("--temperature", type=click.FloatRange(1.0, 2000.0), default=298.15, show_default=True)
+@click.option("--energy-unit", type=click.Choice(["kcal/mol", "kJ/mol", "hartree", "eV"]), default="kcal/mol",
+              show_default=True, help="Unit of bare energies in XYZ comment lines.")
+@click.option("--exchange", type=click.Choice(["none", "auto"]), default="none", show_default=True,
+              help="Fast exchange: average topologically equivalent protons (e.g. annulene inner/outer).")
+@click.option("--memory", type=click.FloatRange(10.0, 1e5), default=500.0, show_default=True,
+              help="Memory budget for the frame blocks (MB).")
+@click.option("--format", "fmt", type=click.Choice(["table", "json"]), default="table", show_default=True)
+@click.option("-o", "--output", type=click.Path(dir_okay=False), default=None)
+@click.option("--force", is_flag=True)
+def trajectory_cmd(frames, charge, model, currents, beta_model, weights, temperature, energy_unit, exchange, memory,
+                   fmt, output, force):
+    """Frame-averaged ring-current shifts of a multi-frame XYZ or multi-record SDF (streamed)."""
+    from ringshift import output as out
+    from ringshift.ensemble import predict_trajectory_file, trajectory_to_dict
+
+    tp = predict_trajectory_file(frames, charge=charge, energy_unit=energy_unit, model=model, currents=currents,
+                                 beta_model=beta_model, weights=weights, temperature_K=temperature,
+                                 exchange=None if exchange == "none" else exchange, memory_MB=memory)
+    if fmt == "json":
+        text = out.to_json(trajectory_to_dict(tp))
+    else:
+        rows = [f"{tp.template.structure.name}: {tp.n_frames} frames, weights {weights}, model {model}, "
+                f"exchange {exchange}", "", "group  nH  atoms (H)                 ring current  spread  predicted"]
+        for g in tp.groups:
+            atoms = " ".join(map(str, g.atoms))
+            pred = "" if g.predicted_ppm is None else f"{g.predicted_ppm:9.2f}"
+            rows.append(f"{g.label:<6} {len(g.atoms):>2}  {atoms[:24]:<24}  {g.ring_current_ppm:+12.2f}  "
+                        f"{g.spread_ppm:6.2f}  {pred}")
+        rows += [f"note: {w}" for w in tp.warnings] + ["", f"Caution: {out.CAUTION}"]
+        text = "\n".join(rows) + "\n"
+    _emit(text, output, force)
+
+
+@cli.command("batch")
+@click.argument("library", type=click.Path(dir_okay=False))
+@click.option("-o", "--output", required=True, type=click.Path(dir_okay=False), help="JSON-lines output.")
+@click.option("--jobs", type=click.IntRange(1, 256), default=1, show_default=True, help="Worker processes.")
+@click.option("--scheduler", default=None, metavar="ADDRESS", help="Dask scheduler address (needs ringshift[dask]).")
+@click.option("--restart", is_flag=True, help="Start the output afresh instead of resuming it.")
+@click.option("--quiet", is_flag=True, help="No progress bar.")
+@_apply(structure_options)
+@click.option("--model", type=click.Choice(["polygon", "johnson-bovey", "haigh-mallion", "dipole", "network"]),
+              default="polygon", show_default=True)
+@click.option("--currents", type=click.Choice(["huckel", "benzene"]), default="huckel", show_default=True)
+@click.option("--beta", "beta_model", type=click.Choice(["scf", "scf-coulson", "distance", "uniform"]), default="scf",
+              show_default=True)
+def batch_cmd(library, output, jobs, scheduler, restart, quiet, charge, conformers, seed, temperature, model,
+              currents, beta_model):
+    """Predict every molecule of LIBRARY (SDF, or SMILES file: SMILES [name] per line) into JSON lines."""
+    from ringshift.batch import run_batch
+
+    load = {"charge": charge, "conformers": conformers, "seed": seed, "temperature_K": temperature}
+    summ = run_batch(library, output, jobs=jobs, scheduler=scheduler, resume=not restart, overwrite=restart,
+                     progress=not quiet, load_kwargs=load, model=model, currents=currents, beta_model=beta_model)
+    click.echo(f"{summ.n_total} molecules: {summ.n_computed} computed ({summ.n_failed} failed), "
+               f"{summ.n_skipped} already done; {summ.output} ({summ.elapsed_s:.1f} s)")
+
+
 @cli.command("demo")
 @click.option("-o", "--output", "out_dir", type=click.Path(file_okay=False), default="ringshift_demo_output",
               show_default=True, help="Folder for the demo reports.")
