@@ -1,0 +1,75 @@
+"""The report, map, trajectory, batch and demo commands end to end (in-process)."""
+
+import json
+
+import pytest
+from rdkit import Chem
+from rdkit.Chem import AllChem
+
+from ringshift.cli import main
+
+
+def run(argv, capsys):
+    with pytest.raises(SystemExit) as exc:
+        main(argv)
+    out, err = capsys.readouterr()
+    return exc.value.code, out, err
+
+
+def test_report_with_peaks(tmp_path, capsys):
+    peaks = tmp_path / "p.csv"
+    peaks.write_text("shift_ppm,integral\n7.36,6\n", encoding="utf-8")
+    out_dir = tmp_path / "rep"
+    code, out, err = run(["report", "c1ccccc1", str(peaks), "-o", str(out_dir), "--quiet"], capsys)
+    assert code == 0, err
+    assert (out_dir / "report.html").is_file() and (out_dir / "structure.sdf").is_file()
+    data = json.loads((out_dir / "results.json").read_text())
+    assert data["ringshift_result"] == "comparison"
+    # existing folder refused without --force, nothing changed
+    code, _, err = run(["report", "c1ccccc1", "-o", str(out_dir), "--quiet"], capsys)
+    assert code == 2 and "--force" in err
+
+
+def test_map_and_scan(tmp_path, capsys):
+    for plane in ("both", "scan"):
+        target = tmp_path / f"m_{plane}.png"
+        code, _, err = run(["map", "c1ccccc1", "-o", str(target), "--plane", plane, "--grid", "41"], capsys)
+        assert code == 0, err
+        assert target.stat().st_size > 1000
+    code, _, err = run(["map", "C1CCCCC1", "-o", str(tmp_path / "x.png")], capsys)
+    assert code == 2 and "no conjugated ring" in err and not (tmp_path / "x.png").exists()
+
+
+def test_trajectory_exchange(tmp_path, capsys):
+    m = Chem.AddHs(Chem.MolFromSmiles("c1ccc2ccccc2c1"))
+    ids = AllChem.EmbedMultipleConfs(m, 3, randomSeed=5)
+    AllChem.MMFFOptimizeMoleculeConfs(m)
+    path = tmp_path / "t.xyz"
+    path.write_text("".join(Chem.MolToXYZBlock(m, confId=i) for i in ids))
+    code, out, err = run(["trajectory", str(path), "--format", "json", "--exchange", "auto"], capsys)
+    assert code == 0, err
+    data = json.loads(out)
+    assert data["n_frames"] == 3
+    # naphthalene: alpha and beta protons (4 + 4) after exchange over topological equivalents (RDKit ranks)
+    assert sorted(g["n_h"] for g in data["groups"]) == [4, 4]
+
+
+def test_batch_survives_a_bad_molecule_and_resumes(tmp_path, capsys):
+    lib = tmp_path / "lib.smi"
+    lib.write_text("c1ccccc1 benzene\nC1CC(( broken\nc1ccncc1 pyridine\n", encoding="utf-8")
+    out = tmp_path / "out.jsonl"
+    code, text, err = run(["batch", str(lib), "-o", str(out), "--quiet"], capsys)
+    assert code == 0, err
+    recs = [json.loads(line) for line in out.read_text().splitlines()]
+    assert [r["name"] for r in recs] == ["benzene", "broken", "pyridine"]
+    assert [r["ok"] for r in recs] == [True, False, True]
+    code, text, _ = run(["batch", str(lib), "-o", str(out), "--quiet"], capsys)
+    assert code == 0 and "3 already done" in text
+
+
+def test_demo_runs(tmp_path, capsys):
+    out_dir = tmp_path / "demo"
+    code, out, err = run(["demo", "-o", str(out_dir), "--quiet"], capsys)
+    assert code == 0, err
+    assert "FJ14C: verdict diatropic" in out and "claim 'aromatic': supported" in out
+    assert (out_dir / "fj14c" / "report.html").is_file() and (out_dir / "fj14o" / "report.html").is_file()
