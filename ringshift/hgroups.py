@@ -1,8 +1,10 @@
-"""Groups of NMR-equivalent hydrogens from graph symmetry realised by the 3D geometry.
+"""Molecular symmetry: groups of NMR-equivalent hydrogens, graph automorphisms, symmetry-aware RMSD.
 
-Moved out of :mod:`ringshift.structure` (which re-exports :func:`group_equivalent_hydrogens` and
-:data:`H_SYMMETRY_TOLERANCE_A`). Also holds the small graph helpers that conformer pruning uses
-(:func:`symmetry_graph`, :func:`automorphisms`).
+:func:`group_equivalent_hydrogens` finds the graph symmetry that the 3D geometry realises; the
+conformer generator of :mod:`ringshift.structure` prunes duplicates with :func:`prune_conformers`
+(RMSD minimised over automorphisms, :func:`kabsch_rmsd`). Moved out of :mod:`ringshift.structure`,
+which re-exports :func:`group_equivalent_hydrogens`, :func:`kabsch_rmsd` and
+:data:`H_SYMMETRY_TOLERANCE_A`.
 """
 
 from __future__ import annotations
@@ -12,7 +14,8 @@ from rdkit import Chem
 
 from ringshift.errors import InputError
 
-__all__ = ["group_equivalent_hydrogens", "H_SYMMETRY_TOLERANCE_A", "symmetry_graph", "automorphisms"]
+__all__ = ["group_equivalent_hydrogens", "H_SYMMETRY_TOLERANCE_A", "symmetry_graph", "automorphisms",
+           "kabsch_rmsd", "prune_conformers"]
 
 #: Largest heavy-atom displacement (Å) of an approximate symmetry operation (group_equivalent_hydrogens).
 #: Measured on MMFF94 minima: C5H5- is off its D5h symmetry by 0.09 Å, bond-localised
@@ -21,6 +24,46 @@ __all__ = ["group_equivalent_hydrogens", "H_SYMMETRY_TOLERANCE_A", "symmetry_gra
 H_SYMMETRY_TOLERANCE_A: float = 0.4
 
 _MAX_AUTOMORPHISMS = 1000
+
+
+def kabsch_rmsd(a: np.ndarray, b: np.ndarray) -> np.ndarray:
+    """RMSD after optimal superposition by translation and proper rotation.
+
+    Closed form from the singular values of the covariance matrix (Kabsch, Acta Cryst. A 1976, 32, 922;
+    Coutsias, Seok & Dill, J. Comput. Chem. 2004, 25, 1849).
+
+    Parameters
+    ----------
+    a, b : numpy.ndarray, shape (..., n, 3)
+        Point sets in Å; leading axes broadcast.
+
+    Returns
+    -------
+    numpy.ndarray, shape (...)
+        RMSD in Å.
+    """
+    a = np.asarray(a, dtype=np.float64)
+    b = np.asarray(b, dtype=np.float64)
+    a = a - a.mean(axis=-2, keepdims=True)
+    b = b - b.mean(axis=-2, keepdims=True)
+    cov = np.swapaxes(a, -1, -2) @ b
+    s = np.linalg.svd(cov, compute_uv=False)
+    d = np.where(np.linalg.det(cov) < 0.0, -1.0, 1.0)
+    msd = (np.sum(a * a, axis=(-1, -2)) + np.sum(b * b, axis=(-1, -2))
+           - 2.0 * (s[..., 0] + s[..., 1] + d * s[..., 2])) / a.shape[-2]
+    return np.sqrt(np.clip(msd, 0.0, None))
+
+
+def prune_conformers(heavy_xyz: np.ndarray, perms: np.ndarray, threshold_A: float) -> list[int]:
+    """Greedy pruning of energy-sorted conformers (n_conf, n_heavy, 3): keep one whose RMSD, minimised
+    over automorphisms ``perms`` and proper rotations, to every kept one exceeds ``threshold_A``."""
+    if threshold_A <= 0.0 or heavy_xyz.shape[1] == 0:
+        return list(range(heavy_xyz.shape[0]))
+    keep = [0]
+    for c in range(1, heavy_xyz.shape[0]):
+        if kabsch_rmsd(heavy_xyz[c][perms][:, None], heavy_xyz[keep][None]).min() > threshold_A:
+            keep.append(c)
+    return keep
 
 
 def _fit(p: np.ndarray, q: np.ndarray, improper: bool) -> tuple[np.ndarray, np.ndarray]:
@@ -92,7 +135,8 @@ def _rotor_sites(mol: Chem.Mol, rank: list[int]) -> tuple[np.ndarray, set, dict]
                     anchor[k] = y
     for at in mol.GetAtoms():
         nbs = list(at.GetNeighbors())
-        if at.GetAtomicNum() in (8, 16) and sorted(n.GetAtomicNum() > 1 for n in nbs) == [False, True]:
+        nums = sorted(n.GetAtomicNum() for n in nbs)
+        if at.GetAtomicNum() in (8, 16) and len(nums) == 2 and nums[0] == 1 and nums[1] > 1:   # X-O-H, X-S-H
             h = next(n.GetIdx() for n in nbs if n.GetAtomicNum() == 1)
             anchor[h] = at.GetIdx() if anchor[h] < 0 else anchor[h]
     tags = {at.GetIdx(): 1 + at.GetIsotope() + 200 * at.GetTotalNumHs(includeNeighbors=True)

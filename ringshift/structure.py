@@ -27,7 +27,8 @@ from scipy import constants as _sc
 from ringshift import limits as _limits
 from ringshift.constants import KB_KCAL_PER_MOL_K
 from ringshift.errors import GeometryWarning, InputError
-from ringshift.hgroups import H_SYMMETRY_TOLERANCE_A, automorphisms, group_equivalent_hydrogens, symmetry_graph
+from ringshift.hgroups import (H_SYMMETRY_TOLERANCE_A, automorphisms, group_equivalent_hydrogens, kabsch_rmsd,
+                               prune_conformers, symmetry_graph)
 
 __all__ = ["Structure", "load_structure", "read_mol_records", "group_equivalent_hydrogens", "ez_stereo_check",
            "kabsch_rmsd", "boltzmann_weights", "default_conformer_count", "ENERGY_PROPERTIES",
@@ -92,34 +93,6 @@ class Structure:
 
 
 # --------------------------------------------------------------------------------------- array kernels
-def kabsch_rmsd(a: np.ndarray, b: np.ndarray) -> np.ndarray:
-    """RMSD after optimal superposition by translation and proper rotation.
-
-    Closed form from the singular values of the covariance matrix (Kabsch, Acta Cryst. A 1976, 32, 922;
-    Coutsias, Seok & Dill, J. Comput. Chem. 2004, 25, 1849).
-
-    Parameters
-    ----------
-    a, b : numpy.ndarray, shape (..., n, 3)
-        Point sets in Å; leading axes broadcast.
-
-    Returns
-    -------
-    numpy.ndarray, shape (...)
-        RMSD in Å.
-    """
-    a = np.asarray(a, dtype=np.float64)
-    b = np.asarray(b, dtype=np.float64)
-    a = a - a.mean(axis=-2, keepdims=True)
-    b = b - b.mean(axis=-2, keepdims=True)
-    cov = np.swapaxes(a, -1, -2) @ b
-    s = np.linalg.svd(cov, compute_uv=False)
-    d = np.where(np.linalg.det(cov) < 0.0, -1.0, 1.0)
-    msd = (np.sum(a * a, axis=(-1, -2)) + np.sum(b * b, axis=(-1, -2))
-           - 2.0 * (s[..., 0] + s[..., 1] + d * s[..., 2])) / a.shape[-2]
-    return np.sqrt(np.clip(msd, 0.0, None))
-
-
 def boltzmann_weights(energies_kcal_mol: np.ndarray, temperature_K: float) -> np.ndarray:
     """Boltzmann populations p_i = exp(-E_i / kT) / sum_j exp(-E_j / kT).
 
@@ -509,26 +482,19 @@ def _optimise(mol: Chem.Mol) -> tuple[np.ndarray, np.ndarray | None, str | None,
     perceives its own aromaticity in place. Returns coords, energies, force field, not converged."""
     work, result, ff = Chem.Mol(mol), None, None
     with rdBase.BlockLogs():
-        if rdForceFieldHelpers.MMFFHasAllMoleculeParams(Chem.Mol(mol)):
-            result, ff = rdForceFieldHelpers.MMFFOptimizeMoleculeConfs(work, numThreads=0, maxIters=2000), "mmff94"
-        elif rdForceFieldHelpers.UFFHasAllMoleculeParams(Chem.Mol(mol)):
-            result, ff = rdForceFieldHelpers.UFFOptimizeMoleculeConfs(work, numThreads=0, maxIters=2000), "uff"
+        try:
+            if rdForceFieldHelpers.MMFFHasAllMoleculeParams(Chem.Mol(mol)):
+                result, ff = rdForceFieldHelpers.MMFFOptimizeMoleculeConfs(work, numThreads=0, maxIters=2000), "mmff94"
+            elif rdForceFieldHelpers.UFFHasAllMoleculeParams(Chem.Mol(mol)):
+                result, ff = rdForceFieldHelpers.UFFOptimizeMoleculeConfs(work, numThreads=0, maxIters=2000), "uff"
+        except RuntimeError as exc:       # e.g. a zero-order bond that UFF cannot stretch
+            warnings.warn(GeometryWarning(f"force-field minimisation failed ({' '.join(str(exc).split()[:6])}); "
+                                          "ETKDG geometries are used unminimised"), stacklevel=4)
+            work, result, ff = Chem.Mol(mol), None, None
     coords = np.stack([c.GetPositions() for c in work.GetConformers()])
     if result is None:
         return coords, None, None, 0
     return coords, np.array([e for _, e in result], dtype=np.float64), ff, sum(1 for nc, _ in result if nc)
-
-
-def _prune(heavy_xyz: np.ndarray, perms: np.ndarray, threshold_A: float) -> list[int]:
-    """Greedy pruning of energy-sorted conformers (n_conf, n_heavy, 3): keep one whose RMSD, minimised
-    over automorphisms ``perms`` and proper rotations, to every kept one exceeds ``threshold_A``."""
-    if threshold_A <= 0.0 or heavy_xyz.shape[1] == 0:
-        return list(range(heavy_xyz.shape[0]))
-    keep = [0]
-    for c in range(1, heavy_xyz.shape[0]):
-        if kabsch_rmsd(heavy_xyz[c][perms][:, None], heavy_xyz[keep][None]).min() > threshold_A:
-            keep.append(c)
-    return keep
 
 
 def _generate(mol: Chem.Mol, n: int, seed: int, window: float, rmsd_A: float, source: str):
@@ -547,7 +513,7 @@ def _generate(mol: Chem.Mol, n: int, seed: int, window: float, rmsd_A: float, so
         ok = sorted((c for c in ok if energies[c] - e_min <= window), key=lambda c: (energies[c], c))
     heavy = [a.GetIdx() for a in mol.GetAtoms() if a.GetAtomicNum() > 1]
     tags = {a.GetIdx(): 1 + a.GetTotalNumHs(includeNeighbors=True) for a in mol.GetAtoms()}
-    kept = [ok[k] for k in _prune(coords[ok][:, heavy], automorphisms(symmetry_graph(mol, heavy, tags)), rmsd_A)]
+    kept = [ok[k] for k in prune_conformers(coords[ok][:, heavy], automorphisms(symmetry_graph(mol, heavy, tags)), rmsd_A)]
     info = {"coordinates": "etkdg-v3" + (f"+{ff}" if ff else ""), "embedding_basic_knowledge": basic,
             "conformers_requested": n, "conformers_embedded": int(coords.shape[0]),
             "conformers_rejected_ez": int(coords.shape[0] - n_ez), "conformers_kept": len(kept),
@@ -572,6 +538,20 @@ def _detect_format(spec: str, fmt: str | None) -> str:
         raise InputError(f"unknown file format {suffix!r}; expected .mol, .sdf, .sd or .xyz (or pass fmt)",
                          source=spec)
     return "smiles"
+
+
+def _check_chemistry(mol: Chem.Mol, source: str) -> None:
+    """Refuse what is not a complete molecule: dummy or query atoms (``*``, R groups, atom lists) and bonds
+    without a chemical order (MOL bond order 0 or 'any'); these would reach the force field or Hückel step."""
+    dummy = [a.GetIdx() for a in mol.GetAtoms() if a.GetAtomicNum() == 0]
+    if dummy:
+        raise InputError(f"atom {dummy[0]} (0-based) is a dummy or query atom ('*', R group or atom list); "
+                         "expected a complete molecule", source=source)
+    for b in mol.GetBonds():
+        if b.HasQuery() or b.GetBondType() in (Chem.BondType.UNSPECIFIED, Chem.BondType.OTHER):
+            raise InputError(f"bond {b.GetBeginAtomIdx()}-{b.GetEndAtomIdx()} (0-based) has no chemical bond order "
+                             "(order 0 or a query bond); expected single, double, triple or aromatic bonds",
+                             source=source)
 
 
 def _check_options(charge, conformers, seed, temperature_K, energy_window_kcal_mol, rmsd_prune_A) -> None:
@@ -645,6 +625,7 @@ def load_structure(spec: str, *, charge: int | None = None, conformers: int | No
         base, coords, energies, name, extra = _mol_from_molfile(Path(spec))
         prov.update(extra)
     _limits.check_count(base.GetNumAtoms(), _limits.MAX_ATOMS, "atoms (hydrogens included)", _short(spec))
+    _check_chemistry(base, _short(spec))
     net = Chem.GetFormalCharge(base)
     if charge is not None and charge != net:
         raise InputError(f"charge={charge} contradicts the net formal charge {net} of the input", source=spec)

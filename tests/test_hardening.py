@@ -122,6 +122,12 @@ def _build_inputs(d: Path) -> None:
         parent = k if k < 6 else benz.GetAtomWithIdx(k).GetNeighbors()[0].GetIdx()
         mol.GetConformer().SetAtomPosition(k, [1.4 * parent, 1.08 if k >= 6 else 0.0, 0.3 if k >= 6 else 0.0])
     (d / "collinear.mol").write_text(Chem.MolToMolBlock(mol), encoding="utf-8")
+    # a 3D MOL block with one C-H bond of order 0 and one of order 8 ("any", a query bond)
+    lines = Chem.MolToMolBlock(benz).splitlines()
+    k = next(i for i, line in enumerate(lines) if line.split()[:3] == ["1", "7", "1"])
+    for name, order in (("order0.mol", "0"), ("anybond.mol", "8")):
+        edited = lines[:k] + [lines[k][:6] + order.rjust(3) + lines[k][9:]] + lines[k + 1:]
+        (d / name).write_text("\n".join(edited) + "\n", encoding="utf-8")
     for name in ("big.xyz", "big.csv"):                # sparse files just over the size limit
         with open(d / name, "wb") as handle:
             handle.truncate(limits.MAX_FILE_BYTES + 1)
@@ -168,6 +174,8 @@ CASES = [
     C("smiles-blank", ["predict", "   "], 2, "expected a SMILES"),
     C("smiles-too-long", ["predict", "C" * (limits.MAX_SMILES_CHARS + 1)], 2, "exceeds the limit"),
     C("structure-folder", ["predict", "{d}"], 2, "is a folder"),
+    C("smiles-dummy-atom", ["predict", "[*]c1ccccc1"], 2, "dummy or query atom"),
+    C("smiles-dummy-thiol", ["predict", "[*]/C1=C/C#S[*]/C1=C/C"], 2, "dummy or query atom"),  # fuzz finding
     # --- structure files
     C("missing-file", ["predict", "{d}/nothing_here.sdf"], 2, "file not found"),
     C("xyz-folder", ["predict", "{d}/a_folder.xyz"], 2, "is a folder"),
@@ -203,6 +211,8 @@ CASES = [
     C("sdf-record-limit", ["predict", "{d}/too_many_records.sdf"], 2, f"limit of {limits.MAX_RECORDS}"),
     C("unknown-extension", ["predict", "{d}/structure.pdb"], 2, "unknown file format '.pdb'"),
     C("degenerate-ring", ["predict", "{d}/collinear.mol"], 2, "collinear"),
+    C("mol-bond-order-0", ["predict", "{d}/order0.mol"], 2, "no chemical bond order"),   # fuzz finding
+    C("mol-query-bond", ["predict", "{d}/anybond.mol"], 2, "no chemical bond order"),
     # --- peak lists: accepted variants
     C("peaks-bom", ["compare", B, "{d}/bom.csv", "--format", "json"], 0, ""),
     C("peaks-crlf", ["compare", B, "{d}/crlf.csv", "--format", "json"], 0, ""),
@@ -336,6 +346,37 @@ def test_xyz_without_hydrogens_warns(data_dir):
     with pytest.warns(GeometryWarning, match="no hydrogen atoms"):
         s = load_structure(str(data_dir / "no_hydrogen.xyz"))
     assert s.mol.GetNumAtoms() == 10
+
+
+def test_force_field_failure_falls_back_to_etkdg(monkeypatch):
+    # Fuzz finding: UFF raised RuntimeError ("bad bond order") from inside load_structure. A force
+    # field that cannot be set up now gives a GeometryWarning and the unminimised ETKDG geometry.
+    from rdkit.Chem import rdForceFieldHelpers
+
+    def boom(*args, **kwargs):
+        raise RuntimeError("Pre-condition Violation bad bond order")
+
+    monkeypatch.setattr(rdForceFieldHelpers, "MMFFOptimizeMoleculeConfs", boom)
+    with pytest.warns(GeometryWarning, match="minimisation failed"):
+        s = load_structure("c1ccccc1", conformers=2, seed=1)
+    assert np.all(np.isfinite(s.coords)) and s.energies_kcal_mol is None
+    assert s.provenance["coordinates"] == "etkdg-v3"
+
+
+def test_hydrogen_groups_tolerate_dummy_neighbours():
+    # Fuzz finding: an O/S bonded to a dummy atom and nothing else made group_equivalent_hydrogens
+    # raise StopIteration. The public function must cope with any sanitised molecule.
+    from ringshift.structure import group_equivalent_hydrogens
+
+    mol = Chem.AddHs(Chem.MolFromSmiles("[*]OC(O[*])(C)C"))
+    AllChem.Compute2DCoords(mol)                     # RDKit cannot embed dummy atoms in 3D
+    groups = group_equivalent_hydrogens(mol, mol.GetConformer().GetPositions())
+    hs = [a.GetIdx() for a in mol.GetAtoms() if a.GetAtomicNum() == 1]
+    assert sorted(h for g in groups for h in g) == hs                 # a partition of the protons
+    for a in mol.GetAtoms():                                          # each CH3 is one rotor site
+        own = {n.GetIdx() for n in a.GetNeighbors() if n.GetAtomicNum() == 1}
+        if len(own) == 3:
+            assert any(own <= set(g) for g in groups)
 
 
 # ------------------------------------------------------------------------------ numerical guards
