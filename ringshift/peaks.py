@@ -347,7 +347,7 @@ def _parse_csv(text: str, source: str) -> tuple[PeakList, tuple[bool, ...]]:
         if width is not None and width <= 0:
             raise InputError(f"width {width:g} Hz; expected > 0", where)
         items = [a for a in re.split(r"[\s;,+]+", get.get("atoms", "")) if a]
-        if not all(a.isdigit() and len(a) < 10 for a in items):
+        if not all(re.fullmatch(r"[0-9]{1,9}", a) for a in items):
             raise InputError(f"atoms cell {get['atoms']!r}; expected atom indices like '12 13'", where)
         kind = get.get("kind", "").lower() or "sample"
         if kind not in PEAK_KINDS:
