@@ -441,7 +441,14 @@ def _mol_from_molfile(path: Path) -> tuple[Chem.Mol, np.ndarray | None, np.ndarr
         mol.RemoveAllConformers()
         return mol, None, None, name, {"records": len(records),
                                        "hydrogens_added": mol.GetNumAtoms() - first.GetNumAtoms()}
+    for rec in records:
+        _check_chemistry(rec, str(path))
     with_h = [Chem.AddHs(rec, addCoords=True) for rec in records]
+    for k, m in enumerate(with_h[1:], start=2):
+        if m.GetNumAtoms() != with_h[0].GetNumAtoms():
+            raise InputError(f"record {k} has {m.GetNumAtoms()} atoms with hydrogens added, record 1 "
+                             f"{with_h[0].GetNumAtoms()}: the records differ in charges, valences or bond orders",
+                             source=str(path))
     energies, prop = _record_energies(records, str(path))
     mol = Chem.Mol(with_h[0])
     mol.RemoveAllConformers()

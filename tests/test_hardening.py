@@ -129,6 +129,12 @@ def _build_inputs(d: Path) -> None:
     for name, order in (("order0.mol", "0"), ("anybond.mol", "8")):
         edited = lines[:k] + [lines[k][:6] + order.rjust(3) + lines[k][9:]] + lines[k + 1:]
         (d / name).write_text("\n".join(edited) + "\n", encoding="utf-8")
+    # two heavy-atom-only 3D records of ethane, the second a cation: AddHs gives them different H counts
+    eth = Chem.RemoveHs(_embedded("CC"))
+    cat = Chem.RWMol(eth)
+    cat.GetAtomWithIdx(0).SetFormalCharge(1)
+    (d / "charge_differs.sdf").write_text(Chem.MolToMolBlock(eth) + "$$$$\n" + Chem.MolToMolBlock(cat) + "$$$$\n",
+                                          encoding="utf-8")
     for name in ("big.xyz", "big.csv"):                # sparse files just over the size limit
         with open(d / name, "wb") as handle:
             handle.truncate(limits.MAX_FILE_BYTES + 1)
@@ -209,6 +215,7 @@ CASES = [
     C("xyz-long-line", ["predict", "{d}/long_line.xyz"], 2, "character limit"),
     C("xyz-too-big", ["predict", "{d}/big.xyz"], 2, "exceeds the limit of 209715200 bytes (200 MiB)"),
     C("sdf-two-molecules", ["predict", "{d}/two_molecules.sdf"], 2, "is another molecule"),
+    C("sdf-records-differ-in-h", ["predict", "{d}/charge_differs.sdf"], 2, "differ in charges"),  # fuzz finding
     C("sdf-record-limit", ["predict", "{d}/too_many_records.sdf"], 2, f"limit of {limits.MAX_RECORDS}"),
     C("unknown-extension", ["predict", "{d}/structure.pdb"], 2, "unknown file format '.pdb'"),
     C("degenerate-ring", ["predict", "{d}/collinear.mol"], 2, "collinear"),
