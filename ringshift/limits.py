@@ -1,11 +1,12 @@
 """Documented limits of ringshift's inputs, and the checks that enforce them.
 
-Every reader (SMILES, MOL/SDF, XYZ, CSV/TSV peak tables, JCAMP-DX) applies these limits before it
-does expensive work, and a file or string beyond a limit raises
-:class:`~ringshift.errors.InputError` with a one-line message naming the input, the limit and what
-to do. The numbers are generous for real spectra and molecules (the largest porphyrin nanorings
-studied by NMR have a few hundred atoms; a 1D ¹H spectrum has at most a few 10⁵ points) and small
-enough that a hostile or broken file cannot exhaust memory or time.
+The readers behind :func:`ringshift.structure.load_structure` (SMILES, MOL/SDF, XYZ), the peak-list
+and JCAMP-DX readers (:mod:`ringshift.peaks`, :mod:`ringshift.jcamp`) and user reference-shift
+tables (:mod:`ringshift.shifts`) apply these limits before they do expensive work; a file or string
+beyond a limit raises :class:`~ringshift.errors.InputError` with a one-line message naming the
+input, the limit and what to do. The values are generous for real molecules and 1D ¹H spectra
+(side-chain-complete porphyrin nanorings are the largest molecules in view, hence 5000 atoms) and
+small enough that a broken or hostile file cannot exhaust memory or time.
 
 Safety. Inputs are only ever parsed as text (RDKit's SMILES and MOL parsers, and ringshift's own
 XYZ, CSV and JCAMP-DX readers): nothing read from a file or the command line is executed,
@@ -18,7 +19,7 @@ limit                        value           applies to
 MAX_FILE_BYTES               200 MiB         every input file (structures, peak lists, spectra)
 MAX_LINE_CHARS               100 000         every line of a text input file
 MAX_SMILES_CHARS             10 000          a SMILES given on the command line / to load_structure
-MAX_ATOMS                    2 000           atoms of one molecule, hydrogens included
+MAX_ATOMS                    5 000           atoms of one molecule, hydrogens included
 MAX_RECORDS                  5 000           SD records or XYZ frames of one ensemble file
 MAX_PEAKS                    10 000          rows of a peak table, JCAMP peaks, picked peaks
 MAX_SPECTRUM_POINTS          4 194 304       NPOINTS of a JCAMP-DX spectrum (2**22)
@@ -47,7 +48,7 @@ __all__ = ["MAX_FILE_BYTES", "MAX_LINE_CHARS", "MAX_SMILES_CHARS", "MAX_ATOMS", 
 MAX_FILE_BYTES: int = 200 * 2**20
 MAX_LINE_CHARS: int = 100_000
 MAX_SMILES_CHARS: int = 10_000
-MAX_ATOMS: int = 2_000
+MAX_ATOMS: int = 5_000
 MAX_RECORDS: int = 5_000
 MAX_PEAKS: int = 10_000
 MAX_SPECTRUM_POINTS: int = 2**22

@@ -173,8 +173,10 @@ def run_atheris(target: str, seconds: int, corpus: Path, artifacts: Path) -> int
     for k, s in enumerate(seeds(target)):
         (corpus / f"seed-{k}").write_bytes(s)
     artifacts.mkdir(parents=True, exist_ok=True)
+    tokens = corpus.parent / f"{corpus.name}.dict"          # libFuzzer dictionary: the mutate engine's tokens
+    tokens.write_text("".join('"' + "".join("\\x%02x" % b for b in t) + '"\n' for t in _TOKENS), encoding="ascii")
     args = [sys.argv[0], f"-max_total_time={seconds}", f"-artifact_prefix={artifacts}/", "-max_len=20000",
-            "-rss_limit_mb=4096", "-timeout=20", "-print_final_stats=1", str(corpus)]
+            "-rss_limit_mb=4096", "-timeout=20", "-print_final_stats=1", f"-dict={tokens}", str(corpus)]
     atheris.Setup(args, runner)
     atheris.Fuzz()          # exits the process; libFuzzer prints "Done N runs in S second(s)"
     return 0
@@ -183,7 +185,9 @@ def run_atheris(target: str, seconds: int, corpus: Path, artifacts: Path) -> int
 _TOKENS = [b"\n", b"\r\n", b",", b";", b"\t", b" ", b"#", b"##", b"=", b"-", b".", b"e", b"nan", b"inf", b"1e400",
            b"-0", b"$$", b"$$$$", b"(", b")", b"\xef\xbb\xbf", b"\x00", b"\xff", b"9" * 20, b"##END=", b"##TITLE=x",
            b"##XYDATA=(X++(Y..Y))", b"##PEAK TABLE=(XY..XY)", b"##NPOINTS=", b"@", b"J", b"S", b"%", b"j",
-           b"V2000", b"M  END", b"C", b"H", b"[", b"]", b"=", b"#", b"/", b"\\", b"1", b"2", b"+", b"@@"]
+           b"V2000", b"M  END", b"C", b"H", b"[", b"]", b"=", b"#", b"/", b"\\", b"1", b"2", b"+", b"@@",
+           "\u00b2".encode(), "\u0661".encode(), "\uff17".encode(), "\u2212".encode(), "\u03b4".encode(), b"[*]",
+           b"M  CHG  1   1   1", b"  1  2  0  0", b"  1  2  8  0", b"> <energy>"]
 
 
 def _mutate(data: bytes, rng: random.Random) -> bytes:
