@@ -58,6 +58,7 @@ from rdkit import Chem, rdBase
 from scipy import constants as _sc
 
 from ringshift.errors import InputError, OutputError, RingshiftWarning
+from ringshift.limits import check_coordinates
 from ringshift.structure import ENERGY_PROPERTIES, Structure, load_structure
 
 __all__ = ["TrajectoryWarning", "Frame", "FrameStream", "iter_xyz_frames", "iter_sdf_records", "parse_energy",
@@ -121,7 +122,11 @@ class FrameStream:
         return self
 
     def __next__(self) -> Frame:
-        return next(self._gen)
+        try:
+            return next(self._gen)
+        except UnicodeDecodeError as exc:
+            raise InputError(f"is not UTF-8 text (byte {exc.start}); expected a text XYZ/SD file",
+                             source=str(self.path)) from None
 
     def _skip(self, number: int, reason: str, where: str) -> None:
         if self.strict:
@@ -132,12 +137,19 @@ class FrameStream:
     def template(self, *, charge: int | None = None) -> Structure:
         """The first frame as a one-conformer :class:`Structure` (bonds perceived by
         :func:`ringshift.structure.load_structure`), named after the file."""
-        text = self._first_text()
+        try:
+            text = self._first_text()
+        except UnicodeDecodeError as exc:
+            raise InputError(f"is not UTF-8 text (byte {exc.start}); expected a text XYZ/SD file",
+                             source=str(self.path)) from None
         suffix = ".xyz" if self.kind == "xyz" else ".sdf"
         with tempfile.TemporaryDirectory() as tmp:
             p = Path(tmp) / f"{self.path.stem}{suffix}"
             p.write_text(text, encoding="utf-8")
-            s = load_structure(str(p), charge=charge)
+            try:
+                s = load_structure(str(p), charge=charge)
+            except InputError as exc:
+                raise InputError(str(exc).replace(str(p), str(self.path))) from None
         if s.provenance.get("hydrogens_added"):
             raise InputError("the first record lacks explicit hydrogens; trajectory records must carry every "
                              "atom (write them with all H)", source=str(self.path))
@@ -175,7 +187,14 @@ def iter_xyz_frames(path, *, energy_unit: str = "kcal/mol", strict: bool = False
     def first_text():
         with path.open(encoding="utf-8") as fh:
             head = fh.readline()
-            return head + "".join(itertools.islice(fh, int(head.split()[0]) + 1))
+            parts = head.split()
+            if not parts:
+                raise InputError("file is empty or starts with a blank line; expected an atom count",
+                                 source=f"{path}:1")
+            if len(parts) != 1 or not re.fullmatch(r"[0-9]+", parts[0]):
+                raise InputError(f"expected the atom count of frame 1 (one positive integer), got "
+                                 f"{head.strip()[:40]!r}", source=f"{path}:1")
+            return head + "".join(itertools.islice(fh, int(parts[0]) + 1))
 
     def gen(stream: FrameStream):
         ref_tokens = ref_symbols = None
@@ -188,7 +207,7 @@ def iter_xyz_frames(path, *, energy_unit: str = "kcal/mol", strict: bool = False
                 number, start = stream.n_seen + 1, line_no
                 stream.n_seen = number
                 parts = head.split()
-                if len(parts) != 1 or not parts[0].isdigit() or int(parts[0]) < 1:
+                if len(parts) != 1 or not re.fullmatch(r"[0-9]+", parts[0]) or int(parts[0]) < 1:
                     raise InputError(f"expected the atom count of frame {number} (one positive integer), got "
                                      f"{head.strip()[:40]!r}", source=f"{path}:{line_no}")
                 n = int(parts[0])
@@ -220,6 +239,7 @@ def iter_xyz_frames(path, *, energy_unit: str = "kcal/mol", strict: bool = False
                     k = next(k for k, (a, b) in enumerate(zip(tokens, ref_tokens)) if _symbol(a, str(path)) != _symbol(b, str(path)))
                     raise InputError(f"frame {number} does not list the atoms of frame 1 in the same order (atom "
                                      f"{k + 1} is {tokens[k]}, frame 1 has {ref_tokens[k]})", source=f"{path}:{start + 2 + k}")
+                check_coordinates(xyz[None], ref_symbols, f"{path}:{start} (frame {number})")
                 yield Frame(number, xyz, parse_energy(comment.strip(), energy_unit))
 
     return FrameStream(path, "xyz", gen, first_text, strict)
@@ -242,7 +262,7 @@ def _floats(items) -> bool:
 
 
 def _symbol(token: str, where: str) -> str:
-    if token.isdigit():
+    if re.fullmatch(r"[0-9]+", token):
         z = int(token)
         if 1 <= z <= 118:
             return _PT.GetElementSymbol(z)
@@ -327,6 +347,7 @@ def iter_sdf_records(path, *, strict: bool = False) -> FrameStream:
             xyz = np.ascontiguousarray(mol.GetConformer().GetPositions(), dtype=np.float64)
             if not np.all(np.isfinite(xyz)):
                 raise InputError(f"non-finite coordinate in record {number}", source=where)
+            check_coordinates(xyz[None], [a.GetSymbol() for a in mol.GetAtoms()], f"{where} (record {number})")
             yield Frame(number, xyz, _sd_energy(mol))
 
     return FrameStream(path, "sdf", gen, first_text, strict)
@@ -364,6 +385,14 @@ class BatchSummary:
 
 def iter_library(path) -> Iterator[LibraryItem]:
     """Stream the molecules of an SD or SMILES library (formats: module notes)."""
+    try:
+        yield from _iter_library(path)
+    except UnicodeDecodeError as exc:
+        raise InputError(f"is not UTF-8 text (byte {exc.start}); expected an SD or SMILES file",
+                         source=str(path)) from None
+
+
+def _iter_library(path) -> Iterator[LibraryItem]:
     path = Path(path)
     if not path.is_file():
         raise InputError("library file not found", source=str(path))

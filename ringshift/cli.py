@@ -242,7 +242,8 @@ def report_cmd(structure, peaks, charge, conformers, seed, temperature, model, c
               help="Figure file (.png, .svg or .pdf).")
 @click.option("--plane", type=click.Choice(["ring", "perpendicular", "both", "scan"]), default="both",
               show_default=True, help="Mean ring plane, the perpendicular plane, both, or a scan along the normal.")
-@click.option("--height", type=float, default=0.0, show_default=True, help="Offset of the ring plane (A).")
+@click.option("--height", type=click.FloatRange(-50.0, 50.0), default=0.0, show_default=True,
+              help="Offset of the ring plane (A).")
 @click.option("--extent", type=click.FloatRange(1.0, 50.0), default=6.0, show_default=True,
               help="Half-width of the map (A).")
 @click.option("--grid", type=click.IntRange(11, 601), default=121, show_default=True, help="Points per side.")

@@ -509,8 +509,6 @@ def test_json_byte_identical_across_processes(tmp_path):
 
 
 # -------------------------------------------------------------------------------- known gaps
-@pytest.mark.xfail(strict=True, reason="cli.py map / report/maps.py: --height is not range-checked; 1e300 "
-                   "overflows inside the map (numpy RuntimeWarning) and exits 0")
 def test_map_height_beyond_any_molecule_is_refused(capsys, tmp_path, data_dir):
     target = tmp_path / "m.png"
     code, _, err = run(["map", data_dir / "benzene.xyz", "-o", target, "--height", "1e300"], capsys)
@@ -527,23 +525,16 @@ def _write(tmp_path: Path, name: str, data: bytes) -> Path:
 _ONE_ATOM = b"1\n\nHe 0 0 0\n"
 
 
-@pytest.mark.xfail(strict=True, reason="batch.py iter_xyz_frames.first_text: head.split()[0] on an empty file "
-                   "raises IndexError; check for an empty file first (InputError 'file is empty')")
 def test_trajectory_empty_file_is_input_error(tmp_path, capsys):
     code, _, err = run(["trajectory", _write(tmp_path, "empty.xyz", b"")], capsys)
     assert code == 2 and "empty" in err
 
 
-@pytest.mark.xfail(strict=True, reason="batch.py iter_xyz_frames (gen and first_text): str.isdigit() accepts "
-                   "'²' and int() then raises ValueError; test with re.fullmatch(r'[0-9]+', ...) before int()")
 def test_trajectory_unicode_digit_count_is_input_error(tmp_path, capsys):
     code, _, err = run(["trajectory", _write(tmp_path, "sup.xyz", "\u00b2\n\nHe 0 0 0\n".encode())], capsys)
     assert code == 2 and "atom count" in err
 
 
-@pytest.mark.xfail(strict=True, reason="batch.py first_text/gen/_sd_records/iter_library open files with "
-                   "encoding='utf-8' and let UnicodeDecodeError (and NUL bytes) escape; read through "
-                   "ringshift.limits.read_text_bytes-style checks or catch UnicodeDecodeError -> InputError")
 @pytest.mark.parametrize("command,name,data", [
     ("trajectory", "latin1.xyz", _ONE_ATOM.replace(b"\n\n", b"\n\xe8\n")),
     ("trajectory", "nul.xyz", b"\x00\x01\x02abc\n"),
@@ -557,18 +548,12 @@ def test_streaming_readers_bad_bytes_are_input_errors(command, name, data, tmp_p
     assert code == 2 and "internal error" not in err
 
 
-@pytest.mark.xfail(strict=True, reason="batch.py iter_xyz_frames/iter_sdf_records: frames after the first skip "
-                   "the coordinate guards; call ringshift.limits.check_coordinates(frame[None], symbols, where) "
-                   "on each frame (a collapsed frame is now averaged in silently)")
 def test_trajectory_frames_get_the_coordinate_guards(data_dir, tmp_path, capsys):
     text = (data_dir / "benzene.xyz").read_bytes() + (data_dir / "tiny.xyz").read_bytes()
     code, _, err = run(["trajectory", _write(tmp_path, "traj.xyz", text)], capsys)
     assert code == 2 and "within 0.001 Å" in err
 
 
-@pytest.mark.xfail(strict=True, reason="batch.py FrameStream.template: errors of load_structure name the "
-                   "temporary copy (/tmp/tmpXXXX/name.xyz) instead of the user's file; re-raise InputError "
-                   "with str(p) replaced by str(self.path)")
 def test_trajectory_template_errors_name_the_users_file(data_dir, capsys):
     code, _, err = run(["trajectory", data_dir / "nan.xyz"], capsys)
     assert code == 2 and f"{data_dir / 'nan.xyz'}:3" in err
