@@ -74,6 +74,8 @@ def run_compare(pred, peaklist, *, claim: str | None = None, noise_ppm=None, see
         raise InputError("the molecule has no hydrogens: there is nothing to compare with a 1H spectrum",
                          pred.structure.source)
     obs = observed_peaks(peaklist, pred)
+    if not obs:
+        raise InputError("no peaks found; expected at least one sample peak", peaklist.source)
     if not any(o.kind == "signal" for o in obs):
         raise InputError("no sample peaks (only solvent/TMS/impurity peaks)", peaklist.source)
     if not pred.circuits:

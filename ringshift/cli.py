@@ -219,6 +219,12 @@ def report_cmd(structure, peaks, charge, conformers, seed, temperature, model, c
     from ringshift.pisummary import pi_summary
     from ringshift.report import write_report
 
+    from pathlib import Path
+
+    from ringshift.errors import OutputError
+
+    if Path(out_dir).exists() and not force:  # refuse before any work is done
+        raise OutputError(f"{out_dir}: already exists; use --force to replace it")
     say = (lambda m: None) if quiet else (lambda m: click.echo(f"... {m}", err=True))
     say("structure, pi system and ring currents")
     pred = _run_predict(structure, charge, conformers, seed, temperature, model, currents, beta_model, scale,

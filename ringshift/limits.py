@@ -94,7 +94,15 @@ def read_text_bytes(path: str | os.PathLike, what: str) -> bytes:
     check_file_size(name, what)
     try:
         with open(name, "rb") as handle:
-            raw = handle.read(MAX_FILE_BYTES + 1)
+            # read in blocks: a single read(MAX + 1) makes CPython allocate the whole 200 MiB buffer up front
+            blocks, total = [], 0
+            while total <= MAX_FILE_BYTES:
+                block = handle.read(1 << 20)
+                if not block:
+                    break
+                blocks.append(block)
+                total += len(block)
+            raw = b"".join(blocks)
     except FileNotFoundError:
         raise InputError("file not found", name) from None
     except IsADirectoryError:
