@@ -15,7 +15,7 @@ import numpy as np
 from ringshift import compare as cmp
 from ringshift.constants import BENZENE_CURRENT_NA_PER_T
 from ringshift.errors import InputError
-from ringshift.output import CAUTION, _r, prediction_to_dict
+from ringshift.output import CAUTION, prediction_to_dict
 
 #: Width of the a priori current prior, nA/T: "weakly around the Hückel–London value". One benzene
 #: current either way lets the data move the current freely while keeping an ill-determined circuit
@@ -160,4 +160,4 @@ def rank(preds: Sequence, peaklist, *, noise_ppm=None, seed: int = 0):
 
 
 __all__ = ["run_compare", "comparison_to_dict", "comparison_text", "group_models", "circuit_priors",
-           "observed_peaks", "rank", "CompareResult", "_r"]
+           "observed_peaks", "rank", "CompareResult"]

@@ -12,6 +12,7 @@ import warnings
 
 import click
 
+from ringshift.constants import BETA_MODELS, CURRENT_SOURCES, MODELS
 from ringshift.errors import InputError, OutputError, RingshiftWarning
 
 EXIT_BAD_INPUT = 2
@@ -46,11 +47,11 @@ structure_options = [
 ]
 
 model_options = [
-    click.option("--model", type=click.Choice(["polygon", "johnson-bovey", "haigh-mallion", "dipole", "network"]),
+    click.option("--model", type=click.Choice(MODELS),
                  default="polygon", show_default=True, help="Shielding model."),
-    click.option("--currents", type=click.Choice(["huckel", "benzene"]), default="huckel", show_default=True,
+    click.option("--currents", type=click.Choice(CURRENT_SOURCES), default="huckel", show_default=True,
                  help="A priori current of each circuit: Hueckel-London, or 12 nA/T on RDKit-aromatic rings."),
-    click.option("--beta", "beta_model", type=click.Choice(["scf", "scf-coulson", "distance", "uniform"]), default="scf",
+    click.option("--beta", "beta_model", type=click.Choice(BETA_MODELS), default="scf",
                  show_default=True,
                  help="Resonance integrals of the Hueckel step: self-consistent bond lengths, geometry, or uniform."),
     click.option("--scale", multiple=True, metavar="LABEL=FACTOR",
@@ -178,7 +179,7 @@ def _noise(value):
 @cli.command("pi")
 @click.argument("structure")
 @_apply(structure_options)
-@click.option("--beta", "beta_model", type=click.Choice(["scf", "scf-coulson", "distance", "uniform"]), default="scf",
+@click.option("--beta", "beta_model", type=click.Choice(BETA_MODELS), default="scf",
               show_default=True, help="Resonance integrals of the Hueckel step.")
 @click.option("--plot", type=click.Path(dir_okay=False), default=None,
               help="Write a diagram of the pi levels (PNG or SVG by extension).")
@@ -276,11 +277,11 @@ def map_cmd(structure, charge, conformers, seed, temperature, model, currents, b
 @cli.command("trajectory")
 @click.argument("frames", type=click.Path(dir_okay=False))
 @click.option("--charge", type=int, default=None, help="Net charge (XYZ frames of ions).")
-@click.option("--model", type=click.Choice(["polygon", "johnson-bovey", "haigh-mallion", "dipole"]),
+@click.option("--model", type=click.Choice([m for m in MODELS if m != "network"]),
               default="polygon", show_default=True)
-@click.option("--currents", type=click.Choice(["huckel", "benzene", "huckel-per-frame"]), default="huckel",
+@click.option("--currents", type=click.Choice(CURRENT_SOURCES + ("huckel-per-frame",)), default="huckel",
               show_default=True, help="Currents of the first frame held fixed, 12 nA/T, or Hueckel-London per frame.")
-@click.option("--beta", "beta_model", type=click.Choice(["scf", "scf-coulson", "distance", "uniform"]), default="scf",
+@click.option("--beta", "beta_model", type=click.Choice(BETA_MODELS), default="scf",
               show_default=True)
 @click.option("--weights", type=click.Choice(["uniform", "boltzmann"]), default="uniform", show_default=True,
               help="Frame weights (Boltzmann from energies in the XYZ comment lines or SD fields).")
@@ -326,10 +327,10 @@ def trajectory_cmd(frames, charge, model, currents, beta_model, weights, tempera
 @click.option("--restart", is_flag=True, help="Start the output afresh instead of resuming it.")
 @click.option("--quiet", is_flag=True, help="No progress bar.")
 @_apply(structure_options)
-@click.option("--model", type=click.Choice(["polygon", "johnson-bovey", "haigh-mallion", "dipole", "network"]),
+@click.option("--model", type=click.Choice(MODELS),
               default="polygon", show_default=True)
-@click.option("--currents", type=click.Choice(["huckel", "benzene"]), default="huckel", show_default=True)
-@click.option("--beta", "beta_model", type=click.Choice(["scf", "scf-coulson", "distance", "uniform"]), default="scf",
+@click.option("--currents", type=click.Choice(CURRENT_SOURCES), default="huckel", show_default=True)
+@click.option("--beta", "beta_model", type=click.Choice(BETA_MODELS), default="scf",
               show_default=True)
 def batch_cmd(library, output, jobs, scheduler, restart, quiet, charge, conformers, seed, temperature, model,
               currents, beta_model):

@@ -56,14 +56,14 @@ def run_demo(out_dir: str | Path, *, force: bool = False, progress=None) -> str:
              "macrocyclic current and whether the open isomer FJ-14o does not. Spectra were simulated from the",
              "model with hidden currents (FJ-14c: +14.0 nA/T; FJ-14o: none in the macrocycle).", ""]
     try:
-        preds = {}
+        preds, peaklists = {}, {}
         for name, sfile, jfile, claim in DEMO_CASES:
             if progress:
                 progress(f"{name}: structure, pi system and ring currents")
             s = load_structure(str(data / sfile))
             pred = predict(s)
             preds[name] = pred
-            pl = read_peaks(str(data / jfile), n_hydrogens=len(pred.protons), solvent="CDCl3")
+            pl = peaklists[name] = read_peaks(str(data / jfile), n_hydrogens=len(pred.protons), solvent="CDCl3")
             res = analysis.run_compare(pred, pl, claim=claim)
             if progress:
                 progress(f"{name}: report")
@@ -77,8 +77,7 @@ def run_demo(out_dir: str | Path, *, force: bool = False, progress=None) -> str:
                 lines.append(f"  claim '{claim}': {c.claim.outcome}")
             lines.append(f"  report: {out / name / 'report.html'}")
         # which structure explains the closed form's spectrum?
-        pl = read_peaks(str(data / "fj14c_1H.jdx"), n_hydrogens=len(preds["fj14c"].protons), solvent="CDCl3")
-        ranked = analysis.rank([preds["fj14c"], preds["fj14o"]], pl)
+        ranked = analysis.rank([preds["fj14c"], preds["fj14o"]], peaklists["fj14c"])
         lines.append("")
         lines.append("Both structures against the FJ-14c spectrum:")
         for cs in ranked:

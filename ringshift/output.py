@@ -95,8 +95,6 @@ def prediction_to_dict(pred) -> dict:
         "warnings": list(pred.warnings),
         "caution": CAUTION,
     }
-    if pred.pi is not None and hasattr(pred, "pi_summary"):
-        out["pi_system"] = pred.pi_summary
     return out
 
 

@@ -18,14 +18,11 @@ from rdkit import Chem
 
 from ringshift import fields, pisystem, shifts
 from ringshift.rings import p_orbital_axes
-from ringshift.constants import BENZENE_CURRENT_NA_PER_T, JB_SEPARATION_A
+from ringshift.constants import BENZENE_CURRENT_NA_PER_T, BETA_MODELS, CURRENT_SOURCES, JB_SEPARATION_A, MODELS
 from ringshift.errors import GeometryWarning, InputError
 from ringshift.rings import Circuit, CircuitGeometry, circuit_geometry, find_circuits
 from ringshift.structure import Structure
 
-MODELS = ("polygon", "johnson-bovey", "haigh-mallion", "dipole", "network")
-CURRENT_SOURCES = ("huckel", "benzene")
-BETA_MODELS = ("scf", "scf-coulson", "distance", "uniform")
 
 MODEL_DESCRIPTIONS = {
     "polygon": "exact polygon Biot-Savart double loop through the ring atoms (+/-0.64 A, half current each)",
@@ -372,7 +369,8 @@ def predict(structure: Structure, *, model: str = "polygon", currents: str = "hu
         notes.append("the molecule has no hydrogens: nothing to predict")
 
     refs = shifts.reference_shifts(mol, reference_table, h_idx) if h_idx else {}
-    charge_ppm = charge_term_ppm(structure, pi, h_idx, beta_model)
+    charge_ppm = charge_term_ppm(structure, pi, h_idx, beta_model,
+                                 huckel_results=[lc.huckel for lc in london] or None)
     pos = {h: k for k, h in enumerate(h_idx)}
     group_of = {}
     for gi, grp in enumerate(structure.h_groups):
@@ -420,13 +418,18 @@ def predict(structure: Structure, *, model: str = "polygon", currents: str = "hu
                       geometric=g, pi=pi, warnings=tuple(dict.fromkeys(notes)), provenance=prov)
 
 
-def charge_term_ppm(structure: Structure, pi, h_idx: Sequence[int], beta_model: str) -> np.ndarray:
+def charge_term_ppm(structure: Structure, pi, h_idx: Sequence[int], beta_model: str, *,
+                    huckel_results=None) -> np.ndarray:
     """π-charge shift of each proton, ppm: k · q of its parent π atom, for charged π systems only.
 
     The Hückel π charge q = Z − P of the parent atom (weighted over conformers) times
     k = 10.7 ppm/e (Schaefer & Schneider, Can. J. Chem. 1963, 41, 966; from memory). Applied only when
     the π system carries a net charge: in neutral heteroaromatics the charge effect of the heteroatom
     is already in the reference class (e.g. CH next to pyridine-type N), and would be counted twice.
+
+    ``huckel_results`` (one :class:`ringshift.pisystem.HuckelResult` per conformer, e.g. those the
+    Hückel–London step already computed with the same ``beta_model``) avoids solving the Hückel
+    problem again.
 
     Returns
     -------
@@ -438,8 +441,11 @@ def charge_term_ppm(structure: Structure, pi, h_idx: Sequence[int], beta_model: 
     mol = structure.mol
     w = np.asarray(structure.weights, dtype=float)
     q = np.zeros(len(pi.atoms))
-    for k in range(structure.coords.shape[0]):
-        hr = pisystem.huckel(pi, mol, structure.coords[k], beta_model=beta_model)
+    n_conf = structure.coords.shape[0]
+    if huckel_results is None or len(huckel_results) != n_conf:
+        huckel_results = [pisystem.huckel(pi, mol, structure.coords[k], beta_model=beta_model)
+                          for k in range(n_conf)]
+    for k, hr in enumerate(huckel_results):
         q += w[k] * np.asarray(hr.charges, dtype=float)
     where = {a: i for i, a in enumerate(pi.atoms)}
     for n, h in enumerate(h_idx):

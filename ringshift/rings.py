@@ -119,7 +119,7 @@ def _weights(weights: np.ndarray | None, n: int) -> np.ndarray:
 # perception
 # --------------------------------------------------------------------------------------------
 
-def _cycle_basis(n_atoms: int, atoms: Sequence[int], bonds: Sequence[tuple[int, int]]):
+def _cycle_basis(atoms: Sequence[int], bonds: Sequence[tuple[int, int]]):
     """Minimum cycle basis of the graph (atoms, bonds) using RDKit's SSSR on a bare copy."""
     index = {a: k for k, a in enumerate(atoms)}
     rw = Chem.RWMol()
@@ -238,7 +238,7 @@ def find_circuits(
             out.append(Circuit(cyc, "user", f"U{k + 1}", frag_of.get(cyc[0], -1)))
         return tuple(out)
 
-    faces = _cycle_basis(mol.GetNumAtoms(), list(pi_atoms), pi_bonds) if pi_bonds else []
+    faces = _cycle_basis(list(pi_atoms), pi_bonds) if pi_bonds else []
     faces = sorted(faces, key=lambda f: (frag_of[f[0]], min(f), len(f)))
     circuits: list[Circuit] = []
     n_ring = n_macro = 0
