@@ -62,6 +62,8 @@ only a stable, closed-shell fixed point, so it leaves the equal-bond solution wh
 
 from __future__ import annotations
 
+from functools import lru_cache
+
 import numpy as np
 from scipy import constants as _sc
 from scipy.sparse import coo_matrix
@@ -532,15 +534,27 @@ def p_orbital_axes(xyz, centres, neighbours, bonds):
     n = len(centres)
     b = np.asarray(bonds, dtype=np.intp).reshape(-1, 2)
     axes, ok, height = np.zeros((n, 3)), np.zeros(n, bool), np.zeros(n)
-    for k, (a, nb) in enumerate(zip(centres, neighbours)):
-        u = x[list(nb)] - x[a]
-        u /= np.maximum(np.linalg.norm(u, axis=1), 1e-12)[:, None]
-        v = np.cross(u[1] - u[0], u[2] - u[0]) if len(nb) == 3 else np.cross(u[0], u[1]) if len(nb) == 2 else 0 * x[a]
-        if len(nb) == 3:
-            pn = np.cross(x[nb[1]] - x[nb[0]], x[nb[2]] - x[nb[0]])
-            height[k] = abs(np.dot(x[a] - x[nb[0]], pn)) / np.linalg.norm(pn) if np.linalg.norm(pn) > 1e-9 else 0.0
-        if np.linalg.norm(v) > 0.1:
-            axes[k], ok[k] = v / np.linalg.norm(v), True
+    nbl = [list(nb) for nb in neighbours]
+    for deg in (2, 3):  # batched by σ-neighbour count; other counts get an inherited axis below
+        ks = np.array([k for k, nb in enumerate(nbl) if len(nb) == deg], dtype=np.intp)
+        if not len(ks):
+            continue
+        at = x[np.asarray(centres, dtype=np.intp)[ks]]          # (q, 3)
+        nb_xyz = x[np.array([nbl[k] for k in ks], dtype=np.intp)]  # (q, deg, 3)
+        u = nb_xyz - at[:, None, :]
+        u /= np.maximum(np.linalg.norm(u, axis=2), 1e-12)[:, :, None]
+        if deg == 3:
+            v = np.cross(u[:, 1] - u[:, 0], u[:, 2] - u[:, 0])
+            pn = np.cross(nb_xyz[:, 1] - nb_xyz[:, 0], nb_xyz[:, 2] - nb_xyz[:, 0])
+            pn_len = np.linalg.norm(pn, axis=1)
+            h = np.abs(np.einsum("ij,ij->i", at - nb_xyz[:, 0], pn)) / np.maximum(pn_len, 1e-300)
+            height[ks] = np.where(pn_len > 1e-9, h, 0.0)
+        else:
+            v = np.cross(u[:, 0], u[:, 1])
+        v_len = np.linalg.norm(v, axis=1)
+        good = v_len > 0.1
+        axes[ks[good]] = v[good] / v_len[good, None]
+        ok[ks[good]] = True
     graph = coo_matrix((np.ones(len(b)), (b[:, 0], b[:, 1])), shape=(n, n))
     done = np.zeros(n, bool)
     for s0 in [k for k in range(n) if ok[k]] + list(range(n)):  # each component from a defined axis
@@ -621,10 +635,12 @@ def regular_polygon(n: int, side_A: float = BETA_REF_LENGTH_A) -> np.ndarray:
     return np.column_stack([rad * np.cos(t), rad * np.sin(t), np.zeros(n)])
 
 
+@lru_cache(maxsize=None)
 def benzene_reference_response(beta_model: str) -> float:
     """Diatropic ring-current response g of benzene (regular hexagon, 1.397 Å) in the given β model.
 
     Returns the positive number, in Å², that a circuit current is divided by to give J/J_benzene.
+    A constant of the model: computed once per β model and process (cached).
     """
     xyz = regular_polygon(6)
     bonds = np.array([(i, (i + 1) % 6) for i in range(6)])

@@ -19,6 +19,7 @@ import math
 import re
 from collections import deque
 from dataclasses import dataclass
+from functools import lru_cache
 from importlib import resources
 from pathlib import Path
 from types import MappingProxyType
@@ -196,7 +197,9 @@ def _read_text(path: Path) -> str:
     return text
 
 
+@lru_cache(maxsize=1)
 def _packaged_table() -> ReferenceTable:
+    """The packaged table, parsed once per process (it is immutable: entries is a read-only mapping)."""
     resource = resources.files("ringshift").joinpath("data", _PACKAGE_CSV)
     text = resource.read_text(encoding="utf-8")
     entries, notes = _parse_table_text(text, f"ringshift/data/{_PACKAGE_CSV}")
