@@ -4,6 +4,7 @@ from __future__ import annotations
 
 import importlib.util
 import json
+import sys
 
 import pytest
 from numpy.testing import assert_allclose
@@ -120,14 +121,15 @@ def test_bad_batch_options(library, tmp_path):
         run_batch(library, tmp_path / "no" / "o.jsonl")
 
 
-@pytest.mark.skipif(importlib.util.find_spec("distributed") is not None, reason="dask.distributed is installed")
-def test_scheduler_without_dask_says_how_to_install(library, tmp_path):
+def test_scheduler_without_dask_says_how_to_install(library, tmp_path, monkeypatch):
+    # a None entry in sys.modules makes the import fail as if Dask were not installed
+    monkeypatch.setitem(sys.modules, "dask.distributed", None)
     with pytest.raises(InputError, match=r"pip install ringshift\[dask\]"):
         run_batch(library, tmp_path / "o.jsonl", scheduler="tcp://127.0.0.1:8786", progress=False)
 
 
 @pytest.mark.skipif(importlib.util.find_spec("distributed") is None,
-                    reason="dask.distributed not installed (optional extra ringshift[dask])")
+                    reason="dask.distributed not installed (optional extra ringshift[dask]; make test installs it)")
 def test_local_dask_cluster_gives_the_same_file(library, tmp_path):
     from dask.distributed import LocalCluster
 
