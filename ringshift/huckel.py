@@ -76,7 +76,7 @@ __all__ = [
     "beta_distance_factor", "huckel_matrix", "occupy", "solve_fragments", "density_matrix", "london_bond_response",
     "bond_polarizability", "scf_cc_lengths", "polyene_chain_lengths", "calibrate_chain_slope",
     "POLYACETYLENE_BLA_A", "SCF_R0_A", "SCF_SLOPE_A", "SCF_RELATIONS", "kirchhoff_decomposition", "plane_fit",
-    "p_orbital_axes", "circuit_normals", "circuit_incidence", "regular_polygon", "benzene_reference_response",
+    "poav_vectors", "p_orbital_axes", "circuit_normals", "circuit_incidence", "regular_polygon", "benzene_reference_response",
     "absolute_current_nA_per_T", "pi_charge_shift_ppm", "PI_CHARGE_PPM_PER_E",
 ]
 
@@ -507,13 +507,60 @@ def plane_fit(points) -> tuple[np.ndarray, np.ndarray, float]:
     return c, n, float(np.max(np.abs((p - c) @ n)))
 
 
+def poav_vectors(xyz, centres, neighbours) -> tuple[np.ndarray, np.ndarray]:
+    """Unnormalised p-orbital axis vectors of atoms from their σ neighbours, for one geometry or a stack.
+
+    An atom with three neighbours gets the normal of the plane through the tips of its three unit bond
+    vectors (the POAV1 axis: equal angles to the three σ bonds; Haddon, Acc. Chem. Res. 1988, 21, 243,
+    from memory); with two, the normal of the plane of the atom and its neighbours (cross product of the
+    unit bond vectors); any other count gives the zero vector. The sign of each vector is arbitrary.
+
+    Parameters
+    ----------
+    xyz : (n_atoms, 3) or (k, n_atoms, 3) array_like, Å
+    centres : (n,) atom indices
+    neighbours : length-n sequence of neighbour atom indices (all σ neighbours, H included)
+
+    Returns
+    -------
+    v : (n, 3) or (k, n, 3)
+        Length is a measure of how well the axis is defined: 2.6 for a planar trigonal atom, 1 for a
+        bent two-coordinate atom at 90°, 0 when undefined (linear, or fewer than two neighbours).
+    height_A : (n,) or (k, n)
+        Distance of a three-coordinate atom from the plane of its neighbours (pyramidalisation), else 0.
+    """
+    x = np.asarray(xyz, dtype=np.float64)
+    stack = x.ndim == 3
+    x = x if stack else x[None]
+    n = len(centres)
+    v = np.zeros((x.shape[0], n, 3))
+    height = np.zeros((x.shape[0], n))
+    nbl = [list(nb) for nb in neighbours]
+    for deg in (2, 3):  # batched by σ-neighbour count
+        ks = np.array([k for k, nb in enumerate(nbl) if len(nb) == deg], dtype=np.intp)
+        if not len(ks):
+            continue
+        at = x[:, np.asarray(centres, dtype=np.intp)[ks]]              # (c, q, 3)
+        nb_xyz = x[:, np.array([nbl[k] for k in ks], dtype=np.intp)]    # (c, q, deg, 3)
+        u = nb_xyz - at[:, :, None, :]
+        u /= np.maximum(np.linalg.norm(u, axis=3), 1e-12)[..., None]
+        if deg == 3:
+            v[:, ks] = np.cross(u[:, :, 1] - u[:, :, 0], u[:, :, 2] - u[:, :, 0])
+            pn = np.cross(nb_xyz[:, :, 1] - nb_xyz[:, :, 0], nb_xyz[:, :, 2] - nb_xyz[:, :, 0])
+            pn_len = np.linalg.norm(pn, axis=2)
+            h = np.abs(np.einsum("cqj,cqj->cq", at - nb_xyz[:, :, 0], pn)) / np.maximum(pn_len, 1e-300)
+            height[:, ks] = np.where(pn_len > 1e-9, h, 0.0)
+        else:
+            v[:, ks] = np.cross(u[:, :, 0], u[:, :, 1])
+    return (v, height) if stack else (v[0], height[0])
+
+
 def p_orbital_axes(xyz, centres, neighbours, bonds):
     """p-orbital axes of π centres, with signs made consistent along a spanning tree of the π graph.
 
-    An atom with three σ neighbours gets the normal of the plane through the tips of its three unit
-    bond vectors (the POAV1 axis: equal angles to the three σ bonds; Haddon, Acc. Chem. Res. 1988, 21,
-    243, from memory); with two, the normal of the plane of the atom and its neighbours; with one or
-    a linear pair, the axis of a π neighbour (else the plane normal of all centres).
+    An atom with three σ neighbours gets the POAV1 axis and one with two the normal of the plane of the
+    atom and its neighbours (:func:`poav_vectors`); with one, four or more, or a linear pair, the axis of
+    a π neighbour (else the plane normal of all centres).
 
     Parameters
     ----------
@@ -533,28 +580,10 @@ def p_orbital_axes(xyz, centres, neighbours, bonds):
     x = np.asarray(xyz, dtype=np.float64)
     n = len(centres)
     b = np.asarray(bonds, dtype=np.intp).reshape(-1, 2)
-    axes, ok, height = np.zeros((n, 3)), np.zeros(n, bool), np.zeros(n)
-    nbl = [list(nb) for nb in neighbours]
-    for deg in (2, 3):  # batched by σ-neighbour count; other counts get an inherited axis below
-        ks = np.array([k for k, nb in enumerate(nbl) if len(nb) == deg], dtype=np.intp)
-        if not len(ks):
-            continue
-        at = x[np.asarray(centres, dtype=np.intp)[ks]]          # (q, 3)
-        nb_xyz = x[np.array([nbl[k] for k in ks], dtype=np.intp)]  # (q, deg, 3)
-        u = nb_xyz - at[:, None, :]
-        u /= np.maximum(np.linalg.norm(u, axis=2), 1e-12)[:, :, None]
-        if deg == 3:
-            v = np.cross(u[:, 1] - u[:, 0], u[:, 2] - u[:, 0])
-            pn = np.cross(nb_xyz[:, 1] - nb_xyz[:, 0], nb_xyz[:, 2] - nb_xyz[:, 0])
-            pn_len = np.linalg.norm(pn, axis=1)
-            h = np.abs(np.einsum("ij,ij->i", at - nb_xyz[:, 0], pn)) / np.maximum(pn_len, 1e-300)
-            height[ks] = np.where(pn_len > 1e-9, h, 0.0)
-        else:
-            v = np.cross(u[:, 0], u[:, 1])
-        v_len = np.linalg.norm(v, axis=1)
-        good = v_len > 0.1
-        axes[ks[good]] = v[good] / v_len[good, None]
-        ok[ks[good]] = True
+    v, height = poav_vectors(x, centres, neighbours)
+    v_len = np.linalg.norm(v, axis=1)
+    ok = v_len > 0.1
+    axes = np.where(ok[:, None], v / np.where(ok, v_len, 1.0)[:, None], 0.0)
     graph = coo_matrix((np.ones(len(b)), (b[:, 0], b[:, 1])), shape=(n, n))
     done = np.zeros(n, bool)
     for s0 in [k for k in range(n) if ok[k]] + list(range(n)):  # each component from a defined axis

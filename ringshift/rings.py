@@ -27,6 +27,7 @@ from typing import Iterable, Sequence
 import numpy as np
 from rdkit import Chem
 
+from ringshift import huckel as hk
 from ringshift.errors import InputError
 
 #: RMS out-of-plane deviation (Å) above which a circuit is flagged as too far from planar. A tub
@@ -354,33 +355,27 @@ def plane_fit(points: np.ndarray) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
 
 
 def p_orbital_axes(coords: np.ndarray, atoms: Sequence[int], neighbours: Sequence[Sequence[int]]) -> np.ndarray:
-    """Local p-orbital axis of each atom: normal of the plane through the atom and its neighbours.
+    """Local p-orbital axis of each atom, for every conformer (:func:`ringshift.huckel.poav_vectors`).
+
+    Three neighbours: the POAV1 axis (normal of the plane through the tips of the unit bond vectors);
+    two: the normal of the plane of the atom and its neighbours. The same definition sets the p-orbital
+    overlap of the Hückel step, so the misalignment reported here is the one the currents see.
 
     Parameters
     ----------
     coords : ndarray, shape (n_conf, n_atoms, 3)
     atoms : sequence of int, length m
     neighbours : sequence of sequences of int
-        Heavy-atom and hydrogen neighbours of each atom (at least two).
+        Heavy-atom and hydrogen neighbours of each atom (at least two; the first three are used).
 
     Returns
     -------
     ndarray, shape (n_conf, m, 3)
-        Unit axes (sign arbitrary).
+        Unit axes (sign arbitrary); the zero vector where the axis is undefined (collinear neighbours).
     """
-    out = np.zeros((coords.shape[0], len(atoms), 3))
-    for k, (a, nb) in enumerate(zip(atoms, neighbours)):
-        nb = list(nb)
-        if len(nb) >= 3:
-            v1 = coords[:, nb[0]] - coords[:, a]
-            v2 = coords[:, nb[1]] - coords[:, a]
-            v3 = coords[:, nb[2]] - coords[:, a]
-            ax = np.cross(v1, v2) + np.cross(v2, v3) + np.cross(v3, v1)
-        else:
-            ax = np.cross(coords[:, nb[0]] - coords[:, a], coords[:, nb[1]] - coords[:, a])
-        norm = np.linalg.norm(ax, axis=1, keepdims=True)
-        out[:, k] = ax / np.where(norm > 1e-12, norm, 1.0)
-    return out
+    v, _ = hk.poav_vectors(coords, list(atoms), [list(nb)[:3] for nb in neighbours])
+    norm = np.linalg.norm(v, axis=2, keepdims=True)
+    return v / np.where(norm > 1e-12, norm, 1.0)
 
 
 def circuit_geometry(coords: np.ndarray, circuit: Circuit | Sequence[int], mol: Chem.Mol | None = None) -> CircuitGeometry:

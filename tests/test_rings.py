@@ -11,6 +11,7 @@ from ringshift.errors import InputError
 from ringshift.rings import (
     circuit_geometry,
     find_circuits,
+    p_orbital_axes,
     plane_fit,
 )
 
@@ -137,3 +138,31 @@ def test_plane_fit_stack_shapes():
     pts = np.stack([_hexagon(), _hexagon(1.5)])
     c, n, rms = plane_fit(pts)
     assert c.shape == (2, 3) and n.shape == (2, 3) and rms.shape == (2,)
+
+
+def test_p_orbital_axis_is_poav1_with_unequal_bonds():
+    # POAV1: the p-orbital axis makes equal angles with the three sigma bonds of a pyramidal atom
+    # (Haddon, Acc. Chem. Res. 1988, 21, 243, from memory), whatever the bond lengths. 1e-10: rounding.
+    rng = np.random.default_rng(5)
+    for _ in range(20):
+        dirs = rng.normal(size=(3, 3)) + np.array([0.0, 0.0, -1.5])   # three bonds pointing downwards
+        dirs /= np.linalg.norm(dirs, axis=1)[:, None]
+        xyz = np.vstack([np.zeros(3), dirs * rng.uniform(1.0, 1.6, (3, 1))])[None]
+        axis = p_orbital_axes(xyz, [0], [[1, 2, 3]])[0, 0]
+        cosines = dirs @ axis
+        assert_allclose(cosines, np.full(3, cosines[0]), atol=1e-10)
+
+
+def test_ring_axes_equal_the_huckel_axes():
+    # One definition for the reported misalignment and the Hueckel overlap (common practice, no source):
+    # the ring-geometry axes equal the sign-oriented Hueckel axes up to sign on a bent MMFF structure.
+    from ringshift import huckel as hk
+    from ringshift.structure import load_structure
+
+    s = load_structure("C1=CC=CC=CC=C1", conformers=1, seed=3)   # tub-shaped cyclooctatetraene
+    atoms = [a.GetIdx() for a in s.mol.GetAtoms() if a.GetAtomicNum() == 6]
+    nbrs = [[n.GetIdx() for n in s.mol.GetAtomWithIdx(a).GetNeighbors()] for a in atoms]
+    ring = p_orbital_axes(s.coords[:1], atoms, nbrs)[0]
+    bonds = [(k, (k + 1) % 8) for k in range(8)]
+    hu = hk.p_orbital_axes(s.coords[0], atoms, nbrs, bonds)[0]
+    assert_allclose(np.abs(np.einsum("ij,ij->i", ring, hu)), np.ones(8), atol=1e-12)
