@@ -62,7 +62,7 @@ from ringshift.huckel import PI_CHARGE_PPM_PER_E, pi_charge_shift_ppm
 
 __all__ = [
     "PiSystem", "HuckelResult", "LondonCurrents", "perceive_pi", "circuit_electrons", "huckel_class",
-    "huckel", "london_currents", "circuit_normals", "pi_charge_shift_ppm", "PI_CHARGE_PPM_PER_E",
+    "huckel", "london_currents", "circuit_normals", "orbital_axes", "pi_charge_shift_ppm", "PI_CHARGE_PPM_PER_E",
     "BETA_MODELS",
 ]
 
@@ -299,6 +299,16 @@ def _p_axes(mol, xyz: np.ndarray, atoms, bonds) -> tuple[np.ndarray, list[str]]:
         notes.append(f"Möbius-type twist: p-orbital phase reverses around a ring at bond ({i}, {j}); "
                      "Hückel topology (|cos|) used")
     return axes, notes
+
+
+def orbital_axes(pi: "PiSystem", mol, coords) -> np.ndarray:
+    """Unit p-orbital axes (n_pi, 3) of the π atoms of one conformer (coords (n_atoms, 3), Å).
+
+    The axes of :func:`ringshift.huckel.p_orbital_axes` (POAV1 for three σ neighbours), signs made
+    consistent along the π graph; an atom without a defined axis of its own (one σ neighbour, as a
+    carbonyl O, or a linear pair, as a nitrile C) takes a π neighbour's.
+    """
+    return _p_axes(mol, np.asarray(coords, dtype=np.float64), pi.atoms, pi.bonds)[0]
 
 
 def perceive_pi(mol, coords=None) -> PiSystem:

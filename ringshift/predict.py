@@ -17,7 +17,6 @@ import numpy as np
 from rdkit import Chem
 
 from ringshift import fields, pisystem, shifts
-from ringshift.rings import p_orbital_axes
 from ringshift.constants import BENZENE_CURRENT_NA_PER_T, BETA_MODELS, CURRENT_SOURCES, JB_SEPARATION_A, MODELS
 from ringshift.errors import GeometryWarning, InputError
 from ringshift.rings import Circuit, CircuitGeometry, circuit_geometry, find_circuits
@@ -473,11 +472,10 @@ def network_totals(structure: Structure, pi, london, h_idx: Sequence[int], separ
     starts = [i for i, _ in bonds]
     ends = [j for _, j in bonds]
     atoms = list(pi.atoms)
-    nbrs = [[n.GetIdx() for n in mol.GetAtomWithIdx(a).GetNeighbors()] for a in atoms]
     out = np.zeros((coords.shape[0], len(h_idx)))
     where = {a: i for i, a in enumerate(atoms)}
     for k, lc in enumerate(london):
-        axes = p_orbital_axes(coords[k:k + 1], atoms, nbrs)[0]
+        axes = pisystem.orbital_axes(pi, mol, coords[k])
         ai = axes[[where[i] for i in starts]]
         aj = axes[[where[j] for j in ends]]
         aj = aj * np.sign(np.einsum("ij,ij->i", ai, aj))[:, None]

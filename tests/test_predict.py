@@ -27,6 +27,19 @@ def test_network_model_equals_face_loops_for_planar_system(naphthalene):
     assert_allclose(b, a, atol=1e-6)
 
 
+@pytest.mark.parametrize("smiles", ["O=C1C=CC=CC=C1", "N#Cc1ccccc1", "[O-][n+]1ccccc1"],
+                         ids=["tropone", "benzonitrile", "pyridine-N-oxide"])
+def test_network_model_with_one_neighbour_and_linear_pi_atoms(smiles):
+    # A carbonyl O (one sigma neighbour) or a nitrile C (linear) has no p-axis of its own; it takes a
+    # neighbour's. Acyclic pi bonds carry no net current (Kirchhoff), so the network again equals the face
+    # loops (textbook superposition, as above). Tolerance 1e-6 ppm: both are exact sums.
+    s = load_structure(smiles, conformers=1, seed=11)
+    a = np.array([p.ring_current_ppm for p in predict(s, model="polygon").protons])
+    b = np.array([p.ring_current_ppm for p in predict(s, model="network").protons])
+    assert np.all(np.isfinite(b))
+    assert_allclose(b, a, atol=1e-6)
+
+
 def test_shifts_are_linear_in_the_currents(naphthalene):
     # Biot–Savart fields are linear in the current (textbook): doubling R1 doubles its column.
     base = predict(naphthalene, currents="benzene")
