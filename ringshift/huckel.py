@@ -76,7 +76,7 @@ __all__ = [
     "beta_distance_factor", "huckel_matrix", "occupy", "solve_fragments", "density_matrix", "london_bond_response",
     "bond_polarizability", "scf_cc_lengths", "polyene_chain_lengths", "calibrate_chain_slope",
     "POLYACETYLENE_BLA_A", "SCF_R0_A", "SCF_SLOPE_A", "SCF_RELATIONS", "kirchhoff_decomposition", "plane_fit",
-    "poav_vectors", "p_orbital_axes", "circuit_normals", "circuit_incidence", "regular_polygon", "benzene_reference_response",
+    "poav_vectors", "poav_defined", "LINEAR_BOND_ANGLE_DEG", "p_orbital_axes", "circuit_normals", "circuit_incidence", "regular_polygon", "benzene_reference_response",
     "absolute_current_nA_per_T", "pi_charge_shift_ppm", "PI_CHARGE_PPM_PER_E",
 ]
 
@@ -555,12 +555,29 @@ def poav_vectors(xyz, centres, neighbours) -> tuple[np.ndarray, np.ndarray]:
     return (v, height) if stack else (v[0], height[0])
 
 
+#: A two-coordinate atom whose bond angle exceeds this (sp-like: alkyne and cumulene carbons, nitrile
+#: C) has no axis of its own: the cross product of its bond vectors is dominated by noise there.
+LINEAR_BOND_ANGLE_DEG = 150.0
+
+
+def poav_defined(v, neighbours) -> np.ndarray:
+    """Which vectors of :func:`poav_vectors` define an axis: (…, n) bool.
+
+    Three neighbours: |v| > 0.1 (the tip triangle is not degenerate); two: the bond angle is below
+    :data:`LINEAR_BOND_ANGLE_DEG` (|v| = sin of the bond angle); any other count: never.
+    """
+    deg = np.array([len(nb) for nb in neighbours])
+    limit = np.where(deg == 3, 0.1, np.where(deg == 2, np.sin(np.radians(LINEAR_BOND_ANGLE_DEG)), np.inf))
+    return np.linalg.norm(np.asarray(v), axis=-1) > limit
+
+
 def p_orbital_axes(xyz, centres, neighbours, bonds):
     """p-orbital axes of π centres, with signs made consistent along a spanning tree of the π graph.
 
     An atom with three σ neighbours gets the POAV1 axis and one with two the normal of the plane of the
-    atom and its neighbours (:func:`poav_vectors`); with one, four or more, or a linear pair, the axis of
-    a π neighbour (else the plane normal of all centres).
+    atom and its neighbours (:func:`poav_vectors`); with one, four or more, or a near-linear pair (bond
+    angle above :data:`LINEAR_BOND_ANGLE_DEG`), the axis of a π neighbour (else the plane normal of all
+    centres).
 
     Parameters
     ----------
@@ -581,8 +598,8 @@ def p_orbital_axes(xyz, centres, neighbours, bonds):
     n = len(centres)
     b = np.asarray(bonds, dtype=np.intp).reshape(-1, 2)
     v, height = poav_vectors(x, centres, neighbours)
+    ok = poav_defined(v, neighbours)
     v_len = np.linalg.norm(v, axis=1)
-    ok = v_len > 0.1
     axes = np.where(ok[:, None], v / np.where(ok, v_len, 1.0)[:, None], 0.0)
     graph = coo_matrix((np.ones(len(b)), (b[:, 0], b[:, 1])), shape=(n, n))
     done = np.zeros(n, bool)

@@ -371,11 +371,14 @@ def p_orbital_axes(coords: np.ndarray, atoms: Sequence[int], neighbours: Sequenc
     Returns
     -------
     ndarray, shape (n_conf, m, 3)
-        Unit axes (sign arbitrary); the zero vector where the axis is undefined (collinear neighbours).
+        Unit axes (sign arbitrary); the zero vector where the atom has no axis of its own
+        (:func:`ringshift.huckel.poav_defined`: a near-linear pair, as an alkyne carbon).
     """
-    v, _ = hk.poav_vectors(coords, list(atoms), [list(nb)[:3] for nb in neighbours])
+    nb3 = [list(nb)[:3] for nb in neighbours]
+    v, _ = hk.poav_vectors(coords, list(atoms), nb3)
+    ok = hk.poav_defined(v, nb3)
     norm = np.linalg.norm(v, axis=2, keepdims=True)
-    return v / np.where(norm > 1e-12, norm, 1.0)
+    return np.where(ok[..., None], v / np.where(norm > 1e-12, norm, 1.0), 0.0)
 
 
 def circuit_geometry(coords: np.ndarray, circuit: Circuit | Sequence[int], mol: Chem.Mol | None = None) -> CircuitGeometry:
@@ -412,6 +415,8 @@ def circuit_geometry(coords: np.ndarray, circuit: Circuit | Sequence[int], mol: 
     else:
         nbrs = [[atoms[(k - 1) % m], atoms[(k + 1) % m]] for k in range(m)]
     axes = p_orbital_axes(xyz, atoms, nbrs)
+    undefined = ~np.any(axes, axis=2)                      # sp-like ring atoms follow the ring normal
+    axes = np.where(undefined[..., None], normal[:, None, :], axes)
     cosang = np.abs(np.einsum("kmj,kmj->km", axes, np.roll(axes, -1, axis=1)))
     mis = np.degrees(np.arccos(np.clip(cosang, 0.0, 1.0))).max(axis=1)
     return CircuitGeometry(centre, normal, radius, area, rms, mis)
