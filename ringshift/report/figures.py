@@ -53,6 +53,12 @@ _PEAK_TAG = {"solvent": "solvent", "reference": "TMS", "tms": "TMS", "impurity":
 
 
 # ------------------------------------------------------------------------------------------- inputs
+
+def _ppm2(value: float) -> str:
+    """Shift with two decimals, never "-0.00" (TMS at -0.001 ppm reads 0.00)."""
+    text = f"{value:.2f}"
+    return "0.00" if text == "-0.00" else text
+
 def split_source(source):
     """(prediction, compare_result or None) from a Prediction or an analysis.CompareResult."""
     if hasattr(source, "comparison") and hasattr(source, "prediction"):
@@ -264,12 +270,12 @@ def spectrum_figure(source, peaklist=None, *, width_in: float = 8.0) -> Figure:
             lab_x = spread_positions(-shifts, gap) * -1
             for (s, kind, tag), h, lx in zip(peaks, top, lab_x):
                 if kind == "signal":
-                    text, col = f"{s:.2f}", INK
+                    text, col = _ppm2(s), INK
                 elif kind == "unassigned":
-                    text, col = f"{s:.2f} unassigned", UNASSIGNED
+                    text, col = f"{_ppm2(s)} unassigned", UNASSIGNED
                     ax.plot(s, h + 0.05, "x", color=UNASSIGNED, ms=6, mew=1.4)
                 else:
-                    text, col = f"{tag} {s:.2f}", PRIOR
+                    text, col = f"{tag} {_ppm2(s)}", PRIOR
                     ax.plot(s, h + 0.05, "v", color=MUTED, mec=PRIOR, ms=5)
                 ax.plot([s, s, lx], [h + 0.02, h + 0.09, h + 0.13], color=MUTED, lw=0.5)
                 ax.text(lx, h + 0.14, text, rotation=90, ha="center", va="bottom", fontsize=7.5, color=col)
