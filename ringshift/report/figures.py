@@ -52,13 +52,13 @@ _FORMATS = {".png": "png", ".svg": "svg", ".pdf": "pdf"}
 _PEAK_TAG = {"solvent": "solvent", "reference": "TMS", "tms": "TMS", "impurity": "impurity"}
 
 
-# ------------------------------------------------------------------------------------------- inputs
-
 def _ppm2(value: float) -> str:
     """Shift with two decimals, never "-0.00" (TMS at -0.001 ppm reads 0.00)."""
     text = f"{value:.2f}"
     return "0.00" if text == "-0.00" else text
 
+
+# ------------------------------------------------------------------------------------------- inputs
 def split_source(source):
     """(prediction, compare_result or None) from a Prediction or an analysis.CompareResult."""
     if hasattr(source, "comparison") and hasattr(source, "prediction"):
