@@ -195,7 +195,6 @@ def _best(fn, repeat=3):
 
 def kernel_throughput(quick: bool):
     from ringshift import fields
-    from ringshift.ensemble import polygon_shielding_frames
 
     spec = importlib.util.spec_from_file_location("_tf", ROOT / "tests" / "test_fields.py")
     slow = importlib.util.module_from_spec(spec)
@@ -222,7 +221,7 @@ def kernel_throughput(quick: bool):
     cases = [
         ("polygon double loop", lambda: fields.polygon_shielding(P, V, z), n * 2 * m,
          lambda: slow.slow_polygon_shielding(Ps, V, z), 200 * 2 * m, 27),
-        ("polygon, frame-batched", lambda: polygon_shielding_frames(Pf, Vf, Nf), F * 40 * 2 * m,
+        ("polygon, frame-batched", lambda: fields.polygon_shielding(Pf, Vf, Nf), F * 40 * 2 * m,
          None, 0, 27),
         ("network (bond currents)", lambda: fields.network_shielding(P, starts, ends, cur, z, field_dir=z), n * 2 * m,
          lambda: slow.slow_network(Ps, starts, ends, cur, [z] * m, z, 0.64), 200 * 2 * m, 27),

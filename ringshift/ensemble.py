@@ -27,7 +27,7 @@ import numpy as np
 from rdkit import Chem
 
 from ringshift import fields, pisystem, shifts
-from ringshift.constants import JB_SEPARATION_A, KB_KCAL_PER_MOL_K, MU0_PPM_A_PER_NA_T, WIRE_CUTOFF_A
+from ringshift.constants import JB_SEPARATION_A, KB_KCAL_PER_MOL_K
 from ringshift.errors import GeometryWarning, InputError
 from ringshift.predict import MODELS, Prediction, geometric_factors, network_totals, predict
 from ringshift.rings import MISALIGNMENT_LIMIT_DEG, PLANARITY_LIMIT_A, circuit_geometry
@@ -42,100 +42,18 @@ __all__ = ["TrajectoryWarning", "Frame", "FrameStream", "iter_xyz_frames", "iter
 
 #: Sources of the currents of a trajectory (see :func:`predict_trajectory`).
 TRAJECTORY_CURRENTS = ("huckel", "huckel-per-frame", "benzene")
-_MU0_4PI = MU0_PPM_A_PER_NA_T / (4.0 * np.pi)
-_PAIRS_PER_BLOCK = 1 << 16       # frame × vertex × proton triples per kernel block (cache-sized)
 _MAX_CHUNK_FRAMES = 4096
 
 
-# ----------------------------------------------------------------------------------------------------
-# Frame-batched polygon kernel
-# ----------------------------------------------------------------------------------------------------
-def _loop_frames(P, V, n):
-    """g·n (Å⁻¹) of unit current along the vertex order of each frame's polygon, and a near-wire flag.
-
-    P (F, k, 3) points and V (F, m, 3) vertices relative to each frame's ring centroid, n (F, 3) unit.
-    Same closed form as :func:`ringshift.fields.segment_field`: with a = P_a − r, b = P_b − r,
-    s = |a| + |b|, g·u = 2 T s / (|a||b| (s² − L²)), T = u·(P_a × P_b) + r·(u × (P_b − P_a)).
-    """
-    Vc = np.concatenate([V, V[:, :1]], axis=1)
-    e = Vc[:, 1:] - Vc[:, :-1]
-    L2 = np.einsum("fmj,fmj->fm", e, e)
-    C = np.empty((V.shape[0], 4, V.shape[1]))
-    C[:, 0] = np.einsum("fmj,fj->fm", np.cross(V, Vc[:, 1:]), n)
-    C[:, 1:] = np.cross(n[:, None, :], e).transpose(0, 2, 1)
-    D = np.matmul(Vc, P.transpose(0, 2, 1))
-    D *= -2.0
-    D += np.einsum("fmj,fmj->fm", Vc, Vc)[:, :, None]
-    D += np.einsum("fkj,fkj->fk", P, P)[:, None, :]
-    np.maximum(D, 0.0, out=D)
-    np.sqrt(D, out=D)
-    Da, Db = D[:, :-1], D[:, 1:]
-    s = Da + Db
-    near = np.any(s < (np.sqrt(L2) + 2.0 * WIRE_CUTOFF_A)[:, :, None], axis=(1, 2))
-    Fm = np.multiply(Da, Db)
-    t = np.multiply(s, s)
-    t -= L2[:, :, None]
-    Fm *= t
-    with np.errstate(divide="ignore", invalid="ignore"):
-        np.divide(s, Fm, out=Fm)
-    H = np.matmul(C, Fm)
-    g = H[:, 0] + np.einsum("fjk,fkj->fk", H[:, 1:], P)
-    return 2.0 * g, near
-
-
 def polygon_shielding_frames(points, vertices, normals, *, separation_A: float = JB_SEPARATION_A):
-    """:func:`ringshift.fields.polygon_shielding` for a conformer stack, vectorised over the frames.
+    """Alias of :func:`ringshift.fields.polygon_shielding` for a conformer stack (kept for existing callers).
 
-    Parameters
-    ----------
-    points : (n_frames, n, 3) array_like, Å
-    vertices : (n_frames, m, 3) array_like, Å
-        Ring atoms in ring order (closed automatically).
-    normals : (n_frames, 3) array_like
-        Ring normals (the diatropic sense follows the normal, as in :mod:`ringshift.fields`).
-    separation_A : float
-        Johnson–Bovey half-separation (J. Chem. Phys. 1958, 29, 1012), Å.
-
-    Returns
-    -------
-    sigma : (n_frames, n) float64, ppm per nA/T
-        Identical to the per-frame kernel; frames in which a point comes within WIRE_CUTOFF_A of a
-        wire are handed to that kernel (regularised, GeometryWarning).
+    points (n_frames, n, 3) Å, vertices (n_frames, m, 3) Å, normals (n_frames, 3); returns sigma
+    (n_frames, n) in ppm per nA/T, computed frame-batched by the one polygon kernel of :mod:`ringshift.fields`.
     """
-    P0 = np.ascontiguousarray(points, dtype=np.float64)
-    V0 = np.ascontiguousarray(vertices, dtype=np.float64)
-    N0 = np.ascontiguousarray(normals, dtype=np.float64)
-    if P0.ndim != 3 or P0.shape[2] != 3 or V0.shape[:1] + V0.shape[2:] != (P0.shape[0], 3) or V0.ndim != 3 \
-            or V0.shape[1] < 3 or N0.shape != (P0.shape[0], 3):
-        raise InputError(f"expected points (F, n, 3), vertices (F, m>=3, 3), normals (F, 3); got {P0.shape}, "
-                         f"{V0.shape}, {N0.shape}", source="polygon_shielding_frames")
-    h = float(separation_A)
-    F, k, m = P0.shape[0], P0.shape[1], V0.shape[1]
-    out = np.empty((F, k))
-    if F == 0 or k == 0:
-        return out
-    N = N0 / np.linalg.norm(N0, axis=1, keepdims=True)
-    centre = V0.mean(axis=1, keepdims=True)
-    V, P = V0 - centre, P0 - centre
-    area = 0.5 * np.einsum("fj,fj->f", np.cross(V, np.roll(V, -1, axis=1)).sum(axis=1), N)
-    sign = np.where(area < 0.0, -1.0, 1.0)
-    near = np.zeros(F, dtype=bool)
-    step = max(1, _PAIRS_PER_BLOCK // ((m + 1) * k))
-    for lo in range(0, F, step):
-        sl = slice(lo, min(F, lo + step))
-        n = N[sl]
-        if h == 0.0:
-            g, nr = _loop_frames(P[sl], V[sl], n)
-            out[sl] = _MU0_4PI / 3.0 * g
-        else:
-            g_up, n_up = _loop_frames(P[sl] - h * n[:, None, :], V[sl], n)
-            g_dn, n_dn = _loop_frames(P[sl] + h * n[:, None, :], V[sl], n)
-            out[sl], nr = _MU0_4PI / 6.0 * (g_up + g_dn), n_up | n_dn
-        near[sl] = nr
-    out *= sign[:, None]
-    for f in np.flatnonzero(near):       # exact regularised twin for frames with a point near a wire
-        out[f] = fields.polygon_shielding(P0[f], V0[f], N0[f], separation_A=h)
-    return out
+    if np.ndim(points) != 3:
+        raise InputError(f"expected points of shape (n_frames, n, 3), got {np.shape(points)}", source="points")
+    return fields.polygon_shielding(points, vertices, normals, separation_A=separation_A)
 
 
 # ----------------------------------------------------------------------------------------------------
@@ -367,8 +285,8 @@ def predict_trajectory(template: Structure | None, frames, *, model: str = "poly
     frames : FrameStream, iterable of Frame or of (n_atoms, 3) arrays, or ndarray (n_frames, n_atoms, 3)
         Coordinates in Å, atoms in the template's order.
     model : str
-        Shielding model (:data:`ringshift.predict.MODELS`). "polygon" runs vectorised over frames
-        (:func:`polygon_shielding_frames`); the others call the per-frame kernels.
+        Shielding model (:data:`ringshift.predict.MODELS`). "polygon" runs frame-batched over each block
+        (:func:`ringshift.fields.polygon_shielding` on the stack); the others call per-frame kernels.
     currents : {"huckel", "benzene", "huckel-per-frame"}
         "huckel" (default): the Hückel–London currents of the template prediction (the first frame when
         the template comes from the file), held fixed; "benzene": 12 nA/T on RDKit-aromatic circuits;
@@ -498,13 +416,9 @@ def _block_features(xyz, template, tpred, loops, h_idx, fixed, model, currents, 
                 cur[:, c] = set_current[circ.label]
             if scale and circ.label in scale:
                 cur[:, c] *= scale[circ.label]
-    if model in ("polygon", "network"):
-        g = np.zeros((F, n_l, n_h))
-        for c, (circ, geo) in enumerate(zip(loops, geoms)):
-            g[:, c] = -polygon_shielding_frames(xyz[:, h_idx], xyz[:, list(circ.atoms)], geo.normal,
-                                                separation_A=separation_A)
-    else:
-        g = geometric_factors(xyz, h_idx, loops, geoms, model, separation_A=separation_A)
+    # polygon (and the network model's per-circuit breakdown): frame-batched over the block
+    g = geometric_factors(xyz, h_idx, loops, geoms, "polygon" if model == "network" else model,
+                          separation_A=separation_A)
     per = g * cur[:, :, None]
     total = per.sum(axis=1)
     if model == "network" and n_h and n_l:

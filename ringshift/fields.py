@@ -107,23 +107,32 @@ def _chunk(chunk_size, n_vertices: int) -> int:
     return int(chunk_size)
 
 
-def _polygon(vertices, normal, name: str = "vertices") -> tuple[np.ndarray, np.ndarray]:
-    """Vertices re-ordered to run counter-clockwise about the unit normal, and that normal."""
-    v = _array(vertices, name, (-1, 3), "ring vertices of shape (m, 3) with m >= 3")
-    if v.shape[0] < 3:
-        raise InputError(f"{name}: expected at least 3 ring vertices, got {v.shape[0]}")
-    n = _unit(normal, "normal")
-    edges = np.roll(v, -1, axis=0) - v
-    if np.min(np.einsum("ij,ij->i", edges, edges)) < 1e-12:
-        raise InputError(f"{name}: two consecutive vertices coincide; expected distinct ring atoms in "
-                         "ring order (do not repeat the first vertex: the polygon is closed automatically)")
-    c = v - v.mean(axis=0)
-    area_vec = 0.5 * np.cross(c, np.roll(c, -1, axis=0)).sum(axis=0)
-    a_n = float(area_vec @ n)
-    if abs(a_n) <= 1e-8 * max(float(np.linalg.norm(area_vec)), 1e-300) or abs(a_n) < 1e-12:
-        raise InputError(f"{name}: the polygon has no area projected on the normal; expected a ring "
-                         "roughly perpendicular to `normal`")
-    return (v if a_n > 0 else v[::-1].copy()), n
+def _cross(a, b):
+    """a × b over the last axis (length 3), broadcast; cheaper than np.cross on small stacks."""
+    return a[..., [1, 2, 0]] * b[..., [2, 0, 1]] - a[..., [2, 0, 1]] * b[..., [1, 2, 0]]
+
+
+def _polygons(v: np.ndarray, n: np.ndarray, stacked: bool) -> tuple[np.ndarray, np.ndarray]:
+    """Unit normals (F, 3) of rings v (F, m, 3) with normals n (F, 3), and the sign (F,) of each ring's
+    vector area on its normal (+1: vertices counter-clockwise about n). Errors name the first bad ring."""
+    if v.shape[1] < 3:
+        raise InputError(f"vertices: expected at least 3 ring vertices, got {v.shape[1]}")
+    norm = np.linalg.norm(n, axis=1)
+    edges = np.roll(v, -1, axis=1) - v
+    c = v - np.einsum("fij->fj", v)[:, None] / v.shape[1]  # einsum: numpy's axis-1 reductions are slow
+    area_vec = 0.5 * np.einsum("fij->fj", _cross(c, edges))  # Σ c_i × c_(i+1) = Σ c_i × e_i
+    a_n = np.einsum("fj,fj->f", area_vec, n) / np.maximum(norm, 1e-300)
+    for what, bad, msg in (
+            ("normal", norm < 1e-12, "the normal/direction has zero length; expected a non-zero (3,) vector"),
+            ("vertices", np.min(np.einsum("fij,fij->fi", edges, edges), axis=1) < 1e-12, "two consecutive "
+             "vertices coincide; expected distinct ring atoms in ring order (do not repeat the first vertex: "
+             "the polygon is closed automatically)"),
+            ("vertices", (np.abs(a_n) <= 1e-8 * np.maximum(np.linalg.norm(area_vec, axis=1), 1e-300))
+             | (np.abs(a_n) < 1e-12), "the polygon has no area projected on the normal; expected a ring "
+             "roughly perpendicular to `normal`")):
+        if np.any(bad):
+            raise InputError(f"{what}{f'[{int(np.argmax(bad))}]' if stacked else ''}: {msg}")
+    return n / norm[:, None], np.where(a_n > 0, 1.0, -1.0)
 
 
 def _warn_near(count: int, stacklevel: int = 3, what: str = "a current wire",
@@ -137,26 +146,27 @@ def _warn_near(count: int, stacklevel: int = 3, what: str = "a current wire",
 # Core kernel: sum over straight segments of  w_k,d · (u_d · g_k(r))
 # ----------------------------------------------------------------------------------------------------
 def _segment_kernel(points, verts, ia, ib, dirs, weights, chunk_size):
-    """Direction components of the summed Biot–Savart geometric factor of straight segments.
+    """Direction components of the summed Biot–Savart geometric factor of straight segments, per frame.
 
     Parameters
     ----------
-    points : (n, 3) float64, Å
-    verts : (nv, 3) float64, Å
-        Segment end points; segment k runs verts[ia[k]] → verts[ib[k]]. ``ia``/``ib`` are slices
-        (views, no copy) or integer index arrays.
-    dirs : (nd, 3) float64
-        Unit directions u_d onto which the field is projected.
-    weights : (nd, m) float64
+    points : (F, n, 3) float64, Å
+        Field points of each frame (F = 1 for a single structure).
+    verts : (F, nv, 3) float64, Å
+        Segment end points; in frame f segment k runs verts[f, ia[k]] → verts[f, ib[k]]. ``ia``/``ib``
+        are slices (views, no copy) or integer index arrays.
+    dirs : (F, nd, 3) float64
+        Unit directions u_d onto which the field is projected, per frame.
+    weights : (nd, k) float64
         Current of segment k for output column d (units carried through).
     chunk_size : int
-        Points per chunk.
+        Frame×point pairs per chunk (a frame with more points is split).
 
     Returns
     -------
-    out : (n, nd) float64
+    out : (F, nd, n) float64
         sum_k weights[d, k] · u_d · g_k(r), with B = mu0·I/(4π)·g, g in Å⁻¹.
-    near : (n,) bool
+    near : (F, n) bool
         Point lies within WIRE_CUTOFF_A of at least one segment (regularised).
 
     Notes
@@ -165,70 +175,62 @@ def _segment_kernel(points, verts, ia, ib, dirs, weights, chunk_size):
     g = (a × b)(|a| + |b|) / (|a||b|(|a||b| + a·b)) (textbook Biot–Savart for a finite straight wire)
     is evaluated as g·u = 2 T s / (|a||b| (s² − L²)) with |a||b| + a·b = (s² − L²)/2 and
     T = u·(a × b) = u·(P_a × P_b) + r·(u × (P_b − P_a)), which is linear in r. The sum over k is then
-    one small matrix product, so only |r − P| has to be formed per point×vertex pair.
+    one small matrix product per frame, so only |r − P| has to be formed per point×vertex pair.
     """
     rc = WIRE_CUTOFF_A
-    origin = verts.mean(axis=0)
-    pts = points - origin
-    V = verts - origin
-    pa, pb = V[ia], V[ib]
-    e = pb - pa
-    L2 = np.einsum("ij,ij->i", e, e)
-    L = np.sqrt(L2)
-    screen = L + 2.0 * rc  # |a| + |b| < L + 2 r_c encloses every point within r_c of the segment
-    # C[k, 4d:4d+4] = w_dk · [u_d·(P_a × P_b), u_d × e_k]
-    nd = dirs.shape[0]
-    C = np.empty((e.shape[0], 4 * nd))
-    cab = np.cross(pa, pb)
-    for d in range(nd):
-        C[:, 4 * d] = weights[d] * (cab @ dirs[d])
-        C[:, 4 * d + 1:4 * d + 4] = weights[d][:, None] * np.cross(dirs[d], e)
-    Yt = np.empty((V.shape[0], 5))  # |r − v|² = [−2v, 1, |v|²] · [r, |r|², 1]
-    Yt[:, :3] = -2.0 * V
-    Yt[:, 3] = 1.0
-    Yt[:, 4] = np.einsum("ij,ij->i", V, V)
-    Ct = np.ascontiguousarray(C.T)
-    L2c, screen_c = L2[:, None], screen[:, None]
-
-    # Layout (vertex, point): every elementwise pass runs over long contiguous rows, and the two ends
-    # of a closed polygon's segments are plain row slices of D (no copies).
-    n = pts.shape[0]
-    ptsT = np.ascontiguousarray(pts.T)
-    out = np.empty((nd, n))
-    near = np.zeros(n, dtype=bool)
-    X = np.empty((5, min(chunk_size, max(n, 1))))
+    nf, n, nd, k = points.shape[0], points.shape[1], dirs.shape[1], weights.shape[1]
+    out = np.empty((nf, nd, n))
+    near = np.zeros((nf, n), dtype=bool)
+    fb, pb_ = max(1, chunk_size // max(n, 1)), max(1, min(n, chunk_size))  # frames, points per block
+    X = np.empty((min(fb, nf), 5, pb_))  # [r, |r|², 1] of one block
+    X[:, 4] = 1.0
     with np.errstate(divide="ignore", invalid="ignore", over="ignore"):
-        for lo in range(0, n, chunk_size):
-            hi = min(n, lo + chunk_size)
-            x = X[:, :hi - lo]
-            x[:3] = ptsT[:, lo:hi]
-            np.einsum("ij,ij->j", x[:3], x[:3], out=x[3])
-            x[4] = 1.0
-            D = Yt @ x
-            np.maximum(D, 0.0, out=D)
-            np.sqrt(D, out=D)
-            Da, Db = D[ia], D[ib]
-            s = Da + Db
-            cand = s < screen_c
-            F = np.multiply(Da, Db)
-            t = np.multiply(s, s)
-            t -= L2c
-            F *= t
-            np.divide(s, F, out=F)  # F = s / (|a||b|(s² − L²)); g·u = 2·T·F
-            if cand.any():
-                seg, row = np.nonzero(cand)
-                F_reg, hit = _regularised_factor(pts[lo + row], pa[seg], pb[seg], L[seg], rc)
-                F[seg[hit], row[hit]] = F_reg[hit]
-                near[lo + row[hit]] = True
-            H = Ct @ F
-            H *= 2.0
+        for f0 in range(0, nf, fb):  # per-frame set-up, block by block so memory stays O(chunk)
+            fs = slice(f0, f0 + fb)
+            origin = np.einsum("fij->fj", verts[fs])[:, None] / verts.shape[1]
+            V = verts[fs] - origin
+            pa, pb = V[:, ia], V[:, ib]
+            e = pb - pa
+            L2 = np.einsum("fkj,fkj->fk", e, e)
+            L = np.sqrt(L2)
+            L2c, screen_c = L2[..., None], (L + 2.0 * rc)[..., None]  # |a| + |b| < L + 2 r_c: q < r_c inside
+            C = np.empty((V.shape[0], 4 * nd, k))  # C[f, 4d:4d+4, k] = w_dk · [u_d·(P_a × P_b), u_d × e_k]
+            cab = _cross(pa, pb)
             for d in range(nd):
-                o = out[d, lo:hi]
-                np.multiply(x[0], H[4 * d + 1], out=o)
-                o += H[4 * d]
-                o += x[1] * H[4 * d + 2]
-                o += x[2] * H[4 * d + 3]
-    return out.T, near
+                C[:, 4 * d] = weights[d] * np.einsum("fkj,fj->fk", cab, dirs[fs, d])
+                C[:, 4 * d + 1:4 * d + 4] = _cross(dirs[fs, d, None], e * weights[d][:, None]).transpose(0, 2, 1)
+            # |r − v|² = [−2v, 1, |v|²]·[r, |r|², 1]; layout (frame, vertex, point): elementwise passes run
+            # over point rows, and the ends of a closed polygon's segments are row slices of D (no copies).
+            Yt = np.concatenate([-2.0 * V, np.ones(V.shape[:2] + (1,)), np.einsum("fij,fij->fi", V, V)[..., None]],
+                                axis=2)
+            for lo in range(0, n, pb_):
+                ps = slice(lo, lo + pb_)
+                x = X[:V.shape[0], :, :min(pb_, n - lo)]
+                np.subtract(points[fs, ps].transpose(0, 2, 1), origin.transpose(0, 2, 1), out=x[:, :3])
+                r = x[:, :3].transpose(0, 2, 1)  # (frames, points, 3) view, relative to the ring
+                np.einsum("fij,fij->fj", x[:, :3], x[:, :3], out=x[:, 3])
+                D = np.matmul(Yt, x)
+                np.maximum(D, 0.0, out=D)
+                np.sqrt(D, out=D)
+                Da, Db = D[:, ia], D[:, ib]
+                s = Da + Db
+                cand = s < screen_c
+                F = np.multiply(Da, Db)
+                t = np.multiply(s, s)
+                t -= L2c
+                F *= t
+                np.divide(s, F, out=F)  # F = s / (|a||b|(s² − L²)); g·u = 2·T·F
+                if cand.any():
+                    fk, row = np.nonzero(cand.reshape(-1, cand.shape[2]))  # 2-D: faster than 3-D
+                    f, seg = np.divmod(fk, k)
+                    F_reg, hit = _regularised_factor(r[f, row], pa[f, seg], pb[f, seg], L[f, seg], rc)
+                    F[f[hit], seg[hit], row[hit]] = F_reg[hit]
+                    near[fs, ps][f[hit], row[hit]] = True
+                H = np.matmul(C, F)
+                for d in range(nd):
+                    out[fs, d, ps] = H[:, 4 * d] + np.einsum("fjp,fjp->fp", H[:, 4 * d + 1:4 * d + 4], x[:, :3])
+    out *= 2.0
+    return out, near
 
 
 def _regularised_factor(r, pa, pb, L, rc):
@@ -299,29 +301,15 @@ def segment_field(points, starts, ends, *, currents=None, chunk_size=None) -> np
         return np.zeros((pts.shape[0], 3))
     _check_lengths(a, b, "starts/ends")
     verts = np.concatenate([a, b])
-    out, near = _segment_kernel(pts, verts, np.arange(m), np.arange(m, 2 * m), np.eye(3),
+    out, near = _segment_kernel(pts[None], verts[None], np.arange(m), np.arange(m, 2 * m), np.eye(3)[None],
                                 np.tile(w, (3, 1)), _chunk(chunk_size, 2 * m))
     _warn_near(int(near.sum()))
-    return np.ascontiguousarray(out)
+    return np.ascontiguousarray(out[0].T)
 
 
 def _check_lengths(a, b, name):
     if np.any(np.einsum("ij,ij->i", b - a, b - a) < 1e-12):
         raise InputError(f"{name}: a segment has zero length; expected distinct start and end points")
-
-
-def _polygon_one(pts, v, n, h, chunk):
-    """Single-conformer double loop; v counter-clockwise about n. Returns (sigma (n,), near (n,))."""
-    m = v.shape[0]
-    verts = np.concatenate([v, v[:1]])
-    ia, ib = slice(0, m), slice(1, m + 1)
-    w = np.ones((1, m))
-    if h == 0.0:
-        g, near = _segment_kernel(pts, verts, ia, ib, n[None], w, chunk)
-        return _MU0_4PI / 3.0 * g[:, 0], near
-    g_up, near_up = _segment_kernel(pts - h * n, verts, ia, ib, n[None], w, chunk)
-    g_dn, near_dn = _segment_kernel(pts + h * n, verts, ia, ib, n[None], w, chunk)
-    return _MU0_4PI / 6.0 * (g_up[:, 0] + g_dn[:, 0]), near_up | near_dn
 
 
 def polygon_shielding(points, vertices, normal, *, separation_A=JB_SEPARATION_A, chunk_size=None):
@@ -339,7 +327,8 @@ def polygon_shielding(points, vertices, normal, *, separation_A=JB_SEPARATION_A,
         Each loop is the polygon shifted by ±separation_A along the normal with half the current
         (Johnson & Bovey, J. Chem. Phys. 1958, 29, 1012; default 0.64 Å). 0 gives a single loop.
     chunk_size : int, optional
-        Points per chunk; memory use is O(chunk_size × m), independent of n.
+        Points (for a stack: frame×point pairs) per chunk; memory use is O(chunk_size × m),
+        independent of n and n_conf.
 
     Returns
     -------
@@ -348,28 +337,36 @@ def polygon_shielding(points, vertices, normal, *, separation_A=JB_SEPARATION_A,
 
     Notes
     -----
-    Exact Biot–Savart sum over the straight segments (formula in :func:`segment_field`).
-    Points within WIRE_CUTOFF_A of a wire are regularised and reported by a GeometryWarning.
+    Exact Biot–Savart sum over the straight segments (formula in :func:`segment_field`); the two loops
+    are evaluated as one loop in the ring plane seen from the points moved by ∓separation_A. A stack is
+    evaluated frame-batched in blocks of about chunk_size frame×point pairs; it equals separate calls
+    per conformer to rounding (tested). Points within WIRE_CUTOFF_A of a wire are regularised and
+    reported by one GeometryWarning per call, counting points over all conformers.
     """
     h = _nonneg(separation_A, "separation_A")
-    if np.ndim(points) == 3:
-        pts = _array(points, "points", (-1, -1, 3), "points of shape (n_conf, n, 3)")
-        nc = pts.shape[0]
-        vs = _array(vertices, "vertices", (nc, -1, 3), f"vertices of shape ({nc}, m, 3) for {nc} conformers")
-        ns = _array(normal, "normal", (nc, 3), f"normals of shape ({nc}, 3) for {nc} conformers")
-        out = np.empty(pts.shape[:2])
-        count = 0
-        for c in range(nc):
-            v, n = _polygon(vs[c], ns[c], f"vertices[{c}]")
-            out[c], near = _polygon_one(pts[c], v, n, h, _chunk(chunk_size, v.shape[0] + 1))
-            count += int(near.sum())
-        _warn_near(count)
-        return out
-    pts = _array(points, "points", (-1, 3), "points of shape (n, 3) or (n_conf, n, 3)")
-    v, n = _polygon(vertices, normal)
-    sigma, near = _polygon_one(pts, v, n, h, _chunk(chunk_size, v.shape[0] + 1))
+    stacked = np.ndim(points) == 3
+    if stacked:
+        P = _array(points, "points", (-1, -1, 3), "points of shape (n_conf, n, 3)")
+        nc = P.shape[0]
+        V = _array(vertices, "vertices", (nc, -1, 3), f"vertices of shape ({nc}, m, 3) for {nc} conformers")
+        N = _array(normal, "normal", (nc, 3), f"normals of shape ({nc}, 3) for {nc} conformers")
+    else:
+        P = _array(points, "points", (-1, 3), "points of shape (n, 3) or (n_conf, n, 3)")[None]
+        V = _array(vertices, "vertices", (-1, 3), "ring vertices of shape (m, 3) with m >= 3")[None]
+        N = _array(normal, "normal", (3,), "a vector of shape (3,)")[None]
+    N, sign = _polygons(V, N, stacked)
+    chunk, k, m = _chunk(chunk_size, V.shape[1] + 1), P.shape[1], V.shape[1]
+    if h > 0.0:  # points moved by ∓h along n see one loop in the ring plane; filled in place
+        P = np.concatenate([P, P], axis=1)
+        P[:, :k] -= h * N[:, None]
+        P[:, k:] += h * N[:, None]
+    g, near = _segment_kernel(P, np.concatenate([V, V[:, :1]], axis=1), slice(0, m), slice(1, m + 1),
+                              N[:, None], np.ones((1, m)), chunk)
+    if h > 0.0:
+        g, near = 0.5 * (g[..., :k] + g[..., k:]), near[:, :k] | near[:, k:]
     _warn_near(int(near.sum()))
-    return sigma
+    sigma = (_MU0_4PI / 3.0) * sign[:, None] * g[:, 0]
+    return sigma if stacked else sigma[0]
 
 
 def _loop_sigma_zz(rho, z, a):
@@ -522,8 +519,9 @@ def haigh_mallion_shielding(points, vertices, normal, *, chunk_size=None):
     points within WIRE_CUTOFF_A of a bond are reported by a GeometryWarning.
     """
     pts = _array(points, "points", (-1, 3), "points of shape (n, 3)")
-    v, n = _polygon(vertices, normal)
-    m = v.shape[0]
+    v = _array(vertices, "vertices", (-1, 3), "ring vertices of shape (m, 3) with m >= 3")
+    n, sign = _polygons(v[None], _array(normal, "normal", (3,), "a vector of shape (3,)")[None], False)
+    n, m = n[0], v.shape[0]
     chunk = _chunk(chunk_size, m)
     origin = v.mean(axis=0)
     V = v - origin
@@ -539,9 +537,10 @@ def haigh_mallion_shielding(points, vertices, normal, *, chunk_size=None):
         inv3 = np.maximum(d, WIRE_CUTOFF_A) ** -3
         out[lo:lo + chunk] = 0.5 * np.einsum("ij,ij->i", twoS, inv3 + np.roll(inv3, -1, axis=1))
     verts = np.concatenate([V, V[:1]])
-    near = _segment_kernel(P, verts, slice(0, m), slice(1, m + 1), n[None], np.ones((1, m)), chunk)[1]
+    near = _segment_kernel(P[None], verts[None], slice(0, m), slice(1, m + 1), n[None, None], np.ones((1, m)),
+                           chunk)[1]
     _warn_near(int(near.sum()), stacklevel=3)
-    return _MU0_4PI / 3.0 * out
+    return sign[0] * _MU0_4PI / 3.0 * out  # sign: the sums above run along the vertex order as given
 
 
 def network_shielding(points, starts, ends, bond_currents, normal_per_bond=None, *, field_dir=None,
@@ -620,6 +619,7 @@ def network_shielding(points, starts, ends, bond_currents, normal_per_bond=None,
     k = ends_all.shape[0] // 2
     verts, inv = np.unique(ends_all, axis=0, return_inverse=True)
     inv = inv.reshape(-1)
-    g, near = _segment_kernel(pts, verts, inv[:k], inv[k:], dirs, w, _chunk(chunk_size, verts.shape[0]))
+    g, near = _segment_kernel(pts[None], verts[None], inv[:k], inv[k:], dirs[None], w,
+                              _chunk(chunk_size, verts.shape[0]))
     _warn_near(int(near.sum()), stacklevel=3)
-    return -_MU0_4PI / 3.0 * g.sum(axis=1)
+    return -_MU0_4PI / 3.0 * g[0].sum(axis=0)

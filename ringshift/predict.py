@@ -134,13 +134,15 @@ def geometric_factors(coords: np.ndarray, h_idx: Sequence[int], circuits: Sequen
         return out
     for c, (circ, geo) in enumerate(zip(circuits, geoms)):
         atoms = list(circ.atoms)
+        if model == "polygon":  # one frame-batched call over the conformer stack
+            out[:, c, :] = -fields.polygon_shielding(coords[:, h_idx, :], coords[:, atoms, :], geo.normal,
+                                                     separation_A=separation_A)
+            continue
         for k in range(n_conf):
             pts = coords[k, h_idx, :]
             verts = coords[k, atoms, :]
             n = geo.normal[k]
-            if model == "polygon":
-                sig = fields.polygon_shielding(pts, verts, n, separation_A=separation_A)
-            elif model == "johnson-bovey":
+            if model == "johnson-bovey":
                 sig = fields.johnson_bovey_shielding(pts, geo.centre[k], n, float(geo.radius_A[k]),
                                                      separation_A=separation_A)
             elif model == "haigh-mallion":

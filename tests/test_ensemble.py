@@ -62,20 +62,21 @@ def _write_sdf(path, mol, stack, energies=None):
 
 
 # ------------------------------------------------------------------------------------------ kernel
-def test_frame_batched_polygon_kernel_equals_per_frame_kernel():
+def test_polygon_shielding_frames_is_the_fields_stack_kernel():
+    # The old name is an alias of the one frame-batched kernel, fields.polygon_shielding on a stack; that
+    # kernel is compared with its slow twins (per-conformer calls, pure Python) in tests/test_fields.py.
+    # Identity of the two calls and the shape check: common practice, no source.
     rng = np.random.default_rng(3)
     th = 2 * np.pi * np.arange(7) / 7
     V = np.c_[1.5 * np.cos(th), 1.5 * np.sin(th), np.zeros(7)][None] + rng.normal(0, 0.05, (30, 7, 3))
     P = rng.uniform(-4, 4, (30, 9, 3))
-    P[5, 0] = V[5, 2] + [0.0, 0.0, 0.64 + 0.05]   # 0.05 Å from the upper wire: regularised path
     N = np.tile([0.0, 0.0, 1.0], (30, 1)) + rng.normal(0, 0.05, (30, 3))
-    N[::3] *= -1.0                                  # either normal orientation
     with warnings.catch_warnings():
         warnings.simplefilter("ignore", GeometryWarning)
-        got = polygon_shielding_frames(P, V, N)
-        want = np.stack([fields.polygon_shielding(P[f], V[f], N[f]) for f in range(30)])
-    # same closed form, summed in another order: rounding only (common practice, no source)
-    assert_allclose(got, want, rtol=1e-10, atol=1e-13)
+        np.testing.assert_array_equal(polygon_shielding_frames(P, V, N, separation_A=0.5),
+                                      fields.polygon_shielding(P, V, N, separation_A=0.5))
+    with pytest.raises(InputError, match=r"\(n_frames, n, 3\)"):
+        polygon_shielding_frames(P[0], V[0], N[0])
 
 
 # ------------------------------------------------------------------------------------------ averages
