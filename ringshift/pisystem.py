@@ -56,6 +56,7 @@ from scipy.sparse import coo_matrix
 from scipy.sparse.csgraph import connected_components
 
 from ringshift import huckel as hk
+from ringshift import pigeometry as pg
 from ringshift.constants import BENZENE_CURRENT_NA_PER_T
 from ringshift.errors import InputError
 from ringshift.huckel import PI_CHARGE_PPM_PER_E, pi_charge_shift_ppm
@@ -287,11 +288,11 @@ def _components(atoms, bonds) -> list[tuple[int, ...]]:
 
 
 def _p_axes(mol, xyz: np.ndarray, atoms, bonds) -> tuple[np.ndarray, list[str]]:
-    """p-orbital axes of the π atoms (:func:`ringshift.huckel.p_orbital_axes`) and notes."""
+    """p-orbital axes of the π atoms (:func:`ringshift.pigeometry.p_orbital_axes`) and notes."""
     idx = {a: k for k, a in enumerate(atoms)}
     nbrs = [[n.GetIdx() for n in mol.GetAtomWithIdx(a).GetNeighbors()] for a in atoms]
     lb = np.array([(idx[i], idx[j]) for i, j in bonds], dtype=np.intp).reshape(-1, 2)
-    axes, height, twist = hk.p_orbital_axes(xyz, list(atoms), nbrs, lb)
+    axes, height, twist = pg.p_orbital_axes(xyz, list(atoms), nbrs, lb)
     notes = [f"pyramidal π atom {a}: {h:.2f} Å out of the plane of its neighbours"
              for a, h in zip(atoms, height) if h > _PYRAMID_WARN_A]
     if twist is not None:
@@ -304,7 +305,7 @@ def _p_axes(mol, xyz: np.ndarray, atoms, bonds) -> tuple[np.ndarray, list[str]]:
 def orbital_axes(pi: "PiSystem", mol, coords) -> np.ndarray:
     """Unit p-orbital axes (n_pi, 3) of the π atoms of one conformer (coords (n_atoms, 3), Å).
 
-    The axes of :func:`ringshift.huckel.p_orbital_axes` (POAV1 for three σ neighbours), signs made
+    The axes of :func:`ringshift.pigeometry.p_orbital_axes` (POAV1 for three σ neighbours), signs made
     consistent along the π graph; an atom without a defined axis of its own (one σ neighbour, as a
     carbonyl O, or a linear pair, as a nitrile C) takes a π neighbour's.
     """
@@ -378,7 +379,7 @@ def perceive_pi(mol, coords=None) -> PiSystem:
         if poor:
             notes.append("poor p-orbital overlap (β scaled by |cos|) at bonds "
                          + ", ".join(f"{b} |cos| = {o:.2f}" for b, o in poor[:6]) + (" ..." if len(poor) > 6 else ""))
-        dev = tuple(hk.plane_fit(xyz[list(f)])[2] for f in frags)
+        dev = tuple(float(np.max(np.abs(pg.plane_fit(xyz[list(f)])[2]), initial=0.0)) for f in frags)
         planar = tuple(d <= _PLANAR_TOL_A for d in dev)
         for f, d in zip(frags, dev):
             if d > _PLANAR_TOL_A:
@@ -550,8 +551,8 @@ def huckel(pi: PiSystem, mol, coords=None, *, beta_model: str = "distance",
 # ---------------------------------------------------------------------------------------------------
 def circuit_normals(coords, circuits) -> np.ndarray:
     """Unit circuit normals (n_circuits, 3) from SVD plane fits, consistently oriented
-    (:func:`ringshift.huckel.circuit_normals`)."""
-    return hk.circuit_normals(np.asarray(coords, dtype=np.float64), [list(c) for c in circuits])
+    (:func:`ringshift.pigeometry.circuit_normals`)."""
+    return pg.circuit_normals(np.asarray(coords, dtype=np.float64), [list(c) for c in circuits])
 
 
 def london_currents(pi: PiSystem, mol, coords, circuits: Sequence[Sequence[int]], normals=None, *,
@@ -590,7 +591,7 @@ def london_currents(pi: PiSystem, mol, coords, circuits: Sequence[Sequence[int]]
         if nrm.shape != (len(cyc), 3) or not np.all(np.isfinite(nrm)) or np.any(np.linalg.norm(nrm, axis=1) < 1e-12):
             raise InputError(f"normals: expected ({len(cyc)}, 3) finite non-zero vectors, got shape {nrm.shape}")
         nrm = nrm / np.linalg.norm(nrm, axis=1)[:, None]
-    oriented, inc, devs = hk.circuit_incidence(xyz, cyc, pi.bonds, nrm)
+    oriented, inc, devs = pg.circuit_incidence(xyz, cyc, pi.bonds, nrm)
     hr = huckel(pi, mol, xyz, beta_model=beta_model, distortion=distortion)
     g_bz = hk.benzene_reference_response(beta_model)
     bz_abs = float(hk.absolute_current_nA_per_T(g_bz, beta0_eV))

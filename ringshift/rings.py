@@ -27,7 +27,7 @@ from typing import Iterable, Sequence
 import numpy as np
 from rdkit import Chem
 
-from ringshift import huckel as hk
+from ringshift import pigeometry as pg
 from ringshift.errors import InputError
 
 #: RMS out-of-plane deviation (Å) above which a circuit is flagged as too far from planar. A tub
@@ -325,7 +325,7 @@ def _check_user_circuit(mol: Chem.Mol, cyc: tuple[int, ...]) -> None:
 # --------------------------------------------------------------------------------------------
 
 def plane_fit(points: np.ndarray) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
-    """Least-squares plane of point sets by SVD.
+    """Least-squares plane of point sets by SVD (:func:`ringshift.pigeometry.plane_fit`), RMS deviation.
 
     Parameters
     ----------
@@ -340,22 +340,12 @@ def plane_fit(points: np.ndarray) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
     rms : ndarray, shape (n_conf,)
         RMS distance from the plane, Å.
     """
-    pts = np.asarray(points, dtype=float)
-    centre = pts.mean(axis=1)
-    rel = pts - centre[:, None, :]
-    _, _, vt = np.linalg.svd(rel, full_matrices=False)
-    normal = vt[:, -1, :]
-    # orientation from the circulation of the ordered points (vector area)
-    circ = np.cross(rel, np.roll(rel, -1, axis=1)).sum(axis=1)
-    sign = np.where(np.einsum("ij,ij->i", circ, normal) < 0, -1.0, 1.0)
-    normal = normal * sign[:, None]
-    dist = np.einsum("kmj,kj->km", rel, normal)
-    rms = np.sqrt(np.mean(dist**2, axis=1))
-    return centre, normal, rms
+    centre, normal, dev = pg.plane_fit(np.asarray(points, dtype=float))
+    return centre, normal, np.sqrt(np.mean(dev**2, axis=1))
 
 
 def p_orbital_axes(coords: np.ndarray, atoms: Sequence[int], neighbours: Sequence[Sequence[int]]) -> np.ndarray:
-    """Local p-orbital axis of each atom, for every conformer (:func:`ringshift.huckel.poav_vectors`).
+    """Local p-orbital axis of each atom, for every conformer (:func:`ringshift.pigeometry.poav_vectors`).
 
     Three neighbours: the POAV1 axis (normal of the plane through the tips of the unit bond vectors);
     two: the normal of the plane of the atom and its neighbours. The same definition sets the p-orbital
@@ -372,11 +362,11 @@ def p_orbital_axes(coords: np.ndarray, atoms: Sequence[int], neighbours: Sequenc
     -------
     ndarray, shape (n_conf, m, 3)
         Unit axes (sign arbitrary); the zero vector where the atom has no axis of its own
-        (:func:`ringshift.huckel.poav_defined`: a near-linear pair, as an alkyne carbon).
+        (:func:`ringshift.pigeometry.poav_defined`: a near-linear pair, as an alkyne carbon).
     """
     nb3 = [list(nb)[:3] for nb in neighbours]
-    v, _ = hk.poav_vectors(coords, list(atoms), nb3)
-    ok = hk.poav_defined(v, nb3)
+    v, _ = pg.poav_vectors(coords, list(atoms), nb3)
+    ok = pg.poav_defined(v, nb3)
     norm = np.linalg.norm(v, axis=2, keepdims=True)
     return np.where(ok[..., None], v / np.where(norm > 1e-12, norm, 1.0), 0.0)
 

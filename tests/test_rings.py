@@ -156,7 +156,7 @@ def test_p_orbital_axis_is_poav1_with_unequal_bonds():
 def test_ring_axes_equal_the_huckel_axes():
     # One definition for the reported misalignment and the Hueckel overlap (common practice, no source):
     # the ring-geometry axes equal the sign-oriented Hueckel axes up to sign on a bent MMFF structure.
-    from ringshift import huckel as hk
+    from ringshift import pigeometry as pg
     from ringshift.structure import load_structure
 
     s = load_structure("C1=CC=CC=CC=C1", conformers=1, seed=3)   # tub-shaped cyclooctatetraene
@@ -164,7 +164,7 @@ def test_ring_axes_equal_the_huckel_axes():
     nbrs = [[n.GetIdx() for n in s.mol.GetAtomWithIdx(a).GetNeighbors()] for a in atoms]
     ring = p_orbital_axes(s.coords[:1], atoms, nbrs)[0]
     bonds = [(k, (k + 1) % 8) for k in range(8)]
-    hu = hk.p_orbital_axes(s.coords[0], atoms, nbrs, bonds)[0]
+    hu = pg.p_orbital_axes(s.coords[0], atoms, nbrs, bonds)[0]
     assert_allclose(np.abs(np.einsum("ij,ij->i", ring, hu)), np.ones(8), atol=1e-12)
 
 
@@ -178,3 +178,20 @@ def test_near_linear_ring_atoms_follow_the_ring_normal():
     geo = circuit_geometry(ring[None], list(range(24)))
     assert geo.max_misalignment_deg[0] < 3.0
     assert 0.01 < geo.planarity_rms_A[0] < 0.06
+
+
+def test_pigeometry_plane_fit_single_equals_stack_and_follows_atom_order():
+    # A rotated regular hexagon lies in the rotated xy plane; its normal is the rotated +z when the atoms
+    # run counter-clockwise (right-hand rule, textbook). 1e-12: rounding.
+    from ringshift import pigeometry as pg
+
+    R = Rotation.from_euler("xyz", [0.3, -1.1, 2.0]).as_matrix()
+    hexa = _hexagon() @ R.T + np.array([1.0, -2.0, 0.5])
+    c, n, dev = pg.plane_fit(hexa)
+    cs, ns, devs = pg.plane_fit(hexa[None])
+    assert_allclose(n, R @ np.array([0.0, 0.0, 1.0]), atol=1e-12)
+    assert_allclose(dev, np.zeros(6), atol=1e-12)
+    assert_allclose(cs[0], c, atol=1e-12)
+    assert_allclose(ns[0], n, atol=1e-12)
+    assert_allclose(devs[0], dev, atol=1e-12)
+    assert_allclose(pg.plane_fit(hexa[::-1])[1], -n, atol=1e-12)
