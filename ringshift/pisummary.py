@@ -1,8 +1,8 @@
 """The π-system judgement of a structure as plain data: counts, classes, planarity, levels, currents.
 
 Used by ``ringshift pi`` and the report. Built on :func:`ringshift.predict.predict` (circuits and
-Hückel–London currents) and :func:`ringshift.pisystem.huckel` (levels of the most populated
-conformer).
+Hückel–London currents; the levels of the most populated conformer come from that step, or from
+:func:`ringshift.pisystem.huckel` when the prediction has none).
 """
 
 from __future__ import annotations
@@ -21,7 +21,9 @@ def pi_summary(structure, *, beta_model: str = "scf", prediction=None) -> dict:
     best = int(np.argmax(structure.weights))
     levels = None
     if pi is not None and pi.atoms:
-        hr = pisystem.huckel(pi, structure.mol, structure.coords[best], beta_model=beta_model)
+        hr = pred.huckel
+        if hr is None or hr.beta_model != beta_model:   # not from the London step, or other parameters
+            hr = pisystem.huckel(pi, structure.mol, structure.coords[best], beta_model=beta_model)
         levels = {
             "energies_beta": [_r(x) for x in hr.energies_beta],
             "occupations": [_r(x, 3) for x in hr.occupations],

@@ -101,6 +101,9 @@ class Prediction:
     pi: object | None = None
     warnings: tuple[str, ...] = ()
     provenance: dict = field(default_factory=dict)
+    #: Hückel levels of the most populated conformer from the Hückel–London step (None when the
+    #: currents did not come from it); saves callers a second solve.
+    huckel: object | None = field(default=None, repr=False)
 
 
 def _weighted(values: np.ndarray, w: np.ndarray) -> np.ndarray:
@@ -416,7 +419,8 @@ def predict(structure: Structure, *, model: str = "polygon", currents: str = "hu
     }
     return Prediction(structure=structure, model=model, circuits=circuit_results,
                       perimeters=perimeter_results, protons=tuple(protons), groups=tuple(groups),
-                      geometric=g, pi=pi, warnings=tuple(dict.fromkeys(notes)), provenance=prov)
+                      geometric=g, pi=pi, warnings=tuple(dict.fromkeys(notes)), provenance=prov,
+                      huckel=london[best].huckel if len(london) > best else None)
 
 
 def charge_term_ppm(structure: Structure, pi, h_idx: Sequence[int], beta_model: str, *,
