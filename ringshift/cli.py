@@ -25,14 +25,14 @@ def _show_warning(message, category, filename, lineno, file=None, line=None):  #
     print(f"ringshift: {tag}: {text}", file=sys.stderr)
 
 
-def _circuit_option(values):
+def _index_lists(values, option: str = "--circuit", example: str = "0,1,2,3,4,5"):
+    """Atom-index lists from repeated options like ``0,1,2``: a list of lists of int, or None if none given."""
     out = []
     for v in values:
-        try:
-            out.append([int(x) for x in v.replace(",", " ").split()])
-        except ValueError:
-            raise InputError(f"expected atom indices separated by commas (e.g. 0,1,2,3,4,5), got {v!r}",
-                             "--circuit") from None
+        items = v.replace(",", " ").split()
+        if not items or not all(x.isascii() and x.isdigit() for x in items):
+            raise InputError(f"expected atom indices separated by commas (e.g. {example}), got {v!r}", option)
+        out.append([int(x) for x in items])
     return out or None
 
 
@@ -97,7 +97,7 @@ def _run_predict(structure, charge, conformers, seed, temperature, model, curren
     s = _load(structure, charge, conformers, seed, temperature)
     return predict(s, model=model, currents=currents, beta_model=beta_model, scale=parse_assignments(scale, "--scale"),
                    set_current=parse_assignments(set_current, "--set-current"),
-                   user_circuits=_circuit_option(circuit))
+                   user_circuits=_index_lists(circuit))
 
 
 def _emit(text: str, output, force: bool):
@@ -288,22 +288,43 @@ def map_cmd(structure, charge, conformers, seed, temperature, model, currents, b
 @click.option("--temperature", type=click.FloatRange(1.0, 2000.0), default=298.15, show_default=True)
 @click.option("--energy-unit", type=click.Choice(["kcal/mol", "kJ/mol", "hartree", "eV"]), default="kcal/mol",
               show_default=True, help="Unit of bare energies in XYZ comment lines.")
+@click.option("--frame-weights", type=click.Path(dir_okay=False), default=None, metavar="FILE",
+              help="Given frame weights: a text file with one non-negative number per frame, in file order.")
 @click.option("--exchange", type=click.Choice(["none", "auto"]), default="none", show_default=True,
               help="Fast exchange: average topologically equivalent protons (e.g. annulene inner/outer).")
+@click.option("--exchange-group", "exchange_group", multiple=True, metavar="H,H,...",
+              help="Protons (H atom indices) in fast exchange with each other; repeat for more groups.")
 @click.option("--memory", type=click.FloatRange(10.0, 1e5), default=500.0, show_default=True,
               help="Memory budget for the frame blocks (MB).")
 @click.option("--format", "fmt", type=click.Choice(["table", "json"]), default="table", show_default=True)
 @click.option("-o", "--output", type=click.Path(dir_okay=False), default=None)
 @click.option("--force", is_flag=True)
-def trajectory_cmd(frames, charge, model, currents, beta_model, weights, temperature, energy_unit, exchange, memory,
-                   fmt, output, force):
+def trajectory_cmd(frames, charge, model, currents, beta_model, weights, temperature, energy_unit, frame_weights,
+                   exchange, exchange_group, memory, fmt, output, force):
     """Frame-averaged ring-current shifts of a multi-frame XYZ or multi-record SDF (streamed)."""
     from ringshift import output as out
-    from ringshift.ensemble import predict_trajectory_file, trajectory_to_dict
+    from ringshift.ensemble import predict_trajectory_file, read_weights_file, trajectory_to_dict
 
-    tp = predict_trajectory_file(frames, charge=charge, energy_unit=energy_unit, model=model, currents=currents,
-                                 beta_model=beta_model, weights=weights, temperature_K=temperature,
-                                 exchange=None if exchange == "none" else exchange, memory_MB=memory)
+    if frame_weights is not None and weights != "uniform":
+        raise InputError("give either --weights boltzmann or --frame-weights FILE, not both", "--frame-weights")
+    if exchange_group and exchange != "none":
+        raise InputError("give either --exchange auto or --exchange-group, not both", "--exchange-group")
+    groups = _index_lists(exchange_group, "--exchange-group", "12,13,14") or []
+    w = read_weights_file(frame_weights) if frame_weights is not None else weights
+    ex = groups or (None if exchange == "none" else exchange)
+    try:
+        tp = predict_trajectory_file(frames, charge=charge, energy_unit=energy_unit, model=model, currents=currents,
+                                     beta_model=beta_model, weights=w, temperature_K=temperature,
+                                     exchange=ex, memory_MB=memory)
+    except InputError as exc:   # name the user's file or option, not the API argument
+        renamed = {"weights": frame_weights, "exchange": "--exchange-group" if groups else "--exchange"}
+        if exc.source in renamed and renamed[exc.source]:
+            raise InputError(exc.bare_message, renamed[exc.source]) from None
+        raise
+    if frame_weights is not None:
+        weights = f"given ({frame_weights})"
+    if groups:
+        exchange = "given groups " + " | ".join(",".join(map(str, g)) for g in groups)
     if fmt == "json":
         text = out.to_json(trajectory_to_dict(tp))
     else:

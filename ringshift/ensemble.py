@@ -26,7 +26,7 @@ from typing import Iterator, Mapping, Sequence
 import numpy as np
 from rdkit import Chem
 
-from ringshift import fields, pisystem, shifts
+from ringshift import fields, limits, pisystem, shifts
 from ringshift.constants import JB_SEPARATION_A, KB_KCAL_PER_MOL_K
 from ringshift.errors import GeometryWarning, InputError
 from ringshift.predict import MODELS, Prediction, geometric_factors, network_totals, predict
@@ -38,7 +38,7 @@ from ringshift.structure import Structure
 __all__ = ["TrajectoryWarning", "Frame", "FrameStream", "iter_xyz_frames", "iter_sdf_records", "parse_energy",
            "polygon_shielding_frames", "exchange_groups", "CircuitStats", "TrajectoryPrediction",
            "predict_trajectory", "predict_trajectory_file", "trajectory_to_dict", "ENERGY_UNITS",
-           "TRAJECTORY_CURRENTS"]
+           "TRAJECTORY_CURRENTS", "read_weights_file"]
 
 #: Sources of the currents of a trajectory (see :func:`predict_trajectory`).
 TRAJECTORY_CURRENTS = ("huckel", "huckel-per-frame", "benzene")
@@ -245,6 +245,37 @@ def _log_weights(block: list[Frame], weights, temperature_K: float) -> np.ndarra
                          source="weights")
     with np.errstate(divide="ignore"):
         return np.log(weights[idx])
+
+
+def read_weights_file(path) -> np.ndarray:
+    """Frame weights from a text file: one non-negative number per frame, in file order.
+
+    Blank lines and lines starting with ``#`` are skipped. Returns (n_frames,) float64 (not normalised);
+    a bad line raises :class:`InputError` naming the file and line.
+    """
+    what = "a text file of frame weights (one non-negative number per line)"
+    raw = limits.read_text_bytes(path, what)
+    try:
+        text = raw.decode("utf-8-sig")
+    except UnicodeDecodeError:
+        raise InputError(f"is not UTF-8 text; expected {what}", str(path)) from None
+    limits.check_lines(text, str(path))
+    out = []
+    for lineno, line in enumerate(text.splitlines(), 1):
+        item = line.strip()
+        if not item or item.startswith("#"):
+            continue
+        try:
+            value = float(item) if item.isascii() else math.nan
+        except ValueError:
+            value = math.nan
+        if not math.isfinite(value) or value < 0:
+            raise InputError(f"expected one non-negative number (a frame weight), got {item[:40]!r}",
+                             f"{path}:{lineno}")
+        out.append(value)
+    if not out or sum(out) <= 0:
+        raise InputError(f"no positive weight; expected {what}", str(path))
+    return np.asarray(out)
 
 
 def _check_options(template, model, currents, memory_MB, weights, temperature_K):

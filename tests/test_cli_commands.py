@@ -73,3 +73,57 @@ def test_demo_runs(tmp_path, capsys):
     assert code == 0, err
     assert "FJ14C: verdict diatropic" in out and "claim 'aromatic': supported" in out
     assert (out_dir / "fj14c" / "report.html").is_file() and (out_dir / "fj14o" / "report.html").is_file()
+
+
+def _naphthalene_frames(tmp_path, n=3):
+    m = Chem.AddHs(Chem.MolFromSmiles("c1ccc2ccccc2c1"))
+    ids = AllChem.EmbedMultipleConfs(m, n, randomSeed=5)
+    AllChem.MMFFOptimizeMoleculeConfs(m)
+    path = tmp_path / "t.xyz"
+    path.write_text("".join(Chem.MolToXYZBlock(m, confId=i) for i in ids))
+    return path
+
+
+def test_trajectory_given_weights_and_exchange_groups(tmp_path, capsys):
+    path = _naphthalene_frames(tmp_path)
+    single = []
+    for k in range(3):       # each frame alone, by a weight file that puts all weight on it
+        wfile = tmp_path / f"w{k}.txt"
+        wfile.write_text("# one weight per frame\n" + "\n".join("1" if j == k else "0" for j in range(3)) + "\n")
+        code, out, err = run(["trajectory", str(path), "--format", "json", "--frame-weights", str(wfile)], capsys)
+        assert code == 0, err
+        single.append({p["index"]: p["ring_current_ppm"] for p in json.loads(out)["protons"]})
+    wfile = tmp_path / "w.txt"
+    wfile.write_text("1\n2\n1\n")
+    code, out, err = run(["trajectory", str(path), "--format", "json", "--frame-weights", str(wfile),
+                          "--exchange-group", "10,11,12"], capsys)
+    assert code == 0, err
+    got = {p["index"]: p["ring_current_ppm"] for p in json.loads(out)["protons"]}
+    # weighted mean over frames (weights 1:2:1), then the fast-exchange mean over the group's sites
+    # (Gutowsky & Holm, J. Chem. Phys. 1956, 25, 1228); 2e-4 ppm: the JSON rounds to 4 decimals
+    framed = {h: (single[0][h] + 2 * single[1][h] + single[2][h]) / 4 for h in single[0]}
+    mean = sum(framed[h] for h in (10, 11, 12)) / 3
+    for h in (10, 11, 12):
+        assert got[h] == pytest.approx(mean, abs=2e-4)
+    assert got[13] == pytest.approx(framed[13], abs=2e-4)
+
+
+@pytest.mark.parametrize("extra, text, msg", [
+    (["--frame-weights", "{w}"], "1\nabc\n1\n", "w.txt:2"),
+    (["--frame-weights", "{w}"], "1\n-1\n1\n", "non-negative"),
+    (["--frame-weights", "{w}"], "1\n1\n", "w.txt: got 2 weights, fewer than the frames"),
+    (["--frame-weights", "{w}"], "0\n0\n0\n", "no positive weight"),
+    (["--frame-weights", "{w}", "--weights", "boltzmann"], "1\n1\n1\n", "not both"),
+    (["--exchange-group", "10,11", "--exchange", "auto"], "", "not both"),
+    (["--exchange-group", "10,x"], "", "atom indices"),
+    (["--exchange-group", "0,1"], "", "--exchange-group: atom(s) [0, 1] are not hydrogens"),
+], ids=["word", "negative", "too-few", "all-zero", "two-weightings", "two-exchanges", "bad-index", "heavy-atoms"])
+def test_trajectory_bad_weights_and_groups(tmp_path, capsys, extra, text, msg):
+    path = _naphthalene_frames(tmp_path)
+    w = tmp_path / "w.txt"
+    w.write_text(text)
+    out_file = tmp_path / "out.json"
+    argv = ["trajectory", str(path), "-o", str(out_file)] + [a.format(w=w) for a in extra]
+    code, _, err = run(argv, capsys)
+    assert code == 2 and msg in err and len(err.strip().splitlines()) == 1, err
+    assert not out_file.exists()
