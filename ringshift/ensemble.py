@@ -254,14 +254,8 @@ def read_weights_file(path) -> np.ndarray:
     a bad line raises :class:`InputError` naming the file and line.
     """
     what = "a text file of frame weights (one non-negative number per line)"
-    raw = limits.read_text_bytes(path, what)
-    try:
-        text = raw.decode("utf-8-sig")
-    except UnicodeDecodeError:
-        raise InputError(f"is not UTF-8 text; expected {what}", str(path)) from None
-    limits.check_lines(text, str(path))
     out = []
-    for lineno, line in enumerate(text.splitlines(), 1):
+    for lineno, line in enumerate(limits.read_text(path, what).splitlines(), 1):
         item = line.strip()
         if not item or item.startswith("#"):
             continue

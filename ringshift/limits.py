@@ -43,7 +43,7 @@ from ringshift.errors import InputError
 
 __all__ = ["MAX_FILE_BYTES", "MAX_LINE_CHARS", "MAX_SMILES_CHARS", "MAX_ATOMS", "MAX_RECORDS", "MAX_PEAKS",
            "MAX_SPECTRUM_POINTS", "MAX_ABS_COORDINATE_A", "MIN_EXTENT_A", "MIN_ATOM_DISTANCE_A",
-           "check_file_size", "read_text_bytes", "check_lines", "check_count", "check_coordinates"]
+           "check_file_size", "read_text_bytes", "read_text", "check_lines", "check_count", "check_coordinates"]
 
 MAX_FILE_BYTES: int = 200 * 2**20
 MAX_LINE_CHARS: int = 100_000
@@ -114,6 +114,23 @@ def read_text_bytes(path: str | os.PathLike, what: str) -> bytes:
     if b"\x00" in raw:
         raise InputError(f"binary file (NUL bytes); expected {what} as text", name)
     return raw
+
+
+def read_text(path: str | os.PathLike, what: str) -> str:
+    """UTF-8 text of an input file (BOM stripped): :func:`read_text_bytes`, decoding, :func:`check_lines`.
+
+    Raises InputError naming ``path:line`` of the first byte that is not UTF-8, besides the errors of
+    :func:`read_text_bytes` and :func:`check_lines`.
+    """
+    raw = read_text_bytes(path, what)
+    try:
+        text = raw.decode("utf-8-sig")
+    except UnicodeDecodeError as exc:
+        line = raw[:exc.start].count(b"\n") + 1
+        raise InputError(f"byte 0x{raw[exc.start]:02x} is not UTF-8 text; expected {what} (a binary file, or "
+                         "another encoding?)", f"{os.fspath(path)}:{line}") from None
+    check_lines(text, os.fspath(path))
+    return text
 
 
 def check_lines(text: str, source: str) -> None:

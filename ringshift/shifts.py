@@ -185,18 +185,6 @@ def _parse_table_text(text: str, label: str) -> tuple[dict[str, ReferenceShift],
     return entries, "\n".join(notes).strip()
 
 
-def _read_text(path: Path) -> str:
-    """UTF-8 text of a user table, within the limits of :mod:`ringshift.limits` (size, binary, lines)."""
-    what = "a reference-shift CSV file"
-    raw = _limits.read_text_bytes(path, what)
-    try:
-        text = raw.decode("utf-8-sig")
-    except UnicodeDecodeError:
-        raise InputError(f"is not UTF-8 text; expected {what}", source=str(path)) from None
-    _limits.check_lines(text, str(path))
-    return text
-
-
 @lru_cache(maxsize=1)
 def _packaged_table() -> ReferenceTable:
     """The packaged table, parsed once per process (it is immutable: entries is a read-only mapping)."""
@@ -233,7 +221,7 @@ def load_reference_table(path: str | Path | None = None, *, extend_default: bool
     if path is None:
         return default
     path = Path(path)
-    entries, notes = _parse_table_text(_read_text(path), str(path))
+    entries, notes = _parse_table_text(_limits.read_text(path, "a reference-shift CSV file"), str(path))
     user_notes = notes if notes else "(no notes in the file)"
     if not extend_default:
         return ReferenceTable(entries=entries, name=str(path), basis=user_notes)

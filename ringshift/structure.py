@@ -212,16 +212,9 @@ def _sanitize_kekule(mol: Chem.Mol, source: str) -> None:
 # --------------------------------------------------------------------------------------- readers
 def _read_text(path: Path, what: str) -> str:
     """UTF-8 text of a structure file (BOM stripped), within the limits of :mod:`ringshift.limits`."""
-    raw = _limits.read_text_bytes(path, what)
-    try:
-        text = raw.decode("utf-8-sig")
-    except UnicodeDecodeError as exc:
-        line = raw[:exc.start].count(b"\n") + 1
-        raise InputError(f"byte 0x{raw[exc.start]:02x} is not UTF-8 text; expected {what} (a binary file, or "
-                         "another encoding?)", source=f"{path}:{line}") from None
+    text = _limits.read_text(path, what)
     if not text.strip():
         raise InputError(f"file is empty; expected {what}", source=str(path))
-    _limits.check_lines(text, str(path))
     return text
 
 
