@@ -90,7 +90,7 @@ def planar_cot_xyz(double_A: float = 1.34, single_A: float = 1.47, ch_A: float =
         v = 2 * c[i] - c[i - 1] - c[(i + 1) % 8]
         h = c[i] + ch_A * v / np.linalg.norm(v)
         lines.append(f"H {h[0]:.6f} {h[1]:.6f} 0.0")
-    return f"16\nplanar D4h cyclooctatetraene (idealised, built by benchmarks/bench_qm.py)\n" + "\n".join(lines) + "\n"
+    return "16\nplanar D4h cyclooctatetraene (idealised, built by benchmarks/bench_qm.py)\n" + "\n".join(lines) + "\n"
 
 
 def load_molecules(names, workdir: Path):

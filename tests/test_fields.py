@@ -598,7 +598,8 @@ def test_memory_stays_bounded():
 
 def test_stack_memory_stays_bounded():
     # 4000 frames × 20 points × 18-gon double loop: one unchunked (n_conf, m + 1, 2n) float64 temporary
-    # alone is 24 MB and the kernel keeps several alive; blocks keep the peak at a few times the input.
+    # alone is 24 MB and the kernel keeps several alive; blocks keep the peak at a few times the input
+    # (a chunking property measured with tracemalloc, not a speed target; common practice, no source).
     rng = np.random.default_rng(12)
     F = 4000
     V = np.broadcast_to(regular_polygon(18, radius=3.0), (F, 18, 3)).copy()
