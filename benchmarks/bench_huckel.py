@@ -60,7 +60,7 @@ def finite_field_currents(xyz, bonds, n_electrons, field_dir, flux=1e-4):
 
 
 def main() -> int:
-    from ringshift import pisystem
+    from ringshift.pisystem import huckel as _pisystem_huckel, london_currents
     from ringshift.predict import predict
     from ringshift.structure import load_structure
 
@@ -75,8 +75,8 @@ def main() -> int:
             pi, loops = pred.pi, [c.circuit.atoms for c in pred.circuits]
             x = s.coords[0]
             for bm in ("uniform", "distance", "scf"):
-                t_h, _ = _best(lambda: pisystem.huckel(pi, s.mol, x, beta_model=bm))
-                t_l, lc = _best(lambda: pisystem.london_currents(pi, s.mol, x, loops, beta_model=bm))
+                t_h, _ = _best(lambda: _pisystem_huckel(pi, s.mol, x, beta_model=bm))
+                t_l, lc = _best(lambda: london_currents(pi, s.mol, x, loops, beta_model=bm))
                 rows.append((label, len(pi.atoms), len(loops), bm, t_h, t_l, lc))
             # finite-field twin, uniform β: 3 complex diagonalisations
             idx = {a: k for k, a in enumerate(pi.atoms)}
@@ -100,7 +100,7 @@ def main() -> int:
     jb = finite_field_currents(hexagon, [(k, (k + 1) % 6) for k in range(6)], 6, np.array([0.0, 0.0, 1.0]))
     outer = int(np.argmin([xyz[i, 0] + xyz[j, 0] for i, j in bonds]))   # the end ring's outermost bond
     ff_ratio = abs(jz[outer]) / abs(jb[0])
-    lc = pisystem.london_currents(pi, s.mol, s.coords[0], [c.circuit.atoms for c in pred.circuits], beta_model="uniform")
+    lc = london_currents(pi, s.mol, s.coords[0], [c.circuit.atoms for c in pred.circuits], beta_model="uniform")
     end = min(range(len(pred.circuits)), key=lambda c: s.coords[0][list(pred.circuits[c].circuit.atoms), 0].mean())
     print(f"\nend-ring current of tetracosacene / benzene, uniform beta: analytic {lc.circuit_currents_rel[end]:.4f}, "
           f"finite field {ff_ratio:.4f} (difference {abs(lc.circuit_currents_rel[end] - ff_ratio):.1e})")

@@ -12,7 +12,7 @@ from typing import Sequence
 
 import numpy as np
 
-from ringshift import compare as cmp
+from ringshift.compare import CircuitPrior, Comparison, GroupModel, ObservedPeak, compare as _cmp_compare, rank_candidates
 from ringshift.constants import BENZENE_CURRENT_NA_PER_T
 from ringshift.errors import InputError
 from ringshift.output import CAUTION, prediction_to_dict
@@ -29,28 +29,28 @@ _KIND = {"sample": "signal", "tms": "reference", "solvent": "solvent", "impurity
 class CompareResult:
     prediction: object
     peaks: object
-    comparison: cmp.Comparison
-    observed: tuple[cmp.ObservedPeak, ...]
+    comparison: Comparison
+    observed: tuple[ObservedPeak, ...]
 
 
-def group_models(pred) -> list[cmp.GroupModel]:
+def group_models(pred) -> list[GroupModel]:
     """Comparer inputs, one per hydrogen group of the prediction."""
     out = []
     for g in pred.groups:
-        out.append(cmp.GroupModel(
+        out.append(GroupModel(
             label=g.label, atoms=tuple(g.atoms), parents=tuple(g.parents), n_h=g.n_h,
             proton_class=g.proton_class, ref_ppm=float(g.reference_ppm), ref_sd_ppm=float(g.reference_sd_ppm),
             g_ppm_per_nA_T=np.asarray(g.geometric_ppm_per_nA_T, dtype=float), charge_ppm=float(g.charge_ppm)))
     return out
 
 
-def circuit_priors(pred, *, prior_sd_nA_per_T: float = PRIOR_SD_NA_PER_T) -> list[cmp.CircuitPrior]:
+def circuit_priors(pred, *, prior_sd_nA_per_T: float = PRIOR_SD_NA_PER_T) -> list[CircuitPrior]:
     """Weak Gaussian priors around each circuit's a priori current (0 where there is none)."""
-    return [cmp.CircuitPrior(cr.circuit.label, float(cr.current_nA_per_T or 0.0), prior_sd_nA_per_T)
+    return [CircuitPrior(cr.circuit.label, float(cr.current_nA_per_T or 0.0), prior_sd_nA_per_T)
             for cr in pred.circuits]
 
 
-def observed_peaks(peaklist, pred) -> list[cmp.ObservedPeak]:
+def observed_peaks(peaklist, pred) -> list[ObservedPeak]:
     """Observed peaks for the comparer; a fixed assignment names H or heavy-atom indices (0-based)."""
     out = []
     for k, p in enumerate(peaklist.peaks):
@@ -63,7 +63,7 @@ def observed_peaks(peaklist, pred) -> list[cmp.ObservedPeak]:
                 raise InputError(f"peak at {p.shift_ppm:.2f} ppm is fixed to atoms {sorted(want)}, which are "
                                  "neither hydrogens nor heavy atoms carrying hydrogens (0-based indices as in "
                                  "'ringshift predict --format json')", where)
-        out.append(cmp.ObservedPeak(shift_ppm=float(p.shift_ppm), integral=p.integral, fixed_groups=fixed,
+        out.append(ObservedPeak(shift_ppm=float(p.shift_ppm), integral=p.integral, fixed_groups=fixed,
                                     label=p.label or f"{p.shift_ppm:.2f}", kind=_KIND.get(p.kind, p.kind)))
     return out
 
@@ -81,7 +81,7 @@ def run_compare(pred, peaklist, *, claim: str | None = None, noise_ppm=None, see
     if not pred.circuits:
         raise InputError("the molecule has no conjugated circuit: there is no ring current to fit",
                          pred.structure.source)
-    comp = cmp.compare(group_models(pred), obs, circuit_priors(pred), noise_ppm=noise_ppm, claim=claim, seed=seed)
+    comp = _cmp_compare(group_models(pred), obs, circuit_priors(pred), noise_ppm=noise_ppm, claim=claim, seed=seed)
     return CompareResult(pred, peaklist, comp, tuple(obs))
 
 
@@ -126,8 +126,8 @@ def comparison_text(res: CompareResult) -> str:
     for ga in c.assignment:
         need = "" if ga.needed_ref_ppm is None else f"{ga.needed_ref_ppm:7.2f} (table {ga.ref_ppm:.2f}, z {ga.needed_ref_z:+.1f})"
         lines.append(f"{ga.label:<6} {ga.n_h:>2}  {ga.proton_class[:24]:<24} {str(ga.peak_label or '-'):<8} "
-                     f"{_fmt(ga.observed_ppm)}  {_fmt(ga.predicted_ppm)}  {_fmt(ga.residual_ppm, '+8.2f')}  "
-                     f"{_fmt(ga.ring_current_ppm, '+10.2f')}    {need}")
+                     f"{_fmt_cell(ga.observed_ppm)}  {_fmt_cell(ga.predicted_ppm)}  {_fmt_cell(ga.residual_ppm, '+8.2f')}  "
+                     f"{_fmt_cell(ga.ring_current_ppm, '+10.2f')}    {need}")
     if c.unassigned_peaks:
         lines.append("unassigned peaks: " + ", ".join(f"{c.peaks[i].shift_ppm:.2f}" for i in c.unassigned_peaks))
     if c.unassigned_groups:
@@ -146,7 +146,7 @@ def comparison_text(res: CompareResult) -> str:
     return "\n".join(lines) + "\n"
 
 
-def _fmt(x, spec="8.2f"):
+def _fmt_cell(x, spec="8.2f"):
     return " " * 8 if x is None else format(x, spec)
 
 
@@ -156,7 +156,7 @@ def rank(preds: Sequence, peaklist, *, noise_ppm=None, seed: int = 0):
     for p in preds:
         cands.append((p.structure.name, group_models(p), circuit_priors(p)))
     obs = observed_peaks(peaklist, preds[0])
-    return cmp.rank_candidates(cands, obs, noise_ppm=noise_ppm, seed=seed)
+    return rank_candidates(cands, obs, noise_ppm=noise_ppm, seed=seed)
 
 
 __all__ = ["run_compare", "comparison_to_dict", "comparison_text", "group_models", "circuit_priors",

@@ -120,16 +120,16 @@ def _emit(text: str, output, force: bool):
 def predict_cmd(structure, charge, conformers, seed, temperature, model, currents, beta_model, scale, set_current,
                 circuit, fmt, output, force):
     """Ring-current shift of every hydrogen of STRUCTURE."""
-    from ringshift import output as out
+    from ringshift.output import CAUTION, prediction_csv, prediction_table, prediction_to_dict, to_json
 
     pred = _run_predict(structure, charge, conformers, seed, temperature, model, currents, beta_model, scale,
                         set_current, circuit)
     if fmt == "json":
-        text = out.to_json(out.prediction_to_dict(pred))
+        text = to_json(prediction_to_dict(pred))
     elif fmt == "csv":
-        text = out.prediction_csv(pred)
+        text = prediction_csv(pred)
     else:
-        text = out.prediction_table(pred)
+        text = prediction_table(pred)
     _emit(text, output, force)
 
 
@@ -149,18 +149,18 @@ def predict_cmd(structure, charge, conformers, seed, temperature, model, current
 def compare_cmd(structure, peaks, charge, conformers, seed, temperature, model, currents, beta_model, scale,
                 set_current, circuit, solvent, claim, noise, fmt, output, force):
     """Assign the observed PEAKS (CSV/TSV or JCAMP-DX) to STRUCTURE, fit its ring currents, give a verdict."""
-    from ringshift import analysis
-    from ringshift import output as out
+    from ringshift.analysis import comparison_text, comparison_to_dict, run_compare
+    from ringshift.output import CAUTION, prediction_csv, prediction_table, prediction_to_dict, to_json
     from ringshift.peaks import read_peaks
 
     pred = _run_predict(structure, charge, conformers, seed, temperature, model, currents, beta_model, scale,
                         set_current, circuit)
     pl = read_peaks(peaks, n_hydrogens=len(pred.protons), solvent=solvent)
-    res = analysis.run_compare(pred, pl, claim=claim, noise_ppm=_noise(noise), seed=seed)
+    res = run_compare(pred, pl, claim=claim, noise_ppm=_noise(noise), seed=seed)
     if fmt == "json":
-        text = out.to_json(analysis.comparison_to_dict(res))
+        text = to_json(comparison_to_dict(res))
     else:
-        text = analysis.comparison_text(res)
+        text = comparison_text(res)
     _emit(text, output, force)
 
 
@@ -187,7 +187,7 @@ def _noise(value):
 @click.option("--force", is_flag=True, help="Overwrite an existing plot file.")
 def pi_cmd(structure, charge, conformers, seed, temperature, beta_model, plot, fmt, force):
     """Pi-electron counts, 4n+2/4n class, planarity, Hueckel levels and circuit currents of STRUCTURE."""
-    from ringshift import output as out
+    from ringshift.output import CAUTION, prediction_csv, prediction_table, prediction_to_dict, to_json
     from ringshift.pisummary import pi_summary, pi_text
 
     s = _load(structure, charge, conformers, seed, temperature)
@@ -197,7 +197,7 @@ def pi_cmd(structure, charge, conformers, seed, temperature, beta_model, plot, f
 
         save_levels_figure(summary, plot, force=force)
         click.echo(f"wrote {plot}", err=True)
-    click.echo(out.to_json(summary) if fmt == "json" else pi_text(summary), nl=False)
+    click.echo(to_json(summary) if fmt == "json" else pi_text(summary), nl=False)
 
 
 @cli.command("report")
@@ -215,7 +215,7 @@ def pi_cmd(structure, charge, conformers, seed, temperature, beta_model, plot, f
 def report_cmd(structure, peaks, charge, conformers, seed, temperature, model, currents, beta_model, scale,
                set_current, circuit, solvent, claim, noise, out_dir, force, quiet):
     """Write a self-contained HTML report (with figures, JSON and SDF) for STRUCTURE [and PEAKS]."""
-    from ringshift import analysis
+    from ringshift.analysis import comparison_text, comparison_to_dict, run_compare
     from ringshift.peaks import read_peaks
     from ringshift.pisummary import pi_summary
     from ringshift.report import write_report
@@ -234,7 +234,7 @@ def report_cmd(structure, peaks, charge, conformers, seed, temperature, model, c
     if peaks:
         say("assignment and fit")
         pl = read_peaks(peaks, n_hydrogens=len(pred.protons), solvent=solvent)
-        res = analysis.run_compare(pred, pl, claim=claim, noise_ppm=_noise(noise), seed=seed)
+        res = run_compare(pred, pl, claim=claim, noise_ppm=_noise(noise), seed=seed)
     say("figures and report")
     paths = write_report(out_dir, pred, compare_result=res,
                          pi_summary=pi_summary(pred.structure, beta_model=beta_model, prediction=pred), force=force)
@@ -302,7 +302,7 @@ def map_cmd(structure, charge, conformers, seed, temperature, model, currents, b
 def trajectory_cmd(frames, charge, model, currents, beta_model, weights, temperature, energy_unit, frame_weights,
                    exchange, exchange_group, memory, fmt, output, force):
     """Frame-averaged ring-current shifts of a multi-frame XYZ or multi-record SDF (streamed)."""
-    from ringshift import output as out
+    from ringshift.output import CAUTION, prediction_csv, prediction_table, prediction_to_dict, to_json
     from ringshift.ensemble import predict_trajectory_file, read_weights_file, trajectory_to_dict
 
     if frame_weights is not None and weights != "uniform":
@@ -326,7 +326,7 @@ def trajectory_cmd(frames, charge, model, currents, beta_model, weights, tempera
     if groups:
         exchange = "given groups " + " | ".join(",".join(map(str, g)) for g in groups)
     if fmt == "json":
-        text = out.to_json(trajectory_to_dict(tp))
+        text = to_json(trajectory_to_dict(tp))
     else:
         rows = [f"{tp.template.structure.name}: {tp.n_frames} frames, weights {weights}, model {model}, "
                 f"exchange {exchange}", "", "group  nH  atoms (H)                 ring current  spread  predicted"]
@@ -335,7 +335,7 @@ def trajectory_cmd(frames, charge, model, currents, beta_model, weights, tempera
             pred = "" if g.predicted_ppm is None else f"{g.predicted_ppm:9.2f}"
             rows.append(f"{g.label:<6} {len(g.atoms):>2}  {atoms[:24]:<24}  {g.ring_current_ppm:+12.2f}  "
                         f"{g.spread_ppm:6.2f}  {pred}")
-        rows += [f"note: {w}" for w in tp.warnings] + ["", f"Caution: {out.CAUTION}"]
+        rows += [f"note: {w}" for w in tp.warnings] + ["", f"Caution: {CAUTION}"]
         text = "\n".join(rows) + "\n"
     _emit(text, output, force)
 

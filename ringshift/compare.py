@@ -49,7 +49,7 @@ from typing import Sequence
 
 import numpy as np
 
-from . import assign as _assign
+from ringshift.assign import SearchProblem, polish, search as _assign_search, slot_counts, starting_points
 from .assign import Alternative, GroupAssignment, PeakSummary, group_results, peak_label
 from .constants import BENZENE_CURRENT_NA_PER_T
 from .errors import AssignmentWarning, InputError
@@ -331,12 +331,12 @@ def _build_problem(groups, peaks, circuits, noise, integral_scale, overflow_cost
         total = float(np.sum(integrals[has_integral]))
         every = bool(np.all(has_integral[active]))
         integral_scale = n_h.sum() / total if every and total > 0 else 1.0
-    slots = _assign.slot_counts(np.where(active, integrals, np.nan), integral_scale)
+    slots = slot_counts(np.where(active, integrals, np.nan), integral_scale)
     fixed = np.full(n, -1, dtype=np.int64)
     for p_index, p in enumerate(peaks):
         for j in p.fixed_groups or ():
             fixed[int(j)] = p_index
-    problem = _assign.SearchProblem(
+    problem = SearchProblem(
         peak_ppm=np.array([p.shift_ppm for p in peaks], dtype=np.float64), slots=slots,
         has_integral=has_integral, active=active,
         base=np.array([g.ref_ppm + g.charge_ppm for g in groups]), X=X, n_h=n_h, fixed=fixed,
@@ -347,7 +347,7 @@ def _build_problem(groups, peaks, circuits, noise, integral_scale, overflow_cost
 
 
 
-def _circuit_results(problem: _assign.SearchProblem, a, fit, circuits, width: float) -> tuple[CircuitFit, ...]:
+def _circuit_results(problem: SearchProblem, a, fit, circuits, width: float) -> tuple[CircuitFit, ...]:
     X, y = problem.data(a)
     return circuit_fits(X, y, problem.prior_mean, problem.prior_sd, problem.noise, problem.n_classes, fit,
                         circuits, width)
@@ -456,9 +456,9 @@ def compare(
     for noise in grid:
         problem, classes, scale = _build_problem(groups, peaks, circuits, noise, integral_scale,
                                                  overflow_cost_per_h, missing_cost)
-        starts = _assign.starting_points(problem.prior_mean, problem.prior_sd, problem.n_classes,
+        starts = starting_points(problem.prior_mean, problem.prior_sd, problem.n_classes,
                                          int(n_random_starts), width, int(seed))
-        state, neigh = _assign.polish(problem, _assign.search(problem, starts, int(max_iter)), int(max_iter))
+        state, neigh = polish(problem, _assign_search(problem, starts, int(max_iter)), int(max_iter))
         if run is None or state.score < run[1].score - 1e-9:
             run = (problem, state, neigh, classes, scale)
     problem, state, neigh, classes, scale = run

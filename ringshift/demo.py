@@ -36,7 +36,7 @@ def run_demo(out_dir: str | Path, *, force: bool = False, progress=None) -> str:
     Returns the summary text. Refuses an existing ``out_dir`` unless ``force``; the folder is built
     beside it and renamed at the end, so a failure leaves nothing half-written.
     """
-    from ringshift import analysis
+    from ringshift.analysis import rank, run_compare
     from ringshift.peaks import read_peaks
     from ringshift.pisummary import pi_summary
     from ringshift.predict import predict
@@ -64,7 +64,7 @@ def run_demo(out_dir: str | Path, *, force: bool = False, progress=None) -> str:
             pred = predict(s)
             preds[name] = pred
             pl = peaklists[name] = read_peaks(str(data / jfile), n_hydrogens=len(pred.protons), solvent="CDCl3")
-            res = analysis.run_compare(pred, pl, claim=claim)
+            res = run_compare(pred, pl, claim=claim)
             if progress:
                 progress(f"{name}: report")
             write_report(tmp / name, pred, compare_result=res, pi_summary=pi_summary(s, prediction=pred))
@@ -77,7 +77,7 @@ def run_demo(out_dir: str | Path, *, force: bool = False, progress=None) -> str:
                 lines.append(f"  claim '{claim}': {c.claim.outcome}")
             lines.append(f"  report: {out / name / 'report.html'}")
         # which structure explains the closed form's spectrum?
-        ranked = analysis.rank([preds["fj14c"], preds["fj14o"]], peaklists["fj14c"])
+        ranked = rank([preds["fj14c"], preds["fj14o"]], peaklists["fj14c"])
         lines.append("")
         lines.append("Both structures against the FJ-14c spectrum:")
         for cs in ranked:

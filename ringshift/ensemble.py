@@ -26,7 +26,9 @@ from typing import Iterator, Mapping, Sequence
 import numpy as np
 from rdkit import Chem
 
-from ringshift import fields, limits, pisystem, shifts
+from ringshift import fields, limits
+from ringshift.shifts import assemble_prediction
+from ringshift.pisystem import london_currents
 from ringshift.constants import JB_SEPARATION_A, KB_KCAL_PER_MOL_K
 from ringshift.errors import GeometryWarning, InputError
 from ringshift.predict import MODELS, Prediction, geometric_factors, network_totals, predict
@@ -354,7 +356,7 @@ def predict_trajectory(template: Structure | None, frames, *, model: str = "poly
     lc_template = None
     if model == "network":
         best = int(np.argmax(template.weights))
-        lc_template = pisystem.london_currents(pi, mol, template.coords[best], [c.atoms for c in loops],
+        lc_template = london_currents(pi, mol, template.coords[best], [c.atoms for c in loops],
                                                beta_model=beta_model) if loops else None
         if lc_template is not None and lc_template.status != "ok":
             raise InputError("the bond-current network model needs Hueckel-London bond currents: "
@@ -427,7 +429,7 @@ def _block_features(xyz, template, tpred, loops, h_idx, fixed, model, currents, 
     cur = np.tile(fixed, (F, 1))
     london = None
     if currents == "huckel-per-frame" and n_l:
-        london = [pisystem.london_currents(pi, mol, xyz[k], [c.atoms for c in loops],
+        london = [london_currents(pi, mol, xyz[k], [c.atoms for c in loops],
                                            np.array([g.normal[k] for g in geoms]), beta_model=beta_model)
                   for k in range(F)]
         for k, lc in enumerate(london):
@@ -470,7 +472,7 @@ def _assemble(template, tpred, model, currents, loops, h_idx, ex, A, acc, number
     chg = np.array([p.charge_ppm for p in tpred.protons], dtype=np.float64)
     pos = {h: k for k, h in enumerate(h_idx)}
     ref, chg = A @ ref, A @ chg
-    pred = shifts.assemble_prediction(ref, fast, chg) if n_h else np.zeros(0)
+    pred = assemble_prediction(ref, fast, chg) if n_h else np.zeros(0)
     parent = {h: h for h in h_idx}
 
     def root(a):

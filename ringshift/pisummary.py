@@ -9,7 +9,7 @@ from __future__ import annotations
 
 import numpy as np
 
-from ringshift import pisystem
+from ringshift.pisystem import huckel as _pisystem_huckel, huckel_class as _pisystem_huckel_class
 from ringshift.output import CAUTION, _r, circuit_to_dict
 from ringshift.predict import predict
 
@@ -23,7 +23,7 @@ def pi_summary(structure, *, beta_model: str = "scf", prediction=None) -> dict:
     if pi is not None and pi.atoms:
         hr = pred.huckel
         if hr is None or hr.beta_model != beta_model:   # not from the London step, or other parameters
-            hr = pisystem.huckel(pi, structure.mol, structure.coords[best], beta_model=beta_model)
+            hr = _pisystem_huckel(pi, structure.mol, structure.coords[best], beta_model=beta_model)
         levels = {
             "energies_beta": [_r(x) for x in hr.energies_beta],
             "occupations": [_r(x, 3) for x in hr.occupations],
@@ -40,7 +40,7 @@ def pi_summary(structure, *, beta_model: str = "scf", prediction=None) -> dict:
         "charge": structure.charge,
         "pi_atoms": list(pi.atoms) if pi is not None else [],
         "pi_electrons": n_el,
-        "huckel_class": pisystem.huckel_class(n_el) if pi is not None and pi.atoms else None,
+        "huckel_class": _pisystem_huckel_class(n_el) if pi is not None and pi.atoms else None,
         "fragments": [list(f) for f in pi.fragments] if pi is not None else [],
         "radical": bool(pi.radical) if pi is not None else False,
         "beta_model": beta_model,

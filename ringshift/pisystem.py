@@ -55,7 +55,7 @@ from rdkit import Chem
 from scipy.sparse import coo_matrix
 from scipy.sparse.csgraph import connected_components
 
-from ringshift import huckel as hk
+from ringshift.huckel import BETA0_EV, BETA_REF_LENGTH_A, HETERO_PARAMETERS, SCF_RELATIONS, absolute_current_nA_per_T, benzene_reference_response, beta_distance_factor, density_matrix, huckel_matrix, kirchhoff_decomposition, london_bond_response, scf_cc_lengths, solve_fragments
 from ringshift import pigeometry as pg
 from ringshift.constants import BENZENE_CURRENT_NA_PER_T
 from ringshift.errors import InputError
@@ -452,15 +452,15 @@ def _frozen(a, dtype=np.float64) -> np.ndarray:
 
 def _hetero_k(ta: str, tb: str) -> float:
     """k_XY: 1 for C–C, k_CX for C–X, sqrt(k_CX k_CY) for X–Y (common practice, no source)."""
-    ka = 1.0 if ta.startswith("C") else hk.HETERO_PARAMETERS[ta][1]
-    kb = 1.0 if tb.startswith("C") else hk.HETERO_PARAMETERS[tb][1]
+    ka = 1.0 if ta.startswith("C") else HETERO_PARAMETERS[ta][1]
+    kb = 1.0 if tb.startswith("C") else HETERO_PARAMETERS[tb][1]
     return ka * kb if ta.startswith("C") or tb.startswith("C") else float(np.sqrt(ka * kb))
 
 
 def _setup(pi: PiSystem, mol, xyz, distortion):
     idx = {a: k for k, a in enumerate(pi.atoms)}
     lb = np.array([(idx[i], idx[j]) for i, j in pi.bonds], dtype=np.intp).reshape(-1, 2)
-    hd = np.array([hk.HETERO_PARAMETERS[t][0] for t in pi.atom_types])
+    hd = np.array([HETERO_PARAMETERS[t][0] for t in pi.atom_types])
     k = np.array([_hetero_k(pi.atom_types[i], pi.atom_types[j]) for i, j in lb])
     is_cc = np.array([pi.atom_types[i].startswith("C") and pi.atom_types[j].startswith("C") for i, j in lb], bool)
     dbl = np.array([o >= 2 for o in pi.bond_kekule], bool).reshape(-1) if pi.bond_kekule else np.zeros(len(lb), bool)
@@ -508,33 +508,33 @@ def huckel(pi: PiSystem, mol, coords=None, *, beta_model: str = "distance",
     if beta_model == "uniform":
         res, used_len = k * dist * ov, None
     elif beta_model == "distance":
-        res = np.where(is_cc, hk.beta_distance_factor(lengths), k) * dist * ov
+        res = np.where(is_cc, beta_distance_factor(lengths), k) * dist * ov
         used_len = lengths
     else:  # each fragment keeps its own electrons
-        r0, slope = hk.SCF_RELATIONS[beta_model][:2]
+        r0, slope = SCF_RELATIONS[beta_model][:2]
         r = np.zeros(len(lb))
         for f_idx, f_el in zip(frags, f_elec):
             sel = np.flatnonzero(np.isin(lb[:, 0], f_idx))
             loc = np.searchsorted(f_idx, lb[sel])
-            r[sel], ok, nit = hk.scf_cc_lengths(hd[f_idx], loc, k[sel], is_cc[sel], (ov * dist)[sel], dbl[sel], f_el,
+            r[sel], ok, nit = scf_cc_lengths(hd[f_idx], loc, k[sel], is_cc[sel], (ov * dist)[sel], dbl[sel], f_el,
                                                 r0_A=r0, slope_A=slope)
             if not ok:
                 converged = False
                 notes.append(f"scf bond lengths: no stable closed-shell solution after {nit} iterations")
-        res = np.where(is_cc, hk.beta_distance_factor(np.where(is_cc, r, hk.BETA_REF_LENGTH_A)), k) * dist * ov
+        res = np.where(is_cc, beta_distance_factor(np.where(is_cc, r, BETA_REF_LENGTH_A)), k) * dist * ov
         used_len = np.where(is_cc, r, lengths)
-    h0 = hk.huckel_matrix(hd, lb, res)
-    e, c, occ, labels, open_shell, deg, deg_open, gap = hk.solve_fragments(h0, frags, f_elec)
-    p = hk.density_matrix(c, occ)
+    h0 = huckel_matrix(hd, lb, res)
+    e, c, occ, labels, open_shell, deg, deg_open, gap = solve_fragments(h0, frags, f_elec)
+    p = density_matrix(c, occ)
     if open_shell:
         notes.append("open shell: " + ("degenerate, partly filled HOMO" if deg_open else "singly occupied HOMO"))
     elif gap is not None and gap < 0.05:
         notes.append(f"near-degenerate HOMO/LUMO (gap {gap:.3g} |β|): currents are large and geometry-sensitive")
-    params = {"table": {t: hk.HETERO_PARAMETERS[t] for t in sorted(set(pi.atom_types))}, "beta_model": beta_model,
+    params = {"table": {t: HETERO_PARAMETERS[t] for t in sorted(set(pi.atom_types))}, "beta_model": beta_model,
               "beta_r": "beta0*exp(-(r-1.397)/0.3106), Longuet-Higgins & Salem 1959 (from memory)",
-              "bond_order_length": ({"relation": f"r = {hk.SCF_RELATIONS[beta_model][0]:.4f} - "
-                                     f"{hk.SCF_RELATIONS[beta_model][1]:.4f} p", "source": hk.SCF_RELATIONS[beta_model][2]}
-                                    if beta_model in hk.SCF_RELATIONS else None),
+              "bond_order_length": ({"relation": f"r = {SCF_RELATIONS[beta_model][0]:.4f} - "
+                                     f"{SCF_RELATIONS[beta_model][1]:.4f} p", "source": SCF_RELATIONS[beta_model][2]}
+                                    if beta_model in SCF_RELATIONS else None),
               "overlap": "|cos| of POAV-type p-orbital axes" if xyz is not None else "none (no coordinates)",
               "distortion": distortion}
     return HuckelResult(
@@ -557,7 +557,7 @@ def circuit_normals(coords, circuits) -> np.ndarray:
 
 def london_currents(pi: PiSystem, mol, coords, circuits: Sequence[Sequence[int]], normals=None, *,
                     beta_model: str = "distance", distortion: float | None = None,
-                    beta0_eV: float = hk.BETA0_EV) -> LondonCurrents:
+                    beta0_eV: float = BETA0_EV) -> LondonCurrents:
     """Hückel–London bond and circuit currents (analytic first-order response, any orientation).
 
     Parameters
@@ -593,8 +593,8 @@ def london_currents(pi: PiSystem, mol, coords, circuits: Sequence[Sequence[int]]
         nrm = nrm / np.linalg.norm(nrm, axis=1)[:, None]
     oriented, inc, devs = pg.circuit_incidence(xyz, cyc, pi.bonds, nrm)
     hr = huckel(pi, mol, xyz, beta_model=beta_model, distortion=distortion)
-    g_bz = hk.benzene_reference_response(beta_model)
-    bz_abs = float(hk.absolute_current_nA_per_T(g_bz, beta0_eV))
+    g_bz = benzene_reference_response(beta_model)
+    bz_abs = float(absolute_current_nA_per_T(g_bz, beta0_eV))
     base = dict(field_dirs=_frozen(np.eye(3)), circuits=tuple(oriented), normals=_frozen(nrm.reshape(-1, 3)),
                 circuit_max_deviation_A=_frozen(devs), benzene_abs_nA_per_T=bz_abs, beta_model=beta_model,
                 beta0_eV=float(beta0_eV), huckel=hr)
@@ -607,18 +607,18 @@ def london_currents(pi: PiSystem, mol, coords, circuits: Sequence[Sequence[int]]
     if not pi.atoms:
         return LondonCurrents(status="no π system", open_shell=False, warnings=tuple(notes), **base, **none)
     lb = np.array([(pi.atoms.index(i), pi.atoms.index(j)) for i, j in pi.bonds], dtype=np.intp).reshape(-1, 2)
-    h0 = hk.huckel_matrix([hk.HETERO_PARAMETERS[t][0] for t in pi.atom_types], lb, hr.resonance)
+    h0 = huckel_matrix([HETERO_PARAMETERS[t][0] for t in pi.atom_types], lb, hr.resonance)
     status = ("open shell: degenerate, partly filled HOMO (e.g. a D_Nh 4n annulene); Hückel–London gives no "
               "finite current. Pass a distortion (bond alternation) or a geometry that breaks the degeneracy")
     if hr.degenerate_open_shell:
         return LondonCurrents(status=status, open_shell=True, warnings=tuple(notes), **base, **none)
     try:
-        g = hk.london_bond_response(h0, xyz[list(pi.atoms)], lb, hr.energies_beta, hr.vectors, hr.occupations,
+        g = london_bond_response(h0, xyz[list(pi.atoms)], lb, hr.energies_beta, hr.vectors, hr.occupations,
                                     labels=hr.mo_fragment)
     except ValueError:
         return LondonCurrents(status=status, open_shell=True, warnings=tuple(notes), **base, **none)
     diat = g / g_bz  # diatropic-sense current from i to j, benzene = 1
-    x, resid = hk.kirchhoff_decomposition(diat, inc)
+    x, resid = kirchhoff_decomposition(diat, inc)
     div = np.zeros((3, len(pi.atoms)))  # net current leaving each atom
     np.add.at(div, (slice(None), lb[:, 0]), diat)
     np.add.at(div, (slice(None), lb[:, 1]), -diat)

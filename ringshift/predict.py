@@ -16,7 +16,9 @@ from typing import Mapping, Sequence
 import numpy as np
 from rdkit import Chem
 
-from ringshift import fields, pisystem, shifts
+from ringshift import fields
+from ringshift.shifts import assemble_prediction, reference_shifts
+from ringshift.pisystem import PI_CHARGE_PPM_PER_E, circuit_electrons, huckel as _pisystem_huckel, huckel_class as _pisystem_huckel_class, london_currents, orbital_axes, perceive_pi, pi_charge_shift_ppm
 from ringshift.constants import BENZENE_CURRENT_NA_PER_T, BETA_MODELS, CURRENT_SOURCES, JB_SEPARATION_A, MODELS
 from ringshift.errors import GeometryWarning, InputError
 from ringshift.rings import Circuit, CircuitGeometry, circuit_geometry, find_circuits
@@ -219,8 +221,6 @@ def huckel_london_currents(structure: Structure, pi, loops: Sequence[Circuit], g
         ``"ok"`` or the reason there is no number (open shell, ...).
     results : list of LondonCurrents, one per conformer
     """
-    from ringshift import pisystem
-
     coords = structure.coords
     cur = np.zeros((coords.shape[0], len(loops)))
     status = ["ok"] * len(loops)
@@ -229,7 +229,7 @@ def huckel_london_currents(structure: Structure, pi, loops: Sequence[Circuit], g
         return cur, status, results
     for k in range(coords.shape[0]):
         normals = np.array([g.normal[k] for g in geoms])
-        lc = pisystem.london_currents(pi, structure.mol, coords[k], [c.atoms for c in loops], normals,
+        lc = london_currents(pi, structure.mol, coords[k], [c.atoms for c in loops], normals,
                                       beta_model=beta_model)
         results.append(lc)
         if lc.status != "ok":
@@ -286,7 +286,7 @@ def predict(structure: Structure, *, model: str = "polygon", currents: str = "hu
     if beta_model not in BETA_MODELS:
         raise InputError(f"unknown beta model {beta_model!r}; expected one of {', '.join(BETA_MODELS)}", "--beta")
     best = int(np.argmax(w))
-    pi = pisystem.perceive_pi(mol, coords[best])
+    pi = perceive_pi(mol, coords[best])
     all_circuits = find_circuits(mol, pi.atoms, pi.bonds, user_circuits=user_circuits)
     loops = [c for c in all_circuits if c.carries_loop]
     perims = [c for c in all_circuits if not c.carries_loop]
@@ -351,10 +351,10 @@ def predict(structure: Structure, *, model: str = "polygon", currents: str = "hu
 
     def _count(c):
         try:
-            n = pisystem.circuit_electrons(pi, c.atoms, mol)
+            n = circuit_electrons(pi, c.atoms, mol)
         except InputError:
             return None, None
-        return n, pisystem.huckel_class(n)
+        return n, _pisystem_huckel_class(n)
 
     circuit_results = tuple(
         _circuit_result(c, geo, w, float(w @ cur[:, k]) if hl_status[k] == "ok" else None, sources[k],
@@ -372,7 +372,7 @@ def predict(structure: Structure, *, model: str = "polygon", currents: str = "hu
     if not h_idx:
         notes.append("the molecule has no hydrogens: nothing to predict")
 
-    refs = shifts.reference_shifts(mol, reference_table, h_idx) if h_idx else {}
+    refs = reference_shifts(mol, reference_table, h_idx) if h_idx else {}
     charge_ppm = charge_term_ppm(structure, pi, h_idx, beta_model,
                                  huckel_results=[lc.huckel for lc in london] or None)
     pos = {h: k for k, h in enumerate(h_idx)}
@@ -384,7 +384,7 @@ def predict(structure: Structure, *, model: str = "polygon", currents: str = "hu
     for h in h_idx:
         k = pos[h]
         ref = refs[h]
-        pred_ppm = float(shifts.assemble_prediction([ref.ref_ppm], [mean_total[k]], [charge_ppm[k]])[0])
+        pred_ppm = float(assemble_prediction([ref.ref_ppm], [mean_total[k]], [charge_ppm[k]])[0])
         parent = mol.GetAtomWithIdx(h).GetNeighbors()[0].GetIdx() if mol.GetAtomWithIdx(h).GetDegree() else -1
         protons.append(ProtonResult(
             index=h, parent=parent, group=group_of.get(h, -1),
@@ -413,7 +413,7 @@ def predict(structure: Structure, *, model: str = "polygon", currents: str = "hu
     prov = {
         "model": model, "model_description": MODEL_DESCRIPTIONS[model],
         "separation_A": separation_A, "currents": currents, "beta_model": beta_model,
-        "pi_charge_ppm_per_electron": pisystem.PI_CHARGE_PPM_PER_E,
+        "pi_charge_ppm_per_electron": PI_CHARGE_PPM_PER_E,
         "benzene_current_nA_per_T": BENZENE_CURRENT_NA_PER_T,
         "structure": dict(structure.provenance),
     }
@@ -448,7 +448,7 @@ def charge_term_ppm(structure: Structure, pi, h_idx: Sequence[int], beta_model: 
     q = np.zeros(len(pi.atoms))
     n_conf = structure.coords.shape[0]
     if huckel_results is None or len(huckel_results) != n_conf:
-        huckel_results = [pisystem.huckel(pi, mol, structure.coords[k], beta_model=beta_model)
+        huckel_results = [_pisystem_huckel(pi, mol, structure.coords[k], beta_model=beta_model)
                           for k in range(n_conf)]
     for k, hr in enumerate(huckel_results):
         q += w[k] * np.asarray(hr.charges, dtype=float)
@@ -456,7 +456,7 @@ def charge_term_ppm(structure: Structure, pi, h_idx: Sequence[int], beta_model: 
     for n, h in enumerate(h_idx):
         nb = mol.GetAtomWithIdx(h).GetNeighbors()
         if nb and nb[0].GetIdx() in where:
-            out[n] = float(pisystem.pi_charge_shift_ppm([q[where[nb[0].GetIdx()]]])[0])
+            out[n] = float(pi_charge_shift_ppm([q[where[nb[0].GetIdx()]]])[0])
     return out
 
 
@@ -481,7 +481,7 @@ def network_totals(structure: Structure, pi, london, h_idx: Sequence[int], separ
     out = np.zeros((coords.shape[0], len(h_idx)))
     where = {a: i for i, a in enumerate(atoms)}
     for k, lc in enumerate(london):
-        axes = pisystem.orbital_axes(pi, mol, coords[k])
+        axes = orbital_axes(pi, mol, coords[k])
         ai = axes[[where[i] for i in starts]]
         aj = axes[[where[j] for j in ends]]
         aj = aj * np.sign(np.einsum("ij,ij->i", ai, aj))[:, None]

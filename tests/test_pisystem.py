@@ -14,7 +14,7 @@ from numpy.testing import assert_allclose
 from rdkit import Chem
 from rdkit.Chem import AllChem, rdMolTransforms
 
-from ringshift import huckel as hk
+from ringshift.huckel import BETA0_EV, BETA_REF_LENGTH_A, COULSON_R0_A, COULSON_SLOPE_A, HETERO_PARAMETERS, POLYACETYLENE_BLA_A, SCF_R0_A, SCF_RELATIONS, SCF_SLOPE_A, benzene_reference_response, huckel_matrix, occupy, polyene_chain_lengths, regular_polygon
 from ringshift.constants import BENZENE_CURRENT_NA_PER_T
 from ringshift.errors import InputError
 from ringshift.pisystem import (circuit_electrons, huckel, huckel_class, london_currents, perceive_pi,
@@ -40,7 +40,7 @@ def _flat(smiles: str):
 def _ring(n: int, smiles: str | None = None, side: float = 1.397):
     """Monocycle of n carbons (atoms 0..n−1 in ring order) on a regular polygon, H radial, z = 0."""
     m = _mol(smiles or "C1=C" + "C=C" * (n // 2 - 1) + "1")
-    p = hk.regular_polygon(n, side)
+    p = regular_polygon(n, side)
     xyz = np.zeros((m.GetNumAtoms(), 3))
     xyz[:n] = p
     for k in range(n):
@@ -95,13 +95,13 @@ def _energy(h0, xyz, bvec, n_el):
     """Slow twin: total π energy (|β|) of the London Hamiltonian h0_rs exp(i½ b·(r_r × r_s))."""
     cross = np.cross(xyz[:, None, :], xyz[None, :, :]) @ np.asarray(bvec, float)
     e = np.linalg.eigvalsh(h0 * np.exp(0.5j * cross))
-    occ = hk.occupy(e, n_el)[0]
+    occ = occupy(e, n_el)[0]
     return float(occ @ e)
 
 
 def _h0(lc, pi):
     lb = np.array([(pi.atoms.index(i), pi.atoms.index(j)) for i, j in pi.bonds])
-    return hk.huckel_matrix([hk.HETERO_PARAMETERS[t][0] for t in pi.atom_types], lb, lc.huckel.resonance), lb
+    return huckel_matrix([HETERO_PARAMETERS[t][0] for t in pi.atom_types], lb, lc.huckel.resonance), lb
 
 
 # ------------------------------------------------------------------ perception and electron counts
@@ -248,7 +248,7 @@ def test_scf_bond_lengths_of_naphthalene_and_cyclooctatetraene(model):
     assert h.converged
     r = dict(zip(pi.bonds, h.bond_lengths_A))
     assert_allclose([r[(0, 1)], r[(0, 9)], r[(3, 8)], r[(2, 3)]], [1.412, 1.371, 1.420, 1.422], atol=0.015)
-    r0, slope = hk.SCF_RELATIONS[model][:2]
+    r0, slope = SCF_RELATIONS[model][:2]
     assert_allclose(h.bond_lengths_A, r0 - slope * h.bond_orders, atol=1e-8)  # the relation holds (identity)
     m, xyz = _ring(8)
     h = huckel(perceive_pi(m, xyz), m, xyz, beta_model=model)
@@ -275,15 +275,15 @@ def test_infinite_polyene_alternation_and_its_calibration():
     # Clarke, Phys. Rev. Lett. 1983, 51, 1191, from memory): the BLA 0.08 Å is fitted (1e-9 Å), the two
     # lengths themselves are a check (0.01 Å, the two decimals of the data). The Coulson line through
     # ethylene and benzene under-alternates (measured 0.067 Å).
-    r1, r2, p1, p2 = hk.polyene_chain_lengths(hk.SCF_R0_A, hk.SCF_SLOPE_A)
-    assert r2 - r1 == pytest.approx(hk.POLYACETYLENE_BLA_A, abs=1e-9)
+    r1, r2, p1, p2 = polyene_chain_lengths(SCF_R0_A, SCF_SLOPE_A)
+    assert r2 - r1 == pytest.approx(POLYACETYLENE_BLA_A, abs=1e-9)
     assert_allclose([r1, r2], [1.36, 1.44], atol=0.01)
-    assert hk.SCF_R0_A - hk.SCF_SLOPE_A * 2 / 3 == pytest.approx(hk.BETA_REF_LENGTH_A, abs=1e-12)
-    c1, c2 = hk.polyene_chain_lengths(hk.COULSON_R0_A, hk.COULSON_SLOPE_A)[:2]
+    assert SCF_R0_A - SCF_SLOPE_A * 2 / 3 == pytest.approx(BETA_REF_LENGTH_A, abs=1e-12)
+    c1, c2 = polyene_chain_lengths(COULSON_R0_A, COULSON_SLOPE_A)[:2]
     assert 0.06 < c2 - c1 < 0.075
     # Band integrals: with vanishing coupling the bond orders tend to the uniform chain's 2/π (textbook;
     # tolerance 2e-3 for the residual alternation and the log-singular integrand).
-    assert_allclose(hk.polyene_chain_lengths(1.5, 1e-3)[2:], [2 / np.pi] * 2, atol=2e-3)
+    assert_allclose(polyene_chain_lengths(1.5, 1e-3)[2:], [2 / np.pi] * 2, atol=2e-3)
 
 
 def test_large_annulene_scf_alternation_approaches_the_chain_limit():
@@ -293,7 +293,7 @@ def test_large_annulene_scf_alternation_approaches_the_chain_limit():
     m, xyz = _ring(98)
     h = huckel(perceive_pi(m, xyz), m, xyz, beta_model="scf")
     assert h.converged
-    r1, r2 = hk.polyene_chain_lengths(hk.SCF_R0_A, hk.SCF_SLOPE_A)[:2]
+    r1, r2 = polyene_chain_lengths(SCF_R0_A, SCF_SLOPE_A)[:2]
     assert_allclose([h.bond_lengths_A.min(), h.bond_lengths_A.max()], [r1, r2], atol=1e-5)
 
 
@@ -326,7 +326,7 @@ def _flux_ring_current(n, n_el):
         k = np.arange(n)
         e = -2 * np.cos(2 * np.pi * k / n)
         order = np.argsort(e, kind="stable")
-        occ = hk.occupy(e[order], n_el)[0]
+        occ = occupy(e[order], n_el)[0]
         return float(occ @ (2 * np.cos(2 * np.pi * k[order] / n)) / n**2)
     area = lambda n: n / 4 * 1.397**2 / np.tan(np.pi / n)  # noqa: E731
     return curv(n, n_el) * area(n) / (curv(6, 6) * area(6))
@@ -363,7 +363,7 @@ def test_currents_give_the_energy_susceptibility(name, smiles):
     lc = london_currents(pi, m, xyz, [r for r in _rings(m)])
     h0, lb = _h0(lc, pi)
     r = xyz[list(pi.atoms)]
-    g_bz = hk.benzene_reference_response("distance")
+    g_bz = benzene_reference_response("distance")
     moment = np.array([[g_bz * np.sum(lc.bond_currents_rel[b] * np.cross(r[lb[:, 0]], r[lb[:, 1]])[:, a])
                         for b in range(3)] for a in range(3)])
     step, hess = 2e-4, np.zeros((3, 3))
@@ -390,12 +390,12 @@ def test_analytic_bond_currents_equal_finite_field_currents():
     def imhp(bvec):
         h = h0 * np.exp(0.5j * (cross @ bvec))
         e, c = np.linalg.eigh(h)
-        p = (c * hk.occupy(e, pi.n_electrons)[0]) @ c.conj().T
+        p = (c * occupy(e, pi.n_electrons)[0]) @ c.conj().T
         return np.imag(h[lb[:, 1], lb[:, 0]] * p[lb[:, 0], lb[:, 1]])
 
     step = 1e-4
     fd = np.array([(imhp(np.eye(3)[a] * step) - imhp(-np.eye(3)[a] * step)) / (2 * step) for a in range(3)])
-    g_bz = hk.benzene_reference_response("distance")
+    g_bz = benzene_reference_response("distance")
     assert_allclose(-lc.bond_currents_rel * g_bz, fd, atol=1e-6 * np.abs(fd).max())
 
 
@@ -482,7 +482,7 @@ def test_benzene_current_from_beta():
     assert_allclose(lc.benzene_abs_nA_per_T, BENZENE_CURRENT_NA_PER_T, rtol=0.20)
     import scipy.constants as sc
     area = 1.5 * np.sqrt(3) * 1.397**2 * 1e-20
-    flux = (sc.e / sc.hbar) ** 2 * 2 * abs(hk.BETA0_EV) * sc.e / 9 * area * 1e9
+    flux = (sc.e / sc.hbar) ** 2 * 2 * abs(BETA0_EV) * sc.e / 9 * area * 1e9
     assert_allclose(lc.circuit_currents_abs_nA_per_T, [flux], rtol=1e-10)
     assert_allclose(lc.circuit_currents_nA_per_T, [BENZENE_CURRENT_NA_PER_T], rtol=1e-12)
 
