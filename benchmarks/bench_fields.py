@@ -1,4 +1,4 @@
-"""Speed and memory of the polygon Biot–Savart kernel (ringshift.fields.polygon_shielding).
+"""Speed and memory of the polygon Biot–Savart kernel (ringshift.fields.polygon.polygon_shielding).
 
 Prints point×segment evaluations per second on one core for the vectorised kernel and for the
 plain-Python reference (the slow twin of tests/test_fields.py), and the peak memory for 1e5 points ×
@@ -26,7 +26,7 @@ import warnings  # noqa: E402
 
 import numpy as np  # noqa: E402
 
-from ringshift import fields  # noqa: E402
+from ringshift import fields
 from ringshift.errors import GeometryWarning  # noqa: E402
 
 TARGET_EVALS_PER_S = 5e7

@@ -2,7 +2,7 @@
 
 Systems (ideal planar geometries from bench_scaling.py): tetracosacene (24 rings, 98 π atoms) and a
 regular [102]annulene (102 π atoms). For each β model, the best of 5 runs of
-``ringshift.pisystem.huckel`` and ``ringshift.pisystem.london_currents`` (analytic first-order response:
+``ringshift.pi.huckel.huckel`` and ``ringshift.pi.london.london_currents`` (analytic first-order response:
 one real symmetric diagonalisation, then sums over occupied × virtual pairs, every circuit and all three
 field directions at once).
 
@@ -60,9 +60,10 @@ def finite_field_currents(xyz, bonds, n_electrons, field_dir, flux=1e-4):
 
 
 def main() -> int:
-    from ringshift.pisystem import huckel as _pisystem_huckel, london_currents
-    from ringshift.predict import predict
-    from ringshift.structure import load_structure
+    from ringshift.pi.huckel import huckel as _pisystem_huckel
+    from ringshift.pi.london import london_currents
+    from ringshift.shifts.prediction import predict
+    from ringshift.io.structures import load_structure
 
     warnings.simplefilter("ignore")
     rows = []

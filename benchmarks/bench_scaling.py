@@ -74,8 +74,8 @@ def _xyz(atoms, comment: str) -> str:
 
 
 def size_scaling(quick: bool):
-    from ringshift.predict import predict
-    from ringshift.structure import load_structure
+    from ringshift.shifts.prediction import predict
+    from ringshift.io.structures import load_structure
 
     cases = [("acene", n, acene_xyz(n)) for n in ((2, 6, 12) if quick else (2, 6, 12, 24, 48, 74))]
     cases += [("annulene", n, annulene_xyz(n)) for n in ((18, 50) if quick else (18, 50, 102, 202, 302))]
@@ -104,7 +104,7 @@ def size_scaling(quick: bool):
 
 # ------------------------------------------------------------------------------------ frames
 def write_trajectory(path: pathlib.Path, n_frames: int, seed: int = 0) -> int:
-    from ringshift.structure import load_structure
+    from ringshift.io.structures import load_structure
 
     s = load_structure(MACROCYCLE, conformers=1, seed=7)
     syms = [a.GetSymbol() for a in s.mol.GetAtoms()]
@@ -120,7 +120,8 @@ def write_trajectory(path: pathlib.Path, n_frames: int, seed: int = 0) -> int:
 def one_trajectory(path: str, trace: bool) -> None:
     """Child process: predict one trajectory file and print a JSON line of figures. With ``trace``,
     tracemalloc follows the streamed part (it slows Python allocations, so that run is not timed)."""
-    from ringshift.ensemble import iter_xyz_frames, predict_trajectory
+    from ringshift.io.frames import iter_xyz_frames
+    from ringshift.runners.trajectory import predict_trajectory
 
     t0 = time.perf_counter()
     stream = iter_xyz_frames(path)

@@ -85,14 +85,14 @@ def cli(ctx, debug):
 
 
 def _load(structure, charge, conformers, seed, temperature):
-    from ringshift.structure import load_structure
+    from ringshift.io.structures import load_structure
 
     return load_structure(structure, charge=charge, conformers=conformers, seed=seed, temperature_K=temperature)
 
 
 def _run_predict(structure, charge, conformers, seed, temperature, model, currents, beta_model, scale, set_current,
                  circuit):
-    from ringshift.predict import parse_assignments, predict
+    from ringshift.shifts.prediction import parse_assignments, predict
 
     s = _load(structure, charge, conformers, seed, temperature)
     return predict(s, model=model, currents=currents, beta_model=beta_model, scale=parse_assignments(scale, "--scale"),
@@ -101,7 +101,7 @@ def _run_predict(structure, charge, conformers, seed, temperature, model, curren
 
 
 def _emit(text: str, output, force: bool):
-    from ringshift.output import atomic_write
+    from ringshift.io.writing import atomic_write
 
     if output:
         atomic_write(output, text, force=force)
@@ -120,7 +120,8 @@ def _emit(text: str, output, force: bool):
 def predict_cmd(structure, charge, conformers, seed, temperature, model, currents, beta_model, scale, set_current,
                 circuit, fmt, output, force):
     """Ring-current shift of every hydrogen of STRUCTURE."""
-    from ringshift.output import CAUTION, prediction_csv, prediction_table, prediction_to_dict, to_json
+    from ringshift.report.json import prediction_to_dict, to_json
+    from ringshift.report.text import prediction_csv, prediction_table
 
     pred = _run_predict(structure, charge, conformers, seed, temperature, model, currents, beta_model, scale,
                         set_current, circuit)
@@ -149,9 +150,11 @@ def predict_cmd(structure, charge, conformers, seed, temperature, model, current
 def compare_cmd(structure, peaks, charge, conformers, seed, temperature, model, currents, beta_model, scale,
                 set_current, circuit, solvent, claim, noise, fmt, output, force):
     """Assign the observed PEAKS (CSV/TSV or JCAMP-DX) to STRUCTURE, fit its ring currents, give a verdict."""
-    from ringshift.analysis import comparison_text, comparison_to_dict, run_compare
-    from ringshift.output import CAUTION, prediction_csv, prediction_table, prediction_to_dict, to_json
-    from ringshift.peaks import read_peaks
+    from ringshift.report.text import comparison_text
+    from ringshift.report.json import comparison_to_dict
+    from ringshift.compare.run import run_compare
+    from ringshift.report.json import to_json
+    from ringshift.io.peak_tables import read_peaks
 
     pred = _run_predict(structure, charge, conformers, seed, temperature, model, currents, beta_model, scale,
                         set_current, circuit)
@@ -187,8 +190,9 @@ def _noise(value):
 @click.option("--force", is_flag=True, help="Overwrite an existing plot file.")
 def pi_cmd(structure, charge, conformers, seed, temperature, beta_model, plot, fmt, force):
     """Pi-electron counts, 4n+2/4n class, planarity, Hueckel levels and circuit currents of STRUCTURE."""
-    from ringshift.output import CAUTION, prediction_csv, prediction_table, prediction_to_dict, to_json
-    from ringshift.pisummary import pi_summary, pi_text
+    from ringshift.report.json import to_json
+    from ringshift.pi.summary import pi_summary
+    from ringshift.report.text import pi_text
 
     s = _load(structure, charge, conformers, seed, temperature)
     summary = pi_summary(s, beta_model=beta_model)
@@ -215,9 +219,9 @@ def pi_cmd(structure, charge, conformers, seed, temperature, beta_model, plot, f
 def report_cmd(structure, peaks, charge, conformers, seed, temperature, model, currents, beta_model, scale,
                set_current, circuit, solvent, claim, noise, out_dir, force, quiet):
     """Write a self-contained HTML report (with figures, JSON and SDF) for STRUCTURE [and PEAKS]."""
-    from ringshift.analysis import comparison_text, comparison_to_dict, run_compare
-    from ringshift.peaks import read_peaks
-    from ringshift.pisummary import pi_summary
+    from ringshift.compare.run import run_compare
+    from ringshift.io.peak_tables import read_peaks
+    from ringshift.pi.summary import pi_summary
     from ringshift.report import write_report
 
     from pathlib import Path
@@ -302,8 +306,10 @@ def map_cmd(structure, charge, conformers, seed, temperature, model, currents, b
 def trajectory_cmd(frames, charge, model, currents, beta_model, weights, temperature, energy_unit, frame_weights,
                    exchange, exchange_group, memory, fmt, output, force):
     """Frame-averaged ring-current shifts of a multi-frame XYZ or multi-record SDF (streamed)."""
-    from ringshift.output import CAUTION, prediction_csv, prediction_table, prediction_to_dict, to_json
-    from ringshift.ensemble import predict_trajectory_file, read_weights_file, trajectory_to_dict
+    from ringshift.report.json import CAUTION, to_json
+    from ringshift.runners.trajectory import predict_trajectory_file
+    from ringshift.runners.averaging import read_weights_file
+    from ringshift.report.json import trajectory_to_dict
 
     if frame_weights is not None and weights != "uniform":
         raise InputError("give either --weights boltzmann or --frame-weights FILE, not both", "--frame-weights")
@@ -356,7 +362,7 @@ def trajectory_cmd(frames, charge, model, currents, beta_model, weights, tempera
 def batch_cmd(library, output, jobs, scheduler, restart, quiet, charge, conformers, seed, temperature, model,
               currents, beta_model):
     """Predict every molecule of LIBRARY (SDF, or SMILES file: SMILES [name] per line) into JSON lines."""
-    from ringshift.batch import run_batch
+    from ringshift.runners.batch import run_batch
 
     load = {"charge": charge, "conformers": conformers, "seed": seed, "temperature_K": temperature}
     summ = run_batch(library, output, jobs=jobs, scheduler=scheduler, resume=not restart, overwrite=restart,
@@ -372,7 +378,7 @@ def batch_cmd(library, output, jobs, scheduler, restart, quiet, charge, conforme
 @click.option("--quiet", is_flag=True, help="No progress messages.")
 def demo_cmd(out_dir, force, quiet):
     """Run compare and report on the bundled, invented demo scenario."""
-    from ringshift.demo import run_demo
+    from ringshift.runners.demo import run_demo
 
     def progress(msg):
         if not quiet:

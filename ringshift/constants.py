@@ -35,7 +35,7 @@ FAR_FIELD_RADII: float = 10.0
 KB_KCAL_PER_MOL_K: float = _sc.R / 4184.0
 
 #: Names of the shielding models, the a priori current sources and the resonance-integral models of
-#: the pipeline (:mod:`ringshift.predict`); kept here, free of heavy imports, so the CLI can offer them.
+#: the pipeline (:mod:`ringshift.shifts.prediction`); kept here, free of heavy imports, so the CLI can offer them.
 MODELS: tuple[str, ...] = ("polygon", "johnson-bovey", "haigh-mallion", "dipole", "network")
 CURRENT_SOURCES: tuple[str, ...] = ("huckel", "benzene")
 BETA_MODELS: tuple[str, ...] = ("scf", "scf-coulson", "distance", "uniform")

@@ -1,8 +1,8 @@
 """Documented limits of ringshift's inputs, and the checks that enforce them.
 
-The readers behind :func:`ringshift.structure.load_structure` (SMILES, MOL/SDF, XYZ), the peak-list
-and JCAMP-DX readers (:mod:`ringshift.peaks`, :mod:`ringshift.jcamp`) and user reference-shift
-tables (:mod:`ringshift.shifts`) apply these limits before they do expensive work; a file or string
+The readers behind :func:`ringshift.io.structures.load_structure` (SMILES, MOL/SDF, XYZ), the peak-list
+and JCAMP-DX readers (:mod:`ringshift.spectra.peaks`, :mod:`ringshift.io.jcampdx`) and user reference-shift
+tables (:mod:`ringshift.shifts.reference`) apply these limits before they do expensive work; a file or string
 beyond a limit raises :class:`~ringshift.errors.InputError` with a one-line message naming the
 input, the limit and what to do. The values are generous for real molecules and 1D ¹H spectra
 (side-chain-complete porphyrin nanorings are the largest molecules in view, hence 5000 atoms) and

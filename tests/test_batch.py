@@ -1,4 +1,4 @@
-"""Library runs (ringshift.batch): completeness, order, failures, resume, parallel workers, Dask."""
+"""Library runs (ringshift.runners.batch): completeness, order, failures, resume, parallel workers, Dask."""
 
 from __future__ import annotations
 
@@ -11,11 +11,12 @@ from numpy.testing import assert_allclose
 from rdkit import Chem
 from rdkit.Chem import rdDistGeom
 
-from ringshift.batch import iter_library, run_batch
+from ringshift.io.libraries import iter_library
+from ringshift.runners.batch import run_batch
 from ringshift.errors import InputError, OutputError
-from ringshift.output import prediction_to_dict
-from ringshift.predict import predict
-from ringshift.structure import load_structure
+from ringshift.report.json import prediction_to_dict
+from ringshift.shifts.prediction import predict
+from ringshift.io.structures import load_structure
 
 LOAD = {"conformers": 1}
 LIBRARY = """# invented test library (names are labels only)

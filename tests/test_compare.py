@@ -1,4 +1,4 @@
-"""Tests of ringshift.compare (assignment, Bayesian fit of currents, evidence, verdicts).
+"""Tests of ringshift.compare.comparer (assignment, Bayesian fit of currents, evidence, verdicts).
 
 All molecules and spectra here are invented (synthetic round trips): peaks are simulated from the
 model itself with known currents, offsets and noise, so the truth is known. Geometric factors g are
@@ -13,23 +13,18 @@ from __future__ import annotations
 import itertools
 import json
 import math
-import warnings
 
 import numpy as np
 import pytest
 from numpy.testing import assert_allclose
 from scipy import integrate, linalg, stats
 
-from ringshift.assign import overflow_protons, slot_counts, solve_assignment, standardized_cost
-from ringshift.compare import (
-    CircuitPrior,
-    GroupModel,
-    ObservedPeak,
-    compare,
-    rank_candidates,
-)
+from ringshift.compare.assignment import overflow_protons, slot_counts, solve_assignment, standardized_cost
+from ringshift.compare.records import CircuitPrior, GroupModel, ObservedPeak
+from ringshift.compare.comparer import compare
+from ringshift.compare.candidates import rank_candidates
 from ringshift.errors import AssignmentWarning, InputError
-from ringshift.evidence import kass_raftery_category, linear_gaussian_fit, sign_evidence
+from ringshift.compare.evidence import kass_raftery_category, linear_gaussian_fit, sign_evidence
 
 # ------------------------------------------------------------------ invented model and simulator
 #: Invented bridged [14]annulene-like molecule: (label, n_h, class, ref ppm, ref sd ppm, g ppm per nA/T).
@@ -119,7 +114,7 @@ def test_posterior_equals_augmented_least_squares():
 
 
 def test_half_gaussian_evidence_equals_quadrature():
-    # Derived identity Z_dia = 2 Z_full P(J > 0 | y) (module docstring of ringshift.evidence),
+    # Derived identity Z_dia = 2 Z_full P(J > 0 | y) (module docstring of ringshift.compare.evidence),
     # checked by direct integration of the likelihood against the half-Gaussian prior 2 N(J; 0, w²)
     # over J > 0 (and J < 0 for Z_para); the J = 0 model has no parameter: Z = Π N(y; 0, σ²).
     rng = np.random.default_rng(11)

@@ -7,10 +7,10 @@ ringshift itself (ETKDG v3 + MMFF94). The verdict must match the accepted magnet
 import pytest
 from rdkit import Chem
 
-from ringshift.analysis import run_compare
-from ringshift.peaks import read_peaks
-from ringshift.predict import predict
-from ringshift.structure import load_structure
+from ringshift.compare.run import run_compare
+from ringshift.io.peak_tables import read_peaks
+from ringshift.shifts.prediction import predict
+from ringshift.io.structures import load_structure
 
 
 def _annulene_smiles(pattern: str) -> str:

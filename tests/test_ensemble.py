@@ -1,4 +1,4 @@
-"""Trajectories and ensembles (ringshift.ensemble): frame averages, streaming, weights, exchange, damaged files."""
+"""Trajectories and ensembles (ringshift.runners.trajectory): frame averages, streaming, weights, exchange, damaged files."""
 
 from __future__ import annotations
 
@@ -12,12 +12,13 @@ from rdkit import Chem
 from scipy import constants, special
 
 from ringshift import fields
-from ringshift.ensemble import (ENERGY_UNITS, Frame, TrajectoryWarning, exchange_groups, iter_sdf_records,
-                                iter_xyz_frames, parse_energy, polygon_shielding_frames, predict_trajectory,
-                                predict_trajectory_file, trajectory_to_dict)
+from ringshift.io.frames import ENERGY_UNITS, Frame, TrajectoryWarning, iter_sdf_records, iter_xyz_frames, parse_energy
+from ringshift.runners.trajectory import polygon_shielding_frames, predict_trajectory, predict_trajectory_file
+from ringshift.runners.averaging import exchange_groups
+from ringshift.report.json import trajectory_to_dict
 from ringshift.errors import GeometryWarning, InputError
-from ringshift.predict import predict
-from ringshift.structure import load_structure
+from ringshift.shifts.prediction import predict
+from ringshift.io.structures import load_structure
 
 N_FRAMES = 12
 

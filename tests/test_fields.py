@@ -1,4 +1,4 @@
-"""Shielding kernels of ringshift.fields: textbook limits, identities, invariances, slow twins."""
+"""Shielding kernels of ringshift.fields.polygon: textbook limits, identities, invariances, slow twins."""
 
 from __future__ import annotations
 

@@ -19,12 +19,14 @@ from hypothesis import strategies as st
 from numpy.testing import assert_allclose
 from scipy.spatial.transform import Rotation
 
-from ringshift import jcamp
+from ringshift.io import jcampdx_codec
+from ringshift.io import jcampdx
 from ringshift.errors import InputError
-from ringshift.fields import polygon_shielding
-from ringshift.peaks import SHIFT_RANGE_PPM, PeakList, parse_peak_table_csv, read_peaks
-from ringshift.rings import circuit_geometry
-from ringshift.structure import load_structure
+from ringshift.fields.polygon import polygon_shielding
+from ringshift.spectra.peaks import SHIFT_RANGE_PPM, PeakList
+from ringshift.io.peak_tables import parse_peak_table_csv, read_peaks
+from ringshift.geometry.circuits import circuit_geometry
+from ringshift.io.structures import load_structure
 
 DATA = Path(__file__).parent / "data" / "peaks"
 SEEDS_CSV = [p.read_text(encoding="utf-8") for p in sorted(DATA.glob("*.csv")) + sorted(DATA.glob("*.tsv"))]
@@ -116,7 +118,7 @@ def near_valid_jcamp(draw) -> str:
         n = len(y) + draw(st.sampled_from([0, 0, 0, 1, -1]))
         firstx, lastx = draw(st.sampled_from([(10, 0), (0, 10), (5, 5), (1e308, -1e308), (4000, 0)]))
         x = np.linspace(firstx, lastx, len(y)) if math.isfinite(firstx - lastx) else np.zeros(len(y))
-        body = jcamp.encode_xydata(x, np.array(y), form, width=draw(st.sampled_from([20, 80])))
+        body = jcampdx_codec.encode_xydata(x, np.array(y), form, width=draw(st.sampled_from([20, 80])))
         head = f"##FIRSTX={firstx}\n##LASTX={lastx}\n##NPOINTS={n}\n##XYDATA=(X++(Y..Y))\n"
     else:
         rows = draw(st.lists(st.tuples(st.floats(-25, 45), st.floats(-1, 20), st.floats(-0.01, 0.05)),
@@ -146,7 +148,7 @@ def check_peaklist(pl: PeakList) -> None:
         assert math.isfinite(pl.spectrum.noise_sigma)
 
 
-def check_jcamp(d: jcamp.JcampData) -> None:
+def check_jcamp(d: jcampdx.JcampData) -> None:
     for arr in (d.ppm, d.intensity):
         assert arr is None or np.all(np.isfinite(arr))
     assert all(math.isfinite(v) for v in d.peak_ppm + d.peak_y)
@@ -198,7 +200,7 @@ def test_read_peaks_random_bytes(raw, name, n_h):
 @FAST
 @given(st.one_of(st.text(max_size=400), chunky_text, near_valid_jcamp()))
 def test_jcamp_parser_random_text(text):
-    out = only_input_errors(jcamp.parse_jcamp_text, text, source="fuzz.jdx")
+    out = only_input_errors(jcampdx.parse_jcamp_text, text, source="fuzz.jdx")
     if out is not None:
         check_jcamp(out)
 
@@ -207,7 +209,7 @@ def test_jcamp_parser_random_text(text):
 @given(st.data())
 def test_jcamp_parser_mutated_valid_files(data):
     text = mutate(data.draw(st.sampled_from(SEEDS_JDX), label="seed"), data)
-    out = only_input_errors(jcamp.parse_jcamp_text, text, source="fuzz.jdx")
+    out = only_input_errors(jcampdx.parse_jcamp_text, text, source="fuzz.jdx")
     if out is not None:
         check_jcamp(out)
 
@@ -293,7 +295,7 @@ def test_polygon_shielding_finite_and_rigid_motion_invariant(poly, seed):
         flipped = polygon_shielding(pts, v[::-1], -n)
     # A scalar shielding cannot depend on where the molecule sits or how it is turned (textbook
     # identity); flipping the normal and reversing the vertex order describes the same diatropic
-    # current (module notes of ringshift.fields). Tolerance: float64 rounding amplified by 1/r²
+    # current (module notes of ringshift.fields.polygon). Tolerance: float64 rounding amplified by 1/r²
     # near the wires, 1e-8 of the largest |σ|.
     scale = max(1.0, float(np.max(np.abs(sigma))))
     assert_allclose(moved, sigma, rtol=0, atol=1e-8 * scale)

@@ -26,7 +26,7 @@ from rdkit.Chem import AllChem
 from ringshift import limits
 from ringshift.cli import main
 from ringshift.errors import GeometryWarning, InputError
-from ringshift.structure import load_structure
+from ringshift.io.structures import load_structure
 
 ROOT = Path(__file__).resolve().parents[1]
 
@@ -378,7 +378,7 @@ def test_force_field_failure_falls_back_to_etkdg(monkeypatch):
 def test_hydrogen_groups_tolerate_dummy_neighbours():
     # Fuzz finding: an O/S bonded to a dummy atom and nothing else made group_equivalent_hydrogens
     # raise StopIteration. The public function must cope with any sanitised molecule.
-    from ringshift.structure import group_equivalent_hydrogens
+    from ringshift.geometry.symmetry import group_equivalent_hydrogens
 
     mol = Chem.AddHs(Chem.MolFromSmiles("[*]OC(O[*])(C)C"))
     AllChem.Compute2DCoords(mol)                     # RDKit cannot embed dummy atoms in 3D
@@ -476,7 +476,7 @@ def test_check_coordinates_names_the_closest_pair():
 
 
 def test_collinear_ring_is_an_input_error_not_nan():
-    from ringshift.rings import circuit_geometry
+    from ringshift.geometry.circuits import circuit_geometry
 
     x = np.zeros((6, 3))
     x[:, 0] = 1.4 * np.arange(6)

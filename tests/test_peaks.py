@@ -1,4 +1,4 @@
-"""Tests of ringshift.peaks and ringshift.jcamp: peak tables, JCAMP-DX, picking, integrals.
+"""Tests of ringshift.spectra.peaks and ringshift.io.jcampdx: peak tables, JCAMP-DX, picking, integrals.
 
 All spectra and peak lists here are invented (hand-encoded or synthetic Lorentzian sums).
 """
@@ -18,12 +18,15 @@ from hypothesis import strategies as st
 from numpy.testing import assert_allclose
 from scipy import stats
 
-from ringshift import jcamp
+from ringshift.io import jcampdx
+from ringshift.io import jcampdx_codec
 from ringshift.errors import AssignmentWarning, InputError
-from ringshift.peaks import (
-    SOLVENT_RESIDUAL_PPM, Peak, PeakList, Spectrum, estimate_noise, flag_reference_peaks, normalise_integrals,
-    parse_peak_table_csv, pick_peaks, read_jcamp, read_peak_table_csv, read_peaks, simulate_spectrum,
-    write_jcamp_peaks, write_jcamp_spectrum, write_peak_table_csv)
+from ringshift.spectra.solvents import SOLVENT_RESIDUAL_PPM, flag_reference_peaks
+from ringshift.spectra.peaks import Peak, PeakList, Spectrum, normalise_integrals
+from ringshift.io.jcampdx import write_jcamp_spectrum
+from ringshift.spectra.peaks import estimate_noise
+from ringshift.spectra.picking import pick_peaks, simulate_spectrum
+from ringshift.io.peak_tables import parse_peak_table_csv, read_jcamp, read_peak_table_csv, read_peaks, write_jcamp_peaks, write_peak_table_csv
 
 DATA = Path(__file__).parent / "data" / "peaks"
 
@@ -54,7 +57,7 @@ def header(npoints=10, firstx=10, lastx=1, xunits="PPM", extra="") -> str:
 @pytest.mark.parametrize("name", ["ramp_affn", "ramp_pac", "ramp_sqz", "ramp_dif", "ramp_difdup", "ramp_mixed"],
                          ids=["AFFN", "PAC", "SQZ", "DIF+Ycheck", "DIFDUP", "mixed"])
 def test_hand_encoded_ramp_decodes(name):
-    data = jcamp.read_jcamp_file(DATA / f"{name}.jdx")
+    data = jcampdx.read_jcamp_file(DATA / f"{name}.jdx")
     # Values decoded by hand (comment above RAMP); integers are exact in float64, so atol = 0.
     assert_allclose(data.intensity, RAMP, rtol=0, atol=0)
     # Axis from FIRSTX, LASTX, NPOINTS: 10, 9, ..., 1 ppm (exact to rounding, 1e-12 ppm).
@@ -69,14 +72,14 @@ def test_hand_encoded_ramp_decodes(name):
     ("sqz_dup", [1, 1, 1, 2, 2, -3]),
 ], ids=["DUP>=10", "SQZ+DUP"])
 def test_hand_encoded_dup_forms(name, expected):
-    data = jcamp.read_jcamp_file(DATA / f"{name}.jdx")
+    data = jcampdx.read_jcamp_file(DATA / f"{name}.jdx")
     assert_allclose(data.intensity, expected, rtol=0, atol=0)  # exact integers, hand decoded
 
 
 def test_hz_axis_yfactor_and_shift_reference():
     # FIRSTX 4000 Hz, LASTX 400 Hz at 400 MHz → 10 … 1 ppm (δ = ν/ν0); YFACTOR 0.5 halves the values
     # 2 4 6 6 ... (hand-computed: the RAMP). .SHIFT REFERENCE puts point 10 at 1.0 ppm: already true.
-    data = jcamp.read_jcamp_file(DATA / "hz_yfactor.jdx")
+    data = jcampdx.read_jcamp_file(DATA / "hz_yfactor.jdx")
     assert_allclose(data.ppm, np.arange(10, 0, -1), rtol=0, atol=1e-12)
     assert_allclose(data.intensity, RAMP, rtol=0, atol=0)
     assert data.observe_mhz == 400.0
@@ -86,7 +89,7 @@ def test_hz_axis_yfactor_and_shift_reference():
 def test_shift_reference_moves_axis(tmp_path):
     # Point 1 declared at 10.5 ppm where FIRSTX says 10 → whole axis +0.5 ppm (hand-computed).
     text = header(extra="##.SHIFT REFERENCE=(INTERNAL, CDCl3, 1, 10.5)\n") + "10 1 2 3 3 2 1 0 -1 -2 -3\n##END=\n"
-    data = jcamp.parse_jcamp_text(text)
+    data = jcampdx.parse_jcamp_text(text)
     assert_allclose(data.ppm, np.arange(10, 0, -1) + 0.5, rtol=0, atol=1e-12)
     assert any("SHIFT REFERENCE" in w for w in data.warnings)
 
@@ -119,7 +122,7 @@ def test_peak_table_xyw_in_hz():
 def test_tokenizer_pseudo_digits(text, expected):
     # Pseudo-digit tables of JCAMP-DX 4.24 (McDonald & Wilks 1988, from memory): SQZ @=0, A–I = 1–9,
     # a–i = −1…−9; DIF %=0, J–R = 1–9, j–r = −1…−9; DUP S–Z = 1–8, s = 9; following digits append.
-    assert jcamp.tokenize_asdf(text) == expected
+    assert jcampdx_codec.tokenize_asdf(text) == expected
 
 
 # --------------------------------------------------------------------------------- round trips
@@ -131,7 +134,7 @@ def ramp_spectrum(n=2000, seed=3):
     return ppm, y
 
 
-@pytest.mark.parametrize("form", jcamp.FORMS, ids=list(jcamp.FORMS))
+@pytest.mark.parametrize("form", jcampdx.FORMS, ids=list(jcampdx.FORMS))
 @pytest.mark.parametrize("xunits", ["PPM", "HZ"], ids=["ppm", "Hz"])
 def test_spectrum_round_trip(tmp_path, form, xunits):
     ppm, y = ramp_spectrum()
@@ -150,18 +153,18 @@ def test_spectrum_round_trip(tmp_path, form, xunits):
 def test_difdup_matches_paper_example():
     # The JCAMP-DX paper's DIFDUP example for the ramp is "1AJT%jX" (McDonald & Wilks 1988, from
     # memory), followed here by the final Y-check line.
-    lines = jcamp.encode_xydata(np.arange(1, 11), np.array(RAMP), "DIF")
+    lines = jcampdx_codec.encode_xydata(np.arange(1, 11), np.array(RAMP), "DIF")
     assert lines == ["1AJT%jX", "10c"]
 
 
 @settings(max_examples=60, deadline=None)
 @given(st.lists(st.integers(-10**9, 10**9) | st.sampled_from([0, 1, -1]), min_size=1, max_size=300),
-       st.sampled_from(jcamp.FORMS), st.integers(12, 80))
+       st.sampled_from(jcampdx.FORMS), st.integers(12, 80))
 def test_codec_round_trip_property(values, form, width):
     # Round trip of the codec itself on arbitrary integer data and line widths (common practice, no source).
     y = np.array(values, dtype=np.int64)
-    lines = jcamp.encode_xydata(np.linspace(10, 0, y.size), y, form, width=width)
-    decoded, checks = jcamp.decode_xydata(list(enumerate(lines, 1)), npoints=y.size)
+    lines = jcampdx_codec.encode_xydata(np.linspace(10, 0, y.size), y, form, width=width)
+    decoded, checks = jcampdx_codec.decode_xydata(list(enumerate(lines, 1)), npoints=y.size)
     assert decoded == values
     expected_x = np.linspace(10, 0, y.size)[[c[2] for c in checks]]  # X at each line start labels its point
     assert_allclose([c[1] for c in checks], expected_x, rtol=1e-9, atol=1e-9)
@@ -351,7 +354,7 @@ def test_compound_file_reads_first_data_block():
     inner = jdx_peaks(rows="7.5, 2\n")
     text = ("##TITLE=link\n##JCAMP-DX=5.01\n##BLOCKS=2\n" + inner + header()
             + "10 1 2 3 3 2 1 0 -1 -2 -3\n##END=\n##END=\n")
-    data = jcamp.parse_jcamp_text(text)
+    data = jcampdx.parse_jcamp_text(text)
     assert data.peak_ppm == (7.5,) and data.ppm is None
     assert any("2 data blocks" in w for w in data.warnings)
 
@@ -439,7 +442,7 @@ def test_bad_jcamp(tmp_path, text, message):
 
 def test_x_check_warning(tmp_path):
     # Line-start X 5 ppm where point 0 is at 10 ppm: 5 points off → warning, data still read.
-    data = jcamp.parse_jcamp_text(header() + "5 1 2 3 3 2 1 0 -1 -2 -3\n##END=\n")
+    data = jcampdx.parse_jcamp_text(header() + "5 1 2 3 3 2 1 0 -1 -2 -3\n##END=\n")
     assert any("X values" in w for w in data.warnings)
 
 
@@ -512,8 +515,8 @@ VALID_HEAD = header(npoints=10)
 def mutated_xydata(draw):
     """A valid encoded spectrum, sometimes with one character replaced (corruption)."""
     values = draw(st.lists(st.integers(-10**6, 10**6), min_size=2, max_size=40))
-    form, width = draw(st.sampled_from(jcamp.FORMS)), draw(st.integers(10, 80))
-    lines = jcamp.encode_xydata(np.linspace(10, 1, len(values)), np.array(values), form, width=width)
+    form, width = draw(st.sampled_from(jcampdx.FORMS)), draw(st.integers(10, 80))
+    lines = jcampdx_codec.encode_xydata(np.linspace(10, 1, len(values)), np.array(values), form, width=width)
     text = "\n".join(lines)
     if draw(st.booleans()):
         i = draw(st.integers(0, len(text) - 1))

@@ -1,4 +1,4 @@
-"""Tests of ringshift.pisystem and ringshift.huckel: π perception, Hückel levels, Hückel–London currents.
+"""Tests of ringshift.pi.perception and ringshift.pi.huckel: π perception, Hückel levels, Hückel–London currents.
 
 Geometries are built here: regular polygons and RDKit 2D depictions of benzenoids (regular hexagons)
 scaled to 1.397 Å, a honeycomb [18]annulene, and ETKDGv3 + MMFF94 conformers with fixed seeds.
@@ -14,11 +14,15 @@ from numpy.testing import assert_allclose
 from rdkit import Chem
 from rdkit.Chem import AllChem, rdMolTransforms
 
-from ringshift.huckel import BETA0_EV, BETA_REF_LENGTH_A, COULSON_R0_A, COULSON_SLOPE_A, HETERO_PARAMETERS, POLYACETYLENE_BLA_A, SCF_R0_A, SCF_RELATIONS, SCF_SLOPE_A, benzene_reference_response, huckel_matrix, occupy, polyene_chain_lengths, regular_polygon
+from ringshift.pi.parameters import BETA0_EV, BETA_REF_LENGTH_A, COULSON_R0_A, COULSON_SLOPE_A, HETERO_PARAMETERS, POLYACETYLENE_BLA_A
+from ringshift.pi.huckel import SCF_R0_A, SCF_RELATIONS, SCF_SLOPE_A, huckel_matrix, occupy, polyene_chain_lengths
+from ringshift.pi.london import benzene_reference_response, regular_polygon
 from ringshift.constants import BENZENE_CURRENT_NA_PER_T
 from ringshift.errors import InputError
-from ringshift.pisystem import (circuit_electrons, huckel, huckel_class, london_currents, perceive_pi,
-                                pi_charge_shift_ppm)
+from ringshift.pi.perception import circuit_electrons, huckel_class, perceive_pi
+from ringshift.pi.london import pi_charge_shift_ppm
+from ringshift.pi.huckel import huckel
+from ringshift.pi.london import london_currents
 
 
 # ------------------------------------------------------------------------------------------ helpers
@@ -428,10 +432,11 @@ def test_invariance_under_rigid_motion_and_ring_order():
 
 
 def test_bond_currents_use_the_sense_of_the_network_shielding_kernel():
-    # Convention check against ringshift.fields: benzene's bond currents (field along z) fed to
+    # Convention check against ringshift.fields.polygon: benzene's bond currents (field along z) fed to
     # network_shielding must give the shielding of a diatropic 12 nA/T double loop (polygon_shielding);
     # a point 1 Å above the centre is shielded (Johnson & Bovey 1958). Tolerance 1e-10: rounding only.
-    from ringshift.fields import network_shielding, polygon_shielding
+    from ringshift.fields.network import network_shielding
+    from ringshift.fields.polygon import polygon_shielding
     m, xyz = _ring(6)
     pi = perceive_pi(m, xyz)
     lc = london_currents(pi, m, xyz, [list(range(6))])
@@ -503,7 +508,7 @@ def test_annulene18_models_and_observed_shift_difference():
 
 
 def _inner_outer_difference(beta_model):
-    from ringshift.fields import polygon_shielding
+    from ringshift.fields.polygon import polygon_shielding
     m, xyz, cyc, h_in, h_out = _annulene18()
     pi = perceive_pi(m, xyz)
     j = london_currents(pi, m, xyz, [cyc], beta_model=beta_model).circuit_currents_nA_per_T[0]
@@ -515,9 +520,9 @@ def test_annulene18_inner_outer_difference_within_25_percent():
     # Independent check of the a priori "scf" currents: its one parameter was calibrated on the
     # bond-length alternation of trans-polyacetylene (Yannoni & Clarke, PRL 1983, 51, 1191, from memory),
     # never on annulene NMR. Observed low-temperature [18]annulene (from memory): 9.28 − (−2.99) = 12.27 ppm
-    # (Oth, Pure Appl. Chem. 1971, 25, 573); shielding per nA/T from ringshift.fields.polygon_shielding
+    # (Oth, Pure Appl. Chem. 1971, 25, 573); shielding per nA/T from ringshift.fields.polygon.polygon_shielding
     # (Johnson–Bovey double loop). Measured 13.2 ppm; tolerance 25 %, the spread expected of a Hückel-level
-    # model (the result moves by ~2 ppm per 0.005 Å of the calibration BLA; ringshift.pisystem notes).
+    # model (the result moves by ~2 ppm per 0.005 Å of the calibration BLA; ringshift.pi.perception notes).
     assert _inner_outer_difference("scf") == pytest.approx(12.27, rel=0.25)
 
 

@@ -15,8 +15,8 @@ are the packaged ring-current-free table (ringshift/data/reference_shifts.csv, i
 import numpy as np
 import pytest
 
-from ringshift.predict import predict
-from ringshift.structure import load_structure
+from ringshift.shifts.prediction import predict
+from ringshift.io.structures import load_structure
 
 BENZENE_J = 12.0
 
@@ -148,7 +148,7 @@ def test_annulene18_default_pipeline_inner_outer_difference(annulene18):
     # trans-polyacetylene bond alternation, polygon double loops) the mean outer-minus-inner ring-current
     # shift difference of [18]annulene must lie within 25 % of the published low-temperature difference
     # 9.28 − (−2.99) = 12.27 ppm (Oth, Bünzli & de Julien de Zélicourt, Helv. Chim. Acta 1974, 57, 2276;
-    # from memory). These NMR data play no part in the calibration (ringshift.huckel docstring).
+    # from memory). These NMR data play no part in the calibration (ringshift.pi.huckel docstring).
     pred = predict(annulene18)
     inner = _rc(pred, lambda g: g.ring_current_ppm < 0)
     outer = _rc(pred, lambda g: g.ring_current_ppm > 0)

@@ -26,19 +26,22 @@ from numpy.testing import assert_allclose
 from rdkit import Chem
 from scipy import stats
 
-from ringshift.analysis import comparison_to_dict, run_compare
+from ringshift.report.json import comparison_to_dict
+from ringshift.compare.run import run_compare
 from ringshift.constants import JB_SEPARATION_A, MU0_PPM_A_PER_NA_T
 from ringshift.errors import InputError, OutputError
-from ringshift.output import CAUTION, prediction_to_dict
-from ringshift.peaks import Peak, PeakList, read_peaks, simulate_spectrum
-from ringshift.pisummary import pi_summary
-from ringshift.predict import predict
+from ringshift.report.json import CAUTION, prediction_to_dict
+from ringshift.spectra.peaks import Peak, PeakList
+from ringshift.io.peak_tables import read_peaks
+from ringshift.spectra.picking import simulate_spectrum
+from ringshift.pi.summary import pi_summary
+from ringshift.shifts.prediction import predict
 from ringshift.report import figures as F
 from ringshift.report import html as H
 from ringshift.report import maps as M
 from ringshift.report import sdf as S
 from ringshift.report import write_report
-from ringshift.structure import load_structure
+from ringshift.io.structures import load_structure
 
 R_CC = 1.39   # regular-hexagon circumradius used for the exact benzene geometry, Å
 R_CH = 2.47   # C–H 1.08 Å outward

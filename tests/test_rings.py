@@ -8,12 +8,7 @@ from rdkit import Chem
 from scipy.spatial.transform import Rotation
 
 from ringshift.errors import InputError
-from ringshift.rings import (
-    circuit_geometry,
-    find_circuits,
-    p_orbital_axes,
-    plane_fit,
-)
+from ringshift.geometry.circuits import circuit_geometry, find_circuits, p_orbital_axes, plane_fit
 
 
 def _mol(smi):
@@ -156,8 +151,8 @@ def test_p_orbital_axis_is_poav1_with_unequal_bonds():
 def test_ring_axes_equal_the_huckel_axes():
     # One definition for the reported misalignment and the Hueckel overlap (common practice, no source):
     # the ring-geometry axes equal the sign-oriented Hueckel axes up to sign on a bent MMFF structure.
-    from ringshift import pigeometry as pg
-    from ringshift.structure import load_structure
+    from ringshift.geometry import planes as pg
+    from ringshift.io.structures import load_structure
 
     s = load_structure("C1=CC=CC=CC=C1", conformers=1, seed=3)   # tub-shaped cyclooctatetraene
     atoms = [a.GetIdx() for a in s.mol.GetAtoms() if a.GetAtomicNum() == 6]
@@ -183,7 +178,7 @@ def test_near_linear_ring_atoms_follow_the_ring_normal():
 def test_pigeometry_plane_fit_single_equals_stack_and_follows_atom_order():
     # A rotated regular hexagon lies in the rotated xy plane; its normal is the rotated +z when the atoms
     # run counter-clockwise (right-hand rule, textbook). 1e-12: rounding.
-    from ringshift import pigeometry as pg
+    from ringshift.geometry import planes as pg
 
     R = Rotation.from_euler("xyz", [0.3, -1.1, 2.0]).as_matrix()
     hexa = _hexagon() @ R.T + np.array([1.0, -2.0, 0.5])

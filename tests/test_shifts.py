@@ -1,4 +1,4 @@
-"""Tests of ringshift.shifts: proton classes, the ring-current-free reference table, assembly."""
+"""Tests of ringshift.shifts.reference: proton classes, the ring-current-free reference table, assembly."""
 
 from __future__ import annotations
 
@@ -17,16 +17,9 @@ from rdkit import Chem
 from rdkit.Chem.rdMolDescriptors import CalcMolFormula
 
 from ringshift.errors import InputError
-from ringshift.shifts import (
-    CSV_COLUMNS,
-    FALLBACK_CLASS,
-    ReferenceTable,
-    assemble_prediction,
-    classify_hydrogens,
-    load_reference_table,
-    reference_arrays,
-    reference_shifts,
-)
+from ringshift.shifts.reference import CSV_COLUMNS, ReferenceTable, assemble_prediction, load_reference_table, reference_arrays, reference_shifts
+from ringshift.shifts.classes import FALLBACK_CLASS
+from ringshift.shifts.classes import classify_hydrogens
 
 # 1,6-methano[10]annulene = bicyclo[4.4.1]undeca-1,3,5,7,9-pentaene: C11 bridges C1 and C6.
 METHANO10 = "C1C2=CC=CC=C1C=CC=C2"

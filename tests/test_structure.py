@@ -1,4 +1,4 @@
-"""Tests of ringshift.structure: SMILES/MOL/SDF/XYZ input, conformers, E/Z, Boltzmann weights, H groups.
+"""Tests of ringshift.io.structures: SMILES/MOL/SDF/XYZ input, conformers, E/Z, Boltzmann weights, H groups.
 
 References are RDKit (graph symmetry, stereo perception, alignment, writers), SciPy (constants,
 softmax), textbook facts (topicity, proton counts of the named molecules) and a few published
@@ -19,15 +19,10 @@ from scipy import constants, special
 from scipy.spatial.transform import Rotation
 
 from ringshift.errors import InputError
-from ringshift.structure import (
-    Structure,
-    boltzmann_weights,
-    ez_stereo_check,
-    group_equivalent_hydrogens,
-    kabsch_rmsd,
-    load_structure,
-    read_mol_records,
-)
+from ringshift.io.structures import Structure, load_structure
+from ringshift.geometry.symmetry import group_equivalent_hydrogens, kabsch_rmsd
+from ringshift.geometry.conformers import boltzmann_weights, ez_stereo_check
+from ringshift.io.molecule_files import read_mol_records
 
 #: (1Z,3E,5E,7Z,9E,11E,13Z,15E,17E)-[18]annulene; heavy atom k is ring locant k+1.
 ANNULENE18 = r"[H]/C1=C/C=C/C=C/C=C\C=C\C=C\C=C/C=C/C=C1\[H]"

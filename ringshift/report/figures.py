@@ -25,7 +25,7 @@ from matplotlib.lines import Line2D
 from matplotlib.patches import Patch
 
 from ringshift.errors import InputError
-from ringshift.output import atomic_write
+from ringshift.io.writing import atomic_write
 
 __all__ = ["spectrum_figure", "contributions_figure", "levels_figure", "save_levels_figure", "save_figure",
            "figure_bytes", "spread_positions", "STYLE", "INK", "OBSERVED", "FITTED", "PRIOR", "REFERENCE"]
@@ -158,7 +158,7 @@ def save_figure(fig: Figure, path, *, force: bool = False) -> Path:
 # ---------------------------------------------------------------------------------------- spectrum
 def _trace(peaklist, lo: float, hi: float):
     """(ppm, y normalised to 1, kind) of the observed or simulated trace inside [lo, hi]."""
-    from ringshift.peaks import simulate_spectrum
+    from ringshift.spectra.picking import simulate_spectrum
 
     spec = getattr(peaklist, "spectrum", None)
     if spec is not None:
@@ -210,7 +210,7 @@ def spectrum_figure(source, peaklist=None, *, width_in: float = 8.0) -> Figure:
     source : Prediction or CompareResult
         With a comparison, fitted and a priori predictions are drawn in two rows and each fitted
         position is joined to its assigned peak; unassigned, solvent and TMS peaks are marked.
-    peaklist : ringshift.peaks.PeakList, optional
+    peaklist : ringshift.spectra.peaks.PeakList, optional
         Observed peaks (the comparison's own list by default). Its spectrum trace is drawn when it
         has one, otherwise a Lorentzian line spectrum simulated from the peaks. Without any peaks the
         predicted shifts are drawn as a stick spectrum (heights ∝ number of protons).
@@ -449,7 +449,7 @@ def levels_figure(summary: dict, *, degeneracy_tol: float = 0.05) -> Figure:
     Parameters
     ----------
     summary : dict
-        :func:`ringshift.pisummary.pi_summary` output; its ``levels`` entry gives ``energies_beta``
+        :func:`ringshift.pi.summary.pi_summary` output; its ``levels`` entry gives ``energies_beta``
         (x = (E − α)/|β|, bonding negative) and ``occupations`` (0–2).
     degeneracy_tol : float
         Levels closer than this (units of |β|) are drawn side by side.

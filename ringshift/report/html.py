@@ -3,8 +3,8 @@
 :func:`write_report` builds everything in a temporary sibling folder and renames it into place at the
 end, so a failure leaves no partial report. The page has no external resources and no scripts:
 figures are inline SVG, the style sheet is inline. Every value in its tables is read from the same
-dictionaries that are written as ``results.json`` (:func:`ringshift.analysis.comparison_to_dict` or
-:func:`ringshift.output.prediction_to_dict`) and ``pi.json`` (:func:`ringshift.pisummary.pi_summary`):
+dictionaries that are written as ``results.json`` (:func:`ringshift.report.json.comparison_to_dict` or
+:func:`ringshift.report.json.prediction_to_dict`) and ``pi.json`` (:func:`ringshift.pi.summary.pi_summary`):
 each table cell carries ``data-src`` (``results`` or ``pi``) and ``data-path`` (a JSON pointer,
 RFC 6901) naming the value it shows.
 """
@@ -21,7 +21,7 @@ from importlib import metadata
 from pathlib import Path
 
 from ringshift.errors import InputError, OutputError
-from ringshift.output import prediction_to_dict, to_json
+from ringshift.report.json import prediction_to_dict, to_json
 
 __all__ = ["write_report", "render_html", "json_pointer", "resolve_pointer", "inline_svg", "REPORT_FILES"]
 
@@ -371,11 +371,11 @@ def write_report(out_dir, prediction, *, compare_result=None, pi_summary=None, f
     ----------
     out_dir : str or os.PathLike
         The folder to create. It must not exist unless ``force`` (then it is replaced as a whole).
-    prediction : ringshift.predict.Prediction
-    compare_result : ringshift.analysis.CompareResult, optional
+    prediction : ringshift.shifts.records.Prediction
+    compare_result : ringshift.compare.run.CompareResult, optional
         Adds the assignment, fitted currents, verdict and claim; must come from ``prediction``.
     pi_summary : dict, optional
-        :func:`ringshift.pisummary.pi_summary` output; computed from ``prediction`` when omitted.
+        :func:`ringshift.pi.summary.pi_summary` output; computed from ``prediction`` when omitted.
     force : bool
         Replace an existing folder.
 
@@ -390,8 +390,8 @@ def write_report(out_dir, prediction, *, compare_result=None, pi_summary=None, f
     OutputError
         The folder exists (without ``force``), its parent is missing or not writable.
     """
-    from ringshift.analysis import comparison_to_dict
-    from ringshift.pisummary import pi_summary as make_pi
+    from ringshift.report.json import comparison_to_dict
+    from ringshift.pi.summary import pi_summary as make_pi
     from ringshift.report import figures as F
     from ringshift.report import sdf as S
 

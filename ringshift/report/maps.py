@@ -3,7 +3,7 @@
 The shift is Δδ_rc(r) = −Σ_c J_c σ_c(r), summed over every loop-carrying circuit c with its current
 J_c (nA/T; a priori, or fitted when a comparison is given), σ_c the isotropic shielding per nA/T of
 the polygon double loop through the ring atoms at ±0.64 Å (Biot–Savart; Johnson & Bovey, J. Chem.
-Phys. 1958, 29, 1012), computed by :func:`ringshift.fields.polygon_shielding`. Positive = downfield
+Phys. 1958, 29, 1012), computed by :func:`ringshift.fields.polygon.polygon_shielding`. Positive = downfield
 (deshielded), negative = upfield. Geometry is the most populated conformer.
 
 The shift along the normal through the ring centre is the loop-model counterpart of a NICS scan

@@ -3,8 +3,8 @@
 SDF: one record, all hydrogens, the lowest-energy conformer (the most populated one when no energies
 are known). Per-atom values are RDKit atom property lists (``atom.dprop.<name>`` data items, one value
 per atom, ``n/a`` where an atom has none); RDKit's SD reader turns them back into atom properties.
-Every value is taken from the JSON dictionaries (:func:`ringshift.output.prediction_to_dict`,
-:func:`ringshift.analysis.comparison_to_dict`), so the SDF and ``results.json`` cannot disagree.
+Every value is taken from the JSON dictionaries (:func:`ringshift.report.json.prediction_to_dict`,
+:func:`ringshift.report.json.comparison_to_dict`), so the SDF and ``results.json`` cannot disagree.
 
 Drawing: heavy atoms only, each carbon (or other atom) bearing hydrogens annotated with its group's
 ring-current shift (ASCII text: a Unicode minus vanished in RDKit notes), loop-carrying circuits
@@ -23,7 +23,8 @@ from rdkit.Chem.Draw import rdMolDraw2D
 from rdkit.Geometry import Point2D
 
 from ringshift.errors import InputError
-from ringshift.output import atomic_write, prediction_to_dict
+from ringshift.io.writing import atomic_write
+from ringshift.report.json import prediction_to_dict
 
 __all__ = ["best_conformer", "atom_properties", "structure_sdf", "write_sdf", "read_sdf", "structure_figure",
            "PROTON_PROPERTIES", "ASSIGNMENT_PROPERTIES"]
@@ -50,7 +51,7 @@ def best_conformer(structure) -> int:
 
 
 def _results(prediction, compare_result):
-    from ringshift.analysis import comparison_to_dict
+    from ringshift.report.json import comparison_to_dict
 
     if compare_result is not None and compare_result.prediction is not prediction:
         raise InputError("the comparison was computed from a different prediction than the one given",
@@ -91,8 +92,8 @@ def structure_sdf(prediction, *, compare_result=None) -> str:
 
     Parameters
     ----------
-    prediction : ringshift.predict.Prediction
-    compare_result : ringshift.analysis.CompareResult, optional
+    prediction : ringshift.shifts.records.Prediction
+    compare_result : ringshift.compare.run.CompareResult, optional
         Adds observed, fitted and residual shifts per hydrogen.
 
     Returns
@@ -177,8 +178,8 @@ def structure_figure(prediction, *, compare_result=None, fmt: str = "svg", size:
 
     Parameters
     ----------
-    prediction : ringshift.predict.Prediction
-    compare_result : ringshift.analysis.CompareResult, optional
+    prediction : ringshift.shifts.records.Prediction
+    compare_result : ringshift.compare.run.CompareResult, optional
         When given the notes show the fitted ring-current shift (ppm), otherwise the a priori one.
     fmt : {"svg", "png"}
     size : (int, int)

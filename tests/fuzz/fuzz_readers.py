@@ -6,11 +6,11 @@ Usage::
     .venv/bin/python tests/fuzz/fuzz_readers.py --target all --seconds 120 --engine mutate
 
 Targets
-    ``csv``     :func:`ringshift.peaks.parse_peak_table_csv` on the input decoded as UTF-8 (or Latin-1)
-    ``jcamp``   :func:`ringshift.jcamp.parse_jcamp_text`, then picking via :func:`ringshift.peaks.read_peaks`
-    ``peaks``   :func:`ringshift.peaks.read_peaks` on the raw bytes written to a ``.csv`` or ``.jdx`` file
-    ``xyz``     :func:`ringshift.structure.load_structure` on the bytes as an ``.xyz`` file
-    ``sdf``     :func:`ringshift.structure.load_structure` on the bytes as an ``.sdf`` file (3D records only;
+    ``csv``     :func:`ringshift.io.peak_tables.parse_peak_table_csv` on the input decoded as UTF-8 (or Latin-1)
+    ``jcamp``   :func:`ringshift.io.jcampdx.parse_jcamp_text`, then picking via :func:`ringshift.io.peak_tables.read_peaks`
+    ``peaks``   :func:`ringshift.io.peak_tables.read_peaks` on the raw bytes written to a ``.csv`` or ``.jdx`` file
+    ``xyz``     :func:`ringshift.io.structures.load_structure` on the bytes as an ``.xyz`` file
+    ``sdf``     :func:`ringshift.io.structures.load_structure` on the bytes as an ``.sdf`` file (3D records only;
                 2D records would start conformer generation and are skipped)
     ``smiles``  SMILES parsing, sanitising and hydrogen grouping (``load_structure`` with one conformer,
                 inputs up to 80 characters)
@@ -95,10 +95,14 @@ class Runner:
     def __init__(self, target: str):
         self.target = target
         self.tmp = Path(tempfile.mkdtemp(prefix="ringshift-fuzz-"))
-        from ringshift import jcamp, peaks, structure  # noqa: F401 - imported here (instrumented by atheris)
         from ringshift.errors import InputError
 
-        self.jcamp, self.peaks, self.structure, self.InputError = jcamp, peaks, structure, InputError
+        from ringshift.io import jcampdx, molecule_files, peak_tables, structures  # imported here (instrumented by atheris)
+
+
+        self.jcamp, self.peaks, self.InputError = jcampdx, peak_tables, InputError
+
+        self.structure, self.molfiles = structures, molecule_files
 
     def __call__(self, data: bytes) -> None:
         with warnings.catch_warnings():
@@ -130,7 +134,7 @@ class Runner:
             _check_structure(self.structure.load_structure(str(self._file("fuzz.xyz", data))))
         elif t == "sdf":
             path = self._file("fuzz.sdf", data)
-            records = self.structure.read_mol_records(path)
+            records = self.molfiles.read_mol_records(path)
             if all(r.GetNumConformers() and r.GetConformer().Is3D() for r in records):
                 _check_structure(self.structure.load_structure(str(path)))
         elif t == "smiles":

@@ -1,0 +1,1 @@
+"""The comparer: records, assignment, evidence, verdicts and candidate ranking."""

@@ -1,0 +1,277 @@
+"""TODO: docstring (compare, assign, evidence)."""
+
+from __future__ import annotations
+from dataclasses import dataclass
+import numpy as np
+from ringshift._records import ToDictMixin, fields_to_plain
+from ringshift.constants import BENZENE_CURRENT_NA_PER_T
+
+
+#: Width w (nA/T) of the symmetric prior whose halves are the sign hypotheses: 1.5 × benzene.
+SIGN_PRIOR_SD_NA_PER_T: float = 1.5 * BENZENE_CURRENT_NA_PER_T
+
+__all__ = ['ObservedPeak', 'GroupModel', 'CircuitPrior', 'Comparison', 'CandidateScore', 'ClassOffset']
+
+
+# ----------------------------------------------------------------------------------------- inputs
+@dataclass(frozen=True)
+class ObservedPeak:
+    """One observed ¹H peak.
+
+    Attributes
+    ----------
+    shift_ppm : float
+        Chemical shift, ppm.
+    integral : float or None
+        Integral in any unit (scaled to protons, see ``integral_scale`` of :func:`compare`); None if
+        unknown.
+    fixed_groups : tuple of int or None
+        Indices of groups the user assigns to this peak; they are kept there.
+    label : str
+        Name used in reports (default: the shift).
+    kind : str
+        "signal" (default); kinds in :data:`IGNORED_KINDS` ("solvent", "impurity", "reference") are
+        never assigned.
+    """
+
+    shift_ppm: float
+    integral: float | None = None
+    fixed_groups: tuple[int, ...] | None = None
+    label: str = ""
+    kind: str = "signal"
+
+
+@dataclass(frozen=True, eq=False)
+class GroupModel:
+    """Prediction for one group of equivalent hydrogens.
+
+    Attributes
+    ----------
+    label : str
+    atoms : tuple of int
+        Hydrogen atom indices.
+    parents : tuple of int
+        Indices of the heavy atoms carrying them.
+    n_h : int
+        Number of protons (≥ 1).
+    proton_class : str
+        Reference class; groups of one class share a fitted offset.
+    ref_ppm, ref_sd_ppm : float
+        Table reference shift and its spread (> 0), ppm.
+    g_ppm_per_nA_T : ndarray, shape (n_circuits,)
+        Ring-current shift per nA/T of each circuit, ppm per nA/T (positive = downfield for a
+        diatropic current).
+    charge_ppm : float
+        π-charge shift term, ppm (fixed).
+    """
+
+    label: str
+    atoms: tuple[int, ...]
+    parents: tuple[int, ...]
+    n_h: int
+    proton_class: str
+    ref_ppm: float
+    ref_sd_ppm: float
+    g_ppm_per_nA_T: np.ndarray
+    charge_ppm: float = 0.0
+
+    def __post_init__(self):
+        try:
+            g = np.array(self.g_ppm_per_nA_T, dtype=np.float64).reshape(-1)
+        except (TypeError, ValueError):
+            return  # left as given; the validation gate of compare() reports it
+        g.setflags(write=False)
+        object.__setattr__(self, "g_ppm_per_nA_T", g)
+
+
+@dataclass(frozen=True)
+class CircuitPrior:
+    """A priori current of one circuit (e.g. Hückel–London), used as a weak prior.
+
+    Attributes
+    ----------
+    label : str
+    prior_nA_per_T : float
+        Prior mean, nA/T (> 0 diatropic).
+    prior_sd_nA_per_T : float
+        Prior sd, nA/T (> 0); default 1.5 × benzene.
+    """
+
+    label: str
+    prior_nA_per_T: float
+    prior_sd_nA_per_T: float = SIGN_PRIOR_SD_NA_PER_T
+
+# ---------------------------------------------------------------------------------------- results
+@dataclass(frozen=True)
+class ClassOffset(ToDictMixin):
+    """Fitted offset of one proton class from its table references, ppm."""
+
+    proton_class: str
+    offset_ppm: float
+    sd_ppm: float
+    prior_sd_ppm: float
+
+
+@dataclass(frozen=True)
+class Comparison(ToDictMixin):
+    """Result of :func:`compare`.
+
+    ``verdict`` is the verdict of the circuit with the largest evidence margin (``verdict_circuit``).
+    ``cost`` is the assignment cost (module docstring), ``log10_evidence`` the log10 marginal
+    likelihood of the assigned shifts. ``start`` names the starting current of the winning search,
+    ``iterations`` its assignment/fit cycles and ``converged`` whether it reached a fixed point.
+    """
+
+    verdict: str
+    verdict_circuit: str
+    circuits: tuple[CircuitFit, ...]
+    assignment: tuple[GroupAssignment, ...]
+    peaks: tuple[PeakSummary, ...]
+    unassigned_peaks: tuple[int, ...]
+    unassigned_groups: tuple[int, ...]
+    ignored_peaks: tuple[int, ...]
+    alternatives: tuple[Alternative, ...]
+    claim: ClaimCheck | None
+    class_offsets: tuple[ClassOffset, ...]
+    noise_ppm: float
+    noise_estimated: bool
+    integral_scale: float
+    converged: bool
+    iterations: int
+    start: str
+    cost: float
+    log10_evidence: float
+
+    def to_dict(self) -> dict:
+        """Plain JSON-able dict; unassigned peaks and groups are given with labels."""
+        out = fields_to_plain(self)
+        out["unassigned_peaks"] = [
+            {"index": int(i), "label": self.peaks[i].label, "shift_ppm": float(self.peaks[i].shift_ppm)}
+            for i in self.unassigned_peaks
+        ]
+        out["unassigned_groups"] = [
+            {"index": int(i), "label": self.assignment[i].label} for i in self.unassigned_groups
+        ]
+        return out
+
+
+@dataclass(frozen=True)
+class CandidateScore(ToDictMixin):
+    """Rank of one candidate structure by :func:`rank_candidates`.
+
+    ``cost`` = the comparison cost + ``unassigned_peak_cost`` × unassigned signal peaks;
+    ``log10_bf_vs_best`` = −(cost − best cost) / (2 ln 10); ``probability`` ∝ exp(−cost/2) with
+    equal prior probabilities of the candidates.
+    """
+
+    name: str
+    rank: int
+    cost: float
+    log10_bf_vs_best: float
+    probability: float
+    comparison: Comparison
+
+# ---------------------------------------------------------------------------- result records
+@dataclass(frozen=True)
+class GroupAssignment(ToDictMixin):
+    """One group's assignment and the parts of its shift.
+
+    ``predicted_ppm`` = ref + class offset + ring current + charge (posterior mean),
+    ``predicted_sd_ppm`` its predictive sd including the model error, ``prior_predicted_ppm`` the
+    a priori prediction (prior currents, no offset). ``ring_current_ppm`` = Σ_c J_c g_ic is the part
+    of the shift the fitted currents explain; ``needed_ref_ppm`` = δ_obs − q is the reference shift
+    the peak would need without any ring current, ``needed_ref_z`` its distance from ``ref_ppm`` in
+    units of √(ref_sd² + σ²). Observed quantities are None for unassigned groups.
+    """
+
+    index: int
+    label: str
+    atoms: tuple[int, ...]
+    parents: tuple[int, ...]
+    n_h: int
+    proton_class: str
+    peak_index: int | None
+    peak_label: str | None
+    fixed: bool
+    observed_ppm: float | None
+    predicted_ppm: float
+    predicted_sd_ppm: float
+    prior_predicted_ppm: float
+    residual_ppm: float | None
+    ring_current_ppm: float
+    ring_current_sd_ppm: float
+    charge_ppm: float
+    class_offset_ppm: float
+    ref_ppm: float
+    ref_sd_ppm: float
+    needed_ref_ppm: float | None
+    needed_ref_z: float | None
+
+
+@dataclass(frozen=True)
+class PeakSummary(ToDictMixin):
+    """One peak: its integral in protons (``slots``, None if unknown) and the groups it holds."""
+
+    index: int
+    label: str
+    shift_ppm: float
+    integral: float | None
+    kind: str
+    slots: int | None
+    groups: tuple[int, ...]
+    assigned_h: int
+
+
+@dataclass(frozen=True)
+class Alternative(ToDictMixin):
+    """An assignment nearly as good as the best: its extra cost (2 ln B units), what moved
+    (group label, from peak, to peak; None = unassigned) and the currents and verdicts it implies."""
+
+    delta_cost: float
+    changes: tuple[tuple[str, str | None, str | None], ...]
+    currents_nA_per_T: tuple[float, ...]
+    verdicts: tuple[str, ...]
+
+
+@dataclass(frozen=True)
+class CircuitEvidence(ToDictMixin):
+    """Evidence for the sign of one circuit's current.
+
+    ``log10_bf_*`` are log10 Bayes factors; ``two_ln_bf_margin`` is 2 ln B of the best hypothesis
+    over the runner-up, read on the Kass & Raftery scale (``kass_raftery``); ``p_diatropic`` is
+    P(J > 0 | data) under the symmetric prior of width ``sign_prior_sd_nA_per_T``.
+    """
+
+    log10_bf_dia_vs_none: float
+    log10_bf_para_vs_none: float
+    log10_bf_dia_vs_para: float
+    best: str
+    runner_up: str
+    two_ln_bf_margin: float
+    kass_raftery: str
+    p_diatropic: float
+    sign_prior_sd_nA_per_T: float
+
+
+@dataclass(frozen=True)
+class CircuitFit(ToDictMixin):
+    """Fitted current of one circuit (posterior under its :class:`CircuitPrior`) and its verdict."""
+
+    label: str
+    verdict: str
+    current_nA_per_T: float
+    current_rel_benzene: float
+    stderr_nA_per_T: float
+    ci95_nA_per_T: tuple[float, float]
+    prior_nA_per_T: float
+    prior_sd_nA_per_T: float
+    evidence: CircuitEvidence
+
+
+@dataclass(frozen=True)
+class ClaimCheck(ToDictMixin):
+    """Outcome ("supported", "contradicted", "inconclusive") of an aromaticity claim, with a reason."""
+
+    claim: str
+    outcome: str
+    reason: str

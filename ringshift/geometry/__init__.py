@@ -1,0 +1,1 @@
+"""Geometry of the structure: conformers, equivalent protons, planes, circuits."""

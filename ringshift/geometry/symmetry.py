@@ -1,0 +1,266 @@
+"""Molecular symmetry: groups of NMR-equivalent hydrogens, graph automorphisms, symmetry-aware RMSD.
+
+:func:`group_equivalent_hydrogens` finds the graph symmetry that the 3D geometry realises; the
+conformer generator of :mod:`ringshift.io.structures` prunes duplicates with :func:`prune_conformers`
+(RMSD minimised over automorphisms, :func:`kabsch_rmsd`). Moved out of :mod:`ringshift.io.structures`,
+which re-exports :func:`group_equivalent_hydrogens`, :func:`kabsch_rmsd` and
+:data:`H_SYMMETRY_TOLERANCE_A`.
+"""
+
+from __future__ import annotations
+import numpy as np
+from rdkit import Chem
+from ringshift.errors import InputError
+
+__all__ = ['group_equivalent_hydrogens', 'H_SYMMETRY_TOLERANCE_A', 'symmetry_graph', 'automorphisms', 'kabsch_rmsd', 'prune_conformers']
+
+
+#: Largest heavy-atom displacement (Å) of an approximate symmetry operation (group_equivalent_hydrogens).
+#: Measured on MMFF94 minima: C5H5- is off its D5h symmetry by 0.09 Å, bond-localised
+#: 1,6-methano[10]annulene off C2v by 0.28 Å; operations that would swap diastereotopic protons
+#: (butan-2-ol 0.67 Å, 4-chloro-2-methylpentane 0.96 Å) or D6h [18]annulene's inner/outer H (0.91 Å) move more.
+H_SYMMETRY_TOLERANCE_A: float = 0.4
+
+_MAX_AUTOMORPHISMS = 1000
+
+
+def kabsch_rmsd(a: np.ndarray, b: np.ndarray) -> np.ndarray:
+    """RMSD after optimal superposition by translation and proper rotation.
+
+    Closed form from the singular values of the covariance matrix (Kabsch, Acta Cryst. A 1976, 32, 922;
+    Coutsias, Seok & Dill, J. Comput. Chem. 2004, 25, 1849).
+
+    Parameters
+    ----------
+    a, b : numpy.ndarray, shape (..., n, 3)
+        Point sets in Å; leading axes broadcast.
+
+    Returns
+    -------
+    numpy.ndarray, shape (...)
+        RMSD in Å.
+    """
+    a = np.asarray(a, dtype=np.float64)
+    b = np.asarray(b, dtype=np.float64)
+    a = a - a.mean(axis=-2, keepdims=True)
+    b = b - b.mean(axis=-2, keepdims=True)
+    cov = np.swapaxes(a, -1, -2) @ b
+    s = np.linalg.svd(cov, compute_uv=False)
+    d = np.where(np.linalg.det(cov) < 0.0, -1.0, 1.0)
+    msd = (np.sum(a * a, axis=(-1, -2)) + np.sum(b * b, axis=(-1, -2))
+           - 2.0 * (s[..., 0] + s[..., 1] + d * s[..., 2])) / a.shape[-2]
+    return np.sqrt(np.clip(msd, 0.0, None))
+
+
+def prune_conformers(heavy_xyz: np.ndarray, perms: np.ndarray, threshold_A: float) -> list[int]:
+    """Greedy pruning of energy-sorted conformers (n_conf, n_heavy, 3): keep one whose RMSD, minimised
+    over automorphisms ``perms`` and proper rotations, to every kept one exceeds ``threshold_A``."""
+    if threshold_A <= 0.0 or heavy_xyz.shape[1] == 0:
+        return list(range(heavy_xyz.shape[0]))
+    keep = [0]
+    for c in range(1, heavy_xyz.shape[0]):
+        if kabsch_rmsd(heavy_xyz[c][perms][:, None], heavy_xyz[keep][None]).min() > threshold_A:
+            keep.append(c)
+    return keep
+
+
+def _fit(p: np.ndarray, q: np.ndarray, improper: bool) -> tuple[np.ndarray, np.ndarray]:
+    """Least-squares rotation R (det +1, or -1 if ``improper``) and t with p @ R.T + t ~ q (Kabsch 1976)."""
+    pc, qc = p.mean(axis=0), q.mean(axis=0)
+    u, _, vt = np.linalg.svd((p - pc).T @ (q - qc))
+    d = 1.0 if np.linalg.det(vt.T @ u.T) >= 0 else -1.0
+    rot = vt.T @ np.diag([1.0, 1.0, -d if improper else d]) @ u.T
+    return rot, qc - pc @ rot.T
+
+
+def symmetry_graph(mol: Chem.Mol, nodes, tags: dict | None = None) -> Chem.Mol:
+    """Induced subgraph on ``nodes`` with elements and connectivity only (single bonds; no charges,
+    aromaticity or stereo), so resonance forms and a localised written charge ([cH-]) keep the symmetry;
+    ``tags`` {atom: int} become isotopes, which atom matching respects."""
+    pos = {int(a): k for k, a in enumerate(nodes)}
+    rw = Chem.RWMol()
+    for a in pos:
+        atom = Chem.Atom(mol.GetAtomWithIdx(a).GetAtomicNum())
+        atom.SetIsotope(int((tags or {}).get(a, 0)))
+        atom.SetNoImplicit(True)
+        rw.AddAtom(atom)
+    for b in mol.GetBonds():
+        if b.GetBeginAtomIdx() in pos and b.GetEndAtomIdx() in pos:
+            rw.AddBond(pos[b.GetBeginAtomIdx()], pos[b.GetEndAtomIdx()], Chem.BondType.SINGLE)
+    rw.UpdatePropertyCache(strict=False)
+    return rw.GetMol()
+
+
+def automorphisms(graph: Chem.Mol) -> np.ndarray:
+    """(n_aut, n) automorphisms of a graph, identity first, at most _MAX_AUTOMORPHISMS."""
+    ident = tuple(range(graph.GetNumAtoms()))
+    if not ident:                                 # no atoms (e.g. no heavy atom in H2): identity only
+        return np.zeros((1, 0), dtype=int)
+    found = graph.GetSubstructMatches(graph, uniquify=False, useChirality=False, maxMatches=_MAX_AUTOMORPHISMS)
+    return np.array([ident] + [m for m in found if m != ident], dtype=int).reshape(-1, len(ident))
+
+
+def _free_single_bonds(mol: Chem.Mol, rank: list[int], hybridization, n_subs):
+    """(Y, Z, other neighbours of Y) over non-ring, non-conjugated single bonds Y-Z where Y has the given
+    hybridisation and ``n_subs(k)`` other neighbours, all of one topological class."""
+    for bond in mol.GetBonds():
+        if bond.GetBondType() != Chem.BondType.SINGLE or bond.IsInRing() or bond.GetIsConjugated():
+            continue
+        for y, z in ((bond.GetBeginAtom(), bond.GetEndAtom()), (bond.GetEndAtom(), bond.GetBeginAtom())):
+            subs = [n.GetIdx() for n in y.GetNeighbors() if n.GetIdx() != z.GetIdx()]
+            if y.GetHybridization() == hybridization and n_subs(len(subs)) and len({rank[k] for k in subs}) == 1:
+                yield y.GetIdx(), z.GetIdx(), subs
+
+
+def _rotor_sites(mol: Chem.Mol, rank: list[int]) -> tuple[np.ndarray, set, dict]:
+    """Anchor atom of each rotor H (-1: rigid H), heavy atoms beyond rotor centres, and graph tags.
+
+    Symmetric rotors: sp3 Y with >= 2 other neighbours of one class and nothing beyond two bonds (CH3,
+    NH3+, C(CH3)3, SiMe3); their H share the anchor Y. O-H and S-H protons are anchored to their atom.
+    Tags (1 + isotope + 200 n_H + 1000 sum Z of removed neighbours) keep the reduced graph faithful.
+    """
+    anchor, beyond, sides = np.full(mol.GetNumAtoms(), -1), set(), []
+    for y, _, subs in _free_single_bonds(mol, rank, Chem.HybridizationType.SP3, lambda k: k >= 2):
+        side = set(subs) | {m.GetIdx() for k in subs for m in mol.GetAtomWithIdx(k).GetNeighbors()} - {y}
+        if all(mol.GetAtomWithIdx(k).GetDegree() == 1 for k in side - set(subs)):
+            sides.append((len(side), y, side))
+    for _, y, side in sorted(sides, reverse=True):             # outermost first: tBu before its CH3
+        if y not in beyond:
+            for k in side:
+                if mol.GetAtomWithIdx(k).GetAtomicNum() > 1:
+                    beyond.add(k)
+                elif anchor[k] < 0:
+                    anchor[k] = y
+    for at in mol.GetAtoms():
+        nbs = list(at.GetNeighbors())
+        nums = sorted(n.GetAtomicNum() for n in nbs)
+        if at.GetAtomicNum() in (8, 16) and len(nums) == 2 and nums[0] == 1 and nums[1] > 1:   # X-O-H, X-S-H
+            h = next(n.GetIdx() for n in nbs if n.GetAtomicNum() == 1)
+            anchor[h] = at.GetIdx() if anchor[h] < 0 else anchor[h]
+    tags = {at.GetIdx(): 1 + at.GetIsotope() + 200 * at.GetTotalNumHs(includeNeighbors=True)
+            + 1000 * sum(n.GetAtomicNum() for n in at.GetNeighbors() if n.GetIdx() in beyond)
+            for at in mol.GetAtoms()}
+    return anchor, beyond, tags
+
+
+def _ring_flips(mol: Chem.Mol, x: np.ndarray, rank: list[int], anchor: np.ndarray, beyond: set, tol_A: float):
+    """(atoms, images) of 180 deg flips that carry a group onto itself within ``tol_A``: the group beyond
+    a free single bond Y-Z, Y sp2 with two other neighbours of one class (phenyl on an sp3 carbon)."""
+    for y, z, subs in _free_single_bonds(mol, rank, Chem.HybridizationType.SP2, lambda k: k == 2):
+        side, stack = {y}, list(subs)
+        while stack:
+            k = stack.pop()
+            if k not in side:
+                side.add(k)
+                stack.extend(n.GetIdx() for n in mol.GetAtomWithIdx(k).GetNeighbors())
+        atoms = np.array(sorted(k for k in side if anchor[k] < 0 and k not in beyond), dtype=int)
+        u = (x[y] - x[z]) / np.linalg.norm(x[y] - x[z])
+        moved = (x[atoms] - x[y]) @ (2.0 * np.outer(u, u) - np.eye(3)) + x[y]
+        d = np.linalg.norm(moved[:, None] - x[atoms][None], axis=2)
+        elem = np.array([mol.GetAtomWithIdx(int(k)).GetAtomicNum() for k in atoms])
+        d[elem[:, None] != elem[None, :]] = np.inf
+        best = np.argmin(d, axis=1)
+        if np.max(d[np.arange(atoms.size), best]) <= tol_A and np.unique(best).size == atoms.size:
+            yield atoms, atoms[best]
+
+
+def group_equivalent_hydrogens(mol: Chem.Mol, coords: np.ndarray, *,
+                               tol_A: float = H_SYMMETRY_TOLERANCE_A) -> tuple[tuple[int, ...], ...]:
+    """Groups of NMR-equivalent protons: the graph symmetry that the 3D geometry realises.
+
+    Two 1H are equivalent when an automorphism of the heavy-atom graph, realised by a rotation or
+    reflection of the reference geometry with every heavy atom within ``tol_A`` (approximate point-group
+    symmetry), carries one onto the other; each H follows its parent atom (the nearest image among the
+    H of the image atom, one-to-one). Fast motions are averaged first: H of a symmetric rotor (CH3,
+    NH3+, C(CH3)3, ...) form one site, O-H/S-H follow their atom, a phenyl on an sp3 carbon may flip.
+    Graph symmetry alone (``Chem.CanonicalRankAtoms(mol, breakTies=False)``) lumps [18]annulene's inner
+    and outer H and diastereotopic CH2 protons; no rotation or reflection of the geometry swaps those.
+    Motions that leave a static minimum of lower symmetry are not averaged (ring inversion, the twist of
+    [2.2]paracyclophane, the tilt of meso-aryl groups in porphyrins): such groups come out split, as in
+    the static structure. Deuterium and tritium are not 1H and are left out.
+
+    Parameters
+    ----------
+    mol : rdkit.Chem.Mol
+        Sanitised explicit-H molecule.
+    coords : numpy.ndarray, shape (n_atoms, 3) or (n_conf, n_atoms, 3)
+        Reference geometry in Å, normally the lowest-energy conformer (first of a stack).
+    tol_A : float
+        Largest atomic displacement (Å) for a symmetry operation to count.
+
+    Returns
+    -------
+    tuple of tuple of int
+        Sorted groups of H atom indices, ordered by first index; empty without hydrogens.
+    """
+    x = np.asarray(coords, dtype=np.float64)
+    x, n = (x[0] if x.ndim == 3 else x), mol.GetNumAtoms()
+    if x.shape != (n, 3):
+        raise InputError(f"expected shape ({n}, 3), got {x.shape}", source="coords")
+    hs = [at.GetIdx() for at in mol.GetAtoms() if at.GetAtomicNum() == 1 and at.GetIsotope() in (0, 1)]
+    if not hs:
+        return ()
+    isotopes = {at.GetIdx(): at.GetIsotope() for at in mol.GetAtoms()}
+    rank = list(Chem.CanonicalRankAtoms(symmetry_graph(mol, range(n), isotopes), breakTies=False, includeChirality=False))
+    anchor, beyond, tags = _rotor_sites(mol, rank)
+    uf = list(range(n))
+
+    def union(a: int, b: int) -> None:
+        roots = []
+        for k in (int(a), int(b)):
+            while uf[k] != k:
+                uf[k] = uf[uf[k]]
+                k = uf[k]
+            roots.append(k)
+        uf[roots[0]] = roots[1]
+
+    for h in hs:
+        if anchor[h] >= 0:
+            union(h, anchor[h])
+    anchors = {int(a) for a in anchor if a >= 0}
+    # rigid H follow their one heavy parent; a bare H (H+, an H with no bond) or an H bonded only to H
+    # (H2) has none and joins the frame, where it is matched like an atom of the skeleton
+    on_heavy = {h for h in hs if [nb.GetAtomicNum() > 1 for nb in mol.GetAtomWithIdx(h).GetNeighbors()] == [True]}
+    rigid = [h for h in hs if anchor[h] < 0 and h in on_heavy]
+    frame = [a for a in range(n) if a not in beyond and (a not in hs or (anchor[a] < 0 and a not in on_heavy))]
+    spread = np.linalg.svd(x[frame] - x[frame].mean(axis=0), compute_uv=False) if len(frame) > 1 else [0.0, 0.0]
+    if len(frame) < 3 or spread[1] < 0.05:        # point or line: the H fix the orientation
+        frame, rigid = frame + rigid, []
+    frame, rigid = np.array(frame, dtype=int), np.array(rigid, dtype=int)
+    slots = np.full((n, 3), -1)                   # rigid H of each heavy atom
+    parents = np.array([mol.GetAtomWithIdx(int(h)).GetNeighbors()[0].GetIdx() for h in rigid], dtype=int)
+    for h, p in zip(rigid, parents):
+        slots[p, int(np.argmax(slots[p] < 0))] = h
+    follow = [k for k, a in enumerate(frame) if int(a) in anchors or mol.GetAtomWithIdx(int(a)).GetAtomicNum() == 1]
+    image = np.arange(n)
+    for perm in automorphisms(symmetry_graph(mol, frame, tags)):
+        p, q = x[frame], x[frame[perm]]
+        image[frame] = frame[perm]
+        for improper in (False, True):
+            if not improper and np.array_equal(perm, np.arange(perm.size)):
+                continue
+            rot, t = _fit(p, q, improper)
+            if np.max(np.linalg.norm(p @ rot.T + t - q, axis=1)) > tol_A:
+                continue
+            if rigid.size:
+                cand = slots[image[parents]]
+                d = np.linalg.norm((x[rigid] @ rot.T + t)[:, None] - x[cand], axis=2)
+                d[cand < 0] = np.inf
+                best = cand[np.arange(rigid.size), np.argmin(d, axis=1)]
+                if np.unique(best).size != best.size:
+                    continue
+                for h, g in zip(rigid, best):
+                    union(h, g)
+            for k in follow:
+                union(frame[k], frame[perm[k]])
+    for atoms, images in _ring_flips(mol, x, rank, anchor, beyond, tol_A):
+        for a, b in zip(atoms, images):
+            if int(a) in anchors or mol.GetAtomWithIdx(int(a)).GetAtomicNum() == 1:
+                union(a, b)
+    groups: dict[int, list[int]] = {}
+    for h in hs:
+        k = h
+        while uf[k] != k:
+            k = uf[k]
+        groups.setdefault(k, []).append(h)
+    return tuple(sorted(tuple(sorted(g)) for g in groups.values()))

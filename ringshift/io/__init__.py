@@ -1,0 +1,1 @@
+"""Reading and writing files: structures, frames, peak tables, JCAMP-DX, libraries."""

@@ -1,0 +1,318 @@
+"""TODO: docstring (batch)."""
+
+from __future__ import annotations
+import dataclasses
+import itertools
+import math
+import re
+import tempfile
+import warnings
+from dataclasses import dataclass
+from pathlib import Path
+from typing import Iterator
+import numpy as np
+from rdkit import Chem, rdBase
+from scipy import constants as _sc
+from ringshift.errors import InputError, RingshiftWarning
+from ringshift.limits import check_coordinates
+from ringshift.io.molecule_files import ENERGY_PROPERTIES
+from ringshift.io.structures import Structure, load_structure
+
+__all__ = ['TrajectoryWarning', 'Frame', 'FrameStream', 'iter_xyz_frames', 'iter_sdf_records', 'parse_energy', 'ENERGY_UNITS']
+
+
+_SDF = (".sdf", ".sd")
+
+_HARTREE_KCAL = _sc.physical_constants["Hartree energy"][0] * _sc.N_A / 4184.0   # CODATA via SciPy
+
+#: Energy unit words (lower case) and their factor to kcal/mol.
+ENERGY_UNITS: dict[str, float] = {"kcal/mol": 1.0, "kcal": 1.0, "kj/mol": 1.0 / 4.184, "kj": 1.0 / 4.184,
+                                  "hartree": _HARTREE_KCAL, "eh": _HARTREE_KCAL, "au": _HARTREE_KCAL,
+                                  "ev": _sc.e * _sc.N_A / 4184.0}   # CODATA via SciPy
+
+_NUM = r"[-+]?(?:\d+\.?\d*|\.\d+)(?:[eEdD][-+]?\d+)?"
+
+_UNIT = r"(kcal/mol|kcal|kj/mol|kj|hartree|eh|au|ev)\b"
+
+_KEYED = re.compile(rf"\b(?:energy|e(?=(?:_\w+)?\s*[=:]|\s+[-+.\d]))(?:_(kcal_mol|kj_mol|hartree|eh|ev))?\s*[=:]?\s*({_NUM})\s*(?:{_UNIT})?",
+                    re.IGNORECASE)
+
+_BARE = re.compile(rf"^\s*({_NUM})\s*(?:{_UNIT})?\s*$", re.IGNORECASE)
+
+_SUFFIX_UNIT = {"kcal_mol": "kcal/mol", "kj_mol": "kj/mol", "hartree": "hartree", "eh": "eh", "ev": "ev"}
+
+_PT = Chem.GetPeriodicTable()
+
+
+class TrajectoryWarning(RingshiftWarning):
+    """A trajectory frame or record was skipped (truncated, unreadable), or weights look odd."""
+
+
+@dataclass(frozen=True)
+class Frame:
+    """One frame: 1-based ``number`` in its file, ``coords`` (n_atoms, 3) Å, energy in kcal/mol or None."""
+
+    number: int
+    coords: np.ndarray
+    energy_kcal_mol: float | None = None
+
+
+def parse_energy(comment: str, default_unit: str = "kcal/mol") -> float | None:
+    """Energy (kcal/mol) in an XYZ comment line, or None. Formats: module docstring."""
+    m = _BARE.match(comment) or _KEYED.search(comment)
+    if m is None:
+        return None
+    groups = m.groups()
+    if m.re is _BARE:
+        number, unit = groups[0], groups[1]
+    else:
+        number, unit = groups[1], groups[2] or (_SUFFIX_UNIT.get(groups[0].lower()) if groups[0] else None)
+    value = float(number.replace("d", "e").replace("D", "e"))
+    return value * ENERGY_UNITS[(unit or default_unit).lower()]
+
+
+class FrameStream:
+    """Iterator over the frames of one file; ``skipped`` lists (number, reason) of skipped frames and
+    ``n_seen`` counts every frame met so far (used or skipped). Made by :func:`iter_xyz_frames` /
+    :func:`iter_sdf_records`; iterate once."""
+
+    def __init__(self, path: Path, kind: str, gen_factory, first_text_fn, strict: bool):
+        self.path, self.kind, self.strict = path, kind, strict
+        self.skipped: list[tuple[int, str]] = []
+        self.n_seen = 0
+        self._gen = gen_factory(self)
+        self._first_text = first_text_fn
+
+    def __iter__(self) -> Iterator[Frame]:
+        return self
+
+    def __next__(self) -> Frame:
+        try:
+            return next(self._gen)
+        except UnicodeDecodeError as exc:
+            raise InputError(f"is not UTF-8 text (byte {exc.start}); expected a text XYZ/SD file",
+                             source=str(self.path)) from None
+
+    def _skip(self, number: int, reason: str, where: str) -> None:
+        if self.strict:
+            raise InputError(reason, source=where)
+        self.skipped.append((number, reason))
+        warnings.warn(TrajectoryWarning(f"{where}: {reason}; skipped, the other frames are used"), stacklevel=3)
+
+    def template(self, *, charge: int | None = None) -> Structure:
+        """The first frame as a one-conformer :class:`Structure` (bonds perceived by
+        :func:`ringshift.io.structures.load_structure`), named after the file."""
+        try:
+            text = self._first_text()
+        except UnicodeDecodeError as exc:
+            raise InputError(f"is not UTF-8 text (byte {exc.start}); expected a text XYZ/SD file",
+                             source=str(self.path)) from None
+        suffix = ".xyz" if self.kind == "xyz" else ".sdf"
+        with tempfile.TemporaryDirectory() as tmp:
+            p = Path(tmp) / f"{self.path.stem}{suffix}"
+            p.write_text(text, encoding="utf-8")
+            try:
+                s = load_structure(str(p), charge=charge)
+            except InputError as exc:
+                raise InputError(str(exc).replace(str(p), str(self.path))) from None
+        if s.provenance.get("hydrogens_added"):
+            raise InputError("the first record lacks explicit hydrogens; trajectory records must carry every "
+                             "atom (write them with all H)", source=str(self.path))
+        return dataclasses.replace(s, source=str(self.path), provenance=dict(s.provenance, trajectory=str(self.path)))
+
+
+def _open(path) -> Path:
+    path = Path(path)
+    if not path.is_file():
+        raise InputError("file not found", source=str(path))
+    return path
+
+
+def iter_xyz_frames(path, *, energy_unit: str = "kcal/mol", strict: bool = False) -> FrameStream:
+    """Stream the frames of a (multi-frame) XYZ file.
+
+    Parameters
+    ----------
+    path : str or os.PathLike
+    energy_unit : str
+        Unit of comment-line energies that name none (:data:`ENERGY_UNITS`).
+    strict : bool
+        Raise instead of skipping a truncated final frame.
+
+    Returns
+    -------
+    FrameStream
+        Yields :class:`Frame` with coords (n_atoms, 3) float64 Å; damaged-file rule in the module notes.
+    """
+    path = _open(path)
+    if str(energy_unit).lower() not in ENERGY_UNITS:
+        raise InputError(f"unknown energy unit {energy_unit!r}; expected one of {', '.join(ENERGY_UNITS)}",
+                         source="energy_unit")
+
+    def first_text():
+        with path.open(encoding="utf-8") as fh:
+            head = fh.readline()
+            parts = head.split()
+            if not parts:
+                raise InputError("file is empty or starts with a blank line; expected an atom count",
+                                 source=f"{path}:1")
+            if len(parts) != 1 or not re.fullmatch(r"[0-9]+", parts[0]):
+                raise InputError(f"expected the atom count of frame 1 (one positive integer), got "
+                                 f"{head.strip()[:40]!r}", source=f"{path}:1")
+            return head + "".join(itertools.islice(fh, int(parts[0]) + 1))
+
+    def gen(stream: FrameStream):
+        ref_tokens = ref_symbols = None
+        line_no = 0
+        with path.open(encoding="utf-8") as fh:
+            while head := fh.readline():
+                line_no += 1
+                if not head.strip():
+                    continue
+                number, start = stream.n_seen + 1, line_no
+                stream.n_seen = number
+                parts = head.split()
+                if len(parts) != 1 or not re.fullmatch(r"[0-9]+", parts[0]) or int(parts[0]) < 1:
+                    raise InputError(f"expected the atom count of frame {number} (one positive integer), got "
+                                     f"{head.strip()[:40]!r}", source=f"{path}:{line_no}")
+                n = int(parts[0])
+                if ref_symbols is not None and n != len(ref_symbols):
+                    raise InputError(f"frame {number} has {n} atoms, frame 1 has {len(ref_symbols)}; every frame "
+                                     f"needs the same atoms in the same order", source=f"{path}:{line_no}")
+                comment = fh.readline()
+                lines = [ln for ln in (fh.readline() for _ in range(n)) if ln]
+                line_no += 1 + len(lines)
+                rows = [ln.split() for ln in lines]
+                if not comment or len(lines) < n or (len(rows[-1]) < 4 and _at_eof(fh)):
+                    stream._skip(number, f"frame {number} is truncated (announces {n} atoms, the file ends after "
+                                 f"{len(lines) - (1 if rows and len(rows[-1]) < 4 else 0)} complete atom lines)", f"{path}:{start}")
+                    return
+                tokens = [r[0] for r in rows]
+                try:
+                    xyz = np.array([r[1:4] for r in rows], dtype=np.float64)
+                    if xyz.shape != (n, 3):
+                        raise ValueError
+                except ValueError:
+                    bad = next(k for k, r in enumerate(rows) if len(r) < 4 or not _floats(r[1:4]))
+                    raise InputError(f"expected 'element x y z' (atom {bad + 1} of {n}, frame {number}), got "
+                                     f"{lines[bad].strip()[:40]!r}", source=f"{path}:{start + 2 + bad}") from None
+                if not np.all(np.isfinite(xyz)):
+                    raise InputError(f"non-finite coordinate in frame {number}", source=f"{path}:{start}")
+                if ref_tokens is None:
+                    ref_tokens, ref_symbols = tokens, [_symbol(t, f"{path}:{start + 2 + k}") for k, t in enumerate(tokens)]
+                elif tokens != ref_tokens and [_symbol(t, str(path)) for t in tokens] != ref_symbols:
+                    k = next(k for k, (a, b) in enumerate(zip(tokens, ref_tokens)) if _symbol(a, str(path)) != _symbol(b, str(path)))
+                    raise InputError(f"frame {number} does not list the atoms of frame 1 in the same order (atom "
+                                     f"{k + 1} is {tokens[k]}, frame 1 has {ref_tokens[k]})", source=f"{path}:{start + 2 + k}")
+                check_coordinates(xyz[None], ref_symbols, f"{path}:{start} (frame {number})")
+                yield Frame(number, xyz, parse_energy(comment.strip(), energy_unit))
+
+    return FrameStream(path, "xyz", gen, first_text, strict)
+
+
+def _at_eof(fh) -> bool:
+    pos = fh.tell()
+    if fh.readline() == "":
+        return True
+    fh.seek(pos)
+    return False
+
+
+def _floats(items) -> bool:
+    try:
+        [float(v) for v in items]
+        return True
+    except ValueError:
+        return False
+
+
+def _symbol(token: str, where: str) -> str:
+    if re.fullmatch(r"[0-9]+", token):
+        z = int(token)
+        if 1 <= z <= 118:
+            return _PT.GetElementSymbol(z)
+    sym = token.capitalize()
+    try:
+        if _PT.GetAtomicNumber(sym) > 0:
+            return sym
+    except RuntimeError:
+        pass
+    raise InputError(f"unknown element {token!r}", source=where)
+
+
+def _sd_records(path: Path) -> Iterator[tuple[int, int, str, bool]]:
+    """(record number, first line, text, complete) of each SD record, read line by line."""
+    with path.open(encoding="utf-8") as fh:
+        buf, start, number, line_no = [], 1, 0, 0
+        for line in fh:
+            line_no += 1
+            if line.rstrip("\r\n").strip() == "$$$$":
+                number += 1
+                yield number, start, "".join(buf), True
+                buf, start = [], line_no + 1
+            else:
+                buf.append(line)
+        if "".join(buf).strip():
+            yield number + 1, start, "".join(buf), False
+
+
+def _sd_energy(mol: Chem.Mol) -> float | None:
+    names = {p.lower(): p for p in mol.GetPropNames()}
+    for key, factor in ENERGY_PROPERTIES:
+        if key in names:
+            try:
+                value = float(mol.GetProp(names[key])) * factor
+            except ValueError:
+                return None
+            return value if math.isfinite(value) else None
+    return None
+
+
+def iter_sdf_records(path, *, strict: bool = False) -> FrameStream:
+    """Stream the records of a multi-record SD file as frames.
+
+    Records must carry every atom (hydrogens included) in the order of record 1. A record RDKit cannot
+    parse (or a final record without ``$$$$`` that does not parse) is skipped with a
+    :class:`TrajectoryWarning` (an error with ``strict``). Energies from the SD fields of
+    :data:`ringshift.io.molecule_files.ENERGY_PROPERTIES`, converted to kcal/mol.
+
+    Returns
+    -------
+    FrameStream
+        Yields :class:`Frame` with coords (n_atoms, 3) float64 Å.
+    """
+    path = _open(path)
+
+    def first_text():
+        for _, _, text, _ in _sd_records(path):
+            return text + "$$$$\n"
+        raise InputError("no SD record found", source=str(path))
+
+    def gen(stream: FrameStream):
+        ref = None
+        for number, start, text, complete in _sd_records(path):
+            stream.n_seen = number
+            where = f"{path}:{start}"
+            with rdBase.BlockLogs():
+                mol = Chem.MolFromMolBlock(text, sanitize=False, removeHs=False, strictParsing=True)
+            if mol is None or mol.GetNumAtoms() == 0 or mol.GetNumConformers() == 0:
+                stream._skip(number, f"record {number} is not a readable MOL block"
+                             + ("" if complete else " (the file ends inside it)"), where)
+                continue
+            for prop in re.finditer(r"^>\s*.*?<([^>]+)>.*\n(.*)$", text.split("M  END", 1)[-1], re.MULTILINE):
+                mol.SetProp(prop.group(1), prop.group(2).strip())
+            elems = [a.GetAtomicNum() for a in mol.GetAtoms()]
+            if ref is None:
+                ref = elems
+            elif elems != ref:
+                what = (f"has {len(elems)} atoms, record 1 has {len(ref)}" if len(elems) != len(ref) else
+                        "does not list the atoms of record 1 in the same order")
+                raise InputError(f"record {number} {what}; every record needs the same atoms in the same order",
+                                 source=where)
+            xyz = np.ascontiguousarray(mol.GetConformer().GetPositions(), dtype=np.float64)
+            if not np.all(np.isfinite(xyz)):
+                raise InputError(f"non-finite coordinate in record {number}", source=where)
+            check_coordinates(xyz[None], [a.GetSymbol() for a in mol.GetAtoms()], f"{where} (record {number})")
+            yield Frame(number, xyz, _sd_energy(mol))
+
+    return FrameStream(path, "sdf", gen, first_text, strict)

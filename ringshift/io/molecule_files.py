@@ -1,0 +1,334 @@
+"""TODO: docstring (structure)."""
+
+from __future__ import annotations
+import re
+import warnings
+from pathlib import Path
+import numpy as np
+from rdkit import Chem, rdBase
+from rdkit.Chem import rdDetermineBonds
+from scipy import constants as _sc
+from ringshift import limits as _limits
+from ringshift.errors import GeometryWarning, InputError
+
+__all__ = ['read_mol_records', 'ENERGY_PROPERTIES']
+
+
+_KEKULE_OPS = Chem.SanitizeFlags.SANITIZE_ALL ^ Chem.SanitizeFlags.SANITIZE_SETAROMATICITY
+
+_SUFFIXES = {".mol": "mol", ".sdf": "sdf", ".sd": "sdf", ".xyz": "xyz"}
+
+_FORMATS = {"smiles": "smiles", "smi": "smiles", "mol": "mol", "sdf": "sdf", "sd": "sdf", "xyz": "xyz"}
+
+_ELEMENTS = {Chem.GetPeriodicTable().GetElementSymbol(z): z for z in range(1, 119)}
+
+_KCAL_PER_KJ = 1.0 / 4.184                                                    # thermochemical calorie
+
+_KCAL_PER_HARTREE = _sc.physical_constants["Hartree energy"][0] * _sc.N_A / 4184.0    # CODATA via SciPy
+
+#: SD data fields read as conformer energies (case-insensitive, first match wins) and their factor to
+#: kcal/mol. Only differences matter: energies are made relative to the lowest record.
+ENERGY_PROPERTIES: tuple[tuple[str, float], ...] = (
+    ("energy_kcal_mol", 1.0), ("e_kcal_mol", 1.0), ("rel_energy_kcal_mol", 1.0), ("relative_energy_kcal_mol", 1.0),
+    ("mmff94_energy", 1.0), ("energy", 1.0), ("relative_energy", 1.0), ("e_rel", 1.0),
+    ("energy_kj_mol", _KCAL_PER_KJ), ("e_kj_mol", _KCAL_PER_KJ),
+    ("energy_hartree", _KCAL_PER_HARTREE), ("e_hartree", _KCAL_PER_HARTREE), ("energy_eh", _KCAL_PER_HARTREE))
+
+
+def _coordinate_kind(mol: Chem.Mol) -> str:
+    """'none' (no or all-zero coordinates), '2d' or '3d'. A file flagged 3D with all z = 0 counts as 3D
+    (a planar molecule) only if it has X-H bonds, all 0.85-1.25 Å long, which a 2D drawing lacks."""
+    if mol.GetNumConformers() == 0 or not np.any(x := mol.GetConformer().GetPositions()):
+        return "none"
+    if not np.all(np.isfinite(x)):
+        raise InputError("non-finite atom coordinates")
+    if not mol.GetConformer().Is3D():
+        return "2d"
+    if np.ptp(x[:, 2]) > 1e-4:
+        return "3d"
+    xh = [np.linalg.norm(x[b.GetBeginAtomIdx()] - x[b.GetEndAtomIdx()]) for b in mol.GetBonds()
+          if 1 in (b.GetBeginAtom().GetAtomicNum(), b.GetEndAtom().GetAtomicNum())]
+    return "3d" if xh and all(0.85 <= v <= 1.25 for v in xh) else "2d"
+
+
+def _sanitize_kekule(mol: Chem.Mol, source: str) -> None:
+    """Sanitise in place without aromaticity perception (Kekulé bonds, E/Z kept)."""
+    try:
+        with rdBase.BlockLogs():
+            Chem.SanitizeMol(mol, _KEKULE_OPS)
+            Chem.Kekulize(mol, clearAromaticFlags=True)
+    except Exception as exc:            # RDKit raises several MolSanitizeException subclasses
+        raise InputError(f"RDKit cannot sanitise the molecule ({' '.join(str(exc).split())})",
+                         source=source) from None
+
+# --------------------------------------------------------------------------------------- readers
+def _read_text(path: Path, what: str) -> str:
+    """UTF-8 text of a structure file (BOM stripped), within the limits of :mod:`ringshift.limits`."""
+    text = _limits.read_text(path, what)
+    if not text.strip():
+        raise InputError(f"file is empty; expected {what}", source=str(path))
+    return text
+
+
+def read_mol_records(path) -> list[Chem.Mol]:
+    """Read every record of a MOL or SD file with its explicit hydrogens.
+
+    Records are sanitised without aromaticity perception (Kekulé bonds) and get stereo from their
+    coordinates (3D geometry; or 2D wedges and drawn double bonds). SD data fields are kept as
+    properties; no hydrogens are added.
+
+    Parameters
+    ----------
+    path : str or os.PathLike
+        A .mol, .sdf or .sd file.
+
+    Returns
+    -------
+    list of rdkit.Chem.Mol
+        One molecule per record, in file order.
+    """
+    path = Path(path)
+    text = _read_text(path, "a MOL or SD file")
+    lines = text.splitlines()
+    starts = [1] + [k + 2 for k, line in enumerate(lines) if line.strip() == "$$$$"]
+    last = next((line.strip() for line in reversed(lines) if line.strip()), "")
+    _limits.check_count(len(starts) - (last == "$$$$"), _limits.MAX_RECORDS, "SD records", str(path))
+    supplier = Chem.SDMolSupplier()
+    supplier.SetData(text, sanitize=False, removeHs=False, strictParsing=True)
+    with rdBase.BlockLogs():
+        mols = list(supplier)
+    records = []
+    for k, mol in enumerate(mols):
+        where = f"{path}:{starts[min(k, len(starts) - 1)]}"
+        if mol is None and not supplier.GetItemText(k).strip():
+            continue
+        if mol is None or mol.GetNumAtoms() == 0:
+            raise InputError(f"record {k + 1} is not a readable MOL block with atoms", source=where)
+        _limits.check_count(mol.GetNumAtoms(), _limits.MAX_ATOMS, f"atoms in record {k + 1}", where)
+        _sanitize_kekule(mol, where)
+        try:
+            kind = _coordinate_kind(mol)
+        except InputError as exc:
+            raise InputError(exc.bare_message, source=where) from None
+        if kind == "3d":
+            _limits.check_coordinates(mol.GetConformer().GetPositions()[None],
+                                      [a.GetSymbol() for a in mol.GetAtoms()], f"{where} (record {k + 1})")
+            Chem.AssignStereochemistryFrom3D(mol)
+        elif kind == "2d":
+            Chem.AssignChiralTypesFromBondDirs(mol)
+            Chem.DetectBondStereochemistry(mol)
+            Chem.AssignStereochemistry(mol, cleanIt=True, force=True)
+        records.append(mol)
+    if not records:
+        raise InputError("no molecule record found (expected a MOL block or SD records)", source=str(path))
+    return records
+
+
+def _read_xyz(path: Path) -> tuple[list[str], np.ndarray]:
+    """Element symbols and (n_frames, n_atoms, 3) coordinates (Å) of a one- or multi-frame XYZ file."""
+    lines = _read_text(path, "an XYZ file").splitlines()
+    frames, symbols, k = [], None, 0
+    while k < len(lines):
+        if not lines[k].strip():
+            k += 1
+            continue
+        head, frame = lines[k].split(), len(frames) + 1
+        if len(head) != 1 or not re.fullmatch(r"[0-9]{1,12}", head[0]) or int(head[0]) < 1:
+            hint = "; is the previous frame's count right?" if frame > 1 else ""
+            raise InputError(f"expected the atom count of frame {frame} (one positive integer), got "
+                             f"{lines[k].strip()[:40]!r}{hint}", source=f"{path}:{k + 1}")
+        n = int(head[0])
+        _limits.check_count(n, _limits.MAX_ATOMS, f"atoms in frame {frame}", f"{path}:{k + 1}")
+        _limits.check_count(frame, _limits.MAX_RECORDS, "XYZ frames", f"{path}:{k + 1}")
+        if k + 2 + n > len(lines):
+            raise InputError(f"frame {frame} announces {n} atoms but the file ends after {len(lines) - k - 2} "
+                             f"atom lines", source=f"{path}:{k + 1}")
+        syms, xyz = [], np.empty((n, 3))
+        for m in range(n):
+            parts, where = lines[k + 2 + m].split(), f"{path}:{k + 3 + m}"
+            sym = parts[0].capitalize() if parts else ""
+            try:
+                if len(parts) < 4 or sym not in _ELEMENTS:
+                    raise ValueError
+                xyz[m] = [float(v) for v in parts[1:4]]
+            except ValueError:
+                raise InputError(f"expected 'element x y z' (atom {m + 1} of {n}, frame {frame}), got "
+                                 f"{lines[k + 2 + m].strip()[:40]!r}", source=where) from None
+            if not np.all(np.isfinite(xyz[m])):
+                raise InputError("non-finite coordinate", source=where)
+            syms.append(sym)
+        if symbols is not None and syms != symbols:
+            raise InputError(f"frame {frame} does not list the atoms of frame 1 in the same order",
+                             source=f"{path}:{k + 1}")
+        symbols = syms
+        frames.append(xyz)
+        k += 2 + n
+    stack = np.stack(frames)
+    _limits.check_coordinates(stack, symbols, str(path))
+    return symbols, stack
+
+
+def _bonds_from_xyz(symbols: list[str], xyz: np.ndarray, charge: int) -> Chem.Mol:
+    """RDKit bond perception (design notes §7); raises RDKit's exception when the charge does not fit."""
+    rw = Chem.RWMol()
+    for sym in symbols:
+        rw.AddAtom(Chem.Atom(sym))
+    conf = Chem.Conformer(len(symbols))
+    conf.SetPositions(xyz)
+    conf.Set3D(True)
+    rw.AddConformer(conf, assignId=True)
+    mol = rw.GetMol()
+    with rdBase.BlockLogs():
+        rdDetermineBonds.DetermineBonds(mol, charge=int(charge))
+    return mol
+
+
+def _mol_from_xyz(path: Path, charge: int | None) -> tuple[Chem.Mol, np.ndarray]:
+    """Molecule and frames of an XYZ file; ``charge`` None means "not given" (tried as 0)."""
+    symbols, frames = _read_xyz(path)
+    q = 0 if charge is None else int(charge)
+    try:
+        mol = _bonds_from_xyz(symbols, frames[0], q)
+    except Exception as exc:             # RDKit raises ValueError/RuntimeError on a charge that does not fit
+        why = " ".join(str(exc).split())
+        fits = []
+        if len(symbols) <= 300:          # a few more perceptions (about 1 ms each for 20-50 atoms)
+            for trial in (0, 1, -1, 2, -2, 3, -3):
+                if trial != q and not fits:
+                    try:
+                        _bonds_from_xyz(symbols, frames[0], trial)
+                        fits.append(trial)
+                    except Exception:   # noqa: BLE001 - any failure just means "does not fit"
+                        pass
+        hint = f"; net charge {fits[0]} fits the geometry" if fits else ""
+        no_h = "; the file has no hydrogen atoms (XYZ input needs every atom)" if "H" not in symbols else ""
+        if charge is None:
+            msg = (f"cannot assign bonds for a neutral molecule ({why}){hint}{no_h}; if this is an ion, give "
+                   "its charge with --charge")
+        else:
+            msg = (f"the given charge {q} does not fit the geometry: RDKit cannot assign bonds with it ({why})"
+                   f"{hint}{no_h}; check --charge and that no atom is missing")
+        raise InputError(msg, source=str(path)) from None
+    if "H" not in symbols and "C" in symbols:
+        warnings.warn(GeometryWarning(f"{path}: no hydrogen atoms; an XYZ file must list every atom, so the bonds "
+                                      "were perceived for a hydrogen-free molecule (add the hydrogens)"), stacklevel=3)
+    _sanitize_kekule(mol, str(path))
+    Chem.AssignStereochemistryFrom3D(mol)
+    return mol, frames
+
+
+def _short(text: str, n: int = 60) -> str:
+    """``text`` cut to ``n`` characters for messages."""
+    return text if len(text) <= n else text[: n - 3] + "..."
+
+
+def _mol_from_smiles(smiles: str) -> tuple[Chem.Mol, str]:
+    if len(smiles) > _limits.MAX_SMILES_CHARS:
+        raise InputError(f"SMILES of {len(smiles)} characters exceeds the limit of {_limits.MAX_SMILES_CHARS}; "
+                         "give large molecules as a MOL/SDF or XYZ file", source=_short(smiles))
+    params = Chem.SmilesParserParams()
+    params.sanitize, params.removeHs = False, False
+    with rdBase.BlockLogs():
+        mol = Chem.MolFromSmiles(smiles, params)
+    if mol is None or mol.GetNumAtoms() == 0:
+        try:
+            what = "folder" if Path(smiles).is_dir() else "file" if Path(smiles).is_file() else None
+        except (OSError, ValueError):
+            what = None
+        if what:
+            raise InputError(f"is a {what}, not a readable SMILES; expected a .mol, .sdf, .sd or .xyz file "
+                             "(name the file with its extension)", source=smiles)
+        raise InputError("not a readable SMILES, nor a path to a .mol, .sdf, .sd or .xyz file",
+                         source=_short(smiles))
+    name = mol.GetProp("_Name").strip() if mol.HasProp("_Name") and mol.GetProp("_Name").strip() else smiles
+    _sanitize_kekule(mol, _short(smiles))
+    Chem.AssignStereochemistry(mol, cleanIt=True, force=True)
+    mol = Chem.AddHs(mol)
+    heavy_first = sorted(range(mol.GetNumAtoms()), key=lambda k: (mol.GetAtomWithIdx(k).GetAtomicNum() == 1, k))
+    return Chem.RenumberAtoms(mol, heavy_first), name
+
+
+def _record_energies(records: list[Chem.Mol], source: str) -> tuple[np.ndarray | None, str | None]:
+    names = {p.lower(): p for p in records[0].GetPropNames()}
+    for key, factor in ENERGY_PROPERTIES:
+        if key in names:
+            try:
+                e = np.array([float(rec.GetProp(names[key])) * factor for rec in records])
+            except (KeyError, ValueError):
+                raise InputError(f"every record needs a numeric '{names[key]}' field (record 1 has one)",
+                                 source=source) from None
+            if not np.all(np.isfinite(e)):
+                raise InputError(f"non-finite '{names[key]}' value", source=source)
+            return e - e.min(), names[key]
+    return None, None
+
+
+def _mol_from_molfile(path: Path) -> tuple[Chem.Mol, np.ndarray | None, np.ndarray | None, str, dict]:
+    records = read_mol_records(path)
+    kinds = {_coordinate_kind(rec) == "3d" for rec in records}
+    if len(kinds) > 1:
+        raise InputError("mixes 2D and 3D records; give one kind", source=str(path))
+    first = records[0]
+
+    def signature(m):
+        return [a.GetAtomicNum() for a in m.GetAtoms()], {tuple(sorted((b.GetBeginAtomIdx(), b.GetEndAtomIdx())))
+                                                           for b in m.GetBonds()}
+
+    for k, rec in enumerate(records[1:], start=2):
+        if signature(rec) != signature(first):
+            smiles = {Chem.MolToSmiles(Chem.RemoveAllHs(m, sanitize=False), isomericSmiles=False) for m in (rec, first)}
+            what = "lists the atoms of record 1 in another order" if len(smiles) == 1 else "is another molecule"
+            raise InputError(f"record {k} {what}; an ensemble needs one molecule in one atom order (load "
+                             f"different molecules one at a time, e.g. with the batch command)", source=str(path))
+    name = first.GetProp("_Name").strip() if first.HasProp("_Name") and first.GetProp("_Name").strip() else path.stem
+    if kinds == {False}:                     # 2D or no coordinates: embed the first record
+        mol = Chem.AddHs(first)
+        mol.RemoveAllConformers()
+        return mol, None, None, name, {"records": len(records),
+                                       "hydrogens_added": mol.GetNumAtoms() - first.GetNumAtoms()}
+    for rec in records:
+        _check_chemistry(rec, str(path))
+    with_h = [Chem.AddHs(rec, addCoords=True) for rec in records]
+    for k, m in enumerate(with_h[1:], start=2):
+        if m.GetNumAtoms() != with_h[0].GetNumAtoms():
+            raise InputError(f"record {k} has {m.GetNumAtoms()} atoms with hydrogens added, record 1 "
+                             f"{with_h[0].GetNumAtoms()}: the records differ in charges, valences or bond orders",
+                             source=str(path))
+    energies, prop = _record_energies(records, str(path))
+    mol = Chem.Mol(with_h[0])
+    mol.RemoveAllConformers()
+    info = {"records": len(records), "hydrogens_added": mol.GetNumAtoms() - first.GetNumAtoms(),
+            "energy_property": prop}
+    return mol, np.stack([m.GetConformer().GetPositions() for m in with_h]), energies, name, info
+
+# --------------------------------------------------------------------------------------- entry point
+def _detect_format(spec: str, fmt: str | None) -> str:
+    if fmt is not None:
+        if str(fmt).lower().lstrip(".") not in _FORMATS:
+            raise InputError(f"unknown format {fmt!r}; expected smiles, mol, sdf or xyz", source="fmt")
+        return _FORMATS[str(fmt).lower().lstrip(".")]
+    suffix = Path(spec).suffix.lower() if len(spec) < 4096 else ""
+    if suffix in _SUFFIXES:
+        return _SUFFIXES[suffix]
+    try:
+        is_file = bool(suffix) and Path(spec).is_file()
+    except OSError:
+        is_file = False
+    if is_file:
+        raise InputError(f"unknown file format {suffix!r}; expected .mol, .sdf, .sd or .xyz (or pass fmt)",
+                         source=spec)
+    return "smiles"
+
+
+def _check_chemistry(mol: Chem.Mol, source: str) -> None:
+    """Refuse what is not a complete molecule: dummy or query atoms (``*``, R groups, atom lists) and bonds
+    without a chemical order (MOL bond order 0 or 'any'); these would reach the force field or Hückel step."""
+    dummy = [a.GetIdx() for a in mol.GetAtoms() if a.GetAtomicNum() == 0]
+    if dummy:
+        raise InputError(f"atom {dummy[0]} (0-based) is a dummy or query atom ('*', R group or atom list); "
+                         "expected a complete molecule", source=source)
+    for b in mol.GetBonds():
+        if b.HasQuery() or b.GetBondType() in (Chem.BondType.UNSPECIFIED, Chem.BondType.OTHER):
+            raise InputError(f"bond {b.GetBeginAtomIdx()}-{b.GetEndAtomIdx()} (0-based) has no chemical bond order "
+                             "(order 0 or a query bond); expected single, double, triple or aromatic bonds",
+                             source=source)

@@ -1,0 +1,37 @@
+"""TODO: docstring (output)."""
+
+from __future__ import annotations
+import os
+import tempfile
+from pathlib import Path
+from ringshift.errors import OutputError
+
+
+
+def atomic_write(path: str | os.PathLike, data: str | bytes, *, force: bool = False) -> Path:
+    """Write a file via a temporary file in the same folder and a rename.
+
+    An interrupted or failed write leaves no partial file; an existing file is kept unless ``force``.
+    """
+    path = Path(path)
+    if path.exists() and not force:
+        raise OutputError(f"{path}: already exists; use --force to overwrite it")
+    folder = path.parent if str(path.parent) else Path(".")
+    if not folder.is_dir():
+        raise OutputError(f"{path}: folder {folder} does not exist")
+    mode = "wb" if isinstance(data, bytes) else "w"
+    try:
+        fd, tmp = tempfile.mkstemp(prefix=f".{path.name}.", suffix=".tmp", dir=folder)
+    except OSError as exc:
+        raise OutputError(f"{path}: cannot write in {folder} ({exc.strerror})") from None
+    try:
+        with os.fdopen(fd, mode, **({} if mode == "wb" else {"encoding": "utf-8", "newline": ""})) as fh:
+            fh.write(data)
+        os.replace(tmp, path)
+    except BaseException:
+        try:
+            os.unlink(tmp)
+        except OSError:
+            pass
+        raise
+    return path

@@ -1,0 +1,1 @@
+"""The π system: perception, Hückel and Hückel–London currents, the π summary."""

@@ -1,0 +1,292 @@
+"""TODO: docstring (pisystem, huckel)."""
+
+from __future__ import annotations
+from dataclasses import dataclass
+from typing import Sequence
+import numpy as np
+from ringshift.pi.parameters import BETA0_EV, BETA_REF_LENGTH_A, HETERO_PARAMETERS
+from ringshift.pi.huckel import SCF_RELATIONS, beta_distance_factor, density_matrix, huckel_matrix, scf_cc_lengths
+from ringshift.geometry import planes as pg
+from ringshift.constants import BENZENE_CURRENT_NA_PER_T
+from ringshift.errors import InputError
+from ringshift.pi.parameters import PI_CHARGE_PPM_PER_E
+from functools import lru_cache
+from scipy import constants as _sc
+from ringshift.pi.parameters import DEGENERACY_TOL
+from ringshift.pi.huckel import HuckelResult, _check_model, huckel, occupy
+from ringshift.pi.perception import PiSystem, _PLANAR_TOL_A, _check_circuit, _check_coords, _check_mol, _frozen
+
+__all__ = ['LondonCurrents', 'london_currents', 'circuit_normals', 'london_bond_response', 'kirchhoff_decomposition', 'regular_polygon', 'benzene_reference_response', 'absolute_current_nA_per_T', 'pi_charge_shift_ppm']
+
+
+@dataclass(frozen=True, eq=False)
+class LondonCurrents:
+    """Hückel–London currents. Numbers are None when ``status`` is not "ok" (no NaN anywhere).
+
+    field_dirs (3, 3): rows x, y, z. bond_currents_rel (3, n_bonds): conventional current from i to j
+    of bond (i, j), i < j, for a unit field along each row of field_dirs, in units of the benzene ring
+    current (same model; benzene's clockwise-about-B circulation has magnitude 1), i.e. the sense of
+    :func:`ringshift.fields.network.network_shielding`. bond_currents_nA_per_T = rel × 12 nA/T.
+    circuits: the circuits, reordered counter-clockwise about ``normals`` (n_circuits, 3).
+    circuit_response_rel (n_circuits, 3): circuit currents for unit fields along x, y, z (Kirchhoff
+    decomposition); circuit_currents_rel (n_circuits,): response to a field along the circuit's own
+    normal, J/J_benzene, positive = diatropic. circuit_currents_nA_per_T = rel × 12 nA/T.
+    circuit_currents_abs_nA_per_T: rel × the benzene current computed from β0 (``benzene_abs_nA_per_T``).
+    kirchhoff_residual: relative least-squares residual (≈1e-15 for a cycle basis);
+    conservation_residual: largest net current at an atom relative to the largest bond current.
+    circuit_max_deviation_A: largest deviation of each circuit from its fitted plane.
+    """
+
+    status: str
+    open_shell: bool
+    field_dirs: np.ndarray
+    circuits: tuple[tuple[int, ...], ...]
+    normals: np.ndarray
+    circuit_max_deviation_A: np.ndarray
+    bond_currents_rel: np.ndarray | None
+    bond_currents_nA_per_T: np.ndarray | None
+    circuit_response_rel: np.ndarray | None
+    circuit_currents_rel: np.ndarray | None
+    circuit_currents_nA_per_T: np.ndarray | None
+    circuit_currents_abs_nA_per_T: np.ndarray | None
+    benzene_abs_nA_per_T: float
+    kirchhoff_residual: float | None
+    conservation_residual: float | None
+    beta_model: str
+    beta0_eV: float
+    huckel: HuckelResult
+    warnings: tuple[str, ...] = ()
+
+# ---------------------------------------------------------------------------------------------------
+# London currents
+# ---------------------------------------------------------------------------------------------------
+def circuit_normals(coords, circuits) -> np.ndarray:
+    """Unit circuit normals (n_circuits, 3) from SVD plane fits, consistently oriented
+    (:func:`ringshift.geometry.planes.circuit_normals`)."""
+    return pg.circuit_normals(np.asarray(coords, dtype=np.float64), [list(c) for c in circuits])
+
+
+def london_currents(pi: PiSystem, mol, coords, circuits: Sequence[Sequence[int]], normals=None, *,
+                    beta_model: str = "distance", distortion: float | None = None,
+                    beta0_eV: float = BETA0_EV) -> LondonCurrents:
+    """Hückel–London bond and circuit currents (analytic first-order response, any orientation).
+
+    Parameters
+    ----------
+    pi, mol : as for :func:`huckel`
+    coords : (n_atoms, 3) array_like, Å
+    circuits : sequence of ordered cycles of π atoms (e.g. the faces of the π graph: a cycle basis)
+    normals : (n_circuits, 3) array_like, optional; default :func:`circuit_normals`
+    beta_model, distortion : as for :func:`huckel`
+    beta0_eV : float, keyword-only; β0 in eV for the absolute current (default ``huckel.BETA0_EV``)
+
+    Returns
+    -------
+    LondonCurrents
+        Ring currents relative to benzene (same model, regular hexagon of 1.397 Å), positive =
+        diatropic; None with an explanatory ``status`` when there is no number to give (no π system,
+        open shell with degenerate partly filled HOMO).
+    """
+    _check_mol(mol)
+    _check_model(beta_model, pi)
+    xyz = _check_coords(mol, coords, required=True)
+    if isinstance(beta0_eV, bool) or not isinstance(beta0_eV, (int, float)) or not np.isfinite(beta0_eV) or beta0_eV == 0:
+        raise InputError(f"beta0_eV: expected a finite non-zero resonance integral in eV (e.g. -3.0), got {beta0_eV!r}")
+    if isinstance(circuits, (str, bytes)) or not hasattr(circuits, "__iter__"):
+        raise InputError("circuits: expected a sequence of atom-index cycles")
+    cyc = [_check_circuit(pi, c, f"circuits[{n}]", closed=True) for n, c in enumerate(circuits)]
+    if normals is None:
+        nrm = circuit_normals(xyz, cyc)
+    else:
+        nrm = np.asarray(normals, dtype=np.float64)
+        if nrm.shape != (len(cyc), 3) or not np.all(np.isfinite(nrm)) or np.any(np.linalg.norm(nrm, axis=1) < 1e-12):
+            raise InputError(f"normals: expected ({len(cyc)}, 3) finite non-zero vectors, got shape {nrm.shape}")
+        nrm = nrm / np.linalg.norm(nrm, axis=1)[:, None]
+    oriented, inc, devs = pg.circuit_incidence(xyz, cyc, pi.bonds, nrm)
+    hr = huckel(pi, mol, xyz, beta_model=beta_model, distortion=distortion)
+    g_bz = benzene_reference_response(beta_model)
+    bz_abs = float(absolute_current_nA_per_T(g_bz, beta0_eV))
+    base = dict(field_dirs=_frozen(np.eye(3)), circuits=tuple(oriented), normals=_frozen(nrm.reshape(-1, 3)),
+                circuit_max_deviation_A=_frozen(devs), benzene_abs_nA_per_T=bz_abs, beta_model=beta_model,
+                beta0_eV=float(beta0_eV), huckel=hr)
+    notes = list(pi.warnings) + list(hr.warnings) + [
+        f"circuit {n} ({len(c)} atoms) is non-planar: largest deviation {d:.2f} Å from its plane; the current "
+        "is its response to a field along its mean normal" for n, (c, d) in enumerate(zip(oriented, devs)) if d > _PLANAR_TOL_A]
+    none = dict(bond_currents_rel=None, bond_currents_nA_per_T=None, circuit_response_rel=None,
+                circuit_currents_rel=None, circuit_currents_nA_per_T=None, circuit_currents_abs_nA_per_T=None,
+                kirchhoff_residual=None, conservation_residual=None)
+    if not pi.atoms:
+        return LondonCurrents(status="no π system", open_shell=False, warnings=tuple(notes), **base, **none)
+    lb = np.array([(pi.atoms.index(i), pi.atoms.index(j)) for i, j in pi.bonds], dtype=np.intp).reshape(-1, 2)
+    h0 = huckel_matrix([HETERO_PARAMETERS[t][0] for t in pi.atom_types], lb, hr.resonance)
+    status = ("open shell: degenerate, partly filled HOMO (e.g. a D_Nh 4n annulene); Hückel–London gives no "
+              "finite current. Pass a distortion (bond alternation) or a geometry that breaks the degeneracy")
+    if hr.degenerate_open_shell:
+        return LondonCurrents(status=status, open_shell=True, warnings=tuple(notes), **base, **none)
+    try:
+        g = london_bond_response(h0, xyz[list(pi.atoms)], lb, hr.energies_beta, hr.vectors, hr.occupations,
+                                    labels=hr.mo_fragment)
+    except ValueError:
+        return LondonCurrents(status=status, open_shell=True, warnings=tuple(notes), **base, **none)
+    diat = g / g_bz  # diatropic-sense current from i to j, benzene = 1
+    x, resid = kirchhoff_decomposition(diat, inc)
+    div = np.zeros((3, len(pi.atoms)))  # net current leaving each atom
+    np.add.at(div, (slice(None), lb[:, 0]), diat)
+    np.add.at(div, (slice(None), lb[:, 1]), -diat)
+    cons = float(np.max(np.abs(div)) / max(np.max(np.abs(diat)), 1e-300)) if diat.size else 0.0
+    resp = x.T  # (n_circuits, 3)
+    rel = np.einsum("ca,ca->c", resp, nrm.reshape(-1, 3))
+    return LondonCurrents(
+        status="ok", open_shell=hr.open_shell, warnings=tuple(notes), **base,
+        bond_currents_rel=_frozen(-diat), bond_currents_nA_per_T=_frozen(-diat * BENZENE_CURRENT_NA_PER_T),
+        circuit_response_rel=_frozen(resp), circuit_currents_rel=_frozen(rel),
+        circuit_currents_nA_per_T=_frozen(rel * BENZENE_CURRENT_NA_PER_T),
+        circuit_currents_abs_nA_per_T=_frozen(rel * bz_abs), kirchhoff_residual=resid, conservation_residual=cons)
+
+
+def london_bond_response(h0, xyz, bonds, energies, vectors, occ, *, labels=None, tol: float = DEGENERACY_TOL):
+    """First-order Hückel–London bond currents for unit b = eB/ħ along x, y and z.
+
+    Parameters
+    ----------
+    h0 : (n, n) real symmetric, units of |β|
+    xyz : (n, 3) Å, positions of the π centres (any origin)
+    bonds : (m, 2) local index pairs (i, j)
+    energies, vectors : eigen-decomposition of h0 (ascending, columns)
+    occ : (n,) occupations
+    labels : (n,) int, optional
+        Fragment of each MO (from :func:`solve_fragments`); MOs of different fragments do not couple.
+    tol : float
+        Levels with different occupations closer than this make the response undefined.
+
+    Returns
+    -------
+    g : (3, m) float64, Å²
+        g[a, k] = ∂ Im(h_ji P_ij)/∂b_a for bond k = (i, j): the conventional current from i to j is
+        I = −2 (e/ħ)² |β| g · B (SI, with Å² → m²). Divergence-free at every centre.
+
+    Raises
+    ------
+    ValueError
+        If two levels with different occupations are degenerate (open shell).
+    """
+    h0 = np.asarray(h0, dtype=np.float64)
+    r = np.asarray(xyz, dtype=np.float64)
+    b = np.asarray(bonds, dtype=np.intp).reshape(-1, 2)
+    e = np.asarray(energies, dtype=np.float64)
+    c = np.asarray(vectors, dtype=np.float64)
+    nocc = np.asarray(occ, dtype=np.float64)
+    m = b.shape[0]
+    if m == 0:
+        return np.zeros((3, 0))
+    r = r - r.mean(axis=0)  # origin-independent; centring keeps the numbers small
+    dn = nocc[None, :] - nocc[:, None]  # n_k − n_l at [l, k]
+    de = e[None, :] - e[:, None]  # e_k − e_l at [l, k]
+    mask = np.abs(dn) > 1e-12
+    if labels is not None:
+        lab = np.asarray(labels)
+        mask &= lab[None, :] == lab[:, None]
+    if np.any(mask & (np.abs(de) <= tol)):
+        raise ValueError("degenerate levels with different occupations: open shell, no linear response")
+    f = np.zeros_like(de)
+    f[mask] = dn[mask] / de[mask]
+    p0 = density_matrix(c, nocc)
+    cross = np.cross(r[:, None, :], r[None, :, :])  # (n, n, 3): r_r × r_s
+    i, j = b[:, 0], b[:, 1]
+    g = np.empty((3, m))
+    for a in range(3):
+        amat = 0.5 * h0 * cross[:, :, a]  # V_a = i·amat, antisymmetric real
+        q = c @ (f * (c.T @ amat @ c)) @ c.T  # Im(P1)
+        # Im(h_ji P_ij) to first order: h0_ji [θ_ji P0_ij + Im P1_ij], θ_ji = ½ b·(r_j × r_i)
+        g[a] = h0[j, i] * (0.5 * cross[j, i, a] * p0[i, j] + q[i, j])
+    return g
+
+
+def kirchhoff_decomposition(bond_currents, incidence):
+    """Least-squares circuit currents x with incidence @ x ≈ bond_currents (exact for a cycle basis).
+
+    Parameters
+    ----------
+    bond_currents : (k, m) currents in m bonds for k field directions
+    incidence : (m, c) +1/−1/0: +1 if circuit c traverses bond (i, j) from i to j
+
+    Returns
+    -------
+    x : (k, c) circuit currents in the sense of the traversal
+    residual : float, max over rows of ‖incidence x − J‖ / max(‖J‖, 1e-300)
+    """
+    jb = np.atleast_2d(np.asarray(bond_currents, dtype=np.float64))
+    inc = np.asarray(incidence, dtype=np.float64)
+    if inc.shape[1] == 0:
+        return np.zeros((jb.shape[0], 0)), 1.0 if np.any(jb) else 0.0
+    x = np.linalg.lstsq(inc, jb.T, rcond=None)[0]
+    res = np.linalg.norm((inc @ x).T - jb, axis=1)
+    return x.T, float(np.max(res) / max(float(np.max(np.linalg.norm(jb, axis=1))), 1e-300))
+
+
+def regular_polygon(n: int, side_A: float = BETA_REF_LENGTH_A) -> np.ndarray:
+    """Vertices (n, 3) of a regular n-gon in the xy plane, counter-clockwise about +z, centred at 0."""
+    rad = side_A / (2.0 * np.sin(np.pi / n))
+    t = 2.0 * np.pi * np.arange(n) / n
+    return np.column_stack([rad * np.cos(t), rad * np.sin(t), np.zeros(n)])
+
+
+@lru_cache(maxsize=None)
+def benzene_reference_response(beta_model: str) -> float:
+    """Diatropic ring-current response g of benzene (regular hexagon, 1.397 Å) in the given β model.
+
+    Returns the positive number, in Å², that a circuit current is divided by to give J/J_benzene.
+    A constant of the model: computed once per β model and process (cached).
+    """
+    xyz = regular_polygon(6)
+    bonds = np.array([(i, (i + 1) % 6) for i in range(6)])
+    ov = np.ones(6)
+    if beta_model in SCF_RELATIONS:
+        dbl = np.array([True, False] * 3)
+        r0, slope = SCF_RELATIONS[beta_model][:2]
+        r, _, _ = scf_cc_lengths(np.zeros(6), bonds, np.ones(6), np.ones(6, bool), ov, dbl, 6, r0_A=r0, slope_A=slope)
+        res = beta_distance_factor(r)
+    else:  # uniform and distance coincide at 1.397 Å
+        res = np.ones(6)
+    h0 = huckel_matrix(np.zeros(6), bonds, res)
+    e, c = np.linalg.eigh(h0)
+    occ = occupy(e, 6)[0]
+    g = london_bond_response(h0, xyz, bonds, e, c, occ)[2]
+    # g > 0 along the counter-clockwise bonds for B along +z: the conventional current −K g runs
+    # clockwise, i.e. diatropic (checked against m = −∂E/∂B in the tests)
+    return float(np.mean(g))
+
+
+def absolute_current_nA_per_T(g_A2, beta0_eV: float = BETA0_EV):
+    """Convert a response g (Å²) into a current susceptibility in nA/T: 2 (e/ħ)² |β0| g.
+
+    The conventional current is −2 (e/ħ)² |β| g B (module notes); the sign is left to the caller.
+    """
+    e_over_hbar = _sc.e / _sc.hbar  # 1/(T m²)
+    beta_j = abs(beta0_eV) * _sc.e
+    return 2.0 * e_over_hbar**2 * beta_j * 1e-20 * np.asarray(g_A2, dtype=np.float64) * 1e9
+
+
+def pi_charge_shift_ppm(charges_on_parent_atoms, *, k_ppm_per_e: float = PI_CHARGE_PPM_PER_E) -> np.ndarray:
+    """π-charge shift Δδ = k·q of a proton on an atom of π charge q = Z − P (ppm, positive = downfield).
+
+    Excess π density (q < 0) moves the proton upfield: k ≈ 10.7 ppm per electron (Schaefer &
+    Schneider, Can. J. Chem. 1963, 41, 966; from memory); Fraenkel et al. (J. Am. Chem. Soc. 1960, 82,
+    5846) measured C5H5⁻ 1.85 ppm upfield and C7H7⁺ 1.9 ppm downfield of benzene.
+
+    Parameters
+    ----------
+    charges_on_parent_atoms : (n,) array_like, electrons
+    k_ppm_per_e : float, keyword-only
+
+    Returns
+    -------
+    (n,) float64, ppm. Apply separately from the ring-current term.
+    """
+    try:
+        q = np.asarray(charges_on_parent_atoms, dtype=np.float64).reshape(-1)
+    except (TypeError, ValueError):
+        raise InputError("charges_on_parent_atoms: expected a sequence of π charges (numbers)") from None
+    if not np.all(np.isfinite(q)):
+        raise InputError("charges_on_parent_atoms: contains NaN or inf; expected finite π charges")
+    return k_ppm_per_e * q

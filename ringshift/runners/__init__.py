@@ -1,0 +1,1 @@
+"""Runs over many inputs: libraries (batch), trajectories, the demo."""

@@ -1,0 +1,1 @@
+"""Proton classes, reference shifts and the prediction pipeline."""

@@ -1,0 +1,1 @@
+"""Observed spectra: peaks, picking and integration, solvent and reference lines."""
