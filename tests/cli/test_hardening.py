@@ -28,7 +28,7 @@ from ringshift.cli import main
 from ringshift.errors import GeometryWarning, InputError
 from ringshift.io.structures import load_structure
 
-ROOT = Path(__file__).resolve().parents[1]
+ROOT = Path(__file__).resolve().parents[2]
 
 
 # ------------------------------------------------------------------------------------------ inputs

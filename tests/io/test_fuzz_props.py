@@ -28,7 +28,7 @@ from ringshift.io.peak_tables import parse_peak_table_csv, read_peaks
 from ringshift.geometry.circuits import circuit_geometry
 from ringshift.io.structures import load_structure
 
-DATA = Path(__file__).parent / "data" / "peaks"
+DATA = Path(__file__).resolve().parents[1] / "data" / "peaks"
 SEEDS_CSV = [p.read_text(encoding="utf-8") for p in sorted(DATA.glob("*.csv")) + sorted(DATA.glob("*.tsv"))]
 SEEDS_JDX = [p.read_text(encoding="utf-8") for p in sorted(DATA.glob("*.jdx"))]
 FAST = settings(max_examples=150, deadline=None, suppress_health_check=[HealthCheck.too_slow])

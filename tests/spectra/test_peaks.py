@@ -28,7 +28,7 @@ from ringshift.spectra.peaks import estimate_noise
 from ringshift.spectra.picking import pick_peaks, simulate_spectrum
 from ringshift.io.peak_tables import parse_peak_table_csv, read_jcamp, read_peak_table_csv, read_peaks, write_jcamp_peaks, write_peak_table_csv
 
-DATA = Path(__file__).parent / "data" / "peaks"
+DATA = Path(__file__).resolve().parents[1] / "data" / "peaks"
 
 # The ramp 1 2 3 3 2 1 0 −1 −2 −3 is the Y sequence used to illustrate the ASDF forms in the JCAMP-DX
 # paper (McDonald & Wilks, Appl. Spectrosc. 1988, 42, 151; from memory), whose DIFDUP form is
