@@ -1,4 +1,5 @@
-"""TODO: docstring (evidence)."""
+"""Plain-data conversion of result records: dataclasses and numpy values to JSON-able Python types.
+"""
 
 from __future__ import annotations
 import dataclasses

@@ -34,8 +34,16 @@ FAR_FIELD_RADII: float = 10.0
 #: Boltzmann constant in kcal/(mol·K) (CODATA R / 4184 J/kcal, via scipy.constants).
 KB_KCAL_PER_MOL_K: float = _sc.R / 4184.0
 
-#: Names of the shielding models, the a priori current sources and the resonance-integral models of
-#: the pipeline (:mod:`ringshift.shifts.prediction`); kept here, free of heavy imports, so the CLI can offer them.
+#: Energy conversions to kcal/mol: thermochemical calorie (4.184 J); Hartree and electronvolt from CODATA
+#: via scipy.constants.
+KCAL_PER_KJ: float = 1.0 / 4.184
+KCAL_PER_HARTREE: float = _sc.physical_constants["Hartree energy"][0] * _sc.N_A / 4184.0
+KCAL_PER_EV: float = _sc.e * _sc.N_A / 4184.0
+
+#: The one list of the names of the shielding models, the a priori current sources (a trajectory may also
+#: recompute Hückel–London currents per frame) and the resonance-integral models; kept here, free of heavy
+#: imports, so the CLI can offer them and every stage checks against the same tuple.
 MODELS: tuple[str, ...] = ("polygon", "johnson-bovey", "haigh-mallion", "dipole", "network")
 CURRENT_SOURCES: tuple[str, ...] = ("huckel", "benzene")
+TRAJECTORY_CURRENTS: tuple[str, ...] = ("huckel", "huckel-per-frame", "benzene")
 BETA_MODELS: tuple[str, ...] = ("scf", "scf-coulson", "distance", "uniform")

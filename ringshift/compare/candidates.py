@@ -1,4 +1,9 @@
-"""TODO: docstring (compare, analysis)."""
+"""Which candidate structure fits the spectrum: ranking several predictions against one peak list.
+
+:func:`rank_candidates` runs the comparer for each candidate on the same peaks and ranks them by
+evidence (log marginal likelihood); :func:`rank` does the same from predictions and a
+:class:`ringshift.spectra.peaks.PeakList`.
+"""
 
 from __future__ import annotations
 import math

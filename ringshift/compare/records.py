@@ -1,4 +1,11 @@
-"""TODO: docstring (compare, assign, evidence)."""
+"""The comparer's records: its inputs (observed peaks, group models, circuit priors) and its results.
+
+Inputs: :class:`ObservedPeak`, :class:`GroupModel`, :class:`CircuitPrior`. Results: :class:`Comparison`
+with per-group (:class:`GroupAssignment`), per-peak (:class:`PeakSummary`) and per-circuit
+(:class:`CircuitFit`, :class:`CircuitEvidence`) parts, the claim check (:class:`ClaimCheck`), alternative
+assignments (:class:`Alternative`), class offsets (:class:`ClassOffset`) and candidate scores
+(:class:`CandidateScore`). Units: ppm, nA/T; indices 0-based.
+"""
 
 from __future__ import annotations
 from dataclasses import dataclass

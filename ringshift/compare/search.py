@@ -1,4 +1,11 @@
-"""TODO: docstring (assign)."""
+"""The assignment search: matching alternated with the linear-Gaussian fit, and its result rows.
+
+:class:`SearchProblem` holds the arrays of one comparison; :func:`search` alternates the optimal matching
+of :mod:`ringshift.compare.assignment` with the closed-form fit from several starting currents
+(:func:`starting_points`), :func:`polish` re-solves with one used (group, peak) pair forbidden and keeps
+any improvement, :func:`neighbours` lists the near-optimal alternatives, and :func:`group_results` turns
+the final assignment into :class:`ringshift.compare.records.GroupAssignment` rows.
+"""
 
 from __future__ import annotations
 import dataclasses

@@ -1,4 +1,6 @@
-"""TODO: docstring (fields)."""
+"""Shared pieces of the shielding kernels: argument checks, chunk sizes, polygon orientation, the
+near-wire warning and μ0/4π in ppm·Å per nA/T.
+"""
 
 from __future__ import annotations
 import warnings

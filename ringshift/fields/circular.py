@@ -1,4 +1,12 @@
-"""TODO: docstring (fields)."""
+"""Circular-loop kernels: Johnson–Bovey double loop and the Pople point dipole.
+
+Johnson & Bovey (J. Chem. Phys. 1958, 29, 1012): B_z of a circular loop of radius a at (ρ, z) from the
+complete elliptic integrals K(m), E(m) (SciPy's ``ellipk``/``ellipe`` take the parameter m = k²), two
+loops at ±0.64 Å with half the current each; beyond :data:`ringshift.constants.FAR_FIELD_RADII` radii a
+multipole series replaces the exact form, which cancels badly there. Pople (J. Chem. Phys. 1956, 24,
+1111): σ_iso = −(μ0/4π)(J S/3)(1 − 3cos²θ)/R³ for a ring of area S, a far-field form. Outputs in ppm per
+nA/T, σ > 0 shielding.
+"""
 
 from __future__ import annotations
 import numpy as np

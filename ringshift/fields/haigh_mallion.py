@@ -1,4 +1,9 @@
-"""TODO: docstring (fields)."""
+"""The Haigh–Mallion geometric factor (Haigh & Mallion, Prog. NMR Spectrosc. 1979, 13, 303).
+
+G = Σ_bonds S_ij (1/r_i³ + 1/r_j³), S_ij the signed area of the triangle made by atoms i, j and the
+proton's projection onto the ring plane; the small-angle form of the polygon Biot–Savart sum. Output in
+ppm per nA/T, σ > 0 shielding.
+"""
 
 from __future__ import annotations
 import numpy as np

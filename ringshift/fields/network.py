@@ -1,4 +1,9 @@
-"""TODO: docstring (fields)."""
+"""Biot–Savart over a network of bond currents (each π bond carries its own Hückel–London current).
+
+Every bond is a straight segment doubled at ±0.64 Å along its local p-orbital normal (Johnson & Bovey,
+J. Chem. Phys. 1958, 29, 1012) with half its current each; the field of a straight segment is the
+textbook Biot–Savart result. Output in ppm, σ > 0 shielding.
+"""
 
 from __future__ import annotations
 import numpy as np

@@ -1,4 +1,9 @@
-"""TODO: docstring (predict)."""
+"""The shielding models by name: descriptions and per-proton geometric factors.
+
+:data:`MODEL_DESCRIPTIONS` maps each model name of :data:`ringshift.constants.MODELS` to one line of text;
+:func:`geometric_factors` evaluates the named model's kernel for every conformer, circuit and proton and
+returns ppm of ring-current shift per nA/T of diatropic current.
+"""
 
 from __future__ import annotations
 from typing import Sequence

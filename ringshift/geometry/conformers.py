@@ -1,4 +1,12 @@
-"""TODO: docstring (structure)."""
+"""Conformer generation and weighting: ETKDG v3 + MMFF94, E/Z checks, Boltzmann weights.
+
+Without 3D input, conformers are embedded with ETKDG v3 with macrocycle torsions (Wang, Witek, Landrum &
+Riniker, J. Chem. Inf. Model. 2020, 60, 2044), optimised with MMFF94 (Halgren, J. Comput. Chem. 1996, 17,
+490), rejected when their embedded E/Z configuration differs from the input's (:func:`ez_stereo_check`),
+kept within an energy window, pruned by RMSD over graph automorphisms and weighted by
+:func:`boltzmann_weights` (p_k ∝ exp(−E_k / RT), CODATA R via SciPy). The count
+(:func:`default_conformer_count`) is larger for rings of 12 or more atoms.
+"""
 
 from __future__ import annotations
 import warnings

@@ -1,6 +1,22 @@
-"""TODO: docstring (batch)."""
+"""Trajectory frames: multi-frame XYZ and multi-record SD files read one frame at a time.
+
+:func:`iter_xyz_frames` and :func:`iter_sdf_records` never read the whole file. Every frame must list the
+atoms of the first frame in the same order, else :class:`InputError` naming the frame. Rule for damaged
+files: an XYZ frame cut short by the end of the file (fewer atom lines than announced, or a last line
+without x y z) and an SD record that RDKit cannot parse are skipped with a :class:`TrajectoryWarning`
+naming the frame/record number, and the remaining frames are used (an SD record ends at its ``$$$$``
+line, so the next record is safe to read). Anything malformed before the last XYZ frame is an error:
+the frame boundaries after it cannot be trusted. ``strict=True`` makes the skipped cases errors too.
+
+Energies. XYZ comment lines: ``energy=-123.4``, ``E: -123.4``, ``energy_hartree=-0.5``, or a bare number,
+optionally followed by a unit word (``kcal/mol``, ``kj/mol``, ``hartree``/``Eh``/``au``, ``ev``); without
+a unit the reader's ``energy_unit`` applies (default kcal/mol; xtb and ORCA trajectories write Hartree
+without saying so, ASE's extended XYZ writes eV: pass ``energy_unit``). SD records: the fields of
+:data:`ringshift.io.molecule_files.ENERGY_PROPERTIES`.
+"""
 
 from __future__ import annotations
+
 import dataclasses
 import itertools
 import math
@@ -10,25 +26,27 @@ import warnings
 from dataclasses import dataclass
 from pathlib import Path
 from typing import Iterator
+
 import numpy as np
 from rdkit import Chem, rdBase
-from scipy import constants as _sc
+
+from ringshift.constants import KCAL_PER_EV, KCAL_PER_HARTREE, KCAL_PER_KJ
 from ringshift.errors import InputError, RingshiftWarning
-from ringshift.limits import check_coordinates
 from ringshift.io.molecule_files import ENERGY_PROPERTIES
 from ringshift.io.structures import Structure, load_structure
+from ringshift.io.xyz import parse_xyz_frames
+from ringshift.limits import check_coordinates
 
 __all__ = ['TrajectoryWarning', 'Frame', 'FrameStream', 'iter_xyz_frames', 'iter_sdf_records', 'parse_energy', 'ENERGY_UNITS']
 
 
 _SDF = (".sdf", ".sd")
 
-_HARTREE_KCAL = _sc.physical_constants["Hartree energy"][0] * _sc.N_A / 4184.0   # CODATA via SciPy
 
 #: Energy unit words (lower case) and their factor to kcal/mol.
-ENERGY_UNITS: dict[str, float] = {"kcal/mol": 1.0, "kcal": 1.0, "kj/mol": 1.0 / 4.184, "kj": 1.0 / 4.184,
-                                  "hartree": _HARTREE_KCAL, "eh": _HARTREE_KCAL, "au": _HARTREE_KCAL,
-                                  "ev": _sc.e * _sc.N_A / 4184.0}   # CODATA via SciPy
+ENERGY_UNITS: dict[str, float] = {"kcal/mol": 1.0, "kcal": 1.0, "kj/mol": KCAL_PER_KJ, "kj": KCAL_PER_KJ,
+                                  "hartree": KCAL_PER_HARTREE, "eh": KCAL_PER_HARTREE, "au": KCAL_PER_HARTREE,
+                                  "ev": KCAL_PER_EV}
 
 _NUM = r"[-+]?(?:\d+\.?\d*|\.\d+)(?:[eEdD][-+]?\d+)?"
 
@@ -162,82 +180,16 @@ def iter_xyz_frames(path, *, energy_unit: str = "kcal/mol", strict: bool = False
             return head + "".join(itertools.islice(fh, int(parts[0]) + 1))
 
     def gen(stream: FrameStream):
-        ref_tokens = ref_symbols = None
-        line_no = 0
+        def truncated(number: int, reason: str, where: str) -> None:
+            stream.n_seen = number
+            stream._skip(number, reason, where)
+
         with path.open(encoding="utf-8") as fh:
-            while head := fh.readline():
-                line_no += 1
-                if not head.strip():
-                    continue
-                number, start = stream.n_seen + 1, line_no
-                stream.n_seen = number
-                parts = head.split()
-                if len(parts) != 1 or not re.fullmatch(r"[0-9]+", parts[0]) or int(parts[0]) < 1:
-                    raise InputError(f"expected the atom count of frame {number} (one positive integer), got "
-                                     f"{head.strip()[:40]!r}", source=f"{path}:{line_no}")
-                n = int(parts[0])
-                if ref_symbols is not None and n != len(ref_symbols):
-                    raise InputError(f"frame {number} has {n} atoms, frame 1 has {len(ref_symbols)}; every frame "
-                                     f"needs the same atoms in the same order", source=f"{path}:{line_no}")
-                comment = fh.readline()
-                lines = [ln for ln in (fh.readline() for _ in range(n)) if ln]
-                line_no += 1 + len(lines)
-                rows = [ln.split() for ln in lines]
-                if not comment or len(lines) < n or (len(rows[-1]) < 4 and _at_eof(fh)):
-                    stream._skip(number, f"frame {number} is truncated (announces {n} atoms, the file ends after "
-                                 f"{len(lines) - (1 if rows and len(rows[-1]) < 4 else 0)} complete atom lines)", f"{path}:{start}")
-                    return
-                tokens = [r[0] for r in rows]
-                try:
-                    xyz = np.array([r[1:4] for r in rows], dtype=np.float64)
-                    if xyz.shape != (n, 3):
-                        raise ValueError
-                except ValueError:
-                    bad = next(k for k, r in enumerate(rows) if len(r) < 4 or not _floats(r[1:4]))
-                    raise InputError(f"expected 'element x y z' (atom {bad + 1} of {n}, frame {number}), got "
-                                     f"{lines[bad].strip()[:40]!r}", source=f"{path}:{start + 2 + bad}") from None
-                if not np.all(np.isfinite(xyz)):
-                    raise InputError(f"non-finite coordinate in frame {number}", source=f"{path}:{start}")
-                if ref_tokens is None:
-                    ref_tokens, ref_symbols = tokens, [_symbol(t, f"{path}:{start + 2 + k}") for k, t in enumerate(tokens)]
-                elif tokens != ref_tokens and [_symbol(t, str(path)) for t in tokens] != ref_symbols:
-                    k = next(k for k, (a, b) in enumerate(zip(tokens, ref_tokens)) if _symbol(a, str(path)) != _symbol(b, str(path)))
-                    raise InputError(f"frame {number} does not list the atoms of frame 1 in the same order (atom "
-                                     f"{k + 1} is {tokens[k]}, frame 1 has {ref_tokens[k]})", source=f"{path}:{start + 2 + k}")
-                check_coordinates(xyz[None], ref_symbols, f"{path}:{start} (frame {number})")
-                yield Frame(number, xyz, parse_energy(comment.strip(), energy_unit))
+            for fr in parse_xyz_frames(fh, str(path), on_truncated=truncated):
+                stream.n_seen = fr.number
+                yield Frame(fr.number, fr.coords, parse_energy(fr.comment, energy_unit))
 
     return FrameStream(path, "xyz", gen, first_text, strict)
-
-
-def _at_eof(fh) -> bool:
-    pos = fh.tell()
-    if fh.readline() == "":
-        return True
-    fh.seek(pos)
-    return False
-
-
-def _floats(items) -> bool:
-    try:
-        [float(v) for v in items]
-        return True
-    except ValueError:
-        return False
-
-
-def _symbol(token: str, where: str) -> str:
-    if re.fullmatch(r"[0-9]+", token):
-        z = int(token)
-        if 1 <= z <= 118:
-            return _PT.GetElementSymbol(z)
-    sym = token.capitalize()
-    try:
-        if _PT.GetAtomicNumber(sym) > 0:
-            return sym
-    except RuntimeError:
-        pass
-    raise InputError(f"unknown element {token!r}", source=where)
 
 
 def _sd_records(path: Path) -> Iterator[tuple[int, int, str, bool]]:

@@ -34,16 +34,18 @@ Rules the reader applies (chosen here, stated so users can predict them):
 """
 
 from __future__ import annotations
+
 import dataclasses
 import math
 import os
 import re
 from dataclasses import dataclass
+
 import numpy as np
+
 from ringshift import limits as _limits
 from ringshift.errors import InputError, OutputError
 from ringshift.io.jcampdx_codec import FORMS, decode_xydata, encode_xydata
-
 
 #: Largest NPOINTS accepted (a guard against absurd or hostile files; :mod:`ringshift.limits`).
 MAX_POINTS: int = _limits.MAX_SPECTRUM_POINTS

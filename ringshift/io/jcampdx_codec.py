@@ -1,11 +1,18 @@
-"""TODO: docstring (jcamp)."""
+"""The JCAMP-DX ASDF codec: AFFN, PAC, SQZ, DIF and DUP forms of ``##XYDATA=(X++(Y..Y))``.
+
+McDonald & Wilks, Appl. Spectrosc. 1988, 42, 151 (JCAMP-DX for infrared, which defines the compression
+forms) and Davies & Lampen, Appl. Spectrosc. 1993, 47, 1093 (JCAMP-DX for NMR). :func:`decode_xydata`
+checks the Y-value check digits of DIF lines and the point count; :func:`encode_xydata` writes any form.
+"""
 
 from __future__ import annotations
+
 import math
 import re
-import numpy as np
-from ringshift.errors import InputError
 
+import numpy as np
+
+from ringshift.errors import InputError
 
 FORMS: tuple[str, ...] = ("AFFN", "PAC", "SQZ", "DIF")
 

@@ -1,9 +1,16 @@
-"""TODO: docstring (batch)."""
+"""Libraries of molecules for batch runs: SD files or SMILES lists, read as a stream.
+
+``.sdf``/``.sd``: one molecule per record (name from the title line). Any other file: one SMILES per line
+with an optional name after it (whitespace-separated); blank lines and lines starting with ``#`` are
+skipped.
+"""
 
 from __future__ import annotations
+
 from dataclasses import dataclass
 from pathlib import Path
 from typing import Iterator
+
 from ringshift.errors import InputError
 from ringshift.io.frames import _SDF, _sd_records
 

@@ -1,15 +1,24 @@
-"""TODO: docstring (structure)."""
+"""Reading molecules: SMILES strings, MOL/SDF files and XYZ files to RDKit molecules with coordinates.
+
+SMILES are sanitised without aromaticity perception (RDKit's aromatic [18]annulene loses its E/Z marks)
+and kept as Kekulé molecules with their stereo. MOL/SDF are read with ``removeHs=False``; SD energies from
+:data:`ENERGY_PROPERTIES`. XYZ bonds come from :func:`rdkit.Chem.rdDetermineBonds.DetermineBonds` with
+the net charge. Every reader applies the limits of :mod:`ringshift.limits`.
+"""
 
 from __future__ import annotations
-import re
+
 import warnings
 from pathlib import Path
+
 import numpy as np
 from rdkit import Chem, rdBase
 from rdkit.Chem import rdDetermineBonds
-from scipy import constants as _sc
+
 from ringshift import limits as _limits
+from ringshift.constants import KCAL_PER_HARTREE, KCAL_PER_KJ
 from ringshift.errors import GeometryWarning, InputError
+from ringshift.io.xyz import parse_xyz_frames
 
 __all__ = ['read_mol_records', 'ENERGY_PROPERTIES']
 
@@ -20,19 +29,14 @@ _SUFFIXES = {".mol": "mol", ".sdf": "sdf", ".sd": "sdf", ".xyz": "xyz"}
 
 _FORMATS = {"smiles": "smiles", "smi": "smiles", "mol": "mol", "sdf": "sdf", "sd": "sdf", "xyz": "xyz"}
 
-_ELEMENTS = {Chem.GetPeriodicTable().GetElementSymbol(z): z for z in range(1, 119)}
-
-_KCAL_PER_KJ = 1.0 / 4.184                                                    # thermochemical calorie
-
-_KCAL_PER_HARTREE = _sc.physical_constants["Hartree energy"][0] * _sc.N_A / 4184.0    # CODATA via SciPy
 
 #: SD data fields read as conformer energies (case-insensitive, first match wins) and their factor to
 #: kcal/mol. Only differences matter: energies are made relative to the lowest record.
 ENERGY_PROPERTIES: tuple[tuple[str, float], ...] = (
     ("energy_kcal_mol", 1.0), ("e_kcal_mol", 1.0), ("rel_energy_kcal_mol", 1.0), ("relative_energy_kcal_mol", 1.0),
     ("mmff94_energy", 1.0), ("energy", 1.0), ("relative_energy", 1.0), ("e_rel", 1.0),
-    ("energy_kj_mol", _KCAL_PER_KJ), ("e_kj_mol", _KCAL_PER_KJ),
-    ("energy_hartree", _KCAL_PER_HARTREE), ("e_hartree", _KCAL_PER_HARTREE), ("energy_eh", _KCAL_PER_HARTREE))
+    ("energy_kj_mol", KCAL_PER_KJ), ("e_kj_mol", KCAL_PER_KJ),
+    ("energy_hartree", KCAL_PER_HARTREE), ("e_hartree", KCAL_PER_HARTREE), ("energy_eh", KCAL_PER_HARTREE))
 
 
 def _coordinate_kind(mol: Chem.Mol) -> str:
@@ -125,47 +129,13 @@ def read_mol_records(path) -> list[Chem.Mol]:
 
 
 def _read_xyz(path: Path) -> tuple[list[str], np.ndarray]:
-    """Element symbols and (n_frames, n_atoms, 3) coordinates (Å) of a one- or multi-frame XYZ file."""
-    lines = _read_text(path, "an XYZ file").splitlines()
-    frames, symbols, k = [], None, 0
-    while k < len(lines):
-        if not lines[k].strip():
-            k += 1
-            continue
-        head, frame = lines[k].split(), len(frames) + 1
-        if len(head) != 1 or not re.fullmatch(r"[0-9]{1,12}", head[0]) or int(head[0]) < 1:
-            hint = "; is the previous frame's count right?" if frame > 1 else ""
-            raise InputError(f"expected the atom count of frame {frame} (one positive integer), got "
-                             f"{lines[k].strip()[:40]!r}{hint}", source=f"{path}:{k + 1}")
-        n = int(head[0])
-        _limits.check_count(n, _limits.MAX_ATOMS, f"atoms in frame {frame}", f"{path}:{k + 1}")
-        _limits.check_count(frame, _limits.MAX_RECORDS, "XYZ frames", f"{path}:{k + 1}")
-        if k + 2 + n > len(lines):
-            raise InputError(f"frame {frame} announces {n} atoms but the file ends after {len(lines) - k - 2} "
-                             f"atom lines", source=f"{path}:{k + 1}")
-        syms, xyz = [], np.empty((n, 3))
-        for m in range(n):
-            parts, where = lines[k + 2 + m].split(), f"{path}:{k + 3 + m}"
-            sym = parts[0].capitalize() if parts else ""
-            try:
-                if len(parts) < 4 or sym not in _ELEMENTS:
-                    raise ValueError
-                xyz[m] = [float(v) for v in parts[1:4]]
-            except ValueError:
-                raise InputError(f"expected 'element x y z' (atom {m + 1} of {n}, frame {frame}), got "
-                                 f"{lines[k + 2 + m].strip()[:40]!r}", source=where) from None
-            if not np.all(np.isfinite(xyz[m])):
-                raise InputError("non-finite coordinate", source=where)
-            syms.append(sym)
-        if symbols is not None and syms != symbols:
-            raise InputError(f"frame {frame} does not list the atoms of frame 1 in the same order",
-                             source=f"{path}:{k + 1}")
-        symbols = syms
-        frames.append(xyz)
-        k += 2 + n
-    stack = np.stack(frames)
-    _limits.check_coordinates(stack, symbols, str(path))
-    return symbols, stack
+    """Element symbols and (n_frames, n_atoms, 3) coordinates (Å) of a one- or multi-frame XYZ file
+    (:func:`ringshift.io.xyz.parse_xyz_frames`; every frame must be whole)."""
+    frames = list(parse_xyz_frames(_read_text(path, "an XYZ file").splitlines(), str(path)))
+    if not frames:
+        raise InputError("expected the atom count of frame 1 (one positive integer), got an empty file",
+                         source=str(path))
+    return list(frames[0].symbols), np.stack([f.coords for f in frames])
 
 
 def _bonds_from_xyz(symbols: list[str], xyz: np.ndarray, charge: int) -> Chem.Mol:

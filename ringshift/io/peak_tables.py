@@ -1,16 +1,34 @@
-"""TODO: docstring (peaks)."""
+"""Observed ¹H peak lists from files: CSV/TSV tables and JCAMP-DX, and their writers.
+
+:func:`read_peaks` is the entry point: it reads a CSV/TSV peak table or a JCAMP-DX file (spectrum or
+peak table; the codec is :mod:`ringshift.io.jcampdx`), picks and integrates a spectrum
+(:mod:`ringshift.spectra.picking`), flags solvent-residual and TMS peaks
+(:mod:`ringshift.spectra.solvents`), and scales the integrals to the molecule's hydrogen count.
+CSV columns: a shift column (``shift_ppm``/``ppm``/``shift``/``delta``), an integral column
+(``integral``/``nH``/``H``), optional ``width_hz``, ``multiplicity``, ``label``, ``atoms`` and ``kind``.
+"""
 
 from __future__ import annotations
+
 import csv
 import math
 import os
 import re
 import unicodedata
 from dataclasses import replace
-from ringshift.io import jcampdx as _jcamp
+
 from ringshift import limits as _limits
 from ringshift.errors import InputError, OutputError
-from ringshift.spectra.peaks import MAX_LINES_PER_H, PEAK_KINDS, Peak, PeakList, Spectrum, _check_shift, _normalise
+from ringshift.io import jcampdx as _jcamp
+from ringshift.spectra.peaks import (
+    MAX_LINES_PER_H,
+    PEAK_KINDS,
+    Peak,
+    PeakList,
+    Spectrum,
+    _check_shift,
+    _normalise,
+)
 from ringshift.spectra.picking import MERGE_HZ, _pick
 from ringshift.spectra.solvents import REFERENCE_TOLERANCE_PPM, _flag, _solvent_name
 

@@ -12,16 +12,30 @@ window, RMSD pruning over graph automorphisms, Boltzmann weights; sorted by ener
 """
 
 from __future__ import annotations
+
 import math
 from dataclasses import dataclass
 from pathlib import Path
+
 import numpy as np
 from rdkit import Chem
+
 from ringshift import limits as _limits
 from ringshift.errors import InputError
+from ringshift.geometry.conformers import (
+    _generate,
+    boltzmann_weights,
+    default_conformer_count,
+)
 from ringshift.geometry.symmetry import group_equivalent_hydrogens
-from ringshift.io.molecule_files import _check_chemistry, _detect_format, _mol_from_molfile, _mol_from_smiles, _mol_from_xyz, _short
-from ringshift.geometry.conformers import _generate, boltzmann_weights, default_conformer_count
+from ringshift.io.molecule_files import (
+    _check_chemistry,
+    _detect_format,
+    _mol_from_molfile,
+    _mol_from_smiles,
+    _mol_from_xyz,
+    _short,
+)
 
 __all__ = ['Structure', 'load_structure']
 

@@ -1,11 +1,13 @@
-"""TODO: docstring (output)."""
+"""Writing output files atomically: a temporary sibling renamed into place, never half-written.
+"""
 
 from __future__ import annotations
+
 import os
 import tempfile
 from pathlib import Path
-from ringshift.errors import OutputError
 
+from ringshift.errors import OutputError
 
 
 def atomic_write(path: str | os.PathLike, data: str | bytes, *, force: bool = False) -> Path:

@@ -61,17 +61,33 @@ only a stable, closed-shell fixed point, so it leaves the equal-bond solution wh
 """
 
 from __future__ import annotations
+
 from dataclasses import dataclass, field
+
 import numpy as np
-from ringshift.pi.parameters import BETA_REF_LENGTH_A, HETERO_PARAMETERS
+
+from ringshift.constants import BETA_MODELS
 from ringshift.errors import InputError
-from ringshift.pi.parameters import BETA_DECAY_A, COULSON_R0_A, COULSON_SLOPE_A, DEGENERACY_TOL, POLYACETYLENE_BLA_A
-from ringshift.pi.perception import PiSystem, _check_coords, _check_mol, _frozen, _p_axes
+from ringshift.pi.parameters import (
+    BETA_DECAY_A,
+    BETA_REF_LENGTH_A,
+    COULSON_R0_A,
+    COULSON_SLOPE_A,
+    DEGENERACY_TOL,
+    HETERO_PARAMETERS,
+    POLYACETYLENE_BLA_A,
+)
+from ringshift.pi.perception import (
+    PiSystem,
+    _check_coords,
+    _check_mol,
+    _frozen,
+    _p_axes,
+)
 
-__all__ = ['HuckelResult', 'huckel', 'BETA_MODELS', 'beta_distance_factor', 'huckel_matrix', 'occupy', 'solve_fragments', 'density_matrix', 'scf_cc_lengths', 'polyene_chain_lengths', 'calibrate_chain_slope', 'SCF_R0_A', 'SCF_SLOPE_A', 'SCF_RELATIONS']
+__all__ = ['HuckelResult', 'huckel', 'beta_distance_factor', 'huckel_matrix', 'occupy', 'solve_fragments', 'density_matrix', 'scf_cc_lengths', 'polyene_chain_lengths', 'calibrate_chain_slope', 'SCF_R0_A', 'SCF_SLOPE_A', 'SCF_RELATIONS']
 
 
-BETA_MODELS = ("uniform", "distance", "scf", "scf-coulson")
 
 
 @dataclass(frozen=True, eq=False)

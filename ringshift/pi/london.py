@@ -1,4 +1,19 @@
-"""TODO: docstring (pisystem, huckel)."""
+"""Hückel–London ring currents: the analytic London response and its wrapper on RDKit molecules.
+
+Positions in Å. The London phase of ⟨r|H|s⟩ is θ_rs = (e/2ħ) B·(r_r × r_s) (symmetric gauge, London,
+J. Phys. Radium 1937, 8, 397); internally b = eB/ħ in Å⁻², so θ_rs = ½ b·(r_r × r_s). Bond currents are
+*conventional* currents (the sense used by :func:`ringshift.fields.network.network_shielding`). With
+E = Tr(H P), P = Σ_k n_k c_k c_k†, the current from s to r is I_{s→r} = −(2e/ħ) Im(H_rs P_sr); it follows
+from the Hellmann–Feynman magnetic moment m = −∂E/∂B = ½ Σ_bonds I_{s→r} (r_s × r_r) (McWeeny, Mol.
+Phys. 1958, 1, 311; Pople, Mol. Phys. 1958, 1, 175). The first-order response is evaluated analytically
+(sum over states), which is exactly gauge-origin invariant in this model.
+
+Ring (face) currents come from the bond currents by a least-squares Kirchhoff decomposition
+(:func:`kirchhoff_decomposition`); :func:`london_currents` reports them relative to benzene computed with
+the same parameters (:func:`benzene_reference_response`) and in nA/T (× 12 nA/T, Fliegl et al., J. Phys.
+Chem. A 2009, 113, 8668). :func:`pi_charge_shift_ppm` is the π-charge term of ions (Schaefer &
+Schneider, Can. J. Chem. 1963, 41, 966).
+"""
 
 from __future__ import annotations
 from dataclasses import dataclass

@@ -1,4 +1,19 @@
-"""TODO: docstring (huckel)."""
+"""Hückel parameters: heteroatoms, the β(r) law and the bond-order/bond-length lines, each with its source.
+
+``HETERO_PARAMETERS`` maps an atom type to (h_X, k_CX, source), α_X = α + h_X β, β_CX = k_CX β. N and O
+(and halogens) come from Derflinger & Lischka, Monatsh. Chem. 1969, 100, 1003 (values read from a
+secondary reproduction of their table, not from the original paper): pyridine-type N h 0.83 / k 1.06,
+pyrrole-type N 1.47 / 1.30, furan-type O 2.06 / 1.31, carbonyl O 1.18 / 1.93, F 2.84 / 0.68, Cl 1.45 /
+0.57, Br 1.16 / 0.38, I 0.78 / 0.19. Cationic N⁺ (pyridinium, 2.0 / 1.0), O⁺ (pyrylium, 2.5 / 1.0) and B
+(−1.0 / 0.7) come from Streitwieser, *Molecular Orbital Theory for Organic Chemists*, Wiley 1961, p. 135
+(from memory). Thiophene-type S (1.11 / 0.69) from Van-Catledge, J. Org. Chem. 1980, 45, 4801 (from
+memory). Anions (pyrrolide N⁻, phenolate O⁻) and thione S use the parameters of the atom with the same
+core (stated approximation, no source). A bond between two heteroatoms gets k = sqrt(k_CX k_CY) (common
+practice, no source).
+
+β(r) = β0 exp(−(r − 1.397 Å)/0.3106 Å) (Longuet-Higgins & Salem, Proc. R. Soc. A 1959, 251, 172, from
+memory); the bond-order/bond-length lines are described in :mod:`ringshift.pi.huckel`.
+"""
 
 from __future__ import annotations
 import numpy as np

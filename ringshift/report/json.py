@@ -5,11 +5,15 @@ the CLI, the report and the API all format from it, so they cannot disagree.
 """
 
 from __future__ import annotations
+
+import dataclasses
 import json
 import math
-import dataclasses
-from ringshift.compare.run import CompareResult
-from ringshift.runners.trajectory import TrajectoryPrediction
+from typing import TYPE_CHECKING
+
+if TYPE_CHECKING:
+    from ringshift.compare.run import CompareResult
+    from ringshift.runners.trajectory import TrajectoryPrediction
 
 __all__ = ['comparison_to_dict', 'trajectory_to_dict']
 

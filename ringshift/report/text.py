@@ -1,12 +1,21 @@
-"""TODO: docstring (analysis, output, pisummary)."""
+"""Text and CSV forms of the results, made from the same dictionaries as the JSON.
+
+:func:`prediction_table` and :func:`prediction_csv` (``ringshift predict``), :func:`comparison_text`
+(``ringshift compare``) and :func:`pi_text` (``ringshift pi``). Every number printed here is read from
+:mod:`ringshift.report.json`'s dictionaries or the result records behind them.
+"""
 
 from __future__ import annotations
-from ringshift.report.json import CAUTION
+
 import csv
 import io
-from ringshift.report.json import _r
-from ringshift.compare.run import CompareResult
+from typing import TYPE_CHECKING
+
 from ringshift.pi.summary import _verdict
+from ringshift.report.json import CAUTION, _r
+
+if TYPE_CHECKING:
+    from ringshift.compare.run import CompareResult
 
 __all__ = ['comparison_text']
 

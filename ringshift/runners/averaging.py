@@ -1,4 +1,11 @@
-"""TODO: docstring (ensemble)."""
+"""Weights and averages over frames: Boltzmann or given weights, weighted moments, fast exchange.
+
+:func:`read_weights_file` reads one weight per frame; the log-weights are re-referenced to the largest
+so that Boltzmann factors never overflow. Moments are merged block by block with the pairwise update of
+Chan, Golub & LeVeque (Am. Stat. 1983, 37, 242). :func:`exchange_groups` gives the groups of protons
+averaged in the fast-exchange limit (Gutowsky & Holm, J. Chem. Phys. 1956, 25, 1228): topologically
+equivalent protons (``"auto"``) or groups the user names.
+"""
 
 from __future__ import annotations
 import math

@@ -1,22 +1,4 @@
-"""Streams of structures and bulk runs: trajectory frames, libraries, and library runs to JSON lines.
-
-Trajectories (one molecule, many frames; used by :mod:`ringshift.runners.trajectory`).
-`iter_xyz_frames` and `iter_sdf_records` read a multi-frame XYZ or multi-record SD
-file one frame at a time (never the whole file) for :func:`ringshift.runners.trajectory.predict_trajectory`.
-Every frame must list the atoms of the first frame in the same order, else :class:`InputError` naming
-the frame. Rule for damaged files: an XYZ frame cut short by the end of the file (fewer atom lines than
-announced, or a last line without x y z) and an SD record that RDKit cannot parse are skipped with a
-:class:`TrajectoryWarning` naming the frame/record number, and the remaining frames are used (an SD
-record ends at its ``$$$$`` line, so the next record is safe to read). Anything malformed before the
-last XYZ frame is an error: the frame boundaries after it cannot be trusted. ``strict=True`` makes the
-skipped cases errors too.
-
-Energies. XYZ comment lines: ``energy=-123.4``, ``E: -123.4``, ``energy_hartree=-0.5``, or a bare number,
-optionally followed by a unit word (``kcal/mol``, ``kj/mol``, ``hartree``/``Eh``/``au``, ``ev``); without
-a unit the reader's ``energy_unit`` applies (default kcal/mol; xtb and ORCA trajectories write Hartree
-without saying so, ASE's extended XYZ writes eV: pass ``energy_unit``). SD records: the fields of
-:data:`ringshift.io.molecule_files.ENERGY_PROPERTIES`. Energies become Boltzmann weights
-p_k ∝ exp(−E_k / RT) (CODATA R via SciPy).
+"""Library runs: one prediction per molecule, in parallel, resumable, written as JSON lines.
 
 Libraries (many molecules; :func:`run_batch`), one prediction per molecule, in parallel, resumable.
 

@@ -1,4 +1,9 @@
-"""TODO: docstring (shifts)."""
+"""Proton classes: which ring-current-free reference shift a hydrogen gets.
+
+:func:`classify_hydrogens` names the class of each H from its parent atom and the π system around it
+(CH on a π ring, CH next to N/O/S, allylic and alkyl CH, NH, OH, ...); classes index the reference table
+of :mod:`ringshift.shifts.reference`. A hydrogen that fits no class gets :data:`FALLBACK_CLASS`.
+"""
 
 from __future__ import annotations
 from collections import deque

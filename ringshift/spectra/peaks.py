@@ -1,20 +1,11 @@
-"""Observed ¹H peaks and 1D spectra: peak tables (CSV/TSV, JCAMP-DX), peak picking and integrals.
+"""Observed ¹H peaks and spectra as records: :class:`Peak`, :class:`PeakList`, :class:`Spectrum`.
 
-:func:`read_peaks` is the entry point: it reads a CSV/TSV peak table or a JCAMP-DX file (spectrum or
-peak table), flags solvent-residual and TMS peaks, and scales the integrals to the molecule's
-hydrogen count. The JCAMP-DX codec is :mod:`ringshift.io.jcampdx`; this module turns it into
-:class:`PeakList` objects.
-
-Warnings: functions that return a :class:`PeakList` record their warnings in ``PeakList.warnings``
-and issue no Python warnings; :func:`pick_peaks` and :func:`normalise_integrals`, which return bare
-peak tuples, issue :class:`~ringshift.errors.AssignmentWarning`.
+Reading them from files is :mod:`ringshift.io.peak_tables`; picking peaks in a spectrum is
+:mod:`ringshift.spectra.picking`; solvent and TMS lines are :mod:`ringshift.spectra.solvents`.
 
 Rules (stated so users can predict them):
 
 - Shifts must lie in :data:`SHIFT_RANGE_PPM` (−20…40 ppm); integrals ≥ 0; widths > 0 Hz.
-- A peak within :data:`REFERENCE_TOLERANCE_PPM` (0.03 ppm, covering usual referencing scatter) of
-  the chosen solvent's residual signal becomes ``kind="solvent"``, within it of 0.00 ppm
-  ``kind="tms"`` (unless ``flag_tms=False``); CSV rows with an explicit ``kind`` are left alone.
 - With ``n_hydrogens`` given: more sample peaks than hydrogens is a warning; more than
   :data:`MAX_LINES_PER_H` (16) per hydrogen is an error (a first-order proton coupled to four
   inequivalent partners shows 2⁴ = 16 lines; more means noise was picked or the file is wrong).

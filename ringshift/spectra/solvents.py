@@ -1,4 +1,10 @@
-"""TODO: docstring (peaks)."""
+"""Solvent-residual and TMS lines of a peak list.
+
+:data:`SOLVENT_RESIDUAL_PPM` holds the residual ¹H lines of common deuterated solvents (Fulmer et al.,
+Organometallics 2010, 29, 2176). :func:`flag_reference_peaks` marks a peak within
+:data:`REFERENCE_TOLERANCE_PPM` (0.03 ppm) of the chosen solvent's line as ``kind="solvent"`` and one
+within it of 0.00 ppm as ``kind="tms"``; peaks whose kind the user gave are left alone.
+"""
 
 from __future__ import annotations
 import re

@@ -1,0 +1,160 @@
+"""The one XYZ parser: frames of a one- or multi-frame XYZ text, from any iterator of lines.
+
+Used by :func:`ringshift.io.molecule_files.read_xyz` (a structure file, every frame required whole) and
+:func:`ringshift.io.frames.iter_xyz_frames` (a trajectory read as a stream, where a frame cut short by
+the end of the file may be skipped). Format: an atom count line, a comment line, then one
+``element x y z`` line per atom (Å; the element as a symbol in any case, or an atomic number). Blank
+lines between frames are allowed. Every frame must list the atoms of the first frame in the same order.
+"""
+
+from __future__ import annotations
+
+import re
+from dataclasses import dataclass
+from typing import Callable, Iterator
+
+import numpy as np
+from rdkit import Chem
+
+from ringshift import limits as _limits
+from ringshift.errors import InputError
+
+__all__ = ["XyzFrame", "parse_xyz_frames", "element_symbol"]
+
+_PT = Chem.GetPeriodicTable()
+_COUNT = re.compile(r"[0-9]{1,12}")
+
+
+@dataclass(frozen=True)
+class XyzFrame:
+    """One parsed frame: 1-based ``number``, ``line`` of its count line, ``symbols``, ``coords``
+    (n_atoms, 3) float64 Å and the ``comment`` line (stripped)."""
+
+    number: int
+    line: int
+    symbols: tuple[str, ...]
+    coords: np.ndarray
+    comment: str
+
+
+def element_symbol(token: str) -> str | None:
+    """Element symbol of an XYZ atom token (symbol in any case, or atomic number 1–118), else None."""
+    if _COUNT.fullmatch(token):
+        z = int(token)
+        return _PT.GetElementSymbol(z) if 1 <= z <= 118 else None
+    sym = token.capitalize()
+    try:
+        return sym if _PT.GetAtomicNumber(sym) > 0 else None
+    except RuntimeError:
+        return None
+
+
+def _floats(items) -> bool:
+    try:
+        [float(v) for v in items]
+        return True
+    except ValueError:
+        return False
+
+
+def parse_xyz_frames(lines: Iterator[str], source: str,
+                     on_truncated: Callable[[int, str, str], None] | None = None) -> Iterator[XyzFrame]:
+    """Parse XYZ frames from an iterator of text lines, one frame at a time.
+
+    Parameters
+    ----------
+    lines : iterator of str
+        The file's lines (with or without line ends); read lazily.
+    source : str
+        File name used in error messages (``source:line``).
+    on_truncated : callable (number, reason, where) or None
+        Called for a final frame cut short by the end of the input (fewer atom lines than announced, or
+        a last line without x y z); parsing then stops. None: such a frame is an error.
+
+    Yields
+    ------
+    XyzFrame
+    """
+    it = iter(lines)
+    line_no = 0
+    ref_tokens: list[str] | None = None
+    ref_symbols: tuple[str, ...] | None = None
+    number = 0
+
+    def nxt() -> str | None:
+        nonlocal line_no
+        try:
+            text = next(it)
+        except StopIteration:
+            return None
+        line_no += 1
+        return text
+
+    while (head := nxt()) is not None:
+        if not head.strip():
+            continue
+        number += 1
+        start = line_no
+        parts = head.split()
+        if len(parts) != 1 or not _COUNT.fullmatch(parts[0]) or int(parts[0]) < 1:
+            hint = "; is the previous frame's count right?" if number > 1 else ""
+            raise InputError(f"expected the atom count of frame {number} (one positive integer), got "
+                             f"{head.strip()[:40]!r}{hint}", source=f"{source}:{start}")
+        n = int(parts[0])
+        _limits.check_count(n, _limits.MAX_ATOMS, f"atoms in frame {number}", f"{source}:{start}")
+        _limits.check_count(number, _limits.MAX_RECORDS, "XYZ frames", f"{source}:{start}")
+        if ref_symbols is not None and n != len(ref_symbols):
+            raise InputError(f"frame {number} has {n} atoms, frame 1 has {len(ref_symbols)}; every frame "
+                             f"needs the same atoms in the same order", source=f"{source}:{start}")
+        comment = nxt()
+        rows_text: list[str] = []
+        for _ in range(n):
+            text = nxt()
+            if text is None:
+                break
+            rows_text.append(text)
+        rows = [t.split() for t in rows_text]
+        at_end = False
+        if comment is not None and len(rows) == n and len(rows[-1]) < 4:
+            # a last atom line without x y z counts as a cut, but only at the very end of the input
+            probe = nxt()
+            at_end = probe is None
+            if probe is not None:
+                it = _chain(probe, it)
+                line_no -= 1
+        if comment is None or len(rows) < n or at_end:
+            complete = len(rows) - (1 if rows and len(rows[-1]) < 4 else 0)
+            reason = (f"frame {number} is truncated (announces {n} atoms, the file ends after {complete} "
+                      f"complete atom lines)")
+            if on_truncated is None:
+                raise InputError(reason, source=f"{source}:{start}")
+            on_truncated(number, reason, f"{source}:{start}")
+            return
+        tokens = [r[0] if r else "" for r in rows]
+        for k, r in enumerate(rows):
+            if len(r) < 4 or not _floats(r[1:4]) or element_symbol(r[0]) is None:
+                what = f": unknown element {r[0]!r}" if len(r) >= 4 and _floats(r[1:4]) else ""
+                raise InputError(f"expected 'element x y z' (atom {k + 1} of {n}, frame {number}), got "
+                                 f"{rows_text[k].strip()[:40]!r}{what}", source=f"{source}:{start + 2 + k}")
+        xyz = np.array([r[1:4] for r in rows], dtype=np.float64)
+        if not np.all(np.isfinite(xyz)):
+            k = int(np.flatnonzero(~np.all(np.isfinite(xyz), axis=1))[0])
+            raise InputError(f"non-finite coordinate in frame {number}", source=f"{source}:{start + 2 + k}")
+        if ref_tokens is None:
+            ref_tokens = tokens
+            ref_symbols = tuple(element_symbol(t) or "" for t in tokens)
+        elif tokens != ref_tokens:
+            syms = tuple(element_symbol(t) or "" for t in tokens)
+            if syms != ref_symbols:
+                k = next(k for k, (a, b) in enumerate(zip(syms, ref_symbols)) if a != b)
+                raise InputError(f"frame {number} does not list the atoms of frame 1 in the same order (atom "
+                                 f"{k + 1} is {tokens[k]}, frame 1 has {ref_tokens[k]})",
+                                 source=f"{source}:{start + 2 + k}")
+        assert ref_symbols is not None
+        _limits.check_coordinates(xyz[None], list(ref_symbols), f"{source}:{start} (frame {number})")
+        yield XyzFrame(number, start, ref_symbols, xyz, comment.strip())
+
+
+def _chain(first: str, rest: Iterator[str]) -> Iterator[str]:
+    yield first
+    yield from rest
