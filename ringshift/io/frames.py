@@ -59,7 +59,6 @@ _BARE = re.compile(rf"^\s*({_NUM})\s*(?:{_UNIT})?\s*$", re.IGNORECASE)
 
 _SUFFIX_UNIT = {"kcal_mol": "kcal/mol", "kj_mol": "kj/mol", "hartree": "hartree", "eh": "eh", "ev": "ev"}
 
-_PT = Chem.GetPeriodicTable()
 
 
 class TrajectoryWarning(RingshiftWarning):

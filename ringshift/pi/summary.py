@@ -6,12 +6,13 @@ Hückel–London currents; the levels of the most populated conformer come from 
 """
 
 from __future__ import annotations
+
 import numpy as np
+
 from ringshift.pi.huckel import huckel as _pisystem_huckel
 from ringshift.pi.perception import huckel_class as _pisystem_huckel_class
-from ringshift.report.json import CAUTION, _r, circuit_to_dict
+from ringshift.report.json import CAUTION, SCHEMA_VERSION, _r, circuit_to_dict
 from ringshift.shifts.prediction import predict
-
 
 
 def pi_summary(structure, *, beta_model: str = "scf", prediction=None) -> dict:
@@ -36,6 +37,7 @@ def pi_summary(structure, *, beta_model: str = "scf", prediction=None) -> dict:
     n_el = int(pi.n_electrons) if pi is not None else 0
     return {
         "ringshift_result": "pi_system",
+        "schema_version": SCHEMA_VERSION,
         "name": structure.name,
         "charge": structure.charge,
         "pi_atoms": list(pi.atoms) if pi is not None else [],

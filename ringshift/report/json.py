@@ -24,6 +24,7 @@ def comparison_to_dict(res: CompareResult) -> dict:
     comp = res.comparison.to_dict()
     out = {
         "ringshift_result": "comparison",
+        "schema_version": SCHEMA_VERSION,
         "name": res.prediction.structure.name,
         "peaks_source": res.peaks.source,
         "verdict": comp.pop("verdict"),
@@ -34,6 +35,11 @@ def comparison_to_dict(res: CompareResult) -> dict:
     out["prediction"] = prediction_to_dict(res.prediction)
     out["caution"] = CAUTION
     return out
+
+#: Version of the JSON layout written by every command (``schema_version`` in each object). The layout is
+#: described by the JSON Schemas in ``ringshift/data/schemas/``; renamed or removed fields raise the major
+#: number and are listed in README.md ("JSON output").
+SCHEMA_VERSION = "1.0"
 
 CAUTION = ("Ring-current models are approximate: they estimate the ring-current part of each shift, not "
            "the whole shift. Confirm assignments with 2D NMR and the current with quantum-chemical calculations.")
@@ -71,6 +77,7 @@ def prediction_to_dict(pred) -> dict:
     loops = [cr.circuit.label for cr in pred.circuits]
     out = {
         "ringshift_result": "prediction",
+        "schema_version": SCHEMA_VERSION,
         "name": s.name,
         "source": s.source,
         "charge": s.charge,
@@ -128,7 +135,7 @@ def trajectory_to_dict(tp: TrajectoryPrediction) -> dict:
     pos = {h: k for k, h in enumerate(tp.h_indices)}
     labels = [c.label for c in tp.circuits]
     return {
-        "ringshift_result": "trajectory_prediction", "name": tp.template.structure.name,
+        "ringshift_result": "trajectory_prediction", "schema_version": SCHEMA_VERSION, "name": tp.template.structure.name,
         "source": tp.provenance["source"], "model": tp.model, "currents": tp.currents,
         "n_frames": tp.n_frames, "weights": tp.provenance["weights"], "temperature_K": tp.temperature_K,
         "exchange_groups": [list(g) for g in tp.exchange_groups],

@@ -3,8 +3,8 @@
 Libraries (many molecules; :func:`run_batch`), one prediction per molecule, in parallel, resumable.
 
 Output. One JSON object per line and molecule, in library order:
-``{"name", "index", "source", "ok": true, "result": <prediction_to_dict>}`` or
-``{"name", "index", "source", "ok": false, "error": "<one line>"}``. A failing molecule never stops the
+``{"name", "index", "source", "schema_version", "ok": true, "result": <prediction_to_dict>}`` or
+``{"name", "index", "source", "schema_version", "ok": false, "error": "<one line>"}``. A failing molecule never stops the
 batch. Lines are appended and flushed one by one, so an interruption loses at most the molecules in
 flight; out-of-order results from the workers wait in a buffer until their turn.
 Resume. Molecules whose (index, name) is already in the output are skipped; a cut-off last line is
@@ -19,6 +19,7 @@ are retried one by one in fresh single-worker pools so only the culprit is repor
 """
 
 from __future__ import annotations
+
 import dataclasses
 import itertools
 import json
@@ -30,9 +31,11 @@ from concurrent.futures.process import BrokenProcessPool
 from dataclasses import dataclass
 from pathlib import Path
 from typing import Iterator, Mapping
+
 from ringshift.errors import InputError, OutputError
-from ringshift.io.structures import load_structure
 from ringshift.io.libraries import LibraryItem, iter_library
+from ringshift.io.structures import load_structure
+from ringshift.report.json import SCHEMA_VERSION
 
 __all__ = ['BatchSummary', 'run_batch', 'work_item']
 
@@ -61,7 +64,6 @@ def work_item(item: LibraryItem, load_kwargs: Mapping | None = None, predict_kwa
     from ringshift.report.json import prediction_to_dict
     from ringshift.shifts.prediction import predict
 
-    head = {"name": item.name, "index": item.index, "source": item.source}
     try:
         if item.kind == "sdf":
             with tempfile.TemporaryDirectory() as tmp:
@@ -72,9 +74,15 @@ def work_item(item: LibraryItem, load_kwargs: Mapping | None = None, predict_kwa
             structure = load_structure(item.text, fmt="smiles", **dict(load_kwargs or {}))
         structure = dataclasses.replace(structure, name=item.name, source=item.source)
         result = prediction_to_dict(predict(structure, **dict(predict_kwargs or {})))
-        return json.dumps(head | {"ok": True, "result": result}, ensure_ascii=False, allow_nan=False)
+        return _record(item, ok=True, result=result)
     except Exception as exc:                  # one molecule's failure is its record, not the batch's end
-        return json.dumps(head | {"ok": False, "error": _one_line(exc)}, ensure_ascii=False)
+        return _record(item, ok=False, error=_one_line(exc))
+
+
+def _record(item: LibraryItem, **fields) -> str:
+    """One JSON line of the batch output (module docstring)."""
+    head = {"name": item.name, "index": item.index, "source": item.source, "schema_version": SCHEMA_VERSION}
+    return json.dumps(head | fields, ensure_ascii=False, allow_nan=False)
 
 
 def _done_records(output: Path) -> dict[int, str]:
@@ -135,8 +143,7 @@ def _isolated(item, load_kwargs, predict_kwargs) -> str:
         with ProcessPoolExecutor(max_workers=1) as ex:
             return ex.submit(work_item, item, load_kwargs, predict_kwargs).result()
     except BrokenProcessPool:
-        return json.dumps({"name": item.name, "index": item.index, "source": item.source, "ok": False,
-                           "error": "the worker process died on this molecule (crash or out of memory)"})
+        return _record(item, ok=False, error="the worker process died on this molecule (crash or out of memory)")
 
 
 def run_batch(library_path, output_jsonl, *, jobs: int = 1, scheduler: str | None = None, resume: bool = True,
@@ -255,8 +262,7 @@ def _parallel(items: Iterator[LibraryItem], emit, jobs, scheduler, load_kwargs, 
                 except BrokenProcessPool:
                     broken.append(item)
                 except Exception as exc:      # a Dask worker lost, a pickling problem, ...
-                    buffer[item.index] = json.dumps({"name": item.name, "index": item.index, "source": item.source,
-                                                     "ok": False, "error": _one_line(exc)})
+                    buffer[item.index] = _record(item, ok=False, error=_one_line(exc))
             if broken:                        # the pool is dead: isolate everything in flight, then go on
                 broken += list(futures.values())
                 futures.clear()
