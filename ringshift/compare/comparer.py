@@ -11,7 +11,7 @@ porphyrin-nanoring currents this way)::
     δ_obs,i = ref_i + u_class(i) + Σ_c J_c g_ic + q_i + ε_i
 
 * ``ref_i`` the table reference shift of group i (ppm) and ``u_k`` one offset per proton class
-  shared by the groups of that class, prior u_k ~ N(0, s_k²) with s_k the largest ``ref_sd_ppm``
+  shared by the groups of that class, prior u_k ~ N(0, s_k²) with s_k the largest ``reference_sd_ppm``
   among the groups of class k;
 * ``J_c`` the current of circuit c (nA/T, > 0 diatropic), prior N(prior, prior_sd²);
 * ``g_ic`` the ring-current shift of group i per nA/T of circuit c (ppm per nA/T, positive =
@@ -115,15 +115,15 @@ def _validate(groups, peaks, circuits) -> None:
             if not isinstance(value, (tuple, list)) or not all(
                     isinstance(v, (Integral, np.integer)) and not isinstance(v, bool) for v in value):
                 raise InputError(f"expected a tuple of atom indices, got {value!r}", f"{src}.{name}")
-        _number(g.ref_ppm, f"{src}.ref_ppm")
-        _number(g.ref_sd_ppm, f"{src}.ref_sd_ppm", positive=True)
+        _number(g.reference_ppm, f"{src}.reference_ppm")
+        _number(g.reference_sd_ppm, f"{src}.reference_sd_ppm", positive=True)
         _number(g.charge_ppm, f"{src}.charge_ppm")
-        garr = g.g_ppm_per_nA_T
+        garr = g.geometric_ppm_per_nA_T
         if not isinstance(garr, np.ndarray) or garr.shape != (n_circ,):
             shape = getattr(garr, "shape", type(garr).__name__)
-            raise InputError(f"expected {n_circ} values (one per circuit), got {shape}", f"{src}.g_ppm_per_nA_T")
+            raise InputError(f"expected {n_circ} values (one per circuit), got {shape}", f"{src}.geometric_ppm_per_nA_T")
         if not np.all(np.isfinite(garr)):
-            raise InputError(f"expected finite values, got {garr.tolist()}", f"{src}.g_ppm_per_nA_T")
+            raise InputError(f"expected finite values, got {garr.tolist()}", f"{src}.geometric_ppm_per_nA_T")
         if not isinstance(g.proton_class, str) or not g.proton_class:
             raise InputError(f"expected a non-empty class name, got {g.proton_class!r}", f"{src}.proton_class")
     owner: dict[int, int] = {}
@@ -162,8 +162,8 @@ def _build_problem(groups, peaks, circuits, noise, integral_scale, overflow_cost
     X = np.zeros((n, K + C))
     for i, g in enumerate(groups):
         X[i, classes.index(g.proton_class)] = 1.0
-        X[i, K:] = g.g_ppm_per_nA_T
-    class_sd = [max(g.ref_sd_ppm for g in groups if g.proton_class == k) for k in classes]
+        X[i, K:] = g.geometric_ppm_per_nA_T
+    class_sd = [max(g.reference_sd_ppm for g in groups if g.proton_class == k) for k in classes]
     prior_mean = np.array([0.0] * K + [c.prior_nA_per_T for c in circuits])
     prior_sd = np.array(class_sd + [c.prior_sd_nA_per_T for c in circuits])
     integrals = np.array([np.nan if p.integral is None else p.integral for p in peaks], dtype=np.float64)
@@ -182,7 +182,7 @@ def _build_problem(groups, peaks, circuits, noise, integral_scale, overflow_cost
     problem = SearchProblem(
         peak_ppm=np.array([p.shift_ppm for p in peaks], dtype=np.float64), slots=slots,
         has_integral=has_integral, active=active,
-        base=np.array([g.ref_ppm + g.charge_ppm for g in groups]), X=X, n_h=n_h, fixed=fixed,
+        base=np.array([g.reference_ppm + g.charge_ppm for g in groups]), X=X, n_h=n_h, fixed=fixed,
         prior_mean=prior_mean, prior_sd=prior_sd, n_classes=K, noise=float(noise),
         overflow_cost=float(overflow_cost), missing_cost=float(missing_cost),
     )
@@ -247,7 +247,7 @@ def compare(
     Parameters
     ----------
     groups : sequence of GroupModel, length n
-        Predictions per hydrogen group; each ``g_ppm_per_nA_T`` has shape (n_circuits,).
+        Predictions per hydrogen group; each ``geometric_ppm_per_nA_T`` has shape (n_circuits,).
     peaks : sequence of ObservedPeak, length P
     circuits : sequence of CircuitPrior, length n_circuits
     noise_ppm : float, "auto" or None, optional

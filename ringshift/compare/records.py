@@ -63,9 +63,9 @@ class GroupModel:
         Number of protons (≥ 1).
     proton_class : str
         Reference class; groups of one class share a fitted offset.
-    ref_ppm, ref_sd_ppm : float
+    reference_ppm, reference_sd_ppm : float
         Table reference shift and its spread (> 0), ppm.
-    g_ppm_per_nA_T : ndarray, shape (n_circuits,)
+    geometric_ppm_per_nA_T : ndarray, shape (n_circuits,)
         Ring-current shift per nA/T of each circuit, ppm per nA/T (positive = downfield for a
         diatropic current).
     charge_ppm : float
@@ -77,18 +77,18 @@ class GroupModel:
     parents: tuple[int, ...]
     n_h: int
     proton_class: str
-    ref_ppm: float
-    ref_sd_ppm: float
-    g_ppm_per_nA_T: np.ndarray
+    reference_ppm: float
+    reference_sd_ppm: float
+    geometric_ppm_per_nA_T: np.ndarray
     charge_ppm: float = 0.0
 
     def __post_init__(self):
         try:
-            g = np.array(self.g_ppm_per_nA_T, dtype=np.float64).reshape(-1)
+            g = np.array(self.geometric_ppm_per_nA_T, dtype=np.float64).reshape(-1)
         except (TypeError, ValueError):
             return  # left as given; the validation gate of compare() reports it
         g.setflags(write=False)
-        object.__setattr__(self, "g_ppm_per_nA_T", g)
+        object.__setattr__(self, "geometric_ppm_per_nA_T", g)
 
 
 @dataclass(frozen=True)
@@ -186,8 +186,8 @@ class GroupAssignment(ToDictMixin):
     ``predicted_ppm`` = ref + class offset + ring current + charge (posterior mean),
     ``predicted_sd_ppm`` its predictive sd including the model error, ``prior_predicted_ppm`` the
     a priori prediction (prior currents, no offset). ``ring_current_ppm`` = Σ_c J_c g_ic is the part
-    of the shift the fitted currents explain; ``needed_ref_ppm`` = δ_obs − q is the reference shift
-    the peak would need without any ring current, ``needed_ref_z`` its distance from ``ref_ppm`` in
+    of the shift the fitted currents explain; ``needed_reference_ppm`` = δ_obs − q is the reference shift
+    the peak would need without any ring current, ``needed_reference_z`` its distance from ``reference_ppm`` in
     units of √(ref_sd² + σ²). Observed quantities are None for unassigned groups.
     """
 
@@ -209,10 +209,10 @@ class GroupAssignment(ToDictMixin):
     ring_current_sd_ppm: float
     charge_ppm: float
     class_offset_ppm: float
-    ref_ppm: float
-    ref_sd_ppm: float
-    needed_ref_ppm: float | None
-    needed_ref_z: float | None
+    reference_ppm: float
+    reference_sd_ppm: float
+    needed_reference_ppm: float | None
+    needed_reference_z: float | None
 
 
 @dataclass(frozen=True)

@@ -233,7 +233,7 @@ def group_results(problem: SearchProblem, a: np.ndarray, fit: LinearGaussianFit,
         p = int(a[i])
         obs = float(peaks[p].shift_ppm) if p >= 0 else None
         needed = obs - g.charge_ppm if obs is not None else None
-        spread = math.sqrt(g.ref_sd_ppm**2 + problem.noise**2)
+        spread = math.sqrt(g.reference_sd_ppm**2 + problem.noise**2)
         out.append(GroupAssignment(
             index=i, label=g.label, atoms=tuple(int(v) for v in g.atoms), parents=tuple(int(v) for v in g.parents),
             n_h=int(g.n_h), proton_class=g.proton_class, peak_index=p if p >= 0 else None,
@@ -243,8 +243,8 @@ def group_results(problem: SearchProblem, a: np.ndarray, fit: LinearGaussianFit,
             prior_predicted_ppm=float(problem.base[i] + gv @ problem.prior_mean[K:]),
             residual_ppm=obs - pred if obs is not None else None,
             ring_current_ppm=float(gv @ m[K:]), ring_current_sd_ppm=float(math.sqrt(gv @ S[K:, K:] @ gv)),
-            charge_ppm=float(g.charge_ppm), class_offset_ppm=float(m[k]), ref_ppm=float(g.ref_ppm),
-            ref_sd_ppm=float(g.ref_sd_ppm), needed_ref_ppm=needed,
-            needed_ref_z=(needed - g.ref_ppm) / spread if needed is not None else None,
+            charge_ppm=float(g.charge_ppm), class_offset_ppm=float(m[k]), reference_ppm=float(g.reference_ppm),
+            reference_sd_ppm=float(g.reference_sd_ppm), needed_reference_ppm=needed,
+            needed_reference_z=(needed - g.reference_ppm) / spread if needed is not None else None,
         ))
     return tuple(out)

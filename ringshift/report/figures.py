@@ -332,8 +332,8 @@ def contribution_rows(source) -> list[dict]:
     if res is not None:
         for ga in res.comparison.assignment:
             g = prior[ga.label]
-            out.append(dict(label=ga.label, n_h=ga.n_h, reference_ppm=ga.ref_ppm,
-                            base_ppm=ga.ref_ppm + ga.class_offset_ppm + ga.charge_ppm,
+            out.append(dict(label=ga.label, n_h=ga.n_h, reference_ppm=ga.reference_ppm,
+                            base_ppm=ga.reference_ppm + ga.class_offset_ppm + ga.charge_ppm,
                             ring_current_ppm=ga.ring_current_ppm, ring_current_prior_ppm=g.ring_current_ppm,
                             interval_ppm=1.96 * ga.ring_current_sd_ppm, predicted_ppm=ga.predicted_ppm,
                             prior_predicted_ppm=ga.prior_predicted_ppm, observed_ppm=ga.observed_ppm))

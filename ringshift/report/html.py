@@ -279,9 +279,9 @@ def render_html(results: dict, pi: dict | None, figures: list[tuple[str, str, st
                 ("predicted", ("predicted_ppm",), ".2f"), ("± sd", ("predicted_sd_ppm",), ".2f"),
                 ("residual", ("residual_ppm",), "+.2f"), ("Δδ_rc fitted", ("ring_current_ppm",), "+.2f"),
                 ("± sd", ("ring_current_sd_ppm",), ".2f"), ("charge", ("charge_ppm",), "+.2f"),
-                ("class offset", ("class_offset_ppm",), "+.2f"), ("reference", ("ref_ppm",), ".2f"),
+                ("class offset", ("class_offset_ppm",), "+.2f"), ("reference", ("reference_ppm",), ".2f"),
                 ("a priori", ("prior_predicted_ppm",), ".2f"), ("fixed", ("fixed",), None),
-                ("ref. needed w/o current", ("needed_ref_ppm",), ".2f"), ("its z", ("needed_ref_z",), "+.1f")]
+                ("ref. needed w/o current", ("needed_reference_ppm",), ".2f"), ("its z", ("needed_reference_z",), "+.1f")]
         body = "<p class=\"sub\">Shifts in ppm; residual = observed − predicted.</p>" + \
             pg.table("results", ("assignment",), cols)
         body += "<h3>Observed peaks</h3>" + pg.table("results", ("peaks",), [

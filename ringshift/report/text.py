@@ -43,7 +43,7 @@ def comparison_text(res: CompareResult) -> str:
     lines.append("group  nH  class                     peak     observed  predicted  residual  ring current  "
                  "ref. needed without current")
     for ga in c.assignment:
-        need = "" if ga.needed_ref_ppm is None else f"{ga.needed_ref_ppm:7.2f} (table {ga.ref_ppm:.2f}, z {ga.needed_ref_z:+.1f})"
+        need = "" if ga.needed_reference_ppm is None else f"{ga.needed_reference_ppm:7.2f} (table {ga.reference_ppm:.2f}, z {ga.needed_reference_z:+.1f})"
         lines.append(f"{ga.label:<6} {ga.n_h:>2}  {ga.proton_class[:24]:<24} {str(ga.peak_label or '-'):<8} "
                      f"{_fmt_cell(ga.observed_ppm)}  {_fmt_cell(ga.predicted_ppm)}  {_fmt_cell(ga.residual_ppm, '+8.2f')}  "
                      f"{_fmt_cell(ga.ring_current_ppm, '+10.2f')}    {need}")

@@ -51,9 +51,9 @@ def simulate(groups, currents, noise, rng, *, offsets=True, shuffle=True):
     Returns the peaks (integral = n_h) and, for each group, the index of its generating peak.
     """
     classes = sorted({g.proton_class for g in groups})
-    sd = {k: max(g.ref_sd_ppm for g in groups if g.proton_class == k) for k in classes}
+    sd = {k: max(g.reference_sd_ppm for g in groups if g.proton_class == k) for k in classes}
     u = {k: (rng.normal(0.0, sd[k]) if offsets else 0.0) for k in classes}
-    shifts = [g.ref_ppm + u[g.proton_class] + float(np.dot(g.g_ppm_per_nA_T, currents)) + g.charge_ppm
+    shifts = [g.reference_ppm + u[g.proton_class] + float(np.dot(g.geometric_ppm_per_nA_T, currents)) + g.charge_ppm
               + rng.normal(0.0, noise) for g in groups]
     order = rng.permutation(len(groups)) if shuffle else np.arange(len(groups))
     peaks = [ObservedPeak(shifts[i], float(groups[i].n_h), None, f"peak of {groups[i].label}") for i in order]
@@ -444,13 +444,13 @@ def test_shift_parts_add_up():
     result = compare(groups, peaks, PRIOR, noise_ppm=0.1)
     J = result.circuits[0].current_nA_per_T
     for g, row in zip(groups, result.assignment):
-        assert_allclose(row.ring_current_ppm, J * g.g_ppm_per_nA_T[0], rtol=1e-12)
-        assert_allclose(row.predicted_ppm, g.ref_ppm + row.class_offset_ppm + row.ring_current_ppm + 0.4, atol=1e-12)
-        assert_allclose(row.needed_ref_ppm, row.observed_ppm - 0.4, atol=1e-12)
-        assert_allclose(row.needed_ref_z, (row.needed_ref_ppm - g.ref_ppm) / math.hypot(g.ref_sd_ppm, 0.1), rtol=1e-12)
+        assert_allclose(row.ring_current_ppm, J * g.geometric_ppm_per_nA_T[0], rtol=1e-12)
+        assert_allclose(row.predicted_ppm, g.reference_ppm + row.class_offset_ppm + row.ring_current_ppm + 0.4, atol=1e-12)
+        assert_allclose(row.needed_reference_ppm, row.observed_ppm - 0.4, atol=1e-12)
+        assert_allclose(row.needed_reference_z, (row.needed_reference_ppm - g.reference_ppm) / math.hypot(g.reference_sd_ppm, 0.1), rtol=1e-12)
     # the inner proton needs a reference far outside its class spread without a ring current
     inner = next(r for r in result.assignment if r.label == "H-inner")
-    assert inner.needed_ref_z < -10
+    assert inner.needed_reference_z < -10
     assert_allclose(result.circuits[0].current_rel_benzene, J / 12.0, rtol=1e-12)  # BENZENE_CURRENT 12 nA/T
 
 
@@ -576,10 +576,10 @@ def _bad_cases():
         ("no-circuits", (g, p, ()), {}, "circuits"),
         ("nan-shift", (g, nan_peak, PRIOR), {}, "peaks[0].shift_ppm"),
         ("negative-integral", (g, neg, PRIOR), {}, "peaks[0].integral"),
-        ("nan-g", (bad_g, p, PRIOR), {}, "groups[0].g_ppm_per_nA_T"),
-        ("g-wrong-length", (short_g, p, PRIOR), {}, "groups[0].g_ppm_per_nA_T"),
-        ("inf-ref", (inf_ref, p, PRIOR), {}, "groups[0].ref_ppm"),
-        ("zero-ref-sd", (zero_sd, p, PRIOR), {}, "groups[0].ref_sd_ppm"),
+        ("nan-g", (bad_g, p, PRIOR), {}, "groups[0].geometric_ppm_per_nA_T"),
+        ("g-wrong-length", (short_g, p, PRIOR), {}, "groups[0].geometric_ppm_per_nA_T"),
+        ("inf-ref", (inf_ref, p, PRIOR), {}, "groups[0].reference_ppm"),
+        ("zero-ref-sd", (zero_sd, p, PRIOR), {}, "groups[0].reference_sd_ppm"),
         ("fixed-out-of-range", (g, fixed_out, PRIOR), {}, "peaks[0].fixed_groups"),
         ("nan-prior", (g, p, (CircuitPrior("c", float("nan"), 12.0),)), {}, "circuits[0].prior_nA_per_T"),
         ("bad-claim", (g, p, PRIOR), {"claim": "aromatic-ish"}, "claim"),
