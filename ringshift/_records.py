@@ -2,8 +2,10 @@
 """
 
 from __future__ import annotations
+
 import dataclasses
 from numbers import Integral, Real
+
 import numpy as np
 
 

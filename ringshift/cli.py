@@ -18,6 +18,22 @@ from ringshift.errors import InputError, OutputError, RingshiftWarning
 EXIT_BAD_INPUT = 2
 EXIT_INTERNAL = 1
 
+#: Library errors name the API parameter (:mod:`ringshift._validation`); the command line shows its option.
+OPTION_OF_PARAMETER = {
+    "model": "--model", "currents": "--currents", "beta_model": "--beta", "user_circuits": "--circuit",
+    "scale": "--scale", "set_current": "--set-current", "charge": "--charge", "conformers": "--conformers",
+    "seed": "--seed", "temperature_K": "--temperature", "noise_ppm": "--noise", "claim": "--claim",
+    "solvent": "--solvent", "weights": "--weights", "energy_unit": "--energy-unit", "memory_MB": "--memory",
+    "jobs": "--jobs", "scheduler": "--scheduler",
+}
+
+
+def _error_text(exc: InputError) -> str:
+    """One line for an InputError, with an API parameter name shown as the matching command-line option."""
+    if exc.source in OPTION_OF_PARAMETER:
+        return " ".join(f"{OPTION_OF_PARAMETER[exc.source]}: {exc.bare_message}".split())
+    return str(exc)
+
 
 def _show_warning(message, category, filename, lineno, file=None, line=None):  # noqa: ARG001
     text = " ".join(str(message).split())
@@ -150,11 +166,10 @@ def predict_cmd(structure, charge, conformers, seed, temperature, model, current
 def compare_cmd(structure, peaks, charge, conformers, seed, temperature, model, currents, beta_model, scale,
                 set_current, circuit, solvent, claim, noise, fmt, output, force):
     """Assign the observed PEAKS (CSV/TSV or JCAMP-DX) to STRUCTURE, fit its ring currents, give a verdict."""
-    from ringshift.report.text import comparison_text
-    from ringshift.report.json import comparison_to_dict
     from ringshift.compare.run import run_compare
-    from ringshift.report.json import to_json
     from ringshift.io.peak_tables import read_peaks
+    from ringshift.report.json import comparison_to_dict, to_json
+    from ringshift.report.text import comparison_text
 
     pred = _run_predict(structure, charge, conformers, seed, temperature, model, currents, beta_model, scale,
                         set_current, circuit)
@@ -190,8 +205,8 @@ def _noise(value):
 @click.option("--force", is_flag=True, help="Overwrite an existing plot file.")
 def pi_cmd(structure, charge, conformers, seed, temperature, beta_model, plot, fmt, force):
     """Pi-electron counts, 4n+2/4n class, planarity, Hueckel levels and circuit currents of STRUCTURE."""
-    from ringshift.report.json import to_json
     from ringshift.pi.summary import pi_summary
+    from ringshift.report.json import to_json
     from ringshift.report.text import pi_text
 
     s = _load(structure, charge, conformers, seed, temperature)
@@ -219,14 +234,13 @@ def pi_cmd(structure, charge, conformers, seed, temperature, beta_model, plot, f
 def report_cmd(structure, peaks, charge, conformers, seed, temperature, model, currents, beta_model, scale,
                set_current, circuit, solvent, claim, noise, out_dir, force, quiet):
     """Write a self-contained HTML report (with figures, JSON and SDF) for STRUCTURE [and PEAKS]."""
+    from pathlib import Path
+
     from ringshift.compare.run import run_compare
+    from ringshift.errors import OutputError
     from ringshift.io.peak_tables import read_peaks
     from ringshift.pi.summary import pi_summary
     from ringshift.report import write_report
-
-    from pathlib import Path
-
-    from ringshift.errors import OutputError
 
     if Path(out_dir).exists() and not force:  # refuse before any work is done
         raise OutputError(f"{out_dir}: already exists; use --force to replace it")
@@ -306,10 +320,9 @@ def map_cmd(structure, charge, conformers, seed, temperature, model, currents, b
 def trajectory_cmd(frames, charge, model, currents, beta_model, weights, temperature, energy_unit, frame_weights,
                    exchange, exchange_group, memory, fmt, output, force):
     """Frame-averaged ring-current shifts of a multi-frame XYZ or multi-record SDF (streamed)."""
-    from ringshift.report.json import CAUTION, to_json
-    from ringshift.runners.trajectory import predict_trajectory_file
+    from ringshift.report.json import CAUTION, to_json, trajectory_to_dict
     from ringshift.runners.averaging import read_weights_file
-    from ringshift.report.json import trajectory_to_dict
+    from ringshift.runners.trajectory import predict_trajectory_file
 
     if frame_weights is not None and weights != "uniform":
         raise InputError("give either --weights boltzmann or --frame-weights FILE, not both", "--frame-weights")
@@ -405,7 +418,8 @@ def main(argv=None):
     except (InputError, OutputError) as exc:
         if debug:
             raise
-        print(f"ringshift: error: {exc}", file=sys.stderr)
+        text = _error_text(exc) if isinstance(exc, InputError) else str(exc)
+        print(f"ringshift: error: {text}", file=sys.stderr)
         sys.exit(EXIT_BAD_INPUT)
     except KeyboardInterrupt:
         print("ringshift: interrupted", file=sys.stderr)

@@ -29,9 +29,9 @@ neighbouring assignments for the report of alternatives.
 """
 
 from __future__ import annotations
+
 import numpy as np
 from scipy.optimize import linear_sum_assignment
-
 
 #: Cost standing in for a forbidden (group, peak) pair; finite so the solver stays feasible.
 FORBIDDEN_COST: float = 1e12

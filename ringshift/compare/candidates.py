@@ -6,15 +6,18 @@ evidence (log marginal likelihood); :func:`rank` does the same from predictions 
 """
 
 from __future__ import annotations
+
 import math
 import warnings
 from typing import Sequence
+
 import numpy as np
-from ringshift.errors import AssignmentWarning, InputError
-from ringshift.compare.records import CircuitPrior, GroupModel, ObservedPeak
-from ringshift.compare.records import CandidateScore
-from ringshift.compare.comparer import MISSING_COST, _number, compare
+
+from ringshift import _validation as _v
+from ringshift.compare.comparer import MISSING_COST, compare
+from ringshift.compare.records import CandidateScore, CircuitPrior, GroupModel, ObservedPeak
 from ringshift.compare.run import circuit_priors, group_models, observed_peaks
+from ringshift.errors import AssignmentWarning, InputError
 
 __all__ = ['rank_candidates', 'rank']
 
@@ -55,7 +58,7 @@ def rank_candidates(
     """
     if isinstance(candidates, (str, bytes)) or not isinstance(candidates, Sequence) or len(candidates) == 0:
         raise InputError("expected a non-empty sequence of (name, groups, circuits)", "candidates")
-    _number(unassigned_peak_cost, "unassigned_peak_cost", nonneg=True)
+    _v.real(unassigned_peak_cost, "unassigned_peak_cost", nonneg=True)
     results = []
     for i, cand in enumerate(candidates):
         if not isinstance(cand, (tuple, list)) or len(cand) != 3 or not isinstance(cand[0], str):

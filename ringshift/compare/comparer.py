@@ -40,20 +40,31 @@ verdict is that of the circuit with the largest lead.
 """
 
 from __future__ import annotations
+
 import math
 import warnings
-from numbers import Integral, Real
+from numbers import Integral
 from typing import Sequence
+
 import numpy as np
-from ringshift.compare.search import SearchProblem, polish, search as _assign_search, starting_points
+
+from ringshift import _validation as _v
 from ringshift.compare.assignment import slot_counts
-from ringshift.compare.records import SIGN_PRIOR_SD_NA_PER_T
-from ringshift.compare.records import Alternative, PeakSummary
-from ringshift.compare.search import group_results, peak_label
-from ringshift.errors import AssignmentWarning, InputError
 from ringshift.compare.evidence import CLAIM_VERDICT, circuit_fits, claim_check
-from ringshift.compare.records import CircuitFit
-from ringshift.compare.records import CircuitPrior, ClassOffset, Comparison, GroupModel, ObservedPeak
+from ringshift.compare.records import (
+    SIGN_PRIOR_SD_NA_PER_T,
+    Alternative,
+    CircuitFit,
+    CircuitPrior,
+    ClassOffset,
+    Comparison,
+    GroupModel,
+    ObservedPeak,
+    PeakSummary,
+)
+from ringshift.compare.search import SearchProblem, group_results, peak_label, polish, starting_points
+from ringshift.compare.search import search as _assign_search
+from ringshift.errors import AssignmentWarning, InputError
 
 __all__ = ['compare']
 
@@ -77,19 +88,6 @@ ALTERNATIVE_MAX_DELTA: float = 2.0
 #: Peak kinds never assigned to groups.
 IGNORED_KINDS: frozenset[str] = frozenset({"solvent", "impurity", "reference"})
 
-# ------------------------------------------------------------------------------------- validation
-def _number(value, source: str, *, positive: bool = False, nonneg: bool = False) -> float:
-    if isinstance(value, (bool, np.bool_)) or not isinstance(value, (Real, np.floating, np.integer)):
-        raise InputError(f"expected a real number, got {value!r}", source)
-    value = float(value)
-    if not math.isfinite(value):
-        raise InputError(f"expected a finite number, got {value}", source)
-    if positive and value <= 0.0:
-        raise InputError(f"expected a number > 0, got {value}", source)
-    if nonneg and value < 0.0:
-        raise InputError(f"expected a number >= 0, got {value}", source)
-    return value
-
 
 def _validate(groups, peaks, circuits) -> None:
     """The one validation gate of this module; raises InputError with a one-line message."""
@@ -104,8 +102,8 @@ def _validate(groups, peaks, circuits) -> None:
                 raise InputError(f"expected a {cls.__name__}, got {type(item).__name__}", f"{name}[{i}]")
     n_circ = len(circuits)
     for i, c in enumerate(circuits):
-        _number(c.prior_nA_per_T, f"circuits[{i}].prior_nA_per_T")
-        _number(c.prior_sd_nA_per_T, f"circuits[{i}].prior_sd_nA_per_T", positive=True)
+        _v.real(c.prior_nA_per_T, f"circuits[{i}].prior_nA_per_T")
+        _v.real(c.prior_sd_nA_per_T, f"circuits[{i}].prior_sd_nA_per_T", positive=True)
     for i, g in enumerate(groups):
         src = f"groups[{i}]"
         if isinstance(g.n_h, bool) or not isinstance(g.n_h, (Integral, np.integer)) or g.n_h < 1:
@@ -115,9 +113,9 @@ def _validate(groups, peaks, circuits) -> None:
             if not isinstance(value, (tuple, list)) or not all(
                     isinstance(v, (Integral, np.integer)) and not isinstance(v, bool) for v in value):
                 raise InputError(f"expected a tuple of atom indices, got {value!r}", f"{src}.{name}")
-        _number(g.reference_ppm, f"{src}.reference_ppm")
-        _number(g.reference_sd_ppm, f"{src}.reference_sd_ppm", positive=True)
-        _number(g.charge_ppm, f"{src}.charge_ppm")
+        _v.real(g.reference_ppm, f"{src}.reference_ppm")
+        _v.real(g.reference_sd_ppm, f"{src}.reference_sd_ppm", positive=True)
+        _v.real(g.charge_ppm, f"{src}.charge_ppm")
         garr = g.geometric_ppm_per_nA_T
         if not isinstance(garr, np.ndarray) or garr.shape != (n_circ,):
             shape = getattr(garr, "shape", type(garr).__name__)
@@ -129,9 +127,9 @@ def _validate(groups, peaks, circuits) -> None:
     owner: dict[int, int] = {}
     for i, p in enumerate(peaks):
         src = f"peaks[{i}]"
-        _number(p.shift_ppm, f"{src}.shift_ppm")
+        _v.real(p.shift_ppm, f"{src}.shift_ppm")
         if p.integral is not None:
-            _number(p.integral, f"{src}.integral", nonneg=True)
+            _v.real(p.integral, f"{src}.integral", nonneg=True)
         for j in p.fixed_groups or ():
             if isinstance(j, bool) or not isinstance(j, (Integral, np.integer)) or not 0 <= j < len(groups):
                 raise InputError(f"expected group indices 0..{len(groups) - 1}, got {j!r}", f"{src}.fixed_groups")
@@ -146,14 +144,14 @@ def _validate(groups, peaks, circuits) -> None:
 
 def _check_options(noise_ppm, claim, n_alternatives, n_random_starts, integral_scale) -> None:
     if noise_ppm is not None and not (isinstance(noise_ppm, str) and noise_ppm == "auto"):
-        _number(noise_ppm, "noise_ppm", positive=True)
+        _v.real(noise_ppm, "noise_ppm", positive=True)
     if claim is not None and claim not in CLAIM_VERDICT:
         raise InputError(f"expected one of {sorted(CLAIM_VERDICT)} or None, got {claim!r}", "claim")
     for name, v in (("n_alternatives", n_alternatives), ("n_random_starts", n_random_starts)):
         if isinstance(v, bool) or not isinstance(v, (Integral, np.integer)) or v < 0:
             raise InputError(f"expected an integer >= 0, got {v!r}", name)
     if integral_scale is not None:
-        _number(integral_scale, "integral_scale", positive=True)
+        _v.real(integral_scale, "integral_scale", positive=True)
 
 
 def _build_problem(groups, peaks, circuits, noise, integral_scale, overflow_cost, missing_cost):
@@ -217,10 +215,10 @@ def _alternatives(problem, state, neigh, groups, peaks, circuits, width, n_max, 
 
 
 def _check_search_options(width, overflow_cost, missing_cost, max_delta, max_iter) -> None:
-    _number(width, "sign_prior_sd_nA_per_T", positive=True)
-    _number(overflow_cost, "overflow_cost_per_h", nonneg=True)
-    _number(missing_cost, "missing_cost", nonneg=True)
-    _number(max_delta, "alternative_max_delta", nonneg=True)
+    _v.real(width, "sign_prior_sd_nA_per_T", positive=True)
+    _v.real(overflow_cost, "overflow_cost_per_h", nonneg=True)
+    _v.real(missing_cost, "missing_cost", nonneg=True)
+    _v.real(max_delta, "alternative_max_delta", nonneg=True)
     if isinstance(max_iter, bool) or not isinstance(max_iter, (Integral, np.integer)) or max_iter < 1:
         raise InputError(f"expected an integer >= 1, got {max_iter!r}", "max_iter")
 

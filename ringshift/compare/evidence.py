@@ -31,14 +31,16 @@ Bayes factors are read on the scale of Kass & Raftery (J. Am. Stat. Assoc. 1995,
 """
 
 from __future__ import annotations
+
 import math
 from dataclasses import dataclass
+
 import numpy as np
 from scipy import linalg
 from scipy.special import log_ndtr, ndtr
-from ringshift.constants import BENZENE_CURRENT_NA_PER_T
-from ringshift.compare.records import CircuitEvidence, CircuitFit, ClaimCheck
 
+from ringshift.compare.records import CircuitEvidence, CircuitFit, ClaimCheck
+from ringshift.constants import BENZENE_CURRENT_NA_PER_T
 
 #: Kass & Raftery (JASA 1995, 90, 773, §3.2) categories on the 2 ln B scale: (lower bound, name).
 #: A value belongs to the last category whose lower bound it reaches.

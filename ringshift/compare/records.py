@@ -8,11 +8,13 @@ assignments (:class:`Alternative`), class offsets (:class:`ClassOffset`) and can
 """
 
 from __future__ import annotations
+
 from dataclasses import dataclass
+
 import numpy as np
+
 from ringshift._records import ToDictMixin, fields_to_plain
 from ringshift.constants import BENZENE_CURRENT_NA_PER_T
-
 
 #: Width w (nA/T) of the symmetric prior whose halves are the sign hypotheses: 1.5 × benzene.
 SIGN_PRIOR_SD_NA_PER_T: float = 1.5 * BENZENE_CURRENT_NA_PER_T

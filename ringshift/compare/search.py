@@ -8,13 +8,16 @@ the final assignment into :class:`ringshift.compare.records.GroupAssignment` row
 """
 
 from __future__ import annotations
+
 import dataclasses
 import math
 from dataclasses import dataclass
+
 import numpy as np
+
+from ringshift.compare.assignment import overflow_protons, pair_swaps, solve_assignment, standardized_cost
 from ringshift.compare.evidence import LinearGaussianFit, linear_gaussian_fit
 from ringshift.compare.records import GroupAssignment
-from ringshift.compare.assignment import overflow_protons, pair_swaps, solve_assignment, standardized_cost
 
 
 # ------------------------------------------------------------------------- alternating search

@@ -3,11 +3,13 @@ near-wire warning and μ0/4π in ppm·Å per nA/T.
 """
 
 from __future__ import annotations
+
 import warnings
+
 import numpy as np
+
 from ringshift.constants import MU0_PPM_A_PER_NA_T, WIRE_CUTOFF_A
 from ringshift.errors import GeometryWarning, InputError
-
 
 #: (mu0/4π) × (1 nA/T) in ppm·Å: turns a geometric factor in Å⁻¹ into ppm per nA/T.
 _MU0_4PI = MU0_PPM_A_PER_NA_T / (4.0 * np.pi)
@@ -19,39 +21,6 @@ _PAIRS_PER_CHUNK = 1 << 16
 #: Terms of the far-field multipole series of a circular loop; beyond FAR_FIELD_RADII radii each term
 #: is smaller than the previous by about (a/R)² ≤ 0.01, so 12 terms are exact to rounding.
 _N_MULTIPOLE = 12
-
-# ----------------------------------------------------------------------------------------------------
-# Validation gate
-# ----------------------------------------------------------------------------------------------------
-def _array(x, name: str, shape: tuple, what: str) -> np.ndarray:
-    """Float64 C-contiguous array of a fixed shape pattern (``-1`` = any length), finite values."""
-    try:
-        arr = np.ascontiguousarray(x, dtype=np.float64)
-    except (TypeError, ValueError):
-        raise InputError(f"{name}: expected {what} of numbers, got {type(x).__name__}") from None
-    if arr.ndim != len(shape) or any(s != -1 and s != t for s, t in zip(shape, arr.shape)):
-        raise InputError(f"{name}: expected {what}, got an array of shape {arr.shape}")
-    if not np.all(np.isfinite(arr)):
-        raise InputError(f"{name}: contains NaN or inf; expected finite coordinates/values")
-    return arr
-
-
-def _unit(x, name: str) -> np.ndarray:
-    v = _array(x, name, (3,), "a vector of shape (3,)")
-    norm = float(np.linalg.norm(v))
-    if norm < 1e-12:
-        raise InputError(f"{name}: the normal/direction has zero length; expected a non-zero (3,) vector")
-    return v / norm
-
-
-def _nonneg(x, name: str, strict: bool = False) -> float:
-    try:
-        val = float(x)
-    except (TypeError, ValueError):
-        raise InputError(f"{name}: expected a number, got {x!r}") from None
-    if not np.isfinite(val) or val < 0 or (strict and val == 0):
-        raise InputError(f"{name}: expected a finite number {'>' if strict else '>='} 0, got {x!r}")
-    return val
 
 
 def _chunk(chunk_size, n_vertices: int) -> int:
@@ -97,6 +66,3 @@ def _warn_near(count: int, stacklevel: int = 3, what: str = "a current wire",
                                       f"shielding was {how} and is unreliable"), stacklevel=stacklevel)
 
 
-def _check_lengths(a, b, name):
-    if np.any(np.einsum("ij,ij->i", b - a, b - a) < 1e-12):
-        raise InputError(f"{name}: a segment has zero length; expected distinct start and end points")

@@ -9,10 +9,13 @@ nA/T, σ > 0 shielding.
 """
 
 from __future__ import annotations
+
 import numpy as np
 from scipy.special import binom, ellipe, ellipk, eval_legendre
+
+from ringshift import _validation as _v
 from ringshift.constants import FAR_FIELD_RADII, JB_SEPARATION_A, MU0_PPM_A_PER_NA_T, WIRE_CUTOFF_A
-from ringshift.fields._common import _MU0_4PI, _N_MULTIPOLE, _array, _nonneg, _unit, _warn_near
+from ringshift.fields._common import _MU0_4PI, _N_MULTIPOLE, _warn_near
 
 __all__ = ['johnson_bovey_shielding', 'point_dipole_shielding']
 
@@ -80,11 +83,11 @@ def johnson_bovey_shielding(points, centre, normal, radius_A, *, separation_A=JB
     the exterior multipole series is used; its first term is the point dipole of
     :func:`point_dipole_shielding` (Pople 1956) and the further terms make the switch seamless.
     """
-    pts = _array(points, "points", (-1, 3), "points of shape (n, 3)")
-    c = _array(centre, "centre", (3,), "a centre of shape (3,)")
-    n = _unit(normal, "normal")
-    a = _nonneg(radius_A, "radius_A", strict=True)
-    h = _nonneg(separation_A, "separation_A")
+    pts = _v.array(points, "points", (-1, 3), "points of shape (n, 3)")
+    c = _v.array(centre, "centre", (3,), "a centre of shape (3,)")
+    n = _v.unit_vector(normal, "normal")
+    a = _v.real(radius_A, "radius_A", positive=True)
+    h = _v.real(separation_A, "separation_A", nonneg=True)
     rel = pts - c
     z = rel @ n
     rho = np.sqrt(np.maximum(np.einsum("ij,ij->i", rel, rel) - z * z, 0.0))
@@ -120,10 +123,10 @@ def point_dipole_shielding(points, centre, normal, area_A2):
     Far-field form only: it over-estimates near the ring and diverges at the centre. R is floored at
     WIRE_CUTOFF_A (a GeometryWarning counts such points) so that the result is always finite.
     """
-    pts = _array(points, "points", (-1, 3), "points of shape (n, 3)")
-    c = _array(centre, "centre", (3,), "a centre of shape (3,)")
-    n = _unit(normal, "normal")
-    S = _nonneg(area_A2, "area_A2", strict=True)
+    pts = _v.array(points, "points", (-1, 3), "points of shape (n, 3)")
+    c = _v.array(centre, "centre", (3,), "a centre of shape (3,)")
+    n = _v.unit_vector(normal, "normal")
+    S = _v.real(area_A2, "area_A2", positive=True)
     rel = pts - c
     R = np.sqrt(np.einsum("ij,ij->i", rel, rel))
     z = rel @ n

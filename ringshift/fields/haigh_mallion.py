@@ -6,9 +6,12 @@ ppm per nA/T, σ > 0 shielding.
 """
 
 from __future__ import annotations
+
 import numpy as np
+
+from ringshift import _validation as _v
 from ringshift.constants import WIRE_CUTOFF_A
-from ringshift.fields._common import _MU0_4PI, _array, _chunk, _polygons, _warn_near
+from ringshift.fields._common import _MU0_4PI, _chunk, _polygons, _warn_near
 from ringshift.fields.polygon import _segment_kernel
 
 __all__ = ['haigh_mallion_shielding']
@@ -47,9 +50,9 @@ def haigh_mallion_shielding(points, vertices, normal, *, chunk_size=None):
     sigma_iso = (1/3)(mu0/4π)·J·G with G as defined above. Distances are floored at WIRE_CUTOFF_A;
     points within WIRE_CUTOFF_A of a bond are reported by a GeometryWarning.
     """
-    pts = _array(points, "points", (-1, 3), "points of shape (n, 3)")
-    v = _array(vertices, "vertices", (-1, 3), "ring vertices of shape (m, 3) with m >= 3")
-    n, sign = _polygons(v[None], _array(normal, "normal", (3,), "a vector of shape (3,)")[None], False)
+    pts = _v.array(points, "points", (-1, 3), "points of shape (n, 3)")
+    v = _v.array(vertices, "vertices", (-1, 3), "ring vertices of shape (m, 3) with m >= 3")
+    n, sign = _polygons(v[None], _v.array(normal, "normal", (3,), "a vector of shape (3,)")[None], False)
     n, m = n[0], v.shape[0]
     chunk = _chunk(chunk_size, m)
     origin = v.mean(axis=0)

@@ -6,10 +6,13 @@ textbook Biot–Savart result. Output in ppm, σ > 0 shielding.
 """
 
 from __future__ import annotations
+
 import numpy as np
+
+from ringshift import _validation as _v
 from ringshift.constants import JB_SEPARATION_A
 from ringshift.errors import InputError
-from ringshift.fields._common import _MU0_4PI, _array, _check_lengths, _chunk, _nonneg, _unit, _warn_near
+from ringshift.fields._common import _MU0_4PI, _chunk, _warn_near
 from ringshift.fields.polygon import _segment_kernel
 
 __all__ = ['network_shielding']
@@ -50,39 +53,39 @@ def network_shielding(points, starts, ends, bond_currents, normal_per_bond=None,
         Units: ppm for currents in nA/T. For one ring whose bonds all carry J clockwise about n
         (diatropic) and field_dir = n this equals J · :func:`polygon_shielding` (tested).
     """
-    pts = _array(points, "points", (-1, 3), "points of shape (n, 3)")
-    a = _array(starts, "starts", (-1, 3), "bond starts of shape (m, 3)")
+    pts = _v.array(points, "points", (-1, 3), "points of shape (n, 3)")
+    a = _v.array(starts, "starts", (-1, 3), "bond starts of shape (m, 3)")
     m = a.shape[0]
-    b = _array(ends, "ends", (m, 3), f"bond ends of shape ({m}, 3) like starts")
-    h = _nonneg(separation_A, "separation_A")
+    b = _v.array(ends, "ends", (m, 3), f"bond ends of shape ({m}, 3) like starts")
+    h = _v.real(separation_A, "separation_A", nonneg=True)
     if np.ndim(bond_currents) == 2:
-        cur = _array(bond_currents, "bond_currents", (3, m), f"currents of shape ({m},) or (3, {m})")
-        dirs = np.eye(3) if field_dir is None else _array(field_dir, "field_dir", (3, 3),
+        cur = _v.array(bond_currents, "bond_currents", (3, m), f"currents of shape ({m},) or (3, {m})")
+        dirs = np.eye(3) if field_dir is None else _v.array(field_dir, "field_dir", (3, 3),
                                                            "three field directions of shape (3, 3)")
         if not np.allclose(dirs @ dirs.T, np.eye(3), atol=1e-8):
             raise InputError("field_dir: expected three orthonormal rows for (3, m) bond currents")
     else:
-        cur = _array(bond_currents, "bond_currents", (m,), f"currents of shape ({m},) or (3, {m})")[None]
+        cur = _v.array(bond_currents, "bond_currents", (m,), f"currents of shape ({m},) or (3, {m})")[None]
         if field_dir is None:
             raise InputError("field_dir: expected the (3,) direction of the external field that induced "
                              "the (m,) bond currents (e.g. the ring normal), got None")
-        dirs = _unit(field_dir, "field_dir")[None]
+        dirs = _v.unit_vector(field_dir, "field_dir")[None]
     if normal_per_bond is None:
         if h > 0 and dirs.shape[0] == 3:
             raise InputError("normal_per_bond: expected (m, 3) bond normals to place the double loop "
                              "for (3, m) currents, got None; pass them or separation_A=0")
         normals = np.tile(dirs[0], (m, 1))
     elif np.ndim(normal_per_bond) == 1:
-        normals = np.tile(_unit(normal_per_bond, "normal_per_bond"), (m, 1))
+        normals = np.tile(_v.unit_vector(normal_per_bond, "normal_per_bond"), (m, 1))
     else:
-        normals = _array(normal_per_bond, "normal_per_bond", (m, 3), f"bond normals of shape ({m}, 3)")
+        normals = _v.array(normal_per_bond, "normal_per_bond", (m, 3), f"bond normals of shape ({m}, 3)")
         lens = np.linalg.norm(normals, axis=1)
         if np.any(lens < 1e-12):
             raise InputError("normal_per_bond: a bond normal has zero length; expected non-zero vectors")
         normals = normals / lens[:, None]
     if m == 0 or pts.shape[0] == 0:
         return np.zeros(pts.shape[0])
-    _check_lengths(a, b, "starts/ends")
+    _v.nonzero_segments(a, b, "starts/ends")
     if h == 0.0:
         ends_all, w = np.concatenate([a, b]), cur
     else:

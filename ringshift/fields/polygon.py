@@ -35,9 +35,12 @@ Sources: Biot–Savart field of a straight segment (any electromagnetism textboo
 """
 
 from __future__ import annotations
+
 import numpy as np
+
+from ringshift import _validation as _v
 from ringshift.constants import JB_SEPARATION_A, WIRE_CUTOFF_A
-from ringshift.fields._common import _MU0_4PI, _array, _check_lengths, _chunk, _cross, _nonneg, _polygons, _warn_near
+from ringshift.fields._common import _MU0_4PI, _chunk, _cross, _polygons, _warn_near
 
 __all__ = ['segment_field', 'polygon_shielding']
 
@@ -191,14 +194,14 @@ def segment_field(points, starts, ends, *, currents=None, chunk_size=None) -> np
     Points within WIRE_CUTOFF_A of a segment are regularised (module notes) and reported with a
     GeometryWarning.
     """
-    pts = _array(points, "points", (-1, 3), "points of shape (n, 3)")
-    a = _array(starts, "starts", (-1, 3), "segment starts of shape (m, 3)")
-    b = _array(ends, "ends", (a.shape[0], 3), f"segment ends of shape ({a.shape[0]}, 3) like starts")
+    pts = _v.array(points, "points", (-1, 3), "points of shape (n, 3)")
+    a = _v.array(starts, "starts", (-1, 3), "segment starts of shape (m, 3)")
+    b = _v.array(ends, "ends", (a.shape[0], 3), f"segment ends of shape ({a.shape[0]}, 3) like starts")
     m = a.shape[0]
-    w = np.ones(m) if currents is None else _array(currents, "currents", (m,), f"currents of shape ({m},)")
+    w = np.ones(m) if currents is None else _v.array(currents, "currents", (m,), f"currents of shape ({m},)")
     if m == 0 or pts.shape[0] == 0:
         return np.zeros((pts.shape[0], 3))
-    _check_lengths(a, b, "starts/ends")
+    _v.nonzero_segments(a, b, "starts/ends")
     verts = np.concatenate([a, b])
     out, near = _segment_kernel(pts[None], verts[None], np.arange(m), np.arange(m, 2 * m), np.eye(3)[None],
                                 np.tile(w, (3, 1)), _chunk(chunk_size, 2 * m))
@@ -237,17 +240,17 @@ def polygon_shielding(points, vertices, normal, *, separation_A=JB_SEPARATION_A,
     per conformer to rounding (tested). Points within WIRE_CUTOFF_A of a wire are regularised and
     reported by one GeometryWarning per call, counting points over all conformers.
     """
-    h = _nonneg(separation_A, "separation_A")
+    h = _v.real(separation_A, "separation_A", nonneg=True)
     stacked = np.ndim(points) == 3
     if stacked:
-        P = _array(points, "points", (-1, -1, 3), "points of shape (n_conf, n, 3)")
+        P = _v.array(points, "points", (-1, -1, 3), "points of shape (n_conf, n, 3)")
         nc = P.shape[0]
-        V = _array(vertices, "vertices", (nc, -1, 3), f"vertices of shape ({nc}, m, 3) for {nc} conformers")
-        N = _array(normal, "normal", (nc, 3), f"normals of shape ({nc}, 3) for {nc} conformers")
+        V = _v.array(vertices, "vertices", (nc, -1, 3), f"vertices of shape ({nc}, m, 3) for {nc} conformers")
+        N = _v.array(normal, "normal", (nc, 3), f"normals of shape ({nc}, 3) for {nc} conformers")
     else:
-        P = _array(points, "points", (-1, 3), "points of shape (n, 3) or (n_conf, n, 3)")[None]
-        V = _array(vertices, "vertices", (-1, 3), "ring vertices of shape (m, 3) with m >= 3")[None]
-        N = _array(normal, "normal", (3,), "a vector of shape (3,)")[None]
+        P = _v.array(points, "points", (-1, 3), "points of shape (n, 3) or (n_conf, n, 3)")[None]
+        V = _v.array(vertices, "vertices", (-1, 3), "ring vertices of shape (m, 3) with m >= 3")[None]
+        N = _v.array(normal, "normal", (3,), "a vector of shape (3,)")[None]
     N, sign = _polygons(V, N, stacked)
     chunk, k, m = _chunk(chunk_size, V.shape[1] + 1), P.shape[1], V.shape[1]
     if h > 0.0:  # points moved by ∓h along n see one loop in the ring plane; filled in place

@@ -6,13 +6,15 @@ returns ppm of ring-current shift per nA/T of diatropic current.
 """
 
 from __future__ import annotations
+
 from typing import Sequence
+
 import numpy as np
+
 from ringshift import fields
 from ringshift.constants import JB_SEPARATION_A, MODELS
 from ringshift.errors import InputError
 from ringshift.geometry.circuits import Circuit, CircuitGeometry
-
 
 MODEL_DESCRIPTIONS = {
     "polygon": "exact polygon Biot-Savart double loop through the ring atoms (+/-0.64 A, half current each)",
@@ -67,6 +69,6 @@ def geometric_factors(coords: np.ndarray, h_idx: Sequence[int], circuits: Sequen
                 sig = fields.point_dipole_shielding(pts, geo.centre[k], n, float(geo.area_A2[k]))
             else:
                 raise InputError(f"unknown shielding model {model!r}; expected one of {', '.join(MODELS)}",
-                                 "--model")
+                                 "model")
             out[k, c, :] = -np.asarray(sig, dtype=float)
     return out

@@ -20,13 +20,15 @@ external field along +n). Isotropic shieldings do not depend on that choice.
 """
 
 from __future__ import annotations
+
 from dataclasses import dataclass
 from typing import Iterable, Sequence
+
 import numpy as np
 from rdkit import Chem
-from ringshift.geometry import planes as pg
-from ringshift.errors import InputError
 
+from ringshift.errors import InputError
+from ringshift.geometry import planes as pg
 
 #: RMS out-of-plane deviation (Å) above which a circuit is flagged as too far from planar. A tub
 #: cyclooctatetraene deviates ≈0.4 Å; planar aromatics < 0.05 Å (common practice, no source).
@@ -300,18 +302,18 @@ def _canonical_rotation(cycle: Sequence[int]) -> tuple[int, ...]:
 def _check_user_circuit(mol: Chem.Mol, cyc: tuple[int, ...]) -> None:
     n = mol.GetNumAtoms()
     if len(cyc) < 3:
-        raise InputError(f"a circuit needs at least 3 atoms, got {list(cyc)}", "--circuit")
+        raise InputError(f"a circuit needs at least 3 atoms, got {list(cyc)}", "user_circuits")
     if len(set(cyc)) != len(cyc):
-        raise InputError(f"circuit {list(cyc)} repeats an atom", "--circuit")
+        raise InputError(f"circuit {list(cyc)} repeats an atom", "user_circuits")
     for a in cyc:
         if not 0 <= a < n:
-            raise InputError(f"atom index {a} is out of range 0..{n - 1}", "--circuit")
+            raise InputError(f"atom index {a} is out of range 0..{n - 1}", "user_circuits")
     for k in range(len(cyc)):
         i, j = cyc[k], cyc[(k + 1) % len(cyc)]
         if mol.GetBondBetweenAtoms(i, j) is None:
             raise InputError(
                 f"atoms {i} and {j} of circuit {list(cyc)} are not bonded; give the atoms in ring order",
-                "--circuit",
+                "user_circuits",
             )
 
 

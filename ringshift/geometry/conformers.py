@@ -9,10 +9,13 @@ kept within an energy window, pruned by RMSD over graph automorphisms and weight
 """
 
 from __future__ import annotations
+
 import warnings
+
 import numpy as np
 from rdkit import Chem, rdBase
 from rdkit.Chem import rdDistGeom, rdForceFieldHelpers
+
 from ringshift.constants import KB_KCAL_PER_MOL_K
 from ringshift.errors import GeometryWarning, InputError
 from ringshift.geometry.symmetry import automorphisms, prune_conformers, symmetry_graph

@@ -9,6 +9,7 @@ Conventions: coordinates in Å, float64; ``xyz`` is (n_atoms, 3) or, where state
 """
 
 from __future__ import annotations
+
 import numpy as np
 from scipy.sparse import coo_matrix
 from scipy.sparse.csgraph import breadth_first_order

@@ -8,8 +8,10 @@ which re-exports :func:`group_equivalent_hydrogens`, :func:`kabsch_rmsd` and
 """
 
 from __future__ import annotations
+
 import numpy as np
 from rdkit import Chem
+
 from ringshift.errors import InputError
 
 __all__ = ['group_equivalent_hydrogens', 'H_SYMMETRY_TOLERANCE_A', 'symmetry_graph', 'automorphisms', 'kabsch_rmsd', 'prune_conformers']

@@ -66,6 +66,7 @@ from dataclasses import dataclass, field
 
 import numpy as np
 
+from ringshift import _validation as _v
 from ringshift.constants import BETA_MODELS
 from ringshift.errors import InputError
 from ringshift.pi.parameters import (
@@ -79,8 +80,6 @@ from ringshift.pi.parameters import (
 )
 from ringshift.pi.perception import (
     PiSystem,
-    _check_coords,
-    _check_mol,
     _frozen,
     _p_axes,
 )
@@ -174,9 +173,9 @@ def huckel(pi: PiSystem, mol, coords=None, *, beta_model: str = "distance",
     -------
     HuckelResult
     """
-    _check_mol(mol)
+    _v.molecule(mol)
     _check_model(beta_model, pi)
-    xyz = _check_coords(mol, coords, required=beta_model != "uniform")
+    xyz = _v.coordinates(mol, coords, required=beta_model != "uniform")
     if distortion is not None and not (isinstance(distortion, (int, float)) and -1.0 < float(distortion) < 1.0):
         raise InputError(f"distortion: expected a bond-alternation fraction in (-1, 1), got {distortion!r}")
     lb, hd, k, is_cc, dbl, ov, lengths, dist = _setup(pi, mol, xyz, distortion)

@@ -16,20 +16,31 @@ Schneider, Can. J. Chem. 1963, 41, 966).
 """
 
 from __future__ import annotations
+
 from dataclasses import dataclass
+from functools import lru_cache
 from typing import Sequence
+
 import numpy as np
-from ringshift.pi.parameters import BETA0_EV, BETA_REF_LENGTH_A, HETERO_PARAMETERS
-from ringshift.pi.huckel import SCF_RELATIONS, beta_distance_factor, density_matrix, huckel_matrix, scf_cc_lengths
-from ringshift.geometry import planes as pg
+from scipy import constants as _sc
+
+from ringshift import _validation as _v
 from ringshift.constants import BENZENE_CURRENT_NA_PER_T
 from ringshift.errors import InputError
-from ringshift.pi.parameters import PI_CHARGE_PPM_PER_E
-from functools import lru_cache
-from scipy import constants as _sc
-from ringshift.pi.parameters import DEGENERACY_TOL
-from ringshift.pi.huckel import HuckelResult, _check_model, huckel, occupy
-from ringshift.pi.perception import PiSystem, _PLANAR_TOL_A, _check_circuit, _check_coords, _check_mol, _frozen
+from ringshift.geometry import planes as pg
+from ringshift.pi.huckel import (
+    SCF_RELATIONS,
+    HuckelResult,
+    _check_model,
+    beta_distance_factor,
+    density_matrix,
+    huckel,
+    huckel_matrix,
+    occupy,
+    scf_cc_lengths,
+)
+from ringshift.pi.parameters import BETA0_EV, BETA_REF_LENGTH_A, DEGENERACY_TOL, HETERO_PARAMETERS, PI_CHARGE_PPM_PER_E
+from ringshift.pi.perception import _PLANAR_TOL_A, PiSystem, _check_circuit, _frozen
 
 __all__ = ['LondonCurrents', 'london_currents', 'circuit_normals', 'london_bond_response', 'kirchhoff_decomposition', 'regular_polygon', 'benzene_reference_response', 'absolute_current_nA_per_T', 'pi_charge_shift_ppm']
 
@@ -102,9 +113,9 @@ def london_currents(pi: PiSystem, mol, coords, circuits: Sequence[Sequence[int]]
         diatropic; None with an explanatory ``status`` when there is no number to give (no π system,
         open shell with degenerate partly filled HOMO).
     """
-    _check_mol(mol)
+    _v.molecule(mol)
     _check_model(beta_model, pi)
-    xyz = _check_coords(mol, coords, required=True)
+    xyz = _v.coordinates(mol, coords, required=True)
     if isinstance(beta0_eV, bool) or not isinstance(beta0_eV, (int, float)) or not np.isfinite(beta0_eV) or beta0_eV == 0:
         raise InputError(f"beta0_eV: expected a finite non-zero resonance integral in eV (e.g. -3.0), got {beta0_eV!r}")
     if isinstance(circuits, (str, bytes)) or not hasattr(circuits, "__iter__"):

@@ -16,6 +16,7 @@ memory); the bond-order/bond-length lines are described in :mod:`ringshift.pi.hu
 """
 
 from __future__ import annotations
+
 import numpy as np
 
 __all__ = ['HETERO_PARAMETERS', 'BETA_REF_LENGTH_A', 'BETA_DECAY_A', 'COULSON_R0_A', 'COULSON_SLOPE_A', 'BETA0_EV', 'POLYACETYLENE_BLA_A', 'PI_CHARGE_PPM_PER_E']

@@ -46,13 +46,17 @@ chain BLA of 0.070 / 0.075 / 0.085 / 0.090 Å instead of 0.080 Å would give the
 """
 
 from __future__ import annotations
+
 from dataclasses import dataclass
+
 import numpy as np
 from rdkit import Chem
 from scipy.sparse import coo_matrix
 from scipy.sparse.csgraph import connected_components
-from ringshift.geometry import planes as pg
+
+from ringshift import _validation as _v
 from ringshift.errors import InputError
+from ringshift.geometry import planes as pg
 
 __all__ = ['PiSystem', 'perceive_pi', 'circuit_electrons', 'huckel_class', 'orbital_axes']
 
@@ -102,29 +106,6 @@ class PiSystem:
     fragment_max_deviation_A: tuple[float, ...] | None = None
     fragment_planar: tuple[bool, ...] | None = None
 
-# ---------------------------------------------------------------------------------------------------
-# validation
-# ---------------------------------------------------------------------------------------------------
-def _check_mol(mol) -> None:
-    if not isinstance(mol, Chem.Mol):
-        raise InputError(f"mol: expected an RDKit Chem.Mol, got {type(mol).__name__}")
-
-
-def _check_coords(mol, coords, required: bool, name: str = "coords") -> np.ndarray | None:
-    if coords is None:
-        if required:
-            raise InputError(f"{name}: required here; pass one conformer as an (n_atoms, 3) array in Å")
-        return None
-    try:
-        xyz = np.ascontiguousarray(coords, dtype=np.float64)
-    except (TypeError, ValueError):
-        raise InputError(f"{name}: expected an (n_atoms, 3) array of numbers, got {type(coords).__name__}") from None
-    n = mol.GetNumAtoms()
-    if xyz.shape != (n, 3):
-        raise InputError(f"{name}: expected shape ({n}, 3) for this molecule, got {xyz.shape}")
-    if not np.all(np.isfinite(xyz)):
-        raise InputError(f"{name}: contains NaN or inf; expected finite coordinates in Å")
-    return xyz
 
 # ---------------------------------------------------------------------------------------------------
 # perception
@@ -241,8 +222,8 @@ def perceive_pi(mol, coords=None) -> PiSystem:
     PiSystem
         Never raises for chemistry: radicals, no π system, fragments go into ``warnings``.
     """
-    _check_mol(mol)
-    xyz = _check_coords(mol, coords, required=False)
+    _v.molecule(mol)
+    xyz = _v.coordinates(mol, coords, required=False)
     orders, notes = _kekule_orders(mol)
     counts = {}
     for atom in mol.GetAtoms():
@@ -337,7 +318,7 @@ def circuit_electrons(pi: PiSystem, circuit_atoms, mol) -> int:
     bond to N, O or S gives its electron to that bond (counts 0), the rule of RDKit's aromaticity model
     (tropone, 2-pyridone: 6; p-benzoquinone: 4).
     """
-    _check_mol(mol)
+    _v.molecule(mol)
     atoms = set(_check_circuit(pi, circuit_atoms, "circuit_atoms"))
     e = dict(zip(pi.atoms, pi.electrons))
     kek = dict(zip(pi.bonds, pi.bond_kekule))

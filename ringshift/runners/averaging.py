@@ -8,9 +8,12 @@ equivalent protons (``"auto"``) or groups the user names.
 """
 
 from __future__ import annotations
+
 import math
+
 import numpy as np
 from rdkit import Chem
+
 from ringshift import limits
 from ringshift.constants import KB_KCAL_PER_MOL_K
 from ringshift.errors import InputError

@@ -7,11 +7,12 @@ against the closed form's spectrum, and returns the text to print.
 """
 
 from __future__ import annotations
+
 import shutil
 import tempfile
 from pathlib import Path
-from ringshift.errors import InputError, OutputError
 
+from ringshift.errors import InputError, OutputError
 
 DEMO_CASES = (
     # name, structure file, spectrum file, claim the fictional group wants to make
@@ -38,10 +39,10 @@ def run_demo(out_dir: str | Path, *, force: bool = False, progress=None) -> str:
     from ringshift.compare.candidates import rank
     from ringshift.compare.run import run_compare
     from ringshift.io.peak_tables import read_peaks
-    from ringshift.pi.summary import pi_summary
-    from ringshift.shifts.prediction import predict
-    from ringshift.report import write_report
     from ringshift.io.structures import load_structure
+    from ringshift.pi.summary import pi_summary
+    from ringshift.report import write_report
+    from ringshift.shifts.prediction import predict
 
     data = demo_data_dir()
     out = Path(out_dir)

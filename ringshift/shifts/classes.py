@@ -6,10 +6,13 @@ of :mod:`ringshift.shifts.reference`. A hydrogen that fits no class gets :data:`
 """
 
 from __future__ import annotations
+
 from collections import deque
 from typing import Iterable
+
 import numpy as np
 from rdkit import Chem
+
 from ringshift.errors import InputError
 
 __all__ = ['classify_hydrogens']

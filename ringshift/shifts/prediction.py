@@ -8,24 +8,27 @@ ring-current part.
 """
 
 from __future__ import annotations
+
 import warnings
 from typing import Mapping, Sequence
+
 import numpy as np
 from rdkit import Chem
+
 from ringshift import fields
-from ringshift.shifts.reference import assemble_prediction, reference_shifts
-from ringshift.pi.parameters import PI_CHARGE_PPM_PER_E
-from ringshift.pi.perception import circuit_electrons, huckel_class as _pisystem_huckel_class, orbital_axes, perceive_pi
-from ringshift.pi.london import pi_charge_shift_ppm
-from ringshift.pi.huckel import huckel as _pisystem_huckel
-from ringshift.pi.london import london_currents
 from ringshift.constants import BENZENE_CURRENT_NA_PER_T, BETA_MODELS, CURRENT_SOURCES, JB_SEPARATION_A, MODELS
+from ringshift import _validation as _v
 from ringshift.errors import GeometryWarning, InputError
+from ringshift.fields.registry import MODEL_DESCRIPTIONS, geometric_factors
 from ringshift.geometry.circuits import Circuit, CircuitGeometry, circuit_geometry, find_circuits
 from ringshift.io.structures import Structure
+from ringshift.pi.huckel import huckel as _pisystem_huckel
+from ringshift.pi.london import london_currents, pi_charge_shift_ppm
+from ringshift.pi.parameters import PI_CHARGE_PPM_PER_E
+from ringshift.pi.perception import circuit_electrons, orbital_axes, perceive_pi
+from ringshift.pi.perception import huckel_class as _pisystem_huckel_class
 from ringshift.shifts.records import CircuitResult, GroupResult, Prediction, ProtonResult
-from ringshift.fields.registry import MODEL_DESCRIPTIONS, geometric_factors
-
+from ringshift.shifts.reference import assemble_prediction, reference_shifts
 
 
 def _weighted(values: np.ndarray, w: np.ndarray) -> np.ndarray:
@@ -144,18 +147,14 @@ def predict(structure: Structure, *, model: str = "polygon", currents: str = "hu
     -------
     Prediction
     """
-    if model not in MODELS:
-        raise InputError(f"unknown shielding model {model!r}; expected one of {', '.join(MODELS)}", "--model")
-    if currents not in CURRENT_SOURCES:
-        raise InputError(f"unknown current source {currents!r}; expected one of {', '.join(CURRENT_SOURCES)}",
-                         "--currents")
+    _v.choice(model, MODELS, "model", "shielding model")
+    _v.choice(currents, CURRENT_SOURCES, "currents", "current source")
+    _v.choice(beta_model, BETA_MODELS, "beta_model", "beta model")
     mol = structure.mol
     coords = structure.coords
     w = np.asarray(structure.weights, dtype=float)
     notes: list[str] = []
 
-    if beta_model not in BETA_MODELS:
-        raise InputError(f"unknown beta model {beta_model!r}; expected one of {', '.join(BETA_MODELS)}", "--beta")
     best = int(np.argmax(w))
     pi = perceive_pi(mol, coords[best])
     all_circuits = find_circuits(mol, pi.atoms, pi.bonds, user_circuits=user_circuits)
@@ -179,7 +178,7 @@ def predict(structure: Structure, *, model: str = "polygon", currents: str = "hu
         pi_ok = all(a in pi.atoms for c in loops for a in c.atoms)
         if loops and not pi_ok:
             raise InputError("a given circuit contains atoms outside the pi system; Hueckel-London currents "
-                             "need pi atoms (use --currents benzene or --set-current)", "--circuit")
+                             "need pi atoms (use the 'benzene' current source or give the current yourself)", "user_circuits")
         cur, hl_status, london = huckel_london_currents(structure, pi, loops, geoms, beta_model)
         sources = [f"huckel-london ({beta_model} beta)" if st == "ok" else "none: " + st for st in hl_status]
         for st in set(hl_status) - {"ok"}:
@@ -210,9 +209,9 @@ def predict(structure: Structure, *, model: str = "polygon", currents: str = "hu
     if model == "network" and h_idx:
         if currents != "huckel" or not london or any(lc.status != "ok" for lc in london):
             raise InputError("the bond-current network model needs Hueckel-London bond currents "
-                             "(use --currents huckel on a closed-shell pi system)", "--model")
+                             "(the 'huckel' current source on a closed-shell pi system)", "model")
         if set_current or scale:
-            notes.append("--set-current/--scale change the per-circuit loops only; the network total uses the "
+            notes.append("given or scaled currents change the per-circuit loops only; the network total uses the "
                          "Hueckel-London bond currents as computed")
         total = network_totals(structure, pi, london, h_idx, separation_A)
     mean_total = w @ total if h_idx else np.zeros(0)

@@ -12,6 +12,7 @@ same columns overrides or extends the table (:func:`load_reference_table`).
 """
 
 from __future__ import annotations
+
 import csv
 import io
 import math
@@ -22,7 +23,10 @@ from importlib import resources
 from pathlib import Path
 from types import MappingProxyType
 from typing import Iterable, Mapping
+
 import numpy as np
+
+from ringshift import _validation as _v
 from ringshift import limits as _limits
 from ringshift.errors import InputError
 from ringshift.shifts.classes import classify_hydrogens
@@ -247,20 +251,6 @@ def reference_arrays(mol, *, table: ReferenceTable | None = None,
                            ref_ppm=ref, sd_ppm=sd)
 
 
-def _as_vector(values, name: str) -> np.ndarray:
-    try:
-        arr = np.asarray(values, dtype=np.float64)
-    except (TypeError, ValueError):
-        raise InputError(f"got {type(values).__name__}; expected a 1-D array of ppm values",
-                         source=name) from None
-    if arr.ndim != 1:
-        raise InputError(f"has shape {arr.shape}; expected a 1-D array (n,) of ppm values",
-                         source=name)
-    if not np.all(np.isfinite(arr)):
-        raise InputError("contains NaN or infinity; expected finite ppm values", source=name)
-    return arr
-
-
 def assemble_prediction(ref_ppm, ring_current_ppm, charge_ppm) -> np.ndarray:
     """Predicted shift: reference + ring-current shift + π-charge term.
 
@@ -285,8 +275,8 @@ def assemble_prediction(ref_ppm, ring_current_ppm, charge_ppm) -> np.ndarray:
     InputError
         An input is not 1-D, not finite, or the lengths differ.
     """
-    ref, rc, q = (_as_vector(ref_ppm, "ref_ppm"), _as_vector(ring_current_ppm, "ring_current_ppm"),
-                  _as_vector(charge_ppm, "charge_ppm"))
+    ref, rc, q = (_v.vector(ref_ppm, "ref_ppm", "ppm values"), _v.vector(ring_current_ppm, "ring_current_ppm", "ppm values"),
+                  _v.vector(charge_ppm, "charge_ppm", "ppm values"))
     if not ref.shape == rc.shape == q.shape:
         raise InputError(f"lengths are {ref.shape[0]}, {rc.shape[0]}, {q.shape[0]}; expected ref_ppm, "
                          "ring_current_ppm and charge_ppm of equal length (one value per proton)",

@@ -13,10 +13,14 @@ Rules (stated so users can predict them):
 """
 
 from __future__ import annotations
+
 import math
 import warnings
 from dataclasses import asdict, dataclass, replace
+
 import numpy as np
+
+from ringshift import _validation as _v
 from ringshift.errors import AssignmentWarning, InputError
 
 __all__ = ['Peak', 'PeakList', 'Spectrum', 'normalise_integrals']
@@ -34,19 +38,6 @@ MAX_LINES_PER_H: int = 16
 def _check_shift(shift: float, where: str) -> None:
     if not SHIFT_RANGE_PPM[0] <= shift <= SHIFT_RANGE_PPM[1]:
         raise InputError(f"shift {shift:g} ppm outside {SHIFT_RANGE_PPM[0]:g}…{SHIFT_RANGE_PPM[1]:g} ppm", where)
-
-
-def _opt_float(value, name: str, *, minimum: float | None = None, strict: bool = False) -> float | None:
-    if value is None:
-        return None
-    try:
-        out = float(value)
-    except (TypeError, ValueError):
-        out = math.nan
-    if not math.isfinite(out) or (minimum is not None and (out <= minimum if strict else out < minimum)):
-        rule = "" if minimum is None else f" {'>' if strict else '≥'} {minimum:g}"
-        raise InputError(f"{name}={value!r}; expected a finite number{rule}", name)
-    return out
 
 
 @dataclass(frozen=True)
@@ -83,14 +74,14 @@ class Peak:
     height: float | None = None
 
     def __post_init__(self):
-        shift = _opt_float(self.shift_ppm, "shift_ppm")
+        shift = _v.optional_real(self.shift_ppm, "shift_ppm")
         if shift is None or not SHIFT_RANGE_PPM[0] <= shift <= SHIFT_RANGE_PPM[1]:
             raise InputError(f"shift_ppm={self.shift_ppm!r}; expected {SHIFT_RANGE_PPM[0]:g}…"
                              f"{SHIFT_RANGE_PPM[1]:g} ppm", "Peak")
         object.__setattr__(self, "shift_ppm", shift)
-        object.__setattr__(self, "integral", _opt_float(self.integral, "integral", minimum=0.0))
-        object.__setattr__(self, "width_hz", _opt_float(self.width_hz, "width_hz", minimum=0.0, strict=True))
-        object.__setattr__(self, "height", _opt_float(self.height, "height"))
+        object.__setattr__(self, "integral", _v.optional_real(self.integral, "integral", minimum=0.0))
+        object.__setattr__(self, "width_hz", _v.optional_real(self.width_hz, "width_hz", minimum=0.0, strict=True))
+        object.__setattr__(self, "height", _v.optional_real(self.height, "height"))
         if self.kind not in PEAK_KINDS:
             raise InputError(f"kind={self.kind!r}; expected one of {', '.join(PEAK_KINDS)}", "Peak")
         if self.fixed_atoms is not None:
@@ -139,8 +130,8 @@ class Spectrum:
         step = np.diff(ppm)
         if not (np.all(step > 0) or np.all(step < 0)):
             raise InputError("the ppm axis must be strictly increasing or decreasing", self.source)
-        mhz = _opt_float(self.observe_mhz, "observe_mhz", minimum=0.0, strict=True)
-        sigma = _opt_float(estimate_noise(y) if self.noise_sigma is None else self.noise_sigma, "noise_sigma",
+        mhz = _v.optional_real(self.observe_mhz, "observe_mhz", minimum=0.0, strict=True)
+        sigma = _v.optional_real(estimate_noise(y) if self.noise_sigma is None else self.noise_sigma, "noise_sigma",
                            minimum=0.0)
         ppm.flags.writeable = y.flags.writeable = False
         for name, value in (("ppm", ppm), ("intensity", y), ("noise_sigma", sigma), ("observe_mhz", mhz)):

@@ -9,13 +9,16 @@ makes invented data for tests and the demo only.
 """
 
 from __future__ import annotations
+
 import math
 import warnings
+
 import numpy as np
 from scipy.signal import find_peaks, peak_widths
+
 from ringshift import limits as _limits
 from ringshift.errors import AssignmentWarning, InputError
-from ringshift.spectra.peaks import Peak, SHIFT_RANGE_PPM, Spectrum
+from ringshift.spectra.peaks import SHIFT_RANGE_PPM, Peak, Spectrum
 
 __all__ = ['pick_peaks', 'simulate_spectrum']
 

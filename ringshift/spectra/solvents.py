@@ -7,8 +7,10 @@ within it of 0.00 ppm as ``kind="tms"``; peaks whose kind the user gave are left
 """
 
 from __future__ import annotations
+
 import re
 from dataclasses import replace
+
 from ringshift.errors import InputError
 from ringshift.spectra.peaks import Peak
 

@@ -457,9 +457,9 @@ def test_bad_files(tmp_path, text, message):
 
 
 @pytest.mark.parametrize("kwargs, message", [
-    (dict(shift_ppm=50.0), "shift_ppm=50.0"), (dict(shift_ppm=1.0, integral=-1), "integral=-1"),
-    (dict(shift_ppm=1.0, width_hz=0.0), "width_hz=0.0"), (dict(shift_ppm=1.0, kind="x"), "kind='x'"),
-    (dict(shift_ppm=1.0, fixed_atoms=(-1,)), "non-negative"), (dict(shift_ppm=float("nan")), "shift_ppm=nan"),
+    (dict(shift_ppm=50.0), "shift_ppm=50.0"), (dict(shift_ppm=1.0, integral=-1), "integral: got -1"),
+    (dict(shift_ppm=1.0, width_hz=0.0), "width_hz: got 0.0"), (dict(shift_ppm=1.0, kind="x"), "kind='x'"),
+    (dict(shift_ppm=1.0, fixed_atoms=(-1,)), "non-negative"), (dict(shift_ppm=float("nan")), "shift_ppm: got nan"),
 ], ids=["shift", "integral", "width", "kind", "atoms", "nan"])
 def test_peak_validation(kwargs, message):
     with pytest.raises(InputError, match=message):

@@ -1,0 +1,70 @@
+"""The validation gate (ringshift._validation) and the parameter → option mapping of the command line.
+
+Checks of the contract only (no science): errors are InputError, one line, and name the API parameter;
+the command line shows the matching option instead.
+"""
+
+import numpy as np
+import pytest
+
+from ringshift import _validation as v
+from ringshift.cli import OPTION_OF_PARAMETER, main
+from ringshift.errors import InputError
+from ringshift.io.structures import load_structure
+from ringshift.shifts.prediction import predict
+
+
+@pytest.mark.parametrize("call, param, text", [
+    (lambda: v.real(True, "noise_ppm"), "noise_ppm", "real number"),
+    (lambda: v.real(float("nan"), "noise_ppm"), "noise_ppm", "finite"),
+    (lambda: v.real(0.0, "width", positive=True), "width", "> 0"),
+    (lambda: v.real(-1, "width", nonneg=True), "width", ">= 0"),
+    (lambda: v.real(5, "x", minimum=0, maximum=1), "x", "[0, 1]"),
+    (lambda: v.optional_real("abc", "observe_mhz", minimum=0, strict=True), "observe_mhz", "> 0"),
+    (lambda: v.integer(2.0, "seed"), "seed", "integer"),
+    (lambda: v.choice("magic", ("polygon", "dipole"), "model", "shielding model"), "model", "polygon, dipole"),
+    (lambda: v.array([[1, 2]], "points", (-1, 3), "an (n, 3) array"), "points", "shape (1, 2)"),
+    (lambda: v.array([[1, 2, np.inf]], "points", (-1, 3), "an (n, 3) array"), "points", "NaN or inf"),
+    (lambda: v.unit_vector([0, 0, 0], "normal"), "normal", "zero length"),
+    (lambda: v.vector([[1.0]], "ring_current_ppm", "ppm values"), "ring_current_ppm", "1-D"),
+    (lambda: v.molecule("c1ccccc1"), "mol", "Chem.Mol"),
+], ids=["bool", "nan", "positive", "nonneg", "range", "optional", "integer", "choice", "shape", "inf", "unit",
+        "vector", "molecule"])
+def test_gate_names_the_parameter(call, param, text):
+    with pytest.raises(InputError) as info:
+        call()
+    assert info.value.source == param
+    assert text in str(info.value) and "\n" not in str(info.value)
+
+
+def test_gate_passes_good_values_through():
+    assert v.real(2, "x", positive=True) == 2.0
+    assert v.optional_real(None, "x") is None and v.optional_real("7.26", "x") == 7.26
+    np.testing.assert_allclose(v.unit_vector([0, 0, 2], "n"), [0, 0, 1], rtol=0, atol=1e-15)
+    assert v.array([[0, 0, 0]], "p", (-1, 3), "x").flags["C_CONTIGUOUS"]
+
+
+def test_library_errors_name_api_parameters_not_options():
+    s = load_structure("c1ccccc1", conformers=1)
+    for kwargs, param in [(dict(model="magic"), "model"), (dict(currents="x"), "currents"),
+                          (dict(beta_model="x"), "beta_model"), (dict(user_circuits=[[0, 1]]), "user_circuits")]:
+        with pytest.raises(InputError) as info:
+            predict(s, **kwargs)
+        assert info.value.source == param
+        assert "--" not in str(info.value)
+
+
+@pytest.mark.parametrize("args, option", [
+    (["predict", "c1ccccc1", "--conformers", "1", "--circuit", "0,1"], "--circuit"),
+    (["predict", "c1ccccc1", "--conformers", "1", "--circuit", "0,1,99"], "--circuit"),
+], ids=["short-circuit", "out-of-range"])
+def test_cli_shows_the_option(args, option, capsys):
+    with pytest.raises(SystemExit) as info:
+        main(args)
+    assert info.value.code == 2
+    err = capsys.readouterr().err
+    assert err.startswith(f"ringshift: error: {option}:") and err.count("\n") == 1
+
+
+def test_every_mapped_parameter_is_an_option():
+    assert all(o.startswith("--") for o in OPTION_OF_PARAMETER.values())
