@@ -12,6 +12,7 @@ from ringshift.compare.records import CircuitPrior, Comparison, GroupModel, Obse
 from ringshift.compare.comparer import compare as _cmp_compare
 from ringshift.constants import BENZENE_CURRENT_NA_PER_T
 from ringshift.errors import InputError
+from ringshift._display import ComparisonDisplay
 
 __all__ = ['run_compare', 'group_models', 'circuit_priors', 'observed_peaks', 'CompareResult']
 
@@ -25,7 +26,7 @@ _KIND = {"sample": "signal", "tms": "reference", "solvent": "solvent", "impurity
 
 
 @dataclass(frozen=True)
-class CompareResult:
+class CompareResult(ComparisonDisplay):
     prediction: object
     peaks: object
     comparison: Comparison

@@ -34,6 +34,7 @@ from ringshift.fields.registry import geometric_factors
 from ringshift.geometry.circuits import MISALIGNMENT_LIMIT_DEG, PLANARITY_LIMIT_A, circuit_geometry
 from ringshift.io.frames import Frame, FrameStream, TrajectoryWarning, iter_sdf_records, iter_xyz_frames
 from ringshift.io.structures import Structure
+from ringshift._display import TrajectoryDisplay
 from ringshift.runners.averaging import _WeightedMoments, _log_weights, exchange_groups
 
 __all__ = ['polygon_shielding_frames', 'CircuitStats', 'TrajectoryPrediction', 'predict_trajectory', 'predict_trajectory_file', 'TRAJECTORY_CURRENTS']
@@ -93,7 +94,7 @@ class TrajectoryGroup:
 
 
 @dataclass(frozen=True)
-class TrajectoryPrediction:
+class TrajectoryPrediction(TrajectoryDisplay):
     """Frame-averaged ring-current shifts of a trajectory or ensemble.
 
     Arrays: ``h_indices`` (n_h,); ``ring_current_ppm``, ``spread_ppm`` (n_h,) Δδ_rc weighted mean and

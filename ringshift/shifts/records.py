@@ -5,6 +5,7 @@ from dataclasses import dataclass, field
 import numpy as np
 from ringshift.geometry.circuits import Circuit, CircuitGeometry
 from ringshift.io.structures import Structure
+from ringshift._display import PredictionDisplay
 
 
 
@@ -66,7 +67,7 @@ class GroupResult:
 
 
 @dataclass(frozen=True)
-class Prediction:
+class Prediction(PredictionDisplay):
     structure: Structure
     model: str
     circuits: tuple[CircuitResult, ...]

@@ -1,0 +1,523 @@
+"""The Python API: five functions for scripts and notebooks.
+
+:func:`load_structure` → :func:`predict` → (:func:`read_peaks`) → :func:`compare` → :func:`report`, the
+same pipeline as the ``predict``, ``compare`` and ``report`` commands, with the library's option names
+(``model``, ``currents``, ``beta_model``, ``charge``, ``conformers``, ``seed``, ``claim``, ``solvent``,
+``noise_ppm``, ...). Every function takes what the previous one returns, or the raw input: a SMILES,
+a path to a .mol/.sdf/.xyz file, or a loaded :class:`~ringshift.io.structures.Structure`.
+
+Errors. Bad input raises :class:`ringshift.errors.InputError` naming the argument (``model``,
+``peaks``, ...); an option that cannot apply (``conformers`` with a Structure already loaded, ``model``
+with a finished Prediction) is an error rather than silently ignored. Existing report folders raise
+:class:`ringshift.errors.OutputError` unless ``force=True``.
+
+Results. :class:`~ringshift.shifts.records.Prediction` and :class:`~ringshift.compare.run.CompareResult`
+print as one line, show as HTML tables in Jupyter and give pandas DataFrames with ``to_frame()``
+(see :mod:`ringshift._display`).
+
+This module imports nothing heavy at import time, so ``import ringshift`` stays fast; RDKit, SciPy
+and the pipeline load on the first call.
+"""
+
+from __future__ import annotations
+
+import os
+from contextlib import contextmanager
+from pathlib import Path
+
+from ringshift.errors import InputError, OutputError
+
+TYPE_CHECKING = False  # typing itself costs a few ms at import; type checkers read the block below
+if TYPE_CHECKING:
+    from collections.abc import Iterator, Mapping, Sequence
+    from typing import TypeAlias
+
+    from ringshift.compare.run import CompareResult
+    from ringshift.io.structures import Structure
+    from ringshift.shifts.records import Prediction
+    from ringshift.spectra.peaks import PeakList
+
+    #: What the structure argument of :func:`predict` and :func:`compare` accepts.
+    StructureLike: TypeAlias = "str | os.PathLike[str] | Structure"
+
+__all__ = ["load_structure", "predict", "read_peaks", "compare", "report"]
+
+#: Seed used for conformers and for the comparer's random starts when none is given (as the CLI).
+DEFAULT_SEED = 42
+
+
+# ------------------------------------------------------------------------------ error vocabulary
+# The pipeline's messages name command-line options; here they name this module's arguments.
+_SOURCE_NAMES = {"--model": "model", "--currents": "currents", "--beta": "beta_model",
+                 "--scale/--set-current": "scale/set_current", "--circuit": "user_circuits",
+                 "--noise": "noise_ppm", "--charge": "charge", "--temperature": "temperature_K"}
+#: Literal replacements in messages, applied in this order (longer phrases first).
+_MESSAGE_NAMES = (
+    ("--currents huckel", "currents='huckel'"),
+    ("--currents benzene", "currents='benzene'"),
+    ("--set-current LABEL=NA_PER_T", "set_current={'LABEL': nA_per_T}"),
+    ("--set-current/--scale", "set_current/scale"),
+    ("--set-current", "set_current"),
+    ("--scale", "scale"),
+    ("--circuit", "user_circuits"),
+    ("--model", "model"),
+    ("--beta", "beta_model"),
+    ("--charge", "charge=..."),
+    ("use --force", "pass force=True"),
+    ("'ringshift predict --format json'", "Prediction.to_frame()"),
+)
+
+
+def _api_words(text: str) -> str:
+    for old, new in _MESSAGE_NAMES:
+        text = text.replace(old, new)
+    return text
+
+
+@contextmanager
+def _api_names() -> Iterator[None]:
+    """Re-raise the pipeline's InputError/OutputError with argument names instead of CLI options."""
+    try:
+        yield
+    except InputError as exc:
+        source = exc.source
+        if source and source.startswith("--"):
+            source = _SOURCE_NAMES.get(source, source.lstrip("-").replace("-", "_"))
+        message = _api_words(exc.bare_message)
+        if source == exc.source and message == exc.bare_message:
+            raise
+        raise InputError(message, source).with_traceback(exc.__traceback__) from None
+    except OutputError as exc:
+        message = _api_words(str(exc))
+        if message == str(exc):
+            raise
+        raise OutputError(message).with_traceback(exc.__traceback__) from None
+
+
+# ----------------------------------------------------------------------------------- validation
+def _choice(value, choices: Sequence[str], name: str) -> None:
+    if not isinstance(value, str) or value not in choices:
+        raise InputError(f"expected one of {', '.join(map(repr, choices))}, got {value!r}", name)
+
+
+def _positive_number(value, name: str) -> None:
+    import math
+    from numbers import Real
+
+    if isinstance(value, bool) or not isinstance(value, Real) or not math.isfinite(value) or value <= 0:
+        raise InputError(f"expected a finite number > 0, got {value!r}", name)
+
+
+def _label_numbers(value, name: str) -> None:
+    import math
+    from collections.abc import Mapping
+    from numbers import Real
+
+    if value is None:
+        return
+    if not isinstance(value, Mapping):
+        raise InputError(f"expected a mapping of circuit label to number, e.g. {{'R1': 0.8}}, got "
+                         f"{type(value).__name__}", name)
+    for key, num in value.items():
+        if not isinstance(key, str):
+            raise InputError(f"expected circuit labels (str) as keys, got {key!r}", name)
+        if isinstance(num, bool) or not isinstance(num, Real) or not math.isfinite(num):
+            raise InputError(f"expected a finite number for circuit {key!r}, got {num!r}", name)
+
+
+def _index_lists(value, name: str) -> None:
+    from numbers import Integral
+
+    def listlike(x) -> bool:
+        return hasattr(x, "__len__") and hasattr(x, "__iter__") and not isinstance(x, (str, bytes, dict))
+
+    if value is None:
+        return
+    if not (listlike(value) and all(listlike(c) and all(isinstance(a, Integral) and not isinstance(a, bool)
+                                                        for a in c) for c in value)):
+        raise InputError("expected a list of circuits, each a list of 0-based atom indices in ring order, "
+                         f"e.g. [[0, 1, 2, 3, 4, 5]], got {value!r}", name)
+
+
+def _not_given(options: Mapping[str, object], why: str) -> None:
+    """Refuse options that cannot apply (rather than ignoring them); the error names the first."""
+    given = [k for k, v in options.items() if v is not None]
+    if given:
+        also = f" (nor can {', '.join(given[1:])})" if len(given) > 1 else ""
+        raise InputError(f"cannot be used here{also}: {why}", given[0])
+
+
+def _model_options(model, currents, beta_model, scale, set_current, user_circuits, separation_A) -> dict:
+    """Checked keyword arguments of :func:`ringshift.shifts.prediction.predict` (None = its default)."""
+    from ringshift.constants import BETA_MODELS, CURRENT_SOURCES, MODELS
+
+    out: dict = {}
+    for name, value, choices in (("model", model, MODELS), ("currents", currents, CURRENT_SOURCES),
+                                 ("beta_model", beta_model, BETA_MODELS)):
+        if value is not None:
+            _choice(value, choices, name)
+            out[name] = value
+    _label_numbers(scale, "scale")
+    _label_numbers(set_current, "set_current")
+    _index_lists(user_circuits, "user_circuits")
+    if separation_A is not None:
+        _positive_number(separation_A, "separation_A")
+        out["separation_A"] = float(separation_A)
+    if scale is not None:
+        out["scale"] = {k: float(v) for k, v in scale.items()}
+    if set_current is not None:
+        out["set_current"] = {k: float(v) for k, v in set_current.items()}
+    if user_circuits is not None:
+        out["user_circuits"] = [[int(a) for a in c] for c in user_circuits]
+    return out
+
+
+def _compare_options(claim, noise_ppm, solvent) -> None:
+    from ringshift.compare.evidence import CLAIM_VERDICT
+    from ringshift.spectra.solvents import _solvent_name
+
+    if claim is not None and claim not in CLAIM_VERDICT:
+        raise InputError(f"expected 'aromatic', 'antiaromatic' or 'nonaromatic' or None, got {claim!r}", "claim")
+    if noise_ppm is not None and noise_ppm != "auto":
+        if isinstance(noise_ppm, str):
+            raise InputError(f"expected a number of ppm > 0, 'auto' or None, got {noise_ppm!r}", "noise_ppm")
+        _positive_number(noise_ppm, "noise_ppm")
+    if solvent is not None:
+        _solvent_name(solvent)   # raises InputError("solvent ... unknown; expected one of ...", "solvent")
+
+
+def _path(value) -> str | None:
+    """``value`` as a str path if it is a str or an os.PathLike of str, else None."""
+    if isinstance(value, (str, os.PathLike)):
+        text = os.fspath(value)
+        if isinstance(text, str):
+            return text
+    return None
+
+
+def _structure(structure, load: Mapping[str, object]) -> Structure:
+    from ringshift.io.structures import Structure
+
+    if isinstance(structure, Structure):
+        _not_given(load, "the Structure is already loaded; loading options apply to a SMILES or a file path")
+        return structure
+    spec = _path(structure)
+    if spec is None:
+        raise InputError(f"expected a SMILES, a path to a .mol/.sdf/.xyz file or a Structure, got "
+                         f"{type(structure).__name__}", "structure")
+    return load_structure(spec, **{k: v for k, v in load.items() if v is not None})  # type: ignore[arg-type]
+
+
+# ------------------------------------------------------------------------------------ functions
+def load_structure(spec: str | os.PathLike[str], *, charge: int | None = None, conformers: int | None = None,
+                   seed: int = DEFAULT_SEED, temperature_K: float = 298.15, energy_window_kcal_mol: float = 10.0,
+                   rmsd_prune_A: float = 0.3, fmt: str | None = None) -> Structure:
+    """Read a SMILES or a .mol/.sdf/.xyz file into a :class:`~ringshift.io.structures.Structure`.
+
+    Parameters
+    ----------
+    spec : str or path
+        A path to a .mol, .sdf/.sd or .xyz file (chosen by extension), otherwise a SMILES.
+    charge : int, optional
+        Net charge; needed for XYZ files of ions; must match the formal charges of other inputs.
+    conformers : int, optional
+        Conformers to generate without 3D input (default: 30, or 200 with a ring of 12 or more atoms).
+    seed : int
+        Seed of the conformer generator (0 to 2**31 - 1); the same seed gives the same coordinates.
+    temperature_K : float
+        Temperature of the Boltzmann weights, K.
+    energy_window_kcal_mol, rmsd_prune_A : float
+        Generated conformers above this energy window (kcal/mol) or within this heavy-atom RMSD (Å)
+        of a lower one are dropped.
+    fmt : {"smiles", "mol", "sdf", "xyz"}, optional
+        Force the input format.
+
+    Returns
+    -------
+    Structure
+        Explicit-H molecule with conformer coordinates ``coords`` (n_conf, n_atoms, 3) in Å,
+        ``weights`` (n_conf,) and groups of equivalent hydrogens ``h_groups``.
+
+    Examples
+    --------
+    >>> s = load_structure("c1ccccc1", conformers=1)
+    >>> s.mol.GetNumAtoms(), s.coords.shape, s.h_groups
+    (12, (1, 12, 3), ((6, 7, 8, 9, 10, 11),))
+    """
+    from ringshift.io.structures import load_structure as _load
+
+    text = _path(spec)
+    if text is None:
+        raise InputError(f"expected a SMILES or a path to a .mol/.sdf/.xyz file, got {type(spec).__name__}",
+                         "spec")
+    with _api_names():
+        return _load(text, charge=charge, conformers=conformers, seed=seed, temperature_K=temperature_K,
+                     energy_window_kcal_mol=energy_window_kcal_mol, rmsd_prune_A=rmsd_prune_A, fmt=fmt)
+
+
+def predict(structure: StructureLike, *, model: str = "polygon", currents: str = "huckel", beta_model: str = "scf",
+            scale: Mapping[str, float] | None = None, set_current: Mapping[str, float] | None = None,
+            user_circuits: Sequence[Sequence[int]] | None = None, separation_A: float | None = None,
+            charge: int | None = None, conformers: int | None = None, seed: int | None = None,
+            temperature_K: float | None = None, fmt: str | None = None) -> Prediction:
+    """Ring-current ¹H shift of every hydrogen of a structure.
+
+    Parameters
+    ----------
+    structure : str, path or Structure
+        A SMILES, a .mol/.sdf/.xyz path (loaded with :func:`load_structure`) or a loaded Structure.
+    model : {"polygon", "johnson-bovey", "haigh-mallion", "dipole", "network"}
+        Shielding model.
+    currents : {"huckel", "benzene"}
+        A priori current of each circuit: Hückel–London (relative to benzene × 12 nA/T), or
+        12 nA/T on every ring RDKit calls aromatic.
+    beta_model : {"scf", "scf-coulson", "distance", "uniform"}
+        Resonance integrals of the Hückel step.
+    scale : mapping of circuit label to factor, optional
+        Multiplies a circuit's current, e.g. ``{"M1": 0.8}``.
+    set_current : mapping of circuit label to nA/T, optional
+        Sets a circuit's current (J > 0 diatropic), e.g. ``{"R1": -6.0}``.
+    user_circuits : list of lists of int, optional
+        Circuits given as ring-ordered 0-based atom indices instead of the perceived ones.
+    separation_A : float, optional
+        Half-separation of the double loops, Å (default 0.64, Johnson–Bovey).
+    charge, conformers, seed, temperature_K, fmt : optional
+        Passed to :func:`load_structure` when ``structure`` is a SMILES or a path (defaults as there);
+        an error with a loaded Structure.
+
+    Returns
+    -------
+    Prediction
+        ``circuits``, ``protons``, ``groups``; ``to_frame()`` gives one row per hydrogen.
+
+    Examples
+    --------
+    >>> pred = predict("c1ccccc1", conformers=1)
+    >>> pred
+    <Prediction c1ccccc1 C6H6: 1 circuit (R1 6π +12.0 nA/T), 6 H in 1 group, model polygon, 1 conformer>
+    >>> [round(p.ring_current_ppm, 2) for p in pred.protons] == [round(pred.protons[0].ring_current_ppm, 2)] * 6
+    True
+    """
+    from ringshift.shifts.prediction import predict as _predict
+
+    opts = _model_options(model, currents, beta_model, scale, set_current, user_circuits, separation_A)
+    s = _structure(structure, {"charge": charge, "conformers": conformers, "seed": seed,
+                               "temperature_K": temperature_K, "fmt": fmt})
+    with _api_names():
+        return _predict(s, **opts)
+
+
+def read_peaks(path: str | os.PathLike[str], *, n_hydrogens: int | None = None, solvent: str | None = None,
+               flag_tms: bool = True, prominence_sigma: float = 8.0) -> PeakList:
+    """Read observed ¹H peaks from a CSV/TSV peak table or a JCAMP-DX file (spectrum or peak table).
+
+    Parameters
+    ----------
+    path : str or path
+        ``*.jdx``/``*.dx``/``*.jcamp`` (or a file starting with ``##LABEL=``) is JCAMP-DX, anything else a
+        table with a shift column (``shift_ppm``, ``ppm``, ``delta``, ...) and optional ``integral``,
+        ``label``, ``atoms``, ``kind`` columns.
+    n_hydrogens : int, optional
+        The molecule's hydrogen count: integrals are scaled to it and the peak count is checked.
+        :func:`compare` passes it for you.
+    solvent : str, optional
+        Deuterated solvent (e.g. ``"CDCl3"``) whose residual peak is marked ``kind="solvent"``.
+    flag_tms : bool
+        Mark a peak at 0.00 ppm as TMS.
+    prominence_sigma : float
+        Peak-picking threshold of a spectrum, in noise σ.
+
+    Returns
+    -------
+    PeakList
+        ``peaks`` (each with ``shift_ppm``, ``integral``, ``kind``, ...), ``source`` and ``warnings``.
+
+    Examples
+    --------
+    >>> from importlib.resources import files
+    >>> demo = files("ringshift") / "data" / "demo"
+    >>> peaks = read_peaks(demo / "fj14c_peaks.csv")
+    >>> [p.shift_ppm for p in peaks.peaks]
+    [8.26, 7.99, 2.56, -3.48]
+    """
+    from ringshift.io.peak_tables import read_peaks as _read
+
+    text = _path(path)
+    if text is None:
+        raise InputError(f"expected a path to a peak table or JCAMP-DX file, got {type(path).__name__}", "path")
+    with _api_names():
+        return _read(text, n_hydrogens=n_hydrogens, solvent=solvent, flag_tms=flag_tms,
+                     prominence_sigma=prominence_sigma)
+
+
+def compare(structure: StructureLike | Prediction, peaks: str | os.PathLike[str] | PeakList, *,
+            claim: str | None = None, solvent: str | None = None, noise_ppm: float | str | None = None,
+            seed: int | None = None, model: str | None = None, currents: str | None = None,
+            beta_model: str | None = None, scale: Mapping[str, float] | None = None,
+            set_current: Mapping[str, float] | None = None, user_circuits: Sequence[Sequence[int]] | None = None,
+            separation_A: float | None = None, charge: int | None = None, conformers: int | None = None,
+            temperature_K: float | None = None, fmt: str | None = None) -> CompareResult:
+    """Assign observed peaks to a structure's protons, fit its ring currents and give a verdict.
+
+    Parameters
+    ----------
+    structure : str, path, Structure or Prediction
+        What to compare: a SMILES or file path (loaded and predicted here), a Structure (predicted
+        here) or a finished :class:`~ringshift.shifts.records.Prediction`.
+    peaks : str, path or PeakList
+        A peak table or JCAMP-DX file (read with :func:`read_peaks`, integrals scaled to the molecule's
+        hydrogens) or a PeakList already read.
+    claim : {"aromatic", "antiaromatic", "nonaromatic"}, optional
+        An aromaticity claim to check against the spectrum.
+    solvent : str, optional
+        Deuterated solvent whose residual peak is not assigned (with a peak file; a PeakList was
+        flagged when it was read).
+    noise_ppm : float or "auto", optional
+        Model error of a predicted shift, ppm (default 0.3), or "auto" (maximum evidence).
+    seed : int, optional
+        Seed of the conformer generator and of the fit's random starts (default 42).
+    model, currents, beta_model, scale, set_current, user_circuits, separation_A : optional
+        As in :func:`predict` (its defaults); an error with a Prediction.
+    charge, conformers, temperature_K, fmt : optional
+        As in :func:`load_structure`; only with a SMILES or a path.
+
+    Returns
+    -------
+    CompareResult
+        ``comparison`` (verdict, fitted ``circuits``, ``assignment``, ``peaks``, ``claim``), ``prediction``
+        and ``peaks``; ``to_frame()`` gives one row per peak.
+
+    Examples
+    --------
+    >>> from importlib.resources import files
+    >>> demo = files("ringshift") / "data" / "demo"
+    >>> res = compare(demo / "fj14c.sdf", demo / "fj14c_peaks.csv", claim="aromatic")
+    >>> res.comparison.verdict, res.comparison.claim.outcome
+    ('diatropic', 'supported')
+    >>> sorted(a.peak_label for a in res.comparison.assignment)
+    ['p1', 'p2', 'p3', 'p4']
+    """
+    from ringshift.compare.run import run_compare
+    from ringshift.spectra.peaks import PeakList
+
+    _compare_options(claim, noise_ppm, solvent)
+    peak_path = _path(peaks)
+    if peak_path is None and not isinstance(peaks, PeakList):
+        raise InputError(f"expected a path to a peak table or JCAMP-DX file, or a PeakList, got "
+                         f"{type(peaks).__name__}", "peaks")
+    if isinstance(peaks, PeakList) and solvent is not None:
+        raise InputError("solvent goes with a peak file; a PeakList was flagged when it was read "
+                         "(read_peaks(path, solvent=...))", "solvent")
+    loads_here = _path(structure) is not None  # the seed also seeds the conformers
+    pred = _prediction(structure, seed=seed if loads_here else None, model=model, currents=currents,
+                       beta_model=beta_model, scale=scale, set_current=set_current, user_circuits=user_circuits,
+                       separation_A=separation_A, charge=charge, conformers=conformers,
+                       temperature_K=temperature_K, fmt=fmt)
+    if peak_path is not None:
+        peak_list = read_peaks(peak_path, n_hydrogens=len(pred.protons), solvent=solvent)
+    else:
+        peak_list = peaks  # type: ignore[assignment]
+    with _api_names():
+        return run_compare(pred, peak_list, claim=claim, noise_ppm=noise_ppm,
+                           seed=DEFAULT_SEED if seed is None else seed)
+
+
+def _prediction(structure, *, seed, model, currents, beta_model, scale, set_current, user_circuits, separation_A,
+                charge, conformers, temperature_K, fmt) -> Prediction:
+    from ringshift.shifts.records import Prediction
+
+    model_opts = {"model": model, "currents": currents, "beta_model": beta_model, "scale": scale,
+                  "set_current": set_current, "user_circuits": user_circuits, "separation_A": separation_A}
+    load = {"charge": charge, "conformers": conformers, "temperature_K": temperature_K, "fmt": fmt}
+    if isinstance(structure, Prediction):
+        _not_given({**model_opts, **load, "seed": seed},
+                   "the Prediction is already computed; prediction options apply to a SMILES, a file path "
+                   "or a Structure")
+        return structure
+    return predict(structure, **{k: v for k, v in {**model_opts, **load, "seed": seed}.items() if v is not None})
+
+
+def report(structure: StructureLike | Prediction | CompareResult,
+           peaks: str | os.PathLike[str] | PeakList | None = None, *, out_dir: str | os.PathLike[str],
+           force: bool = False, claim: str | None = None,
+           solvent: str | None = None, noise_ppm: float | str | None = None, seed: int | None = None,
+           model: str | None = None, currents: str | None = None, beta_model: str | None = None,
+           scale: Mapping[str, float] | None = None, set_current: Mapping[str, float] | None = None,
+           user_circuits: Sequence[Sequence[int]] | None = None, separation_A: float | None = None,
+           charge: int | None = None, conformers: int | None = None, temperature_K: float | None = None,
+           fmt: str | None = None) -> dict[str, Path]:
+    """Write a self-contained report folder (HTML page, figures, JSON, SDF) and return its files.
+
+    Parameters
+    ----------
+    structure : str, path, Structure, Prediction or CompareResult
+        What to report. A CompareResult reports its prediction and comparison (give no ``peaks``
+        then); anything else is predicted (and compared with ``peaks``) as in :func:`compare`.
+    peaks : str, path or PeakList, optional
+        Observed peaks: adds the assignment, fitted currents and verdict.
+    out_dir : str or path
+        The folder to create; it must not exist unless ``force=True`` (then it is replaced).
+    force : bool
+        Replace an existing folder.
+    claim, solvent, noise_ppm : optional
+        As in :func:`compare`; they need ``peaks``.
+    seed, model, currents, beta_model, scale, set_current, user_circuits, separation_A : optional
+        As in :func:`compare`.
+    charge, conformers, temperature_K, fmt : optional
+        As in :func:`compare`.
+
+    Returns
+    -------
+    dict of str to pathlib.Path
+        ``html`` (report.html), ``results`` (JSON), ``pi`` (JSON), ``sdf`` and one entry per figure file.
+
+    Examples
+    --------
+    >>> import tempfile
+    >>> from importlib.resources import files
+    >>> demo = files("ringshift") / "data" / "demo"
+    >>> with tempfile.TemporaryDirectory() as tmp:
+    ...     paths = report(demo / "fj14c.sdf", demo / "fj14c_peaks.csv", out_dir=f"{tmp}/fj14c")
+    ...     print(paths["html"].name, paths["html"].is_file(), paths["results"].name)
+    report.html True results.json
+    """
+    from typing import cast
+
+    from ringshift.compare.run import CompareResult
+    from ringshift.pi.summary import pi_summary
+    from ringshift.report import write_report
+
+    out = _path(out_dir)
+    if out is None:
+        raise InputError(f"expected a folder path, got {type(out_dir).__name__}", "out_dir")
+    if not isinstance(force, bool):
+        raise InputError(f"expected True or False, got {force!r}", "force")
+    if Path(out).exists() and not force:  # refuse before any work is done
+        raise OutputError(f"{out}: already exists; pass force=True to replace it")
+    compare_opts = {"claim": claim, "solvent": solvent, "noise_ppm": noise_ppm}
+    model_opts = {"seed": seed, "model": model, "currents": currents, "beta_model": beta_model, "scale": scale,
+                  "set_current": set_current, "user_circuits": user_circuits, "separation_A": separation_A,
+                  "charge": charge, "conformers": conformers, "temperature_K": temperature_K, "fmt": fmt}
+    result: CompareResult | None
+    if isinstance(structure, CompareResult):
+        _not_given({"peaks": peaks, **compare_opts, **model_opts}, "the CompareResult is already computed")
+        result = structure
+    elif peaks is not None:
+        result = compare(structure, peaks, claim=claim, solvent=solvent, noise_ppm=noise_ppm, seed=seed, model=model,
+                         currents=currents, beta_model=beta_model, scale=scale, set_current=set_current,
+                         user_circuits=user_circuits, separation_A=separation_A, charge=charge,
+                         conformers=conformers, temperature_K=temperature_K, fmt=fmt)
+    else:
+        _not_given(compare_opts, "comparison options need observed peaks (give peaks)")
+        result = None
+    if result is not None:
+        pred = cast("Prediction", result.prediction)
+    else:
+        pred = _prediction(structure, seed=seed, model=model, currents=currents, beta_model=beta_model, scale=scale,
+                           set_current=set_current, user_circuits=user_circuits, separation_A=separation_A,
+                           charge=charge, conformers=conformers, temperature_K=temperature_K, fmt=fmt)
+    beta = pred.provenance.get("beta_model", "scf")
+    with _api_names():
+        paths = write_report(out, pred, compare_result=result,
+                             pi_summary=pi_summary(pred.structure, beta_model=beta, prediction=pred), force=force)
+    return {k: Path(v) for k, v in paths.items()}
