@@ -32,7 +32,7 @@ demo: $(STAMP)
 
 lint: $(DEV_STAMP)
 	@echo "== ruff check $(LINT_PATHS)"; \
-	$(PY) -m ruff check $(LINT_PATHS); r=$$?; \
+	$(PY) -m ruff check --output-format concise $(LINT_PATHS); r=$$?; \
 	echo "== mypy ringshift/"; \
 	$(PY) -m mypy ringshift/; m=$$?; \
 	if [ $$r -gt 1 ] || [ $$m -gt 1 ]; then \
