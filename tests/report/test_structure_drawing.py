@@ -17,7 +17,7 @@ from numpy.testing import assert_allclose
 
 from ringshift.io.structures import load_structure
 from ringshift.report import labels as L
-from ringshift.report import sdf as S
+from ringshift.report import structure_drawing as S
 from ringshift.shifts.prediction import predict
 
 DEMO = resources.files("ringshift") / "data" / "demo"
