@@ -95,23 +95,25 @@ def _api_names() -> Iterator[None]:
 
 
 # ----------------------------------------------------------------------------------- validation
+# Checks use the library's one gate (ringshift._validation, imported on call: it loads NumPy).
 def _choice(value, choices: Sequence[str], name: str) -> None:
-    if not isinstance(value, str) or value not in choices:
-        raise InputError(f"expected one of {', '.join(map(repr, choices))}, got {value!r}", name)
+    from ringshift._validation import choice
+
+    if not isinstance(value, str):
+        raise InputError(f"expected one of {', '.join(choices)}, got {value!r}", name)
+    choice(value, choices, name, name.replace("_", " "))
 
 
 def _positive_number(value, name: str) -> None:
-    import math
-    from numbers import Real
+    from ringshift._validation import real
 
-    if isinstance(value, bool) or not isinstance(value, Real) or not math.isfinite(value) or value <= 0:
-        raise InputError(f"expected a finite number > 0, got {value!r}", name)
+    real(value, name, positive=True)
 
 
 def _label_numbers(value, name: str) -> None:
-    import math
     from collections.abc import Mapping
-    from numbers import Real
+
+    from ringshift._validation import real
 
     if value is None:
         return
@@ -121,8 +123,7 @@ def _label_numbers(value, name: str) -> None:
     for key, num in value.items():
         if not isinstance(key, str):
             raise InputError(f"expected circuit labels (str) as keys, got {key!r}", name)
-        if isinstance(num, bool) or not isinstance(num, Real) or not math.isfinite(num):
-            raise InputError(f"expected a finite number for circuit {key!r}, got {num!r}", name)
+        real(num, name)
 
 
 def _index_lists(value, name: str) -> None:
@@ -176,8 +177,8 @@ def _compare_options(claim, noise_ppm, solvent) -> None:
     from ringshift.compare.evidence import CLAIM_VERDICT
     from ringshift.spectra.solvents import _solvent_name
 
-    if claim is not None and claim not in CLAIM_VERDICT:
-        raise InputError(f"expected 'aromatic', 'antiaromatic' or 'nonaromatic' or None, got {claim!r}", "claim")
+    if claim is not None:
+        _choice(claim, tuple(CLAIM_VERDICT), "claim")
     if noise_ppm is not None and noise_ppm != "auto":
         if isinstance(noise_ppm, str):
             raise InputError(f"expected a number of ppm > 0, 'auto' or None, got {noise_ppm!r}", "noise_ppm")
