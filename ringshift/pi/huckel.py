@@ -274,7 +274,7 @@ def occupy(energies, n_electrons: int, *, tol: float = DEGENERACY_TOL):
     cuts = [0] + [i for i in range(1, n) if e[i] - e[i - 1] > tol] + [n]
     shells = list(zip(cuts[:-1], cuts[1:]))
     left = float(n_electrons)
-    homo_shell = None
+    homo_shell = 0  # n_electrons > 0: the loop below puts electrons into shell 0 at least
     for si, (a, b) in enumerate(shells):
         if left <= 0:
             break
@@ -387,7 +387,8 @@ def scf_cc_lengths(h_diag, bonds, fixed_resonance, is_cc, overlap, kekule_double
     x = BETA_REF_LENGTH_A + seed_A * seed
     total = 0
     for _attempt in range(5):
-        dxs, dfs = [], []
+        dxs: list[np.ndarray] = []
+        dfs: list[np.ndarray] = []
         x_old = f_old = None
         done = False
         for _ in range(max_iter):

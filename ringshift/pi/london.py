@@ -17,7 +17,7 @@ Schneider, Can. J. Chem. 1963, 41, 966).
 
 from __future__ import annotations
 
-from dataclasses import dataclass
+from dataclasses import dataclass, replace
 from functools import lru_cache
 from typing import Sequence
 
@@ -116,6 +116,7 @@ def london_currents(pi: PiSystem, mol, coords, circuits: Sequence[Sequence[int]]
     _v.molecule(mol)
     _check_model(beta_model, pi)
     xyz = _v.coordinates(mol, coords, required=True)
+    assert xyz is not None, "_v.coordinates(required=True) raises rather than returning None"
     if isinstance(beta0_eV, bool) or not isinstance(beta0_eV, (int, float)) or not np.isfinite(beta0_eV) or beta0_eV == 0:
         raise InputError(f"beta0_eV: expected a finite non-zero resonance integral in eV (e.g. -3.0), got {beta0_eV!r}")
     if isinstance(circuits, (str, bytes)) or not hasattr(circuits, "__iter__"):
@@ -132,38 +133,40 @@ def london_currents(pi: PiSystem, mol, coords, circuits: Sequence[Sequence[int]]
     hr = huckel(pi, mol, xyz, beta_model=beta_model, distortion=distortion)
     g_bz = benzene_reference_response(beta_model)
     bz_abs = float(absolute_current_nA_per_T(g_bz, beta0_eV))
-    base = dict(field_dirs=_frozen(np.eye(3)), circuits=tuple(oriented), normals=_frozen(nrm.reshape(-1, 3)),
-                circuit_max_deviation_A=_frozen(devs), benzene_abs_nA_per_T=bz_abs, beta_model=beta_model,
-                beta0_eV=float(beta0_eV), huckel=hr)
     notes = list(pi.warnings) + list(hr.warnings) + [
         f"circuit {n} ({len(c)} atoms) is non-planar: largest deviation {d:.2f} Å from its plane; the current "
         "is its response to a field along its mean normal" for n, (c, d) in enumerate(zip(oriented, devs)) if d > _PLANAR_TOL_A]
-    none = dict(bond_currents_rel=None, bond_currents_nA_per_T=None, circuit_response_rel=None,
-                circuit_currents_rel=None, circuit_currents_nA_per_T=None, circuit_currents_abs_nA_per_T=None,
-                kirchhoff_residual=None, conservation_residual=None)
+    # the result without numbers; the other outcomes replace its status and numbers
+    empty = LondonCurrents(
+        status="no π system", open_shell=False, field_dirs=_frozen(np.eye(3)), circuits=tuple(oriented),
+        normals=_frozen(nrm.reshape(-1, 3)), circuit_max_deviation_A=_frozen(devs),
+        bond_currents_rel=None, bond_currents_nA_per_T=None, circuit_response_rel=None,
+        circuit_currents_rel=None, circuit_currents_nA_per_T=None, circuit_currents_abs_nA_per_T=None,
+        benzene_abs_nA_per_T=bz_abs, kirchhoff_residual=None, conservation_residual=None,
+        beta_model=beta_model, beta0_eV=float(beta0_eV), huckel=hr, warnings=tuple(notes))
     if not pi.atoms:
-        return LondonCurrents(status="no π system", open_shell=False, warnings=tuple(notes), **base, **none)
+        return empty
     lb = np.array([(pi.atoms.index(i), pi.atoms.index(j)) for i, j in pi.bonds], dtype=np.intp).reshape(-1, 2)
     h0 = huckel_matrix([HETERO_PARAMETERS[t][0] for t in pi.atom_types], lb, hr.resonance)
     status = ("open shell: degenerate, partly filled HOMO (e.g. a D_Nh 4n annulene); Hückel–London gives no "
               "finite current. Pass a distortion (bond alternation) or a geometry that breaks the degeneracy")
     if hr.degenerate_open_shell:
-        return LondonCurrents(status=status, open_shell=True, warnings=tuple(notes), **base, **none)
+        return replace(empty, status=status, open_shell=True)
     try:
         g = london_bond_response(h0, xyz[list(pi.atoms)], lb, hr.energies_beta, hr.vectors, hr.occupations,
                                     labels=hr.mo_fragment)
     except ValueError:
-        return LondonCurrents(status=status, open_shell=True, warnings=tuple(notes), **base, **none)
+        return replace(empty, status=status, open_shell=True)
     diat = g / g_bz  # diatropic-sense current from i to j, benzene = 1
     x, resid = kirchhoff_decomposition(diat, inc)
     div = np.zeros((3, len(pi.atoms)))  # net current leaving each atom
-    np.add.at(div, (slice(None), lb[:, 0]), diat)
-    np.add.at(div, (slice(None), lb[:, 1]), -diat)
+    np.add.at(div.T, lb[:, 0], diat.T)  # div[:, lb[k, 0]] += diat[:, k], through the transposed view
+    np.add.at(div.T, lb[:, 1], -diat.T)
     cons = float(np.max(np.abs(div)) / max(np.max(np.abs(diat)), 1e-300)) if diat.size else 0.0
     resp = x.T  # (n_circuits, 3)
     rel = np.einsum("ca,ca->c", resp, nrm.reshape(-1, 3))
-    return LondonCurrents(
-        status="ok", open_shell=hr.open_shell, warnings=tuple(notes), **base,
+    return replace(
+        empty, status="ok", open_shell=hr.open_shell,
         bond_currents_rel=_frozen(-diat), bond_currents_nA_per_T=_frozen(-diat * BENZENE_CURRENT_NA_PER_T),
         circuit_response_rel=_frozen(resp), circuit_currents_rel=_frozen(rel),
         circuit_currents_nA_per_T=_frozen(rel * BENZENE_CURRENT_NA_PER_T),

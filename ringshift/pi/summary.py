@@ -9,7 +9,9 @@ from __future__ import annotations
 
 import numpy as np
 
+from ringshift.pi.huckel import HuckelResult
 from ringshift.pi.huckel import huckel as _pisystem_huckel
+from ringshift.pi.perception import PiSystem
 from ringshift.pi.perception import huckel_class as _pisystem_huckel_class
 from ringshift.report.json import CAUTION, SCHEMA_VERSION, _r, circuit_to_dict
 from ringshift.shifts.prediction import predict
@@ -19,11 +21,13 @@ def pi_summary(structure, *, beta_model: str = "scf", prediction=None) -> dict:
     """Plain-data π summary of a structure (the JSON form of ``ringshift pi``)."""
     pred = prediction if prediction is not None else predict(structure, currents="huckel", beta_model=beta_model)
     pi = pred.pi
+    # Prediction.pi is typed ``object | None`` in ringshift.shifts.records; predict() stores a PiSystem
+    assert pi is None or isinstance(pi, PiSystem), f"prediction.pi: expected a PiSystem, got {type(pi).__name__}"
     best = int(np.argmax(structure.weights))
     levels = None
     if pi is not None and pi.atoms:
         hr = pred.huckel
-        if hr is None or hr.beta_model != beta_model:   # not from the London step, or other parameters
+        if not isinstance(hr, HuckelResult) or hr.beta_model != beta_model:   # not from the London step, or other parameters
             hr = _pisystem_huckel(pi, structure.mol, structure.coords[best], beta_model=beta_model)
         levels = {
             "energies_beta": [_r(x) for x in hr.energies_beta],
