@@ -175,28 +175,6 @@ def _order_cycle(bond_set: Iterable[tuple[int, int]]) -> tuple[int, ...] | None:
     return tuple(path) if len(path) == len(adj) else None
 
 
-def default_pi_graph(mol: Chem.Mol) -> tuple[tuple[int, ...], tuple[tuple[int, int], ...]]:
-    """A plain π graph from RDKit flags: atoms that are aromatic, or sp/sp2 and conjugated.
-
-    Used when no :class:`ringshift.pi.perception.PiSystem` is supplied. Returns (atoms, bonds), bonds as
-    sorted pairs of π atoms joined by a conjugated or aromatic bond.
-    """
-    sp = {Chem.HybridizationType.SP, Chem.HybridizationType.SP2}
-    pi_atoms = set()
-    for atom in mol.GetAtoms():
-        if atom.GetAtomicNum() == 1:
-            continue
-        conj = any(b.GetIsConjugated() or b.GetIsAromatic() for b in atom.GetBonds())
-        if atom.GetIsAromatic() or (atom.GetHybridization() in sp and conj):
-            pi_atoms.add(atom.GetIdx())
-    bonds = []
-    for b in mol.GetBonds():
-        i, j = b.GetBeginAtomIdx(), b.GetEndAtomIdx()
-        if i in pi_atoms and j in pi_atoms and (b.GetIsConjugated() or b.GetIsAromatic()):
-            bonds.append((min(i, j), max(i, j)))
-    return tuple(sorted(pi_atoms)), tuple(sorted(bonds))
-
-
 def find_circuits(
     mol: Chem.Mol,
     pi_atoms: Sequence[int] | None = None,
@@ -211,7 +189,7 @@ def find_circuits(
     mol : rdkit.Chem.Mol
         Molecule (explicit H allowed; hydrogens are ignored).
     pi_atoms, pi_bonds : sequences, optional
-        The π graph; by default :func:`default_pi_graph`.
+        The π graph; by default the π system of :func:`ringshift.pi.perception.perceive_pi`.
     user_circuits : sequence of sequences of int, optional
         Circuits given explicitly as atom-index lists; they replace the perceived faces. Each must
         be a closed path of bonded atoms (consecutive atoms bonded, last bonded to first).
@@ -223,7 +201,10 @@ def find_circuits(
         (P1..) of fused systems with more than one face.
     """
     if pi_atoms is None or pi_bonds is None:
-        pi_atoms, pi_bonds = default_pi_graph(mol)
+        from ringshift.pi.perception import perceive_pi  # geometry does not import pi at module level
+
+        pi = perceive_pi(mol)
+        pi_atoms, pi_bonds = pi.atoms, pi.bonds
     pi_bonds = [(min(i, j), max(i, j)) for i, j in pi_bonds]
     frags = _fragments(pi_atoms, pi_bonds) if pi_atoms else []
     frag_of = {a: k for k, comp in enumerate(frags) for a in comp}

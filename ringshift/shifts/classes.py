@@ -14,13 +14,12 @@ import numpy as np
 from rdkit import Chem
 
 from ringshift.errors import InputError
+from ringshift.pi.perception import perceive_pi
 
 __all__ = ['classify_hydrogens']
 
 
 _MULTIPLE = (Chem.BondType.DOUBLE, Chem.BondType.TRIPLE, Chem.BondType.AROMATIC)
-
-_LONE_PAIR_DONORS = (7, 8, 16)
 
 
 def _prepared_copy(mol) -> Chem.Mol:
@@ -45,25 +44,6 @@ def _prepared_copy(mol) -> Chem.Mol:
 
 def _has_multiple_bond(atom) -> bool:
     return atom.GetIsAromatic() or any(b.GetBondType() in _MULTIPLE for b in atom.GetBonds())
-
-
-def _pi_atoms(mol) -> frozenset[int]:
-    """π atoms: aromatic or multiply bonded; charged/radical C next to one (Kekulé ions); neutral
-    N/O/S with single bonds joining two of them (pyrrole-type N, furan-type O)."""
-    core = {a.GetIdx() for a in mol.GetAtoms() if a.GetAtomicNum() > 1 and _has_multiple_bond(a)}
-    pi = set(core)
-    for atom in mol.GetAtoms():
-        idx = atom.GetIdx()
-        if idx in core or atom.GetAtomicNum() <= 1:
-            continue
-        n_pi = sum(1 for nb in atom.GetNeighbors() if nb.GetIdx() in core)
-        charged = atom.GetFormalCharge() != 0 or atom.GetNumRadicalElectrons() > 0
-        if atom.GetAtomicNum() == 6 and charged and n_pi >= 1:
-            pi.add(idx)
-        elif (atom.GetAtomicNum() in _LONE_PAIR_DONORS and atom.GetFormalCharge() == 0
-              and n_pi >= 2):
-            pi.add(idx)
-    return frozenset(pi)
 
 
 def _share_pi_circuit(mol, pi: frozenset[int], u: int, v: int) -> bool:
@@ -326,7 +306,7 @@ def classify_hydrogens(mol, h_indices: Iterable[int] | None = None) -> dict[int,
     """
     prepared = _prepared_copy(mol)
     wanted = _checked_h_indices(prepared, h_indices)
-    pi = _pi_atoms(prepared)
+    pi = frozenset(perceive_pi(prepared).atoms)   # the one π perception
     return {i: _classify_one(prepared.GetAtomWithIdx(i), pi) for i in wanted}
 
 
