@@ -8,8 +8,9 @@ from __future__ import annotations
 
 import dataclasses
 import json
-import math
 from typing import TYPE_CHECKING
+
+from ringshift.report.numbers import rounded as _r
 
 if TYPE_CHECKING:
     from ringshift.compare.run import CompareResult
@@ -43,20 +44,6 @@ SCHEMA_VERSION = "1.0"
 
 CAUTION = ("Ring-current models are approximate: they estimate the ring-current part of each shift, not "
            "the whole shift. Confirm assignments with 2D NMR and the current with quantum-chemical calculations.")
-
-FLOAT_DIGITS = 4
-
-
-def _r(x, nd: int = FLOAT_DIGITS):
-    """Round floats for stable, readable JSON; map non-finite to None."""
-    if x is None:
-        return None
-    x = float(x)
-    if not math.isfinite(x):
-        return None
-    v = round(x, nd)
-    return 0.0 if v == 0 else v
-
 
 def circuit_to_dict(cr) -> dict:
     c = cr.circuit
@@ -131,7 +118,7 @@ def to_json(data: dict) -> str:
 
 def trajectory_to_dict(tp: TrajectoryPrediction) -> dict:
     """Plain-data (JSON) form of a :class:`TrajectoryPrediction`."""
-    r = _round
+    r = _r
     pos = {h: k for k, h in enumerate(tp.h_indices)}
     labels = [c.label for c in tp.circuits]
     return {
@@ -152,10 +139,3 @@ def trajectory_to_dict(tp: TrajectoryPrediction) -> dict:
         "frames": {"numbers": tp.frame_numbers.tolist(), "weights": [r(x, 8) for x in tp.weights]},
         "provenance": tp.provenance, "warnings": list(tp.warnings),
     }
-
-
-def _round(x, nd: int = 4):
-    if x is None or not math.isfinite(float(x)):
-        return None
-    v = round(float(x), nd)
-    return 0.0 if v == 0 else v

@@ -12,7 +12,9 @@ import io
 from typing import TYPE_CHECKING
 
 from ringshift.pi.summary import _verdict
-from ringshift.report.json import CAUTION, _r
+from ringshift.report.json import CAUTION
+from ringshift.report.numbers import rounded as _r
+from ringshift.report.numbers import text
 
 if TYPE_CHECKING:
     from ringshift.compare.run import CompareResult
@@ -66,11 +68,11 @@ def comparison_text(res: CompareResult) -> str:
 
 
 def _fmt_cell(x, spec="8.2f"):
-    return " " * 8 if x is None else format(x, spec)
+    return text(x, spec, missing=" " * 8)
 
 
 def _fmt(x, spec="+.2f"):
-    return "" if x is None else format(x, spec)
+    return text(x, spec)
 
 
 def prediction_table(pred) -> str:
@@ -117,14 +119,14 @@ def prediction_table(pred) -> str:
 
 
 def prediction_csv(pred) -> str:
-    """Per-proton CSV table."""
+    """Per-proton CSV table (indices 0-based, as in the JSON; numbers from :func:`ringshift.report.numbers.rounded`)."""
     labels = [cr.circuit.label for cr in pred.circuits]
     buf = io.StringIO()
     wr = csv.writer(buf, lineterminator="\n")
     wr.writerow(["index", "parent", "group", "proton_class"] + [f"ring_current_{lab}_ppm" for lab in labels] +
                 ["ring_current_ppm", "charge_ppm", "reference_ppm", "predicted_ppm", "conformer_spread_ppm"])
     for p in pred.protons:
-        wr.writerow([p.index, p.parent, p.group + 1, p.proton_class or ""] +
+        wr.writerow([p.index, p.parent, p.group, p.proton_class or ""] +
                     [_r(v) for v in p.per_circuit_ppm] +
                     [_r(p.ring_current_ppm), _r(p.charge_ppm),
                      "" if p.reference_ppm is None else _r(p.reference_ppm),
