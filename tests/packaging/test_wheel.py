@@ -145,8 +145,10 @@ def test_wheel_name_and_files(wheel):
     # the wheel carries the source package file for file, and nothing of the repository beyond it
     source = set(_source_files())
     package_files = {n for n in names if not n.startswith("ringshift-")}
-    assert sorted(source - package_files) == [], "source files left out of the wheel"
-    assert sorted(package_files - source) == [], "files in the wheel that are not in ringshift/"
+    left_out = sorted(source - package_files)
+    assert not left_out, f"files under ringshift/ left out of the wheel (package-data in pyproject.toml?): {left_out}"
+    extra = sorted(package_files - source)
+    assert not extra, f"files in the wheel that are not under ringshift/: {extra}"
 
     # data files are the real files (not links, not empty), byte for byte those of the source tree
     for name, data in contents.items():
