@@ -194,7 +194,8 @@ def iter_xyz_frames(path, *, energy_unit: str = "kcal/mol", strict: bool = False
 def _sd_records(path: Path) -> Iterator[tuple[int, int, str, bool]]:
     """(record number, first line, text, complete) of each SD record, read line by line."""
     with path.open(encoding="utf-8") as fh:
-        buf, start, number, line_no = [], 1, 0, 0
+        buf: list[str] = []
+        start, number, line_no = 1, 0, 0
         for line in fh:
             line_no += 1
             if line.rstrip("\r\n").strip() == "$$$$":

@@ -99,6 +99,7 @@ def read_text_file(path: str | os.PathLike) -> tuple[str, tuple[str, ...]]:
     """
     name = os.fspath(path)
     raw = _limits.read_text_bytes(name, "a peak list (CSV/TSV) or a JCAMP-DX file")
+    notes: tuple[str, ...]
     try:
         text, notes = raw.decode("utf-8-sig"), ()
     except UnicodeDecodeError:
@@ -169,9 +170,11 @@ class _Labels:
         self.labels, self.source = labels, source
 
     def text(self, name: str, default: str | None = None) -> str:
-        if name not in self.labels and default is None:
+        if name in self.labels:
+            return self.labels[name][0]
+        if default is None:
             raise InputError(f"missing required label ##{_SHOWN.get(name, name)}=", self.source)
-        return self.labels[name][0] if name in self.labels else default
+        return default
 
     def number(self, name: str, default: float | None = None, *, required=False, positive=False,
                nonzero=False) -> float | None:
@@ -235,7 +238,8 @@ def parse_jcamp_text(text: str, *, source: str = "<string>") -> JcampData:
     if "PEAKASSIGNMENTS" in block["data"]:
         notes.append("##PEAK ASSIGNMENTS ignored (not supported)")
     ppm, intensity = _spectrum(block, lab, *scale, source, notes) if "XYDATA" in block["data"] else (None, None)
-    peaks: tuple = _peak_table(block, lab, *scale, source, notes) if "PEAKTABLE" in block["data"] else ((),) * 4
+    peaks: tuple[tuple[float, ...], tuple[float, ...], tuple[float | None, ...], tuple[int, ...]] = (
+        _peak_table(block, lab, *scale, source, notes) if "PEAKTABLE" in block["data"] else ((), (), (), ()))
     yunits = lab.text("YUNITS", "").upper()
     return JcampData(lab.text("TITLE").strip(), source, observe, ppm, intensity, *peaks,
                      y_is_integral="INTEGRAL" in yunits or "AREA" in yunits,
@@ -411,7 +415,11 @@ def write_jcamp_spectrum(path: str | os.PathLike, ppm, intensity, *, observe_mhz
     if compress not in FORMS:
         raise InputError(f"compress={compress!r}; expected one of {', '.join(FORMS)}", "compress")
     observe = _check_observe(observe_mhz, xunits == "HZ")
-    xv = x * observe if xunits == "HZ" else x
+    if xunits == "HZ":
+        assert observe is not None, "_check_observe(needed=True) raises when observe_mhz is missing"
+        xv = x * observe
+    else:
+        xv = x
     ymax = float(np.max(np.abs(y)))
     yfactor = float(f"{ymax / 1e8:.10g}") or 1.0
     yi = np.rint(y / yfactor).astype(np.int64)
@@ -442,12 +450,18 @@ def write_jcamp_peak_table(path: str | os.PathLike, ppm, y, width_hz=None, *, ob
     if not all(math.isfinite(v) for v in ppm + y):
         raise InputError("peak positions and Y values must be finite", "peaks")
     observe = _check_observe(observe_mhz, False)
-    xyw = bool(ppm) and observe is not None and all(w is not None for w in widths)
+    w_ppm: list[float] | None = None  # the W column, when the frequency and every width are known
+    if ppm and observe is not None and all(w is not None for w in widths):
+        w_ppm = [float(w) / observe for w in widths if w is not None]
+    xyw = w_ppm is not None
     head = [f"##TITLE={_one_line(title)}", "##JCAMP-DX=5.01", "##DATA TYPE=NMR PEAK TABLE",
             "##DATA CLASS=PEAK TABLE", "##ORIGIN=ringshift", "##OWNER=public domain"]
     if observe is not None:
         head += [f"##.OBSERVE FREQUENCY={observe!r}", "##.OBSERVE NUCLEUS=^1H"]
     head += ["##XUNITS=PPM", f"##YUNITS={'INTEGRAL' if y_is_integral else 'ARBITRARY UNITS'}",
              f"##NPOINTS={len(ppm)}", f"##PEAK TABLE=({'XYW..XYW' if xyw else 'XY..XY'})"]
-    rows = [f"{p!r}, {v!r}" + (f", {float(w) / observe!r}" if xyw else "") for p, v, w in zip(ppm, y, widths)]
+    if w_ppm is None:
+        rows = [f"{p!r}, {v!r}" for p, v in zip(ppm, y)]
+    else:
+        rows = [f"{p!r}, {v!r}, {w!r}" for p, v, w in zip(ppm, y, w_ppm)]
     _write(path, head + rows + ["##END="])

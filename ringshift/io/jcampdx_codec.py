@@ -95,7 +95,7 @@ def decode_xydata(lines: list[tuple[int, str]], *, npoints: int, source: str = "
     """
     values: list[float] = []
     x_checks: list[tuple[int, float, int]] = []
-    last = diff = None
+    last = diff = 0.0  # meaningful once last_kind is set
     last_kind = None
     after_dif = False
     for lineno, text in lines:
@@ -117,7 +117,7 @@ def decode_xydata(lines: list[tuple[int, str]], *, npoints: int, source: str = "
                     values.append(value)
                 last, last_kind = value, "abs"
             elif kind == "dif":
-                if last is None:
+                if last_kind is None:
                     raise InputError("DIF value with no preceding Y value", where)
                 diff, last, last_kind = value, last + value, "dif"
                 values.append(last)
@@ -159,15 +159,15 @@ def encode_xydata(x: np.ndarray, y: np.ndarray, form: str = "DIF", *, width: int
     example is ``1AJT%jX``). ``width``: target line length (80 in the standard; one long token may
     exceed it). Returns the lines.
     """
-    y = [int(v) for v in y]
-    n = len(y)
+    ys = [int(v) for v in y]
+    n = len(ys)
     xt = [f"{float(v):.10g}" for v in x]
     if form not in FORMS:
         raise InputError(f"compress={form!r}; expected one of {', '.join(FORMS)}", "compress")
     lines: list[str] = []
     if form != "DIF":
         tok = {"AFFN": lambda v: f" {v}", "PAC": lambda v: f"{v:+d}", "SQZ": lambda v: _pseudo(v, _SQZ_OUT)}[form]
-        tokens = [tok(v) for v in y]
+        tokens = [tok(v) for v in ys]
         i = 0
         while i < n:
             line = xt[i] + tokens[i]
@@ -179,11 +179,11 @@ def encode_xydata(x: np.ndarray, y: np.ndarray, form: str = "DIF", *, width: int
         return lines
     i = 0
     while True:
-        line, j = xt[i] + _pseudo(y[i], _SQZ_OUT), i
+        line, j = xt[i] + _pseudo(ys[i], _SQZ_OUT), i
         while j + 1 < n:
-            d = y[j + 1] - y[j]
+            d = ys[j + 1] - ys[j]
             run = 1
-            while j + 1 + run < n and y[j + 1 + run] - y[j + run] == d:
+            while j + 1 + run < n and ys[j + 1 + run] - ys[j + run] == d:
                 run += 1
             token = _pseudo(d, _DIF_OUT) + (_dup(run) if run > 1 else "")
             if len(line) + len(token) > width and j > i:
@@ -192,6 +192,6 @@ def encode_xydata(x: np.ndarray, y: np.ndarray, form: str = "DIF", *, width: int
         lines.append(line)
         if j == n - 1:
             if j > i:
-                lines.append(xt[j] + _pseudo(y[j], _SQZ_OUT))  # final Y check
+                lines.append(xt[j] + _pseudo(ys[j], _SQZ_OUT))  # final Y check
             return lines
         i = j

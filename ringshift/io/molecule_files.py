@@ -161,7 +161,7 @@ def _mol_from_xyz(path: Path, charge: int | None) -> tuple[Chem.Mol, np.ndarray]
         mol = _bonds_from_xyz(symbols, frames[0], q)
     except Exception as exc:             # RDKit raises ValueError/RuntimeError on a charge that does not fit
         why = " ".join(str(exc).split())
-        fits = []
+        fits: list[int] = []
         if len(symbols) <= 300:          # a few more perceptions (about 1 ms each for 20-50 atoms)
             for trial in (0, 1, -1, 2, -2, 3, -3):
                 if trial != q and not fits:
@@ -197,7 +197,7 @@ def _mol_from_smiles(smiles: str) -> tuple[Chem.Mol, str]:
         raise InputError(f"SMILES of {len(smiles)} characters exceeds the limit of {_limits.MAX_SMILES_CHARS}; "
                          "give large molecules as a MOL/SDF or XYZ file", source=_short(smiles))
     params = Chem.SmilesParserParams()
-    params.sanitize, params.removeHs = False, False
+    params.sanitize, params.removeHs = False, False  # type: ignore[assignment]  # rdkit-stubs type property setters as (*args, **kwargs)
     with rdBase.BlockLogs():
         mol = Chem.MolFromSmiles(smiles, params)
     if mol is None or mol.GetNumAtoms() == 0:

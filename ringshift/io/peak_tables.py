@@ -101,7 +101,7 @@ def _parse_csv(text: str, source: str) -> tuple[PeakList, tuple[bool, ...]]:
         m = _OBSERVE_COMMENT.match(stripped)
         if m:
             observe = _parse_number(m.group(1), "observe_mhz", f"{source}:{lineno}", False)
-            if observe <= 0:
+            if observe is None or observe <= 0:
                 raise InputError(f"{stripped!r}; expected a positive frequency in MHz", f"{source}:{lineno}")
         elif stripped and not stripped.startswith("#"):
             rows.append((lineno, line))
@@ -227,7 +227,9 @@ def write_peak_table_csv(path: str | os.PathLike, peaks) -> None:
 # ---------------------------------------------------------------------------------------- JCAMP
 def _from_jcamp(data: _jcamp.JcampData, prominence_sigma: float) -> PeakList:
     notes = list(data.warnings)
-    spectrum = None if data.ppm is None else Spectrum(data.ppm, data.intensity, data.observe_mhz, data.source)
+    spectrum = (None if data.ppm is None or data.intensity is None
+                else Spectrum(data.ppm, data.intensity, data.observe_mhz, data.source))
+    peaks: list[Peak] | tuple[Peak, ...]
     if data.has_peak_table:
         peaks = []
         for ppm, y, w, line in zip(data.peak_ppm, data.peak_y, data.peak_width_hz, data.peak_lines):
@@ -240,6 +242,8 @@ def _from_jcamp(data: _jcamp.JcampData, prominence_sigma: float) -> PeakList:
         if not peaks:
             raise InputError("##PEAK TABLE holds no peaks", data.source)
     else:
+        if spectrum is None:  # parse_jcamp_text keeps only blocks with ##XYDATA or ##PEAK TABLE
+            raise InputError("no ##XYDATA= or ##PEAK TABLE= in the file", data.source)
         peaks, picked_notes = _pick(spectrum, prominence_sigma, MERGE_HZ)
         notes += picked_notes + ([] if peaks else [f"no peak rises {prominence_sigma:g} σ above the noise"])
     return PeakList(tuple(peaks), data.source, spectrum, tuple(notes), data.observe_mhz)

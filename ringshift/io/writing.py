@@ -21,14 +21,17 @@ def atomic_write(path: str | os.PathLike, data: str | bytes, *, force: bool = Fa
     folder = path.parent if str(path.parent) else Path(".")
     if not folder.is_dir():
         raise OutputError(f"{path}: folder {folder} does not exist")
-    mode = "wb" if isinstance(data, bytes) else "w"
     try:
         fd, tmp = tempfile.mkstemp(prefix=f".{path.name}.", suffix=".tmp", dir=folder)
     except OSError as exc:
         raise OutputError(f"{path}: cannot write in {folder} ({exc.strerror})") from None
     try:
-        with os.fdopen(fd, mode, **({} if mode == "wb" else {"encoding": "utf-8", "newline": ""})) as fh:
-            fh.write(data)
+        if isinstance(data, bytes):
+            with os.fdopen(fd, "wb") as fb:
+                fb.write(data)
+        else:
+            with os.fdopen(fd, "w", encoding="utf-8", newline="") as ft:
+                ft.write(data)
         os.replace(tmp, path)
     except BaseException:
         try:

@@ -11,7 +11,7 @@ from __future__ import annotations
 
 import re
 from dataclasses import dataclass
-from typing import Callable, Iterator
+from typing import Callable, Iterable, Iterator
 
 import numpy as np
 from rdkit import Chem
@@ -57,13 +57,13 @@ def _floats(items) -> bool:
         return False
 
 
-def parse_xyz_frames(lines: Iterator[str], source: str,
+def parse_xyz_frames(lines: Iterable[str], source: str,
                      on_truncated: Callable[[int, str, str], None] | None = None) -> Iterator[XyzFrame]:
-    """Parse XYZ frames from an iterator of text lines, one frame at a time.
+    """Parse XYZ frames from an iterable of text lines, one frame at a time.
 
     Parameters
     ----------
-    lines : iterator of str
+    lines : iterable of str
         The file's lines (with or without line ends); read lazily.
     source : str
         File name used in error messages (``source:line``).
@@ -140,7 +140,7 @@ def parse_xyz_frames(lines: Iterator[str], source: str,
         if not np.all(np.isfinite(xyz)):
             k = int(np.flatnonzero(~np.all(np.isfinite(xyz), axis=1))[0])
             raise InputError(f"non-finite coordinate in frame {number}", source=f"{source}:{start + 2 + k}")
-        if ref_tokens is None:
+        if ref_tokens is None or ref_symbols is None:  # frame 1 (both are set together)
             ref_tokens = tokens
             ref_symbols = tuple(element_symbol(t) or "" for t in tokens)
         elif tokens != ref_tokens:
@@ -150,7 +150,6 @@ def parse_xyz_frames(lines: Iterator[str], source: str,
                 raise InputError(f"frame {number} does not list the atoms of frame 1 in the same order (atom "
                                  f"{k + 1} is {tokens[k]}, frame 1 has {ref_tokens[k]})",
                                  source=f"{source}:{start + 2 + k}")
-        assert ref_symbols is not None
         _limits.check_coordinates(xyz[None], list(ref_symbols), f"{source}:{start} (frame {number})")
         yield XyzFrame(number, start, ref_symbols, xyz, comment.strip())
 
