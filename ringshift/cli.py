@@ -28,6 +28,17 @@ OPTION_OF_PARAMETER = {
 }
 
 
+class _Format(click.Choice):
+    """The one ``--format`` vocabulary: ``text`` (readable tables), ``json``, and ``csv`` where a command has a
+    per-proton table. The earlier name ``table`` is still accepted for ``text``."""
+
+    def __init__(self, *choices: str):
+        super().__init__(list(choices))
+
+    def convert(self, value, param, ctx):
+        return super().convert("text" if value == "table" else value, param, ctx)
+
+
 def _error_text(exc: InputError) -> str:
     """One line for an InputError, with an API parameter name shown as the matching command-line option."""
     if exc.source in OPTION_OF_PARAMETER:
@@ -130,7 +141,7 @@ def _emit(text: str, output, force: bool):
 @click.argument("structure")
 @_apply(structure_options)
 @_apply(model_options)
-@click.option("--format", "fmt", type=click.Choice(["table", "json", "csv"]), default="table", show_default=True)
+@click.option("--format", "fmt", type=_Format("text", "json", "csv"), default="text", show_default=True)
 @click.option("-o", "--output", type=click.Path(dir_okay=False), default=None, help="Write to FILE (atomically).")
 @click.option("--force", is_flag=True, help="Overwrite an existing output file.")
 def predict_cmd(structure, charge, conformers, seed, temperature, model, currents, beta_model, scale, set_current,
@@ -160,7 +171,7 @@ def predict_cmd(structure, charge, conformers, seed, temperature, model, current
               help="Check an aromaticity claim against the spectrum.")
 @click.option("--noise", default=None, metavar="PPM|auto",
               help="Model error of a predicted shift in ppm [default: 0.3], or 'auto' (maximum evidence).")
-@click.option("--format", "fmt", type=click.Choice(["text", "json"]), default="text", show_default=True)
+@click.option("--format", "fmt", type=_Format("text", "json"), default="text", show_default=True)
 @click.option("-o", "--output", type=click.Path(dir_okay=False), default=None, help="Write to FILE (atomically).")
 @click.option("--force", is_flag=True, help="Overwrite an existing output file.")
 def compare_cmd(structure, peaks, charge, conformers, seed, temperature, model, currents, beta_model, scale,
@@ -201,7 +212,7 @@ def _noise(value):
               show_default=True, help="Resonance integrals of the Hueckel step.")
 @click.option("--plot", type=click.Path(dir_okay=False), default=None,
               help="Write a diagram of the pi levels (PNG or SVG by extension).")
-@click.option("--format", "fmt", type=click.Choice(["text", "json"]), default="text", show_default=True)
+@click.option("--format", "fmt", type=_Format("text", "json"), default="text", show_default=True)
 @click.option("--force", is_flag=True, help="Overwrite an existing plot file.")
 def pi_cmd(structure, charge, conformers, seed, temperature, beta_model, plot, fmt, force):
     """Pi-electron counts, 4n+2/4n class, planarity, Hueckel levels and circuit currents of STRUCTURE."""
@@ -273,21 +284,25 @@ def report_cmd(structure, peaks, charge, conformers, seed, temperature, model, c
               help="Half-width of the map (A).")
 @click.option("--grid", type=click.IntRange(11, 601), default=121, show_default=True, help="Points per side.")
 @click.option("--for-circuit", "for_circuit", default=None, metavar="LABEL",
-              help="Centre and orient the map on this circuit [default: the largest].")
+              help="Centre and orient the map on this circuit [default: the mean plane of all loop atoms].")
+@click.option("--contour-max", "contour_max", type=click.FloatRange(0.05, 1000.0), default=10.0, show_default=True,
+              metavar="PPM", help="Top of the colour scale, +/- PPM (the same value gives the same colours for "
+                                  "every compound; levels run on a 1-2-5 ladder two decades below it).")
 @click.option("--force", is_flag=True, help="Overwrite an existing file.")
 def map_cmd(structure, charge, conformers, seed, temperature, model, currents, beta_model, scale, set_current,
-            circuit, output, plane, height, extent, grid, for_circuit, force):
-    """Shielding map (isotropic ring-current shift, ppm) of STRUCTURE's loops."""
+            circuit, output, plane, height, extent, grid, for_circuit, contour_max, force):
+    """Shielding map (isotropic ring-current shift, ppm) of STRUCTURE's loops, with the chosen --model."""
     from ringshift.report.figures import save_figure
-    from ringshift.report.maps import normal_scan_figure, shielding_map_figure
+    from ringshift.report.maps import check_map_model, normal_scan_figure, shielding_map_figure
 
+    check_map_model(model)  # refuse a model without a map before any work is done
     pred = _run_predict(structure, charge, conformers, seed, temperature, model, currents, beta_model, scale,
                         set_current, circuit)
     if plane == "scan":
-        fig = normal_scan_figure(pred, circuit=for_circuit)
+        fig = normal_scan_figure(pred, circuit=for_circuit, model=model)
     else:
         fig = shielding_map_figure(pred, circuit=for_circuit, plane=plane, height_A=height, extent_A=extent,
-                                   grid=grid)
+                                   grid=grid, model=model, contour_max_ppm=contour_max)
     save_figure(fig, output, force=force)
     click.echo(f"wrote {output}", err=True)
 
@@ -314,7 +329,7 @@ def map_cmd(structure, charge, conformers, seed, temperature, model, currents, b
               help="Protons (H atom indices) in fast exchange with each other; repeat for more groups.")
 @click.option("--memory", type=click.FloatRange(10.0, 1e5), default=500.0, show_default=True,
               help="Memory budget for the frame blocks (MB).")
-@click.option("--format", "fmt", type=click.Choice(["table", "json"]), default="table", show_default=True)
+@click.option("--format", "fmt", type=_Format("text", "json"), default="text", show_default=True)
 @click.option("-o", "--output", type=click.Path(dir_okay=False), default=None)
 @click.option("--force", is_flag=True)
 def trajectory_cmd(frames, charge, model, currents, beta_model, weights, temperature, energy_unit, frame_weights,

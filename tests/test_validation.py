@@ -68,3 +68,16 @@ def test_cli_shows_the_option(args, option, capsys):
 
 def test_every_mapped_parameter_is_an_option():
     assert all(o.startswith("--") for o in OPTION_OF_PARAMETER.values())
+
+
+@pytest.mark.parametrize("command", [["predict", "c1ccccc1", "--conformers", "1"], ["pi", "c1ccccc1", "--conformers", "1"]],
+                         ids=["predict", "pi"])
+def test_one_format_vocabulary(command, capsys):
+    """``text`` and ``json`` mean the same on every command; the old name ``table`` still gives text."""
+    outs = {}
+    for fmt in ("text", "table", "json"):
+        with pytest.raises(SystemExit) as info:
+            main(command + ["--format", fmt])
+        assert info.value.code == 0
+        outs[fmt] = capsys.readouterr().out
+    assert outs["text"] == outs["table"] and outs["json"].lstrip().startswith("{")
