@@ -2,17 +2,21 @@
 
 :func:`run_compare` turns a :class:`ringshift.shifts.records.Prediction` into the comparer's group models
 and circuit priors, the :class:`ringshift.spectra.peaks.PeakList` into observed peaks, and calls
-:func:`ringshift.compare.comparer.compare`. :func:`comparison_to_dict` is the one JSON form of the result.
+:func:`ringshift.compare.comparer.compare`. :func:`ringshift.report.json.comparison_to_dict` is the one JSON form
+of the result.
 """
 
 from __future__ import annotations
+
 from dataclasses import dataclass
+
 import numpy as np
-from ringshift.compare.records import CircuitPrior, Comparison, GroupModel, ObservedPeak
+
+from ringshift._display import ComparisonDisplay
 from ringshift.compare.comparer import compare as _cmp_compare
+from ringshift.compare.records import CircuitPrior, Comparison, GroupModel, ObservedPeak
 from ringshift.constants import BENZENE_CURRENT_NA_PER_T
 from ringshift.errors import InputError
-from ringshift._display import ComparisonDisplay
 
 __all__ = ['run_compare', 'group_models', 'circuit_priors', 'observed_peaks', 'CompareResult']
 
@@ -39,8 +43,8 @@ def group_models(pred) -> list[GroupModel]:
     for g in pred.groups:
         out.append(GroupModel(
             label=g.label, atoms=tuple(g.atoms), parents=tuple(g.parents), n_h=g.n_h,
-            proton_class=g.proton_class, ref_ppm=float(g.reference_ppm), ref_sd_ppm=float(g.reference_sd_ppm),
-            g_ppm_per_nA_T=np.asarray(g.geometric_ppm_per_nA_T, dtype=float), charge_ppm=float(g.charge_ppm)))
+            proton_class=g.proton_class, reference_ppm=float(g.reference_ppm), reference_sd_ppm=float(g.reference_sd_ppm),
+            geometric_ppm_per_nA_T=np.asarray(g.geometric_ppm_per_nA_T, dtype=float), charge_ppm=float(g.charge_ppm)))
     return out
 
 
