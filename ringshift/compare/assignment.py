@@ -132,16 +132,17 @@ def solve_assignment(
     rows_group = np.repeat(free, n_h[free])
     n_rows = rows_group.size
     max_nh = int(n_h[free].max())
-    col_peak, col_pen = [], []
+    peak_of_col: list[int] = []
+    pen_of_col: list[float] = []
     for p in np.flatnonzero(active):
         if has_integral[p]:
-            col_peak += [p] * int(remaining[p]) + [p] * min(n_rows, 4 * max_nh)
-            col_pen += [0.0] * int(remaining[p]) + [overflow_cost_per_h] * min(n_rows, 4 * max_nh)
+            peak_of_col += [int(p)] * int(remaining[p]) + [int(p)] * min(n_rows, 4 * max_nh)
+            pen_of_col += [0.0] * int(remaining[p]) + [overflow_cost_per_h] * min(n_rows, 4 * max_nh)
         else:
-            col_peak += [p] * n_rows
-            col_pen += [0.0] * n_rows
-    col_peak = np.asarray(col_peak + [-1] * n_rows, dtype=np.int64)
-    col_pen = np.asarray(col_pen + [0.0] * n_rows, dtype=np.float64)
+            peak_of_col += [int(p)] * n_rows
+            pen_of_col += [0.0] * n_rows
+    col_peak = np.asarray(peak_of_col + [-1] * n_rows, dtype=np.int64)
+    col_pen = np.asarray(pen_of_col + [0.0] * n_rows, dtype=np.float64)
     zg = z2.copy()
     if forbidden is not None:
         zg = np.where(forbidden, FORBIDDEN_COST, zg)

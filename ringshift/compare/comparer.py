@@ -131,7 +131,7 @@ def _validate(groups, peaks, circuits) -> None:
         if p.integral is not None:
             _v.real(p.integral, f"{src}.integral", nonneg=True)
         for j in p.fixed_groups or ():
-            if isinstance(j, bool) or not isinstance(j, (Integral, np.integer)) or not 0 <= j < len(groups):
+            if isinstance(j, bool) or not isinstance(j, (Integral, np.integer)) or not 0 <= int(j) < len(groups):
                 raise InputError(f"expected group indices 0..{len(groups) - 1}, got {j!r}", f"{src}.fixed_groups")
             if int(j) in owner and owner[int(j)] != i:
                 raise InputError(f"group {j} is already fixed to peaks[{owner[int(j)]}]", f"{src}.fixed_groups")
@@ -198,7 +198,7 @@ def _alternatives(problem, state, neigh, groups, peaks, circuits, width, n_max, 
     def where(p: int) -> str | None:
         return peak_label(peaks[p]) if p >= 0 else None
 
-    out = []
+    out: list[Alternative] = []
     a = state.assignment
     for key in sorted(neigh, key=lambda k: (neigh[k][0], k)):
         sc, alt, alt_fit = neigh[key]
@@ -300,6 +300,7 @@ def compare(
         state, neigh = polish(problem, _assign_search(problem, starts, int(max_iter)), int(max_iter))
         if run is None or state.score < run[1].score - 1e-9:
             run = (problem, state, neigh, classes, scale)
+    assert run is not None, "the noise grid holds at least one level"
     problem, state, neigh, classes, scale = run
     a, fit = state.assignment, state.fit
 

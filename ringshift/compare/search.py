@@ -105,9 +105,12 @@ def search(problem: SearchProblem, starts, max_iter: int, forbidden: np.ndarray 
     SearchState
         ``converged`` is True when the winning start reached an assignment that reproduces itself.
     """
-    best = None
+    best: SearchState | None = None
     for label, mean, cov in starts:
-        own, previous, seen, converged, it = None, None, set(), False, 0
+        own: SearchState | None = None
+        previous: tuple[int, ...] | None = None
+        seen: set[tuple[int, ...]] = set()
+        converged, it = False, 0
         while it < max_iter:
             a = problem.solve(mean, cov, forbidden)
             it += 1
@@ -124,9 +127,13 @@ def search(problem: SearchProblem, starts, max_iter: int, forbidden: np.ndarray 
             if own is None or sc < own.score - 1e-9:
                 own = SearchState(a, fit, sc, it, False, label)
             mean, cov = fit.mean, fit.cov
+        if own is None:  # the first cycle always scores its assignment
+            raise ValueError(f"max_iter={max_iter!r}; expected at least one matching/fit cycle")
         own = dataclasses.replace(own, iterations=it, converged=converged)
         if best is None or own.score < best.score - 1e-9:
             best = own
+    if best is None:
+        raise ValueError("starts: expected at least one starting point")
     return best
 
 
@@ -139,7 +146,7 @@ def neighbours(problem: SearchProblem, best: SearchState) -> dict:
     dict
         key (tuple of peak indices) → (cost, assignment (n,), fit); ``best`` itself excluded.
     """
-    out = {}
+    out: dict[tuple[int, ...], tuple[float, np.ndarray, LinearGaussianFit]] = {}
     for a in pair_swaps(best.assignment, problem.fixed):
         fit = problem.fit(a)
         out.setdefault(_key(a), (problem.score(a, fit), a, fit))
