@@ -1,12 +1,19 @@
-"""TODO: docstring (predict)."""
+"""The prediction records: one per circuit, per proton and per group of equivalent protons.
+
+Frozen dataclasses produced by :func:`ringshift.shifts.prediction.predict`. Units: Å, ppm, nA/T;
+indices are 0-based atom indices of the input structure. Their one JSON form is
+:func:`ringshift.report.json.prediction_to_dict`.
+"""
 
 from __future__ import annotations
+
 from dataclasses import dataclass, field
+
 import numpy as np
+
+from ringshift._display import PredictionDisplay
 from ringshift.geometry.circuits import Circuit, CircuitGeometry
 from ringshift.io.structures import Structure
-from ringshift._display import PredictionDisplay
-
 
 
 @dataclass(frozen=True)
@@ -30,12 +37,15 @@ class CircuitResult:
 
 
 @dataclass(frozen=True)
-class ProtonResult:
-    """Ring-current shift of one hydrogen (weighted over conformers)."""
+class ShiftParts:
+    """The parts of a predicted shift, shared by one proton and a group of equivalent protons (ppm).
 
-    index: int
-    parent: int
-    group: int
+    ``predicted_ppm`` = ``reference_ppm`` + ``ring_current_ppm`` + ``charge_ppm``; ``ring_current_ppm`` is
+    the sum of ``per_circuit_ppm`` (one value per loop-carrying circuit, positive = downfield);
+    ``spread_ppm`` is its weighted spread over conformers. Reference values are None when the proton
+    class has no table entry.
+    """
+
     ring_current_ppm: float
     per_circuit_ppm: tuple[float, ...]
     spread_ppm: float
@@ -47,23 +57,26 @@ class ProtonResult:
 
 
 @dataclass(frozen=True)
-class GroupResult:
-    """A group of equivalent hydrogens (shifts are the mean over its members)."""
+class ProtonResult(ShiftParts):
+    """Ring-current shift of one hydrogen (weighted over conformers): atom ``index``, its ``parent``
+    heavy atom and its ``group`` (0-based)."""
+
+    index: int
+    parent: int
+    group: int
+
+
+@dataclass(frozen=True)
+class GroupResult(ShiftParts):
+    """A group of equivalent hydrogens (shifts are the mean over its members); ``geometric_ppm_per_nA_T``
+    is the ring-current shift per nA/T of each circuit (the comparer's design row)."""
 
     group: int
     label: str
     atoms: tuple[int, ...]
     parents: tuple[int, ...]
     n_h: int
-    ring_current_ppm: float
-    per_circuit_ppm: tuple[float, ...]
     geometric_ppm_per_nA_T: tuple[float, ...]
-    spread_ppm: float
-    charge_ppm: float
-    reference_ppm: float | None
-    reference_sd_ppm: float | None
-    proton_class: str | None
-    predicted_ppm: float | None
 
 
 @dataclass(frozen=True)
