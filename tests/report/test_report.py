@@ -342,24 +342,50 @@ def test_shielding_map_masks_near_wires(hexagon):
 def test_shielding_map_figure_structure(hexagon):
     fig = M.shielding_map_figure(hexagon, plane="both", extent_A=5.0, grid=61)
     assert len(fig.axes) == 3  # ring plane, perpendicular plane, colour bar
-    maps = [M.shielding_map(hexagon, plane=p, extent_A=5.0, grid=61) for p in ("ring", "perpendicular")]
-    values = np.concatenate([x.shift_ppm.ravel() for x in maps])
-    top = np.nanpercentile(np.abs(values), 99)
     for ax in fig.axes[:2]:
         sets = [c for c in ax.collections if isinstance(c, ContourSet)]
         assert len(sets) == 2  # filled bands + labelled lines
         lv = np.asarray(sets[1].levels)
-        # symmetric 1-2-5 ladder with a zero contour (common practice, no source)
+        # the fixed default scale: a symmetric 1-2-5 ladder with a zero contour, topped at ±10 ppm
+        # (common practice, no source)
         assert_allclose(lv, -lv[::-1])
-        assert 0.0 in lv
+        assert 0.0 in lv and lv.max() == M.DEFAULT_CONTOUR_MAX_PPM
         mags = lv[lv > 0]
         assert all(any(math.isclose(x, d * 10.0**k) for d in (1, 2, 5) for k in range(-1, 3)) for x in mags)
-        assert mags.max() <= top and len(mags) <= 6
         labels = [t.get_text().replace("\u2212", "-") for t in ax.texts]
         assert labels and all(float(s) in set(lv) for s in labels)
         assert ax.get_aspect() == 1.0
     assert fig.axes[0].get_xlabel() == "in-plane axis u (Å)"
     assert fig.axes[1].get_ylabel() == "along the ring normal n (Å)"
+    assert "fixed scale ±10 ppm" in fig.axes[2].get_ylabel()  # the scale is stated on the colour bar
+
+
+def test_map_colour_scale_is_shared_between_compounds(hexagon, naphthalene):
+    def bands(fig):
+        return np.asarray([c for c in fig.axes[0].collections if isinstance(c, ContourSet)][0].levels)
+
+    a = M.shielding_map_figure(hexagon, plane="ring", grid=41)
+    b = M.shielding_map_figure(naphthalene, plane="ring", grid=41)
+    assert_allclose(bands(a), bands(b))  # same colours mean the same ppm, whatever the compound
+    c = M.shielding_map_figure(naphthalene, plane="ring", grid=41, contour_max_ppm=3.0)
+    lv = bands(c)
+    assert lv.max() == 3.0 and lv.min() == -3.0 and "±3 ppm" in c.axes[-1].get_ylabel()
+    with pytest.raises(InputError, match="contour_max_ppm"):
+        M.contour_levels(-1.0)
+
+
+def test_map_texts_inside_the_figure(comparison):
+    # titles and labels must not be cut off at the figure edge, even with several circuits
+    from matplotlib.backends.backend_agg import FigureCanvasAgg
+
+    for fig in (M.shielding_map_figure(comparison, grid=41), M.shielding_map_figure(comparison, plane="ring", grid=41),
+                M.normal_scan_figure(comparison)):
+        renderer = FigureCanvasAgg(fig).get_renderer()
+        fig.draw_without_rendering()
+        # everything drawn (titles, tick labels, legends, colour bar label) lies on the canvas: 0.01 in slack
+        bb = fig.get_tightbbox(renderer)
+        w, h = fig.get_size_inches()
+        assert bb.x0 >= -0.01 and bb.y0 >= -0.01 and bb.x1 <= w + 0.01 and bb.y1 <= h + 0.01, (bb, w, h)
 
 
 def test_map_of_molecule_without_rings(hexane):
