@@ -119,8 +119,9 @@ def default_conformer_count(mol: Chem.Mol) -> int:
 
 def _etkdg(seed: int, basic_knowledge: bool, max_iterations: int = 0) -> rdDistGeom.EmbedParameters:
     params = rdDistGeom.ETKDGv3()
-    params.randomSeed, params.numThreads, params.maxIterations = int(seed), 0, max_iterations
-    params.useMacrocycleTorsions, params.useBasicKnowledge, params.enforceChirality = True, basic_knowledge, True
+    # rdkit-stubs type the property setters of EmbedParameters as (*args, **kwargs)
+    params.randomSeed, params.numThreads, params.maxIterations = int(seed), 0, max_iterations  # type: ignore[assignment]
+    params.useMacrocycleTorsions, params.useBasicKnowledge, params.enforceChirality = True, basic_knowledge, True  # type: ignore[assignment]
     return params
 
 

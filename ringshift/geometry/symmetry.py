@@ -223,12 +223,13 @@ def group_equivalent_hydrogens(mol: Chem.Mol, coords: np.ndarray, *,
     # rigid H follow their one heavy parent; a bare H (H+, an H with no bond) or an H bonded only to H
     # (H2) has none and joins the frame, where it is matched like an atom of the skeleton
     on_heavy = {h for h in hs if [nb.GetAtomicNum() > 1 for nb in mol.GetAtomWithIdx(h).GetNeighbors()] == [True]}
-    rigid = [h for h in hs if anchor[h] < 0 and h in on_heavy]
-    frame = [a for a in range(n) if a not in beyond and (a not in hs or (anchor[a] < 0 and a not in on_heavy))]
-    spread = np.linalg.svd(x[frame] - x[frame].mean(axis=0), compute_uv=False) if len(frame) > 1 else [0.0, 0.0]
-    if len(frame) < 3 or spread[1] < 0.05:        # point or line: the H fix the orientation
-        frame, rigid = frame + rigid, []
-    frame, rigid = np.array(frame, dtype=int), np.array(rigid, dtype=int)
+    rigid_atoms = [h for h in hs if anchor[h] < 0 and h in on_heavy]
+    frame_atoms = [a for a in range(n) if a not in beyond and (a not in hs or (anchor[a] < 0 and a not in on_heavy))]
+    spread = (np.linalg.svd(x[frame_atoms] - x[frame_atoms].mean(axis=0), compute_uv=False)
+              if len(frame_atoms) > 1 else [0.0, 0.0])
+    if len(frame_atoms) < 3 or spread[1] < 0.05:        # point or line: the H fix the orientation
+        frame_atoms, rigid_atoms = frame_atoms + rigid_atoms, []
+    frame, rigid = np.array(frame_atoms, dtype=int), np.array(rigid_atoms, dtype=int)
     slots = np.full((n, 3), -1)                   # rigid H of each heavy atom
     parents = np.array([mol.GetAtomWithIdx(int(h)).GetNeighbors()[0].GetIdx() for h in rigid], dtype=int)
     for h, p in zip(rigid, parents):

@@ -30,7 +30,7 @@ from concurrent.futures import FIRST_COMPLETED, ProcessPoolExecutor, wait
 from concurrent.futures.process import BrokenProcessPool
 from dataclasses import dataclass
 from pathlib import Path
-from typing import Iterator, Mapping
+from typing import Any, Iterator, Mapping
 
 from ringshift.errors import InputError, OutputError
 from ringshift.io.libraries import LibraryItem, iter_library
@@ -234,6 +234,7 @@ def _parallel(items: Iterator[LibraryItem], emit, jobs, scheduler, load_kwargs, 
     def submit(item):
         if client is not None:
             return client.submit(work_item, item, load_kwargs, predict_kwargs, pure=False)
+        assert executor is not None, "a process pool runs whenever there is no Dask client"
         return executor.submit(work_item, item, load_kwargs, predict_kwargs)
 
     def flush() -> None:
@@ -241,7 +242,7 @@ def _parallel(items: Iterator[LibraryItem], emit, jobs, scheduler, load_kwargs, 
             emit(buffer.pop(order.pop(0).index))
 
     try:
-        futures = {}
+        futures: dict[Any, LibraryItem] = {}  # concurrent.futures or Dask futures
         source = iter(items)
         while True:
             for item in itertools.islice(source, max(0, window - len(futures))):
@@ -266,6 +267,7 @@ def _parallel(items: Iterator[LibraryItem], emit, jobs, scheduler, load_kwargs, 
             if broken:                        # the pool is dead: isolate everything in flight, then go on
                 broken += list(futures.values())
                 futures.clear()
+                assert executor is not None, "BrokenProcessPool comes from the local process pool"
                 executor.shutdown(wait=False, cancel_futures=True)
                 for item in sorted(broken, key=lambda it: it.index):
                     buffer[item.index] = _isolated(item, load_kwargs, predict_kwargs)

@@ -23,7 +23,7 @@ from ringshift.fields.registry import MODEL_DESCRIPTIONS, geometric_factors
 from ringshift.geometry.circuits import Circuit, CircuitGeometry, circuit_geometry, find_circuits
 from ringshift.io.structures import Structure
 from ringshift.pi.huckel import huckel as _pisystem_huckel
-from ringshift.pi.london import london_currents, pi_charge_shift_ppm
+from ringshift.pi.london import LondonCurrents, london_currents, pi_charge_shift_ppm
 from ringshift.pi.parameters import PI_CHARGE_PPM_PER_E
 from ringshift.pi.perception import circuit_electrons, orbital_axes, perceive_pi
 from ringshift.pi.perception import huckel_class as _pisystem_huckel_class
@@ -69,10 +69,11 @@ def _circuit_result(circ: Circuit, geo: CircuitGeometry, w: np.ndarray, current:
     nn = np.linalg.norm(normal)
     normal = normal / nn if nn > 1e-12 else geo.normal[0]
     rel = None if current is None else current / BENZENE_CURRENT_NA_PER_T
+    centre = _weighted(geo.centre, w)
     return CircuitResult(
         circuit=circ, geometry=geo,
-        centre=tuple(float(x) for x in _weighted(geo.centre, w)),
-        normal=tuple(float(x) for x in normal),
+        centre=(float(centre[0]), float(centre[1]), float(centre[2])),
+        normal=(float(normal[0]), float(normal[1]), float(normal[2])),
         radius_A=float(w @ geo.radius_A),
         planarity_rms_A=float(w @ geo.planarity_rms_A),
         max_misalignment_deg=float(w @ geo.max_misalignment_deg),
@@ -98,7 +99,7 @@ def huckel_london_currents(structure: Structure, pi, loops: Sequence[Circuit], g
     coords = structure.coords
     cur = np.zeros((coords.shape[0], len(loops)))
     status = ["ok"] * len(loops)
-    results = []
+    results: list[LondonCurrents] = []
     if not loops:
         return cur, status, results
     for k in range(coords.shape[0]):
@@ -277,7 +278,7 @@ def predict(structure: Structure, *, model: str = "polygon", currents: str = "hu
             spread_ppm=float(np.mean(spread[ks])), charge_ppm=float(np.mean([p.charge_ppm for p in members])),
             reference_ppm=float(np.mean([p.reference_ppm for p in members])),
             reference_sd_ppm=float(np.mean([p.reference_sd_ppm for p in members])),
-            proton_class="/".join(sorted({p.proton_class for p in members})),
+            proton_class="/".join(sorted({refs[h].proton_class for h in grp})),  # the members' classes
             predicted_ppm=float(np.mean([p.predicted_ppm for p in members])),
         ))
     prov = {

@@ -179,7 +179,7 @@ def _parse_table_text(text: str, label: str) -> tuple[dict[str, ReferenceShift],
 @lru_cache(maxsize=1)
 def _packaged_table() -> ReferenceTable:
     """The packaged table, parsed once per process (it is immutable: entries is a read-only mapping)."""
-    resource = resources.files("ringshift").joinpath("data", _PACKAGE_CSV)
+    resource = resources.files("ringshift").joinpath("data").joinpath(_PACKAGE_CSV)
     text = resource.read_text(encoding="utf-8")
     entries, notes = _parse_table_text(text, f"ringshift/data/{_PACKAGE_CSV}")
     return ReferenceTable(entries=entries, name=f"ringshift default ({_PACKAGE_CSV})", basis=notes)

@@ -66,7 +66,9 @@ def _pick(spectrum: Spectrum, prominence_sigma: float, merge_hz: float) -> tuple
             raise InputError("intensities too large to integrate; rescale the spectrum", spectrum.source)
     if y.size < 3 or scale == 0:
         return (), []
-    idx, props = find_peaks(y, prominence=max(prominence_sigma * spectrum.noise_sigma, 1e-9 * scale))
+    sigma = spectrum.noise_sigma
+    assert sigma is not None, "Spectrum.__post_init__ replaces a missing noise_sigma by estimate_noise()"
+    idx, props = find_peaks(y, prominence=max(prominence_sigma * sigma, 1e-9 * scale))
     if idx.size == 0:
         return (), []
     if idx.size > _limits.MAX_PEAKS:
