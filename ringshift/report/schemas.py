@@ -15,7 +15,7 @@ from __future__ import annotations
 
 import copy
 import json
-from functools import lru_cache
+from functools import cache
 from importlib import resources
 
 from ringshift.errors import RingshiftError
@@ -58,13 +58,13 @@ class SchemaValidationError(RingshiftError, ValueError):
         super().__init__(" ".join(f"not a valid ringshift {schema_name} document: at {path}: {reason}{more}".split()))
 
 
-@lru_cache(maxsize=None)
+@cache
 def _text(name: str) -> str:
     if name.endswith(".schema.json"):
         name = name[: -len(".schema.json")]
     if name not in SCHEMA_NAMES:
         raise ValueError(f"unknown schema {name!r}; expected one of {', '.join(SCHEMA_NAMES)}")
-    return resources.files("ringshift").joinpath("data", "schemas", f"{name}.schema.json").read_text(encoding="utf-8")
+    return (resources.files("ringshift") / "data" / "schemas" / f"{name}.schema.json").read_text(encoding="utf-8")
 
 
 def schema(name: str) -> dict:
@@ -88,10 +88,10 @@ def schema_for(doc: dict) -> str:
     return RESULT_SCHEMAS[kind]
 
 
-@lru_cache(maxsize=None)
+@cache
 def _validator(name: str):
     try:
-        from jsonschema import Draft202012Validator
+        from jsonschema import Draft202012Validator  # type: ignore[import-untyped]
         from referencing import Registry, Resource
     except ImportError:
         raise ImportError(_INSTALL_HINT) from None
@@ -123,11 +123,11 @@ def validate(doc: dict, name: str | None = None) -> str:
     ImportError
         jsonschema is not installed (the message says how to install it).
     """
-    name = schema_for(doc) if name is None else name
+    name = schema_for(doc) if name is None else name.removesuffix(".schema.json")
     validator = _validator(name)
     errors = sorted(validator.iter_errors(doc), key=lambda e: (e.json_path, e.message))
     if errors:
-        from jsonschema.exceptions import best_match
+        from jsonschema.exceptions import best_match  # type: ignore[import-untyped]
 
         first = best_match(errors)             # the most relevant error; ties: the first in path order
         reason = first.message if len(first.message) <= 200 else first.message[:197] + "..."
