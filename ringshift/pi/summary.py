@@ -23,7 +23,8 @@ def pi_summary(structure, *, beta_model: str = "scf", prediction=None) -> dict:
     pred = prediction if prediction is not None else predict(structure, currents="huckel", beta_model=beta_model)
     pi = pred.pi
     # Prediction.pi is typed ``object | None`` in ringshift.shifts.records; predict() stores a PiSystem
-    assert pi is None or isinstance(pi, PiSystem), f"prediction.pi: expected a PiSystem, got {type(pi).__name__}"
+    assert pi is None or isinstance(pi, PiSystem), \
+        f"prediction.pi: expected a PiSystem, got {type(pi).__name__}"
     best = int(np.argmax(structure.weights))
     levels = None
     if pi is not None and pi.atoms:
