@@ -29,7 +29,8 @@ def pi_summary(structure, *, beta_model: str = "scf", prediction=None) -> dict:
     levels = None
     if pi is not None and pi.atoms:
         hr = pred.huckel
-        if not isinstance(hr, HuckelResult) or hr.beta_model != beta_model:   # not from the London step, or other parameters
+        # not from the London step (None), or computed with other parameters
+        if not isinstance(hr, HuckelResult) or hr.beta_model != beta_model:
             hr = _pisystem_huckel(pi, structure.mol, structure.coords[best], beta_model=beta_model)
         levels = {
             "energies_beta": [_r(x) for x in hr.energies_beta],
