@@ -4,6 +4,7 @@
 from __future__ import annotations
 
 import dataclasses
+import math
 from numbers import Integral, Real
 
 import numpy as np
@@ -34,7 +35,9 @@ def to_plain(value):
     if isinstance(value, (Integral, np.integer)):
         return int(value)
     if isinstance(value, (Real, np.floating)):
-        return float(value)
+        out = float(value)
+        return out if math.isfinite(out) else None     # JSON has no NaN/inf: a missing value
+
     if isinstance(value, np.ndarray):
         return to_plain(value.tolist())
     return value

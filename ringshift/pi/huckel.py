@@ -1,35 +1,13 @@
-"""Hückel and Hückel–London kernels: arrays in, arrays out.
+"""Hückel levels: the Hückel matrix, occupations, bond orders and the self-consistent bond lengths.
 
-This module holds the numerical core used by :mod:`ringshift.pi.perception` (which turns an RDKit molecule
-into the arrays below and wraps the results in dataclasses). Nothing here knows about RDKit.
+The kernels take arrays and return arrays; :func:`huckel` is the wrapper that takes a
+:class:`ringshift.pi.perception.PiSystem` and an RDKit molecule and returns a :class:`HuckelResult`.
 
-Units and signs
----------------
-* Energies are in units of |β| with ``x = (E − α)/|β|``: bonding levels are **negative** (benzene:
-  −2, −1, −1, 1, 1, 2). The Hückel matrix in these units is ``h0 = −A`` where A holds the
-  heteroatom parameters h_X on the diagonal (α_X = α + h_X β) and the resonance factors
-  k_rs · f(r_rs) · |cos ω_rs| off the diagonal (β_rs = k_rs f(r) |cos ω| β0, β0 < 0).
-* Positions in Å. The London phase of ⟨r|H|s⟩ is θ_rs = (e/2ħ) B·(r_r × r_s) (symmetric gauge,
-  London, J. Phys. Radium 1937, 8, 397); internally b = eB/ħ in Å⁻², so θ_rs = ½ b·(r_r × r_s).
-* Bond currents are *conventional* currents (the sense used by :func:`ringshift.fields.network.network_shielding`).
-  With E = Tr(H P), P = Σ_k n_k c_k c_k†, the current from s to r is
-  I_{s→r} = −(2e/ħ) Im(H_rs P_sr); it follows from the Hellmann–Feynman magnetic moment
-  m = −∂E/∂B = ½ Σ_bonds I_{s→r} (r_s × r_r) (McWeeny, Mol. Phys. 1958, 1, 311; Pople, Mol. Phys. 1958,
-  1, 175). The first-order response is evaluated analytically (sum over states), which is exactly
-  gauge-origin invariant in this model: moving the origin is a diagonal unitary transformation.
-
-Parameters
-----------
-``HETERO_PARAMETERS`` maps an atom type to (h_X, k_CX, source). N and O (and halogens) come from
-Derflinger & Lischka, Monatsh. Chem. 1969, 100, 1003 (values read from a secondary reproduction of
-their table, not from the original paper): pyridine-type N h 0.83 / k 1.06, pyrrole-type N 1.47 / 1.30,
-furan-type O 2.06 / 1.31, carbonyl O 1.18 / 1.93, F 2.84 / 0.68, Cl 1.45 / 0.57, Br 1.16 / 0.38,
-I 0.78 / 0.19. Cationic N⁺ (pyridinium, 2.0 / 1.0), O⁺ (pyrylium, 2.5 / 1.0) and B (−1.0 / 0.7) come
-from Streitwieser, *Molecular Orbital Theory for Organic Chemists*, Wiley 1961, p. 135 (from memory).
-Thiophene-type S (1.11 / 0.69) from Van-Catledge, J. Org. Chem. 1980, 45, 4801 (from memory). Anions
-(pyrrolide N⁻, phenolate O⁻) and thione S use the parameters of the atom with the same core (stated
-approximation, no source). A bond between two heteroatoms gets k = sqrt(k_CX k_CY) (common practice,
-no source).
+Energies are in units of |β| with ``x = (E − α)/|β|``: bonding levels are **negative** (benzene: −2, −1,
+−1, 1, 1, 2). The Hückel matrix in these units is ``h0 = −A`` where A holds the heteroatom parameters h_X on
+the diagonal (α_X = α + h_X β) and the resonance factors k_rs · f(r_rs) · |cos ω_rs| off the diagonal
+(β_rs = k_rs f(r) |cos ω| β0, β0 < 0). Parameters and their sources: :mod:`ringshift.pi.parameters`; the
+London response built on these levels: :mod:`ringshift.pi.london`.
 
 β(r) models
 -----------

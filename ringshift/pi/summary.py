@@ -9,6 +9,7 @@ from __future__ import annotations
 
 import numpy as np
 
+from ringshift._records import to_plain
 from ringshift.pi.huckel import HuckelResult
 from ringshift.pi.huckel import huckel as _pisystem_huckel
 from ringshift.pi.perception import PiSystem
@@ -39,7 +40,7 @@ def pi_summary(structure, *, beta_model: str = "scf", prediction=None) -> dict:
             "open_shell": bool(hr.open_shell),
             "degenerate_homo": bool(hr.degenerate_homo),
             "convention": "x = (E - alpha)/|beta|; bonding levels negative",
-            "parameters": {k: str(v) for k, v in dict(hr.parameters).items()},
+            "parameters": to_plain(dict(hr.parameters)),
         }
     n_el = int(pi.n_electrons) if pi is not None else 0
     return {

@@ -137,5 +137,5 @@ def trajectory_to_dict(tp: TrajectoryPrediction) -> dict:
         "groups": [{"label": g.label, "atoms": list(g.atoms), "n_h": len(g.atoms), "ring_current_ppm": r(g.ring_current_ppm),
                     "spread_ppm": r(g.spread_ppm), "predicted_ppm": r(g.predicted_ppm)} for g in tp.groups],
         "frames": {"numbers": tp.frame_numbers.tolist(), "weights": [r(x, 8) for x in tp.weights]},
-        "provenance": tp.provenance, "warnings": list(tp.warnings),
+        "provenance": tp.provenance, "warnings": list(tp.warnings), "caution": CAUTION,
     }

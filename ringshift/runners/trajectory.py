@@ -13,6 +13,7 @@ the mean over its exchange group in every frame.
 """
 
 from __future__ import annotations
+
 import dataclasses
 import itertools
 import math
@@ -21,27 +22,37 @@ import warnings
 from dataclasses import dataclass, field
 from pathlib import Path
 from typing import Iterator, Mapping, Sequence
+
 import numpy as np
+
 from ringshift import fields
-from ringshift.shifts.reference import assemble_prediction
-from ringshift.pi.london import london_currents
-from ringshift.constants import JB_SEPARATION_A
+from ringshift._display import TrajectoryDisplay
+from ringshift.constants import JB_SEPARATION_A, MODELS, TRAJECTORY_CURRENTS
 from ringshift.errors import GeometryWarning, InputError
-from ringshift.constants import MODELS
+from ringshift.fields.registry import geometric_factors
+from ringshift.geometry.circuits import (
+    MISALIGNMENT_LIMIT_DEG,
+    PLANARITY_LIMIT_A,
+    circuit_geometry,
+)
+from ringshift.io.frames import (
+    Frame,
+    FrameStream,
+    TrajectoryWarning,
+    iter_sdf_records,
+    iter_xyz_frames,
+)
+from ringshift.io.structures import Structure
+from ringshift.pi.london import london_currents
+from ringshift.runners.averaging import _log_weights, _WeightedMoments, exchange_groups
 from ringshift.shifts.prediction import network_totals, predict
 from ringshift.shifts.records import Prediction
-from ringshift.fields.registry import geometric_factors
-from ringshift.geometry.circuits import MISALIGNMENT_LIMIT_DEG, PLANARITY_LIMIT_A, circuit_geometry
-from ringshift.io.frames import Frame, FrameStream, TrajectoryWarning, iter_sdf_records, iter_xyz_frames
-from ringshift.io.structures import Structure
-from ringshift._display import TrajectoryDisplay
-from ringshift.runners.averaging import _WeightedMoments, _log_weights, exchange_groups
+from ringshift.shifts.reference import assemble_prediction
 
-__all__ = ['polygon_shielding_frames', 'CircuitStats', 'TrajectoryPrediction', 'predict_trajectory', 'predict_trajectory_file', 'TRAJECTORY_CURRENTS']
+__all__ = ['polygon_shielding_frames', 'CircuitStats', 'TrajectoryPrediction', 'predict_trajectory', 'predict_trajectory_file']
 
 
 #: Sources of the currents of a trajectory (see :func:`predict_trajectory`).
-TRAJECTORY_CURRENTS = ("huckel", "huckel-per-frame", "benzene")
 
 _MAX_CHUNK_FRAMES = 4096
 
@@ -383,7 +394,7 @@ def _assemble(template, tpred, model, currents, loops, h_idx, ex, A, acc, number
     arrays = [np.ascontiguousarray(a) for a in (fast, sd[n_h:2 * n_h], slow, sd[:n_h], per, ref, chg, pred, numbers, w)]
     for a in arrays + ([] if e is None else [e]):
         a.setflags(write=False)
-    return TrajectoryPrediction(tpred, model, src, tuple(h_idx), *arrays[:4], arrays[4], arrays[5], arrays[6],
+    return TrajectoryPrediction(tpred, model, currents, tuple(h_idx), *arrays[:4], arrays[4], arrays[5], arrays[6],
                                 arrays[7], ex, groups, circuits, arrays[8], arrays[9], e, temperature_K,
                                 tuple(dict.fromkeys(notes)), prov)
 
