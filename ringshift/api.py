@@ -482,7 +482,6 @@ def report(structure: StructureLike | Prediction | CompareResult,
     ...     print(paths["html"].name, paths["html"].is_file(), paths["results"].name)
     report.html True results.json
     """
-    from typing import cast
 
     from ringshift.compare.run import CompareResult
     from ringshift.pi.summary import pi_summary
@@ -512,7 +511,7 @@ def report(structure: StructureLike | Prediction | CompareResult,
         _not_given(compare_opts, "comparison options need observed peaks (give peaks)")
         result = None
     if result is not None:
-        pred = cast("Prediction", result.prediction)
+        pred = result.prediction
     else:
         pred = _prediction(structure, seed=seed, model=model, currents=currents, beta_model=beta_model, scale=scale,
                            set_current=set_current, user_circuits=user_circuits, separation_A=separation_A,

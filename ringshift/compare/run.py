@@ -9,6 +9,7 @@ of the result.
 from __future__ import annotations
 
 from dataclasses import dataclass
+from typing import TYPE_CHECKING
 
 import numpy as np
 
@@ -17,6 +18,10 @@ from ringshift.compare.comparer import compare as _cmp_compare
 from ringshift.compare.records import CircuitPrior, Comparison, GroupModel, ObservedPeak
 from ringshift.constants import BENZENE_CURRENT_NA_PER_T
 from ringshift.errors import InputError
+
+if TYPE_CHECKING:
+    from ringshift.shifts.records import Prediction
+    from ringshift.spectra.peaks import PeakList
 
 __all__ = ['run_compare', 'group_models', 'circuit_priors', 'observed_peaks', 'CompareResult']
 
@@ -31,8 +36,10 @@ _KIND = {"sample": "signal", "tms": "reference", "solvent": "solvent", "impurity
 
 @dataclass(frozen=True)
 class CompareResult(ComparisonDisplay):
-    prediction: object
-    peaks: object
+    """A comparison with what it rests on: the prediction, the peak list and the comparer's inputs."""
+
+    prediction: Prediction
+    peaks: PeakList
     comparison: Comparison
     observed: tuple[ObservedPeak, ...]
 

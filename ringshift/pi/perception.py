@@ -250,7 +250,8 @@ def perceive_pi(mol, coords=None) -> PiSystem:
     atoms = tuple(sorted(pi_atoms))
     bonds = tuple(sorted((i, j) for (i, j) in orders if i in pi_atoms and j in pi_atoms))
     electrons = tuple(counts[a] for a in atoms)
-    types = tuple(_atom_type(mol.GetAtomWithIdx(a), counts[a]) for a in atoms)
+    types = tuple(t for a in atoms if (t := _atom_type(mol.GetAtomWithIdx(a), counts[a])) is not None)
+    assert len(types) == len(atoms), "every pi atom was chosen for having an atom type"
     cores = tuple(e + mol.GetAtomWithIdx(a).GetFormalCharge() for a, e in zip(atoms, electrons))
     n_el = int(sum(electrons))
     frags = tuple(_components(atoms, bonds))

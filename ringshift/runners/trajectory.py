@@ -241,6 +241,8 @@ def predict_trajectory(template: Structure | None, frames, *, model: str = "poly
     fixed = np.array([cr.current_nA_per_T or 0.0 for cr in tpred.circuits])
     notes = list(tpred.warnings)
     pi = tpred.pi
+    if pi is None:
+        raise InputError("the template prediction has no pi system", source="template")
     lc_template = None
     if model == "network":
         best = int(np.argmax(template.weights))
@@ -301,8 +303,8 @@ def predict_trajectory(template: Structure | None, frames, *, model: str = "poly
         raise InputError("every frame used has weight zero", source="weights")
     w_all = np.exp(lw_all - lw_all.max())
     w_all /= w_all.sum()
-    e_all = np.concatenate([np.asarray(e, dtype=np.float64) for e in energies])
-    e_all = None if np.all(np.isnan(e_all)) else e_all - np.nanmin(e_all)
+    e_cat = np.concatenate([np.asarray(e, dtype=np.float64) for e in energies])
+    e_all = None if np.all(np.isnan(e_cat)) else e_cat - np.nanmin(e_cat)
     return _assemble(template, tpred, model, currents, loops, h_idx, ex, A, acc, numbers_a, w_all, e_all,
                      float(temperature_K), notes, chunk, float(memory_MB), frames, time.perf_counter() - t0,
                      weights if isinstance(weights, str) else "given")
@@ -379,9 +381,12 @@ def _assemble(template, tpred, model, currents, loops, h_idx, ex, A, acc, number
     groups = tuple(TrajectoryGroup(f"H{k + 1}", tuple(m), float(np.mean(fast[[pos[h] for h in m]])),
                                    float(np.mean(fast_sd[[pos[h] for h in m]])), float(np.mean(pred[[pos[h] for h in m]])))
                    for k, m in enumerate(sorted(members.values())))
-    circuits = tuple(CircuitStats(c.label, tuple(c.atoms), *(float(v) for pair in zip(geo[i, :5], geo_sd[i, :5])
-                                                             for v in pair), float(geo[i, 5]))
-                     for i, c in enumerate(loops))
+    circuits = tuple(CircuitStats(
+        c.label, tuple(c.atoms), current_nA_per_T=float(geo[i, 0]), current_sd_nA_per_T=float(geo_sd[i, 0]),
+        radius_A=float(geo[i, 1]), radius_sd_A=float(geo_sd[i, 1]), planarity_rms_A=float(geo[i, 2]),
+        planarity_rms_sd_A=float(geo_sd[i, 2]), max_misalignment_deg=float(geo[i, 3]),
+        max_misalignment_sd_deg=float(geo_sd[i, 3]), area_A2=float(geo[i, 4]), area_sd_A2=float(geo_sd[i, 4]),
+        planar_fraction=float(geo[i, 5])) for i, c in enumerate(loops))
     src = {"huckel": f"Hueckel-London currents of the template ({tpred.provenance['beta_model']} beta), fixed",
            "benzene": "12 nA/T on RDKit-aromatic circuits, fixed",
            "huckel-per-frame": f"Hueckel-London currents of every frame ({tpred.provenance['beta_model']} beta)"}[currents]
@@ -391,12 +396,19 @@ def _assemble(template, tpred, model, currents, loops, h_idx, ex, A, acc, number
             "exchange": "none (slow exchange)" if not ex else f"{len(ex)} fast-exchange group(s)",
             "frames_skipped": [list(s) for s in getattr(frames, "skipped", [])],
             "source": str(getattr(frames, "path", template.source)), "template": tpred.provenance}
-    arrays = [np.ascontiguousarray(a) for a in (fast, sd[n_h:2 * n_h], slow, sd[:n_h], per, ref, chg, pred, numbers, w)]
-    for a in arrays + ([] if e is None else [e]):
-        a.setflags(write=False)
-    return TrajectoryPrediction(tpred, model, currents, tuple(h_idx), *arrays[:4], arrays[4], arrays[5], arrays[6],
-                                arrays[7], ex, groups, circuits, arrays[8], arrays[9], e, temperature_K,
-                                tuple(dict.fromkeys(notes)), prov)
+    def frozen(a: np.ndarray) -> np.ndarray:
+        out = np.ascontiguousarray(a)
+        out.setflags(write=False)
+        return out
+
+    if e is not None:
+        e.setflags(write=False)
+    return TrajectoryPrediction(
+        tpred, model, currents, tuple(h_idx), ring_current_ppm=frozen(fast), spread_ppm=frozen(sd[n_h:2 * n_h]),
+        ring_current_slow_ppm=frozen(slow), spread_slow_ppm=frozen(sd[:n_h]), per_circuit_ppm=frozen(per),
+        reference_ppm=frozen(ref), charge_ppm=frozen(chg), predicted_ppm=frozen(pred), exchange_groups=ex,
+        groups=groups, circuits=circuits, frame_numbers=frozen(numbers), weights=frozen(w), energies_kcal_mol=e,
+        temperature_K=temperature_K, warnings=tuple(dict.fromkeys(notes)), provenance=prov)
 
 
 def predict_trajectory_file(path, *, charge: int | None = None, energy_unit: str = "kcal/mol", strict: bool = False,

@@ -8,10 +8,15 @@ indices are 0-based atom indices of the input structure. Their one JSON form is
 from __future__ import annotations
 
 from dataclasses import dataclass, field
+from typing import TYPE_CHECKING
 
 import numpy as np
 
 from ringshift._display import PredictionDisplay
+
+if TYPE_CHECKING:
+    from ringshift.pi.huckel import HuckelResult
+    from ringshift.pi.perception import PiSystem
 from ringshift.geometry.circuits import Circuit, CircuitGeometry
 from ringshift.io.structures import Structure
 
@@ -88,9 +93,9 @@ class Prediction(PredictionDisplay):
     protons: tuple[ProtonResult, ...]
     groups: tuple[GroupResult, ...]
     geometric: np.ndarray = field(repr=False)  # (n_conf, n_loops, n_h) ppm per nA/T
-    pi: object | None = None
+    pi: PiSystem | None = None
     warnings: tuple[str, ...] = ()
     provenance: dict = field(default_factory=dict)
     #: Hückel levels of the most populated conformer from the Hückel–London step (None when the
     #: currents did not come from it); saves callers a second solve.
-    huckel: object | None = field(default=None, repr=False)
+    huckel: HuckelResult | None = field(default=None, repr=False)
