@@ -259,7 +259,7 @@ def spectrum_figure(source, peaklist=None, *, width_in: float = 8.0) -> Figure:
         else:
             ppm, y = np.zeros(0), np.zeros(0)
             nmax = max(r[4] for r in rows)
-            for lab, _, prior, _, nh in rows:
+            for _lab, _, prior, _, nh in rows:
                 ax.vlines(prior, 0, nh / nmax, color=PRIOR, lw=1.6)
             handles.append(Line2D([], [], color=PRIOR, lw=1.6, label="predicted stick spectrum (height = nH)"))
         ax.axhline(0, color=MUTED, lw=0.5, zorder=0)
@@ -281,7 +281,7 @@ def spectrum_figure(source, peaklist=None, *, width_in: float = 8.0) -> Figure:
                 ax.text(lx, h + 0.14, text, rotation=90, ha="center", va="bottom", fontsize=7.5, color=col)
         # predicted rows beneath the baseline
         if comp is not None:
-            for lab, fit, prior, obs, _ in rows:
+            for _lab, fit, prior, obs, _ in rows:
                 ax.plot([prior, fit], [y_prior, y_fit], color=PRIOR, lw=0.6, ls=":")
                 if obs is not None:
                     ax.plot([fit, obs], [y_fit, 0.0], color=FITTED, lw=0.8)

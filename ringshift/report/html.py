@@ -21,6 +21,8 @@ from importlib import metadata
 from pathlib import Path
 
 from ringshift.errors import InputError, OutputError
+from ringshift.geometry.circuits import MISALIGNMENT_LIMIT_DEG, PLANARITY_LIMIT_A
+from ringshift.report.html_text import CSS, file_name, looks_like_path, number, provenance_label, readable, scrub_paths
 from ringshift.report.json import prediction_to_dict, to_json
 
 __all__ = ["write_report", "render_html", "json_pointer", "resolve_pointer", "inline_svg", "REPORT_FILES"]
@@ -28,31 +30,6 @@ __all__ = ["write_report", "render_html", "json_pointer", "resolve_pointer", "in
 #: Fixed files of a report folder (figures come in addition, as figures/<name>.svg and .png).
 REPORT_FILES = {"html": "report.html", "results": "results.json", "pi": "pi.json", "sdf": "structure.sdf"}
 
-_CSS = """
-:root{--ink:#1c1c1c;--accent:#b4531c;--muted:#5f5f5f;--rule:#dcd7ce;--paper:#fbfaf7;--warn:#fff4dc}
-*{box-sizing:border-box}
-body{margin:0;background:var(--paper);color:var(--ink);font:15px/1.45 "DejaVu Sans",system-ui,sans-serif}
-main{max-width:1140px;margin:0 auto;padding:22px 28px 64px}
-h1{font-size:1.45rem;margin:0 0 2px;font-weight:700;letter-spacing:.01em}
-h2{font-size:1.1rem;margin:30px 0 8px;padding-bottom:3px;border-bottom:2px solid var(--ink)}
-h3{font-size:.98rem;margin:18px 0 4px}
-.sub{color:var(--muted);font-size:.9rem;margin:0 0 14px;word-break:break-all}
-.verdict{background:#fff;border:1px solid var(--rule);border-left:7px solid var(--accent);padding:12px 16px;margin:14px 0}
-.verdict .big{font-size:1.25rem;font-weight:700}
-.caution{background:var(--warn);border:2px dashed #9a6a00;padding:10px 14px;margin:14px 0;font-weight:600}
-nav{font-size:.88rem;margin:10px 0}
-nav a{color:var(--ink);margin-right:14px}
-table{border-collapse:collapse;font-size:12.5px;margin:4px 0 16px;background:#fff;border:1px solid var(--rule)}
-th,td{padding:3px 9px;border-bottom:1px solid var(--rule);text-align:left;vertical-align:top}
-th{background:#f1eee8;font-weight:600;white-space:nowrap}
-td.num{text-align:right;font-variant-numeric:tabular-nums;white-space:nowrap}
-.wide{overflow-x:auto}
-figure{margin:12px 0 22px;background:#fff;border:1px solid var(--rule);padding:10px}
-figure svg{display:block;max-width:100%;height:auto;margin:0 auto}
-figcaption{font-size:.85rem;color:var(--muted);margin-top:6px}
-ul.notes{font-size:.9rem}
-footer{margin-top:40px;font-size:.8rem;color:var(--muted)}
-"""
 
 
 # ------------------------------------------------------------------------------------------ pointers
@@ -73,6 +50,7 @@ def resolve_pointer(doc, pointer: str):
 
 
 def _fmt(value, spec: str | None) -> str:
+    """Cell text: "–" for none, yes/no, numbers without a negative zero, text with the report's symbols."""
     if value is None:
         return "–"
     if isinstance(value, bool):
@@ -80,7 +58,9 @@ def _fmt(value, spec: str | None) -> str:
     if isinstance(value, list):
         return " ".join(_fmt(v, spec) for v in value) or "–"
     if isinstance(value, float) and spec:
-        return format(value, spec)
+        return number(value, spec)
+    if isinstance(value, str):
+        return file_name(value) if looks_like_path(value) else readable(scrub_paths(value))
     return str(value)
 
 
@@ -97,9 +77,12 @@ class _Page:
         value = self.get(src, parts)
         numeric = isinstance(value, (int, float)) and not isinstance(value, bool) or (
             isinstance(value, list) and value and all(isinstance(v, (int, float)) for v in value))
-        cls = ' class="num"' if numeric else ""
-        return (f'<td{cls} data-src="{src}" data-path="{html.escape(json_pointer(parts))}">'
-                f"{html.escape(_fmt(value, spec))}</td>")
+        cls = (' class="num list"' if isinstance(value, list) else ' class="num"') if numeric else ""
+        shown = ' data-shown="file name"' if isinstance(value, str) and looks_like_path(value) else ""
+        text = html.escape(_fmt(value, spec))
+        if isinstance(value, str):  # long names (sp2_CH_ring_conjugated) may wrap after an underscore
+            text = text.replace("_", "_<wbr>")
+        return f'<td{cls}{shown} data-src="{src}" data-path="{html.escape(json_pointer(parts))}">{text}</td>'
 
     def table(self, src, base, columns) -> str:
         """A table of the list at ``base``; columns are (header, key path tuple, format spec)."""
@@ -115,7 +98,7 @@ class _Page:
     def kv(self, src, items) -> str:
         """Two-column table of (label, key path, spec) items."""
         rows = [f"<tr><th>{html.escape(lab)}</th>{self.td(src, parts, spec)}</tr>" for lab, parts, spec in items]
-        return f'<table><tbody>{"".join(rows)}</tbody></table>'
+        return f'<div class="wide"><table><tbody>{"".join(rows)}</tbody></table></div>'
 
 
 def _flat(d: dict, prefix=()):
@@ -148,8 +131,9 @@ def _section(anchor, title, body) -> str:
 
 def _circuit_columns(with_model=True):
     cols = [("circuit", ("label",), None), ("kind", ("kind",), None), ("atoms", ("size",), None),
-            ("π e", ("pi_electrons",), None), ("class", ("huckel_class",), None), ("planar", ("planar",), None),
-            ("RMS (Å)", ("planarity_rms_A",), ".3f"), ("p misalign. (°)", ("max_p_misalignment_deg",), ".1f"),
+            ("π e", ("pi_electrons",), None), ("class", ("huckel_class",), None),
+            ("circuit planar enough", ("planar",), None), ("RMS from its plane (Å)", ("planarity_rms_A",), ".3f"),
+            ("p misalign. (°)", ("max_p_misalignment_deg",), ".1f"),
             ("radius (Å)", ("radius_A",), ".3f"), ("J a priori (nA/T)", ("current_nA_per_T",), "+.2f"),
             ("× benzene", ("current_rel_benzene",), "+.3f"), ("current source", ("current_source",), None)]
     return cols
@@ -193,11 +177,13 @@ def render_html(results: dict, pi: dict | None, figures: list[tuple[str, str, st
     esc = html.escape
     out = [f'<!DOCTYPE html><html lang="en"><head><meta charset="utf-8">'
            f'<meta name="viewport" content="width=device-width, initial-scale=1">'
-           f"<title>ringshift report: {esc(str(results['name']))}</title><style>{_CSS}</style></head><body><main>"]
-    where = "" if str(pred["source"]) == str(results["name"]) else f" · structure from {esc(str(pred['source']))}"
+           f"<title>ringshift report: {esc(str(results['name']))}</title><style>{CSS}</style></head><body><main>"]
+    source = str(pred["source"])
+    shown = file_name(source) if looks_like_path(source) else source
+    where = "" if source == str(results["name"]) else f" · structure from {esc(shown)}"
+    peaks = f" · peaks from {esc(file_name(results['peaks_source']))}" if comp else ""
     out.append(f"<header><h1>Ring-current report</h1><p class=\"sub\">{esc(str(results['name']))}{where} · "
-               f"model {esc(str(pred['model']))}"
-               + (f" · peaks from {esc(str(results['peaks_source']))}" if comp else "") + "</p></header>")
+               f"shielding model {esc(str(pred['model']))}{peaks}</p></header>")
     # verdict and caution first: they are what a reader must not miss
     if comp:
         claim = results.get("claim")
@@ -215,13 +201,17 @@ def render_html(results: dict, pi: dict | None, figures: list[tuple[str, str, st
         nav[3:3] = [("fit", "Fitted currents"), ("assignment", "Assignment")]
     nav += [("provenance", "Model and provenance"), ("notes", "Notes")]
     out.append("<nav>" + "".join(f'<a href="#{a}">{esc(t)}</a>' for a, t in nav) + "</nav>")
+    out.append('<p class="numbering"><b>Numbering.</b> Every index in this report (atoms, hydrogen groups, '
+               "circuits, peaks and Hückel levels) counts from 0, as in results.json. Labels such as H1, M1 or p1 "
+               "are names, not indices: group H1 has index 0.</p>")
 
     # figures
     figs = []
     if structure_svg:
         figs.append('<figure id="fig-structure">' + inline_svg(structure_svg, "structure") +
                     "<figcaption>Structure with the ring-current shift Δδ_rc (ppm, > 0 downfield) of each hydrogen "
-                    "group beside the atom carrying it; highlighted: the current loops.</figcaption></figure>")
+                    "group beside the atom carrying it, written once per group (other atoms carrying the same group "
+                    "show its label); highlighted: the current loops, named at their centres.</figcaption></figure>")
     for anchor, title, caption, svg in figures:
         figs.append(f'<figure id="fig-{anchor}"><h3>{esc(title)}</h3>{inline_svg(svg, anchor)}'
                     f"<figcaption>{esc(caption)}</figcaption></figure>")
@@ -240,14 +230,19 @@ def render_html(results: dict, pi: dict | None, figures: list[tuple[str, str, st
                                  ("degenerate HOMO", ("levels", "degenerate_homo"), None),
                                  ("convention", ("levels", "convention"), None)])
             n = len(pi["levels"]["energies_beta"])
-            rows = "".join(f"<tr><th>{k + 1}</th>{pg.td('pi', ('levels', 'energies_beta', k), '+.4f')}"
+            rows = "".join(f"<tr><th>{k}</th>{pg.td('pi', ('levels', 'energies_beta', k), '+.4f')}"
                            f"{pg.td('pi', ('levels', 'occupations', k), '.3f')}</tr>" for k in range(n - 1, -1, -1))
-            body += ("<h3>Hückel levels</h3><table><thead><tr><th>level</th><th>(E − α)/|β|</th>"
-                     f"<th>occupation</th></tr></thead><tbody>{rows}</tbody></table>")
+            body += ('<h3>Hückel levels</h3><div class="wide"><table><thead><tr><th>level (index)</th>'
+                     f"<th>(E − α)/|β|</th><th>occupation</th></tr></thead><tbody>{rows}</tbody></table></div>")
         out.append(_section("pi", "π system", body))
 
     # circuits
     body = pg.table("results", (*P, "circuits"), _circuit_columns() + [("note", ("note",), None)])
+    body += (f'<p class="def">“Circuit planar enough” is judged on each circuit alone: yes when its atoms lie within '
+             f"{PLANARITY_LIMIT_A:g} Å RMS of their own mean plane and the p orbitals of bonded circuit atoms are "
+             f"within {MISALIGNMENT_LIMIT_DEG:g}° of each other, so overlap around the circuit is continuous. A note "
+             "“non-planar π fragment” (below) is a different test: it measures all π atoms of a fragment against "
+             "one plane and reports the largest deviation of any of them.</p>")
     if pred["perimeters"]:
         body += "<h3>Perimeters (descriptive, no loop of their own)</h3>" + pg.table(
             "results", (*P, "perimeters"), _circuit_columns()[:7])
@@ -257,16 +252,19 @@ def render_html(results: dict, pi: dict | None, figures: list[tuple[str, str, st
         cols = [("circuit", ("label",), None), ("verdict", ("verdict",), None),
                 ("J fitted (nA/T)", ("current_nA_per_T",), "+.2f"), ("± s.e.", ("stderr_nA_per_T",), ".2f"),
                 ("95 % low", ("ci95_nA_per_T", 0), "+.2f"), ("95 % high", ("ci95_nA_per_T", 1), "+.2f"),
-                ("× benzene", ("current_rel_benzene",), "+.3f"), ("a priori", ("prior_nA_per_T",), "+.2f"),
-                ("prior sd", ("prior_sd_nA_per_T",), ".1f"),
-                ("log10 BF dia:none", ("evidence", "log10_bf_dia_vs_none"), "+.2f"),
-                ("log10 BF para:none", ("evidence", "log10_bf_para_vs_none"), "+.2f"),
-                ("best", ("evidence", "best"), None), ("runner-up", ("evidence", "runner_up"), None),
-                ("2 ln B margin", ("evidence", "two_ln_bf_margin"), ".2f"),
-                ("strength", ("evidence", "kass_raftery"), None), ("P(J > 0)", ("evidence", "p_diatropic"), ".4f")]
+                ("× benzene", ("current_rel_benzene",), "+.3f"), ("a priori (nA/T)", ("prior_nA_per_T",), "+.2f"),
+                ("prior sd (nA/T)", ("prior_sd_nA_per_T",), ".1f")]
         body = pg.table("results", ("circuits",), cols)
+        body += "<h3>Evidence for the sign of each current</h3>" + pg.table("results", ("circuits",), [
+            ("circuit", ("label",), None), ("log₁₀ BF diatropic : none", ("evidence", "log10_bf_dia_vs_none"), "+.2f"),
+            ("log₁₀ BF paratropic : none", ("evidence", "log10_bf_para_vs_none"), "+.2f"),
+            ("best", ("evidence", "best"), None), ("runner-up", ("evidence", "runner_up"), None),
+            ("2 ln B margin", ("evidence", "two_ln_bf_margin"), ".2f"),
+            ("strength (Kass–Raftery)", ("evidence", "kass_raftery"), None),
+            ("P(J > 0)", ("evidence", "p_diatropic"), ".4f")])
         body += "<h3>Fit settings</h3>" + pg.kv("results", [
-            ("model error σ (ppm)", ("noise_ppm",), ".3f"), ("σ chosen by maximum evidence", ("noise_estimated",), None),
+            ("model error σ (ppm)", ("noise_ppm",), ".3f"),
+            ("σ chosen by maximum evidence", ("noise_estimated",), None),
             ("integral scale", ("integral_scale",), ".4f"), ("converged", ("converged",), None),
             ("iterations", ("iterations",), None), ("winning start", ("start",), None),
             ("assignment cost (2 ln B units)", ("cost",), ".3f"), ("log10 evidence", ("log10_evidence",), ".3f")])
@@ -274,16 +272,19 @@ def render_html(results: dict, pi: dict | None, figures: list[tuple[str, str, st
             ("proton class", ("proton_class",), None), ("offset (ppm)", ("offset_ppm",), "+.3f"),
             ("sd (ppm)", ("sd_ppm",), ".3f"), ("prior sd (ppm)", ("prior_sd_ppm",), ".3f")])
         out.append(_section("fit", "Fitted currents with 95 % intervals", body))
-        cols = [("group", ("label",), None), ("nH", ("n_h",), None), ("class", ("proton_class",), None),
-                ("peak", ("peak_label",), None), ("observed", ("observed_ppm",), ".2f"),
-                ("predicted", ("predicted_ppm",), ".2f"), ("± sd", ("predicted_sd_ppm",), ".2f"),
-                ("residual", ("residual_ppm",), "+.2f"), ("Δδ_rc fitted", ("ring_current_ppm",), "+.2f"),
-                ("± sd", ("ring_current_sd_ppm",), ".2f"), ("charge", ("charge_ppm",), "+.2f"),
-                ("class offset", ("class_offset_ppm",), "+.2f"), ("reference", ("reference_ppm",), ".2f"),
-                ("a priori", ("prior_predicted_ppm",), ".2f"), ("fixed", ("fixed",), None),
-                ("ref. needed w/o current", ("needed_reference_ppm",), ".2f"), ("its z", ("needed_reference_z",), "+.1f")]
+        cols = [("group", ("label",), None), ("index", ("index",), None), ("nH", ("n_h",), None),
+                ("class", ("proton_class",), None), ("peak", ("peak_label",), None),
+                ("observed", ("observed_ppm",), ".2f"), ("predicted", ("predicted_ppm",), ".2f"),
+                ("± sd", ("predicted_sd_ppm",), ".2f"), ("residual", ("residual_ppm",), "+.2f"),
+                ("Δδ_rc fitted", ("ring_current_ppm",), "+.2f"), ("± sd", ("ring_current_sd_ppm",), ".2f")]
         body = "<p class=\"sub\">Shifts in ppm; residual = observed − predicted.</p>" + \
             pg.table("results", ("assignment",), cols)
+        body += "<h3>Parts of each fitted prediction</h3>" + pg.table("results", ("assignment",), [
+            ("group", ("label",), None), ("reference", ("reference_ppm",), ".2f"),
+            ("class offset", ("class_offset_ppm",), "+.2f"), ("charge", ("charge_ppm",), "+.2f"),
+            ("Δδ_rc fitted", ("ring_current_ppm",), "+.2f"), ("a priori prediction", ("prior_predicted_ppm",), ".2f"),
+            ("fixed", ("fixed",), None), ("reference needed without a current", ("needed_reference_ppm",), ".2f"),
+            ("its z", ("needed_reference_z",), "+.1f")])
         body += "<h3>Observed peaks</h3>" + pg.table("results", ("peaks",), [
             ("peak", ("label",), None), ("δ (ppm)", ("shift_ppm",), ".3f"), ("integral", ("integral",), ".3f"),
             ("kind", ("kind",), None), ("slots (H)", ("slots",), None), ("assigned H", ("assigned_h",), None),
@@ -301,7 +302,8 @@ def render_html(results: dict, pi: dict | None, figures: list[tuple[str, str, st
                 ("verdicts", ("verdicts",), None)])
         out.append(_section("assignment", "Assignment and residuals", body))
 
-    cols = [("group", ("label",), None), ("nH", ("n_h",), None), ("H atoms", ("atoms",), None),
+    cols = [("group", ("label",), None), ("index", ("group",), None), ("nH", ("n_h",), None),
+            ("H atoms (index)", ("atoms",), None),
             ("class", ("proton_class",), None), ("reference", ("reference_ppm",), ".2f"),
             ("ref. sd", ("reference_sd_ppm",), ".2f")]
     cols += [(f"Δδ_rc {lab}", ("ring_current_by_circuit_ppm", lab), "+.2f") for lab in labels]
@@ -311,10 +313,9 @@ def render_html(results: dict, pi: dict | None, figures: list[tuple[str, str, st
                         "<p class=\"sub\">Shifts in ppm; Δδ_rc > 0 is downfield. Predicted = reference + Δδ_rc + "
                         "charge term.</p>" + pg.table("results", (*P, "groups"), cols)))
 
-    items = [(" / ".join(map(str, parts)), (*P, "provenance", *parts), None)
-             for parts, _ in _flat(pred["provenance"])]
-    items += [("conformers", (*P, "conformers", "count"), None), ("conformer weights", (*P, "conformers", "weights"),
-                                                                   ".4f"),
+    items = [(provenance_label(parts), (*P, "provenance", *parts), None) for parts, _ in _flat(pred["provenance"])]
+    items += [("conformers", (*P, "conformers", "count"), None),
+              ("conformer weights", (*P, "conformers", "weights"), ".4f"),
               ("atoms", (*P, "n_atoms"), None), ("hydrogens", (*P, "n_hydrogens"), None),
               ("net charge", (*P, "charge"), None)]
     out.append(_section("provenance", "Model and provenance", pg.kv("results", items)))
@@ -322,8 +323,8 @@ def render_html(results: dict, pi: dict | None, figures: list[tuple[str, str, st
     notes = list(pred["warnings"]) + (list(results.get("peak_warnings", [])) if comp else [])
     if pi is not None:
         notes += [w for w in pi.get("warnings", []) if w not in notes]
-    body = ("<ul class=\"notes\">" + "".join(f"<li>{esc(str(n))}</li>" for n in notes) + "</ul>") if notes else \
-        '<p class="sub">none</p>'
+    body = ("<ul class=\"notes\">" + "".join(f"<li>{esc(readable(scrub_paths(str(n))))}</li>" for n in notes)
+            + "</ul>") if notes else '<p class="sub">none</p>'
     out.append(_section("notes", "Notes", body))
     listing = ", ".join(esc(f) for f in files)
     out.append(f"<footer>Written by ringshift {esc(version)}. Files in this folder: {listing}. "
@@ -346,14 +347,17 @@ def _figure_jobs(pred, res, pi):
     yield ("contributions", "Shift contributions per hydrogen group",
            "Reference shift, class offset and charge term, and the ring-current part of each predicted shift"
            + (" (fitted, with 95 % intervals)." if res is not None else "."), lambda: F.contributions_figure(src))
+    scale = (f"colour scale fixed at ±{M.DEFAULT_CONTOUR_MAX_PPM:g} ppm for every report, so maps of different "
+             "compounds compare directly")
     yield ("map", "Ring-current shift map",
-           f"Δδ_rc of all loops ({cur} currents) in the mean ring plane and in the perpendicular plane through the "
-           "centre; blank within 0.3 Å of a loop wire.", lambda: M.shielding_map_figure(src))
+           f"Δδ_rc of all loops ({pred.model} model, {cur} currents) in the mean ring plane and in the perpendicular "
+           f"plane through the centre; blank within {M.WIRE_MASK_A:g} Å of a loop wire; {scale}.",
+           lambda: M.shielding_map_figure(src))
     yield ("map_1A", "Ring-current shift 1 Å above the ring plane",
-           f"Δδ_rc of all loops ({cur} currents) in the plane 1 Å above the mean ring plane.",
-           lambda: M.shielding_map_figure(src, plane="ring", height_A=1.0))
+           f"Δδ_rc of all loops ({pred.model} model, {cur} currents) in the plane 1 Å above the mean ring plane; "
+           f"{scale}.", lambda: M.shielding_map_figure(src, plane="ring", height_A=1.0))
     yield ("normal_scan", "Shift along the ring normal",
-           "Loop-model counterpart of a NICS scan: Δδ_rc from 0 to 4 Å above the centre.",
+           f"Loop-model counterpart of a NICS scan ({pred.model} model): Δδ_rc from 0 to 4 Å above the centre.",
            lambda: M.normal_scan_figure(src))
     yield ("levels", "Hückel π levels", "Orbital levels with their occupations; near-degenerate levels side by side.",
            lambda: F.levels_figure(pi))
@@ -390,10 +394,10 @@ def write_report(out_dir, prediction, *, compare_result=None, pi_summary=None, f
     OutputError
         The folder exists (without ``force``), its parent is missing or not writable.
     """
-    from ringshift.report.json import comparison_to_dict
     from ringshift.pi.summary import pi_summary as make_pi
     from ringshift.report import figures as F
     from ringshift.report import sdf as S
+    from ringshift.report.json import comparison_to_dict
 
     out = Path(out_dir)
     if compare_result is not None and compare_result.prediction is not prediction:

@@ -239,7 +239,8 @@ def _panel(ax, m: ShieldingMap, pred, levels, norm):
     ax.set_xlabel("in-plane axis u (Å)")
     if m.plane == "ring":
         ax.set_ylabel("in-plane axis v (Å)")
-        ax.set_title(f"ring plane, {m.height_A:+.1f} Å along the normal")
+        ax.set_title("mean ring plane" if m.height_A == 0 else
+                     f"plane {_plain(m.height_A, '+.1f').replace('-', chr(0x2212))} Å along the normal")
     else:
         ax.set_ylabel("along the ring normal n (Å)")
         ax.set_title("perpendicular plane through the centre")

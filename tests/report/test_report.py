@@ -7,6 +7,7 @@ of the maps compare with the Biot–Savart law evaluated independently in this f
 
 from __future__ import annotations
 
+import html as html_lib
 import json
 import math
 import re
@@ -26,22 +27,22 @@ from numpy.testing import assert_allclose
 from rdkit import Chem
 from scipy import stats
 
-from ringshift.report.json import comparison_to_dict
 from ringshift.compare.run import run_compare
 from ringshift.constants import JB_SEPARATION_A, MU0_PPM_A_PER_NA_T
 from ringshift.errors import InputError, OutputError
-from ringshift.report.json import CAUTION, prediction_to_dict
-from ringshift.spectra.peaks import Peak, PeakList
 from ringshift.io.peak_tables import read_peaks
-from ringshift.spectra.picking import simulate_spectrum
+from ringshift.io.structures import load_structure
 from ringshift.pi.summary import pi_summary
-from ringshift.shifts.prediction import predict
 from ringshift.report import figures as F
 from ringshift.report import html as H
 from ringshift.report import maps as M
 from ringshift.report import sdf as S
 from ringshift.report import write_report
-from ringshift.io.structures import load_structure
+from ringshift.report.html_text import ascii_form
+from ringshift.report.json import CAUTION, comparison_to_dict, prediction_to_dict
+from ringshift.shifts.prediction import predict
+from ringshift.spectra.peaks import Peak, PeakList
+from ringshift.spectra.picking import simulate_spectrum
 
 R_CC = 1.39   # regular-hexagon circumradius used for the exact benzene geometry, Å
 R_CH = 2.47   # C–H 1.08 Å outward
@@ -407,7 +408,8 @@ def test_map_bad_arguments(hexagon):
 def test_map_uses_fitted_currents(comparison):
     loops, origin = M.loops_of(comparison)
     assert origin == "fitted"
-    assert_allclose([lp.current_nA_per_T for lp in loops], [cf.current_nA_per_T for cf in comparison.comparison.circuits])
+    assert_allclose([lp.current_nA_per_T for lp in loops],
+                    [cf.current_nA_per_T for cf in comparison.comparison.circuits])
 
 
 # ------------------------------------------------------------------------------------ structure/SDF
@@ -485,8 +487,9 @@ def flat(v):
     return [v]
 
 
-def check_cell(text: str, value):
-    """Displayed text against the JSON value: numbers within half a unit of the last shown digit."""
+def check_cell(text: str, value, shown: str | None = None):
+    """Displayed text against the JSON value: numbers within half a unit of the last shown digit and never a
+    signed zero; text equal up to the report's symbols (±, ×, Å, °, α, β, Hückel); paths by their file name."""
     if value is None:
         assert text == "–"
         return
@@ -502,10 +505,14 @@ def check_cell(text: str, value):
         return
     if isinstance(value, (int, float)):
         assert _NUM.match(text), text
+        assert not re.match(r"^[+-]0(\.0+)?$", text), text  # no "-0.00" (nor "+0.00")
         dec = len(text.split(".")[1]) if "." in text else 0
         assert abs(float(text) - value) <= 0.5 * 10.0**-dec + 1e-12, (text, value)
         return
-    assert text == str(value)
+    if shown == "file name":
+        assert text == re.split(r"[\\/]", value)[-1] and "/" not in text, (text, value)
+        return
+    assert ascii_form(text).lower() == ascii_form(str(value)).lower(), (text, value)
 
 
 def test_report_tables_equal_json(report):
@@ -518,7 +525,7 @@ def test_report_tables_equal_json(report):
     for tag, attrs, text in parser.cells:
         text = text.strip()
         if "data-path" in attrs:
-            check_cell(text, H.resolve_pointer(roots[attrs["data-src"]], attrs["data-path"]))
+            check_cell(text, H.resolve_pointer(roots[attrs["data-src"]], attrs["data-path"]), attrs.get("data-shown"))
             checked += 1
         elif tag == "td":
             # a number in a data cell must name its JSON source
@@ -536,6 +543,83 @@ def test_results_json_is_comparison_dict(report, comparison):
     out, paths = report
     expect = json.loads(json.dumps(comparison_to_dict(comparison)))
     assert json.loads(paths["results"].read_text()) == expect
+
+
+class Visible(HTMLParser):
+    """Text a reader sees: everything outside <style> (inline SVG text included), plus the <th> texts."""
+
+    def __init__(self):
+        super().__init__()
+        self.parts, self.th, self._skip, self._th = [], [], 0, None
+
+    def handle_starttag(self, tag, attrs):
+        self._skip += tag == "style"
+        if tag == "th":
+            self._th = ""
+
+    def handle_endtag(self, tag):
+        self._skip -= tag == "style"
+        if tag == "th" and self._th is not None:
+            self.th.append(self._th.strip())
+            self._th = None
+
+    def handle_data(self, data):
+        if not self._skip:
+            self.parts.append(data)
+            if self._th is not None:
+                self._th += data
+
+
+def visible(page: str) -> Visible:
+    v = Visible()
+    v.feed(page)
+    return v
+
+
+@pytest.fixture(scope="module")
+def hexagon_report(hexagon, tmp_module):
+    paths = write_report(tmp_module / "report_hexagon", hexagon)
+    return paths
+
+
+@pytest.mark.parametrize("which", ["comparison", "file-input"], ids=["comparison", "file-input"])
+def test_report_typography(report, hexagon_report, tmp_module, which):
+    paths = report[1] if which == "comparison" else hexagon_report
+    page = paths["html"].read_text(encoding="utf-8")
+    v = visible(page)
+    text = " ".join(v.parts)
+    # no negative (or signed) zero anywhere, tables and figure text alike
+    assert not re.search(r"(?<![\w.])[-−+]0\.0+(?![\d])", text), re.search(r".{30}[-−+]0\.0+.{10}", text)
+    # one set of symbols: ±, ×, Å, °, β; no ASCII spellings of them
+    for bad in (r"\+/-", r"\d A\b", r"\d deg\b", r"\bHueckel\b", r"\d x \d", r"\) x \d", r"\bbeta\b"):
+        assert not re.search(bad, text), (bad, re.search(".{30}" + bad + ".{10}", text))
+    # no absolute path of this machine: file names only
+    assert str(tmp_module) not in page and not re.search(r"(?<![\w.])/(?:tmp|home|root|work|Users)/", page)
+    if which == "file-input":
+        assert "structure from hexagon.xyz" in text
+    # the numbering is stated once, and the level table counts from 0 like the JSON
+    assert text.count("counts from 0") == 1
+    assert "level (index)" in v.th and "0" in v.th
+    # provenance keys are names, not snake_case identifiers
+    prov = page[page.index('id="provenance"'):page.index('id="notes"')]
+    assert not [t for t in visible(prov).th if "_" in t]
+    assert "loop separation from the ring plane, ± (Å)" in visible(prov).th
+    # the circuits' "planar" column says what it judges, and how it differs from the π-fragment note
+    assert "circuit planar enough" in v.th and "non-planar π fragment" in text
+
+
+def test_display_helpers():
+    from ringshift.report import html_text as T
+
+    assert T.number(-0.001, ".2f") == "0.00" and T.number(0.0, "+.2f") == "0.00" and T.number(-0.006, "+.2f") == "-0.01"
+    assert T.readable("loops at +/-0.64 A, up to 50 deg, huckel-london (scf beta) x 0.8") == \
+        "loops at ±0.64 Å, up to 50°, Hückel–London (scf β) × 0.8"
+    assert T.scrub_paths("cannot read /home/someone/data/x.sdf: bad") == "cannot read x.sdf: bad"
+    assert T.scrub_paths("SMILES [H]/C1=C/C=C/C=C1\\[H] kept") == "SMILES [H]/C1=C/C=C/C=C1\\[H] kept"
+    assert T.looks_like_path("/a/b/c.sdf") and T.looks_like_path("data/c.xyz")
+    assert not T.looks_like_path("[H]/C1=C/C=C/C=C1\\[H]") and not T.looks_like_path("C/C=C/C")
+    assert T.provenance_label(("structure", "temperature_K")) == "structure: temperature (K)"
+    assert T.provenance_label(("new_thing_ppm",)) == "new thing (ppm)"
 
 
 def test_report_is_self_contained(report):
@@ -616,18 +700,81 @@ def test_report_rejects_foreign_comparison(comparison):
         write_report(Path(tempfile.gettempdir()) / "never-written", other, compare_result=comparison)
 
 
-@pytest.mark.skipif(not Path("/usr/bin/chromium").exists(), reason="headless Chromium not installed at /usr/bin/chromium")
+CHROMIUM = Path("/usr/bin/chromium")
+#: Injected into a copy of the page (the report itself has no scripts): for every table and figure, is it wider
+#: than its own box, does its box scroll, or does it stick out of the page's content column? The result is written
+#: into the DOM, which --dump-dom prints.
+OVERFLOW_PROBE = """<script>(function(){var out=[];var main=document.querySelector('main');
+var ms=getComputedStyle(main);var mr=main.getBoundingClientRect();var right=mr.right-parseFloat(ms.paddingRight)+0.5;
+document.querySelectorAll('table, figure svg').forEach(function(t){
+var box=t.parentElement;var r=t.getBoundingClientRect();
+out.push({what:t.tagName+' in #'+((t.closest('section')||{}).id||''),width:r.width,box:box.clientWidth,
+over:r.width>box.clientWidth+0.5||r.right>right||box.scrollWidth>box.clientWidth+0.5});});
+var pre=document.createElement('pre');pre.id='rs-probe';pre.textContent=JSON.stringify(out);
+document.body.appendChild(pre);})();</script>"""
+
+
+def chromium(args, tmp_path):
+    cmd = [str(CHROMIUM), "--headless", "--no-sandbox", "--disable-gpu", "--disable-quic", "--no-first-run",
+           "--disable-background-networking", "--disable-component-update", "--disable-sync",
+           f"--user-data-dir={tmp_path / 'profile'}", *args]
+    return subprocess.run(cmd, capture_output=True, text=True, timeout=120, check=False)
+
+
+def overflowing(page: Path, width_px: int, tmp_path, *, print_rules=False, extra_css=""):
+    """Tables and figures that do not fit their box when the page is laid out ``width_px`` wide.
+
+    ``print_rules`` applies the page's @media print rules on screen (Chromium cannot measure in print
+    preview), so a width of the printable A4 column checks the print layout.
+    """
+    text = page.read_text(encoding="utf-8")
+    if print_rules:
+        text = text.replace("@media print{", "@media all{")
+    text = text.replace("</style>", extra_css + "</style>").replace("</body>", OVERFLOW_PROBE + "</body>")
+    probe = page.with_name(f"probe-{width_px}-{int(print_rules)}-{len(extra_css)}.html")
+    probe.write_text(text, encoding="utf-8")
+    try:
+        r = chromium([f"--window-size={width_px},1200", "--virtual-time-budget=5000", "--dump-dom", probe.as_uri()],
+                     tmp_path)
+    finally:
+        probe.unlink()
+    m = re.search(r'<pre id="rs-probe">(.*?)</pre>', r.stdout, re.S)
+    assert m, f"Chromium returned no probe result: {r.stderr[-300:]}"
+    found = json.loads(html_lib.unescape(m.group(1)))
+    assert len(found) >= 10  # every table and figure was measured
+    return [x for x in found if x["over"]]
+
+
+#: A4 (210 mm) less the 12 mm side margins of the report's @page rule, in CSS pixels (96 per inch).
+A4_COLUMN_PX = round((210 - 2 * 12) / 25.4 * 96)
+
+
+@pytest.mark.skipif(not CHROMIUM.exists(), reason="headless Chromium not installed at /usr/bin/chromium (make browser)")
 def test_report_renders_in_headless_chromium(report, tmp_path):
     import matplotlib.image as mpimg
 
     out, paths = report
-    shot = tmp_path / "shot.png"
-    cmd = ["/usr/bin/chromium", "--headless", "--no-sandbox", "--disable-gpu", "--disable-quic", "--no-first-run",
-           "--disable-background-networking", "--disable-component-update", "--disable-sync",
-           f"--user-data-dir={tmp_path / 'profile'}", f"--screenshot={shot}", "--window-size=1200,2000",
-           paths["html"].resolve().as_uri()]
-    subprocess.run(cmd, capture_output=True, timeout=90, check=False)
+    page = paths["html"]
+    shot = tmp_path / "shot-1400.png"
+    chromium([f"--screenshot={shot}", "--window-size=1400,2400", page.resolve().as_uri()], tmp_path)
     assert shot.is_file(), "Chromium wrote no screenshot"
     img = mpimg.imread(str(shot))
+    assert img.shape[1] == 1400
     # a blank page has std 0; text, tables and figures give a clearly non-zero spread (common practice, no source)
     assert img[..., :3].std() > 0.05
+    # at 1400 px and at a narrow 800 px window no table or figure is wider than its box (nothing clipped, no
+    # scroll bar); printed on A4 the same holds for the printable column
+    assert overflowing(page, 1400, tmp_path) == []
+    assert overflowing(page, 800, tmp_path) == []
+    assert overflowing(page, A4_COLUMN_PX, tmp_path, print_rules=True) == []
+    # the probe is not blind: a table forced wider than the column is reported
+    forced = overflowing(page, 1400, tmp_path, extra_css="table{min-width:1600px}")
+    assert forced and all(x["what"].startswith("TABLE") for x in forced)
+    # print preview: Chromium's PDF of the page, A4
+    pdf = tmp_path / "report.pdf"
+    chromium(["--no-pdf-header-footer", f"--print-to-pdf={pdf}", page.resolve().as_uri()], tmp_path)
+    data = pdf.read_bytes()
+    assert data.startswith(b"%PDF")  # PDF file signature (PDF specification)
+    boxes = re.findall(rb"/MediaBox\s*\[\s*0\s+0\s+([\d.]+)\s+([\d.]+)\s*\]", data)
+    # A4 is 595.3 × 841.9 pt (ISO 216); several pages, all A4 portrait
+    assert len(boxes) >= 3 and all(abs(float(w) - 595.3) < 1.5 and abs(float(h) - 841.9) < 1.5 for w, h in boxes)
