@@ -60,10 +60,10 @@ def finite_field_currents(xyz, bonds, n_electrons, field_dir, flux=1e-4):
 
 
 def main() -> int:
+    from ringshift.io.structures import load_structure
     from ringshift.pi.huckel import huckel as _pisystem_huckel
     from ringshift.pi.london import london_currents
     from ringshift.shifts.prediction import predict
-    from ringshift.io.structures import load_structure
 
     warnings.simplefilter("ignore")
     rows = []

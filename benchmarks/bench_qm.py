@@ -61,9 +61,9 @@ from pathlib import Path  # noqa: E402
 
 import numpy as np  # noqa: E402
 
-from ringshift.shifts.prediction import predict
-from ringshift.report.maps import loop_shift_ppm, loops_of  # noqa: E402
 from ringshift.io.structures import load_structure
+from ringshift.report.maps import loop_shift_ppm, loops_of  # noqa: E402
+from ringshift.shifts.prediction import predict
 
 SMILES = {"benzene": "c1ccccc1", "naphthalene": "c1ccc2ccccc2c1", "ethylene": "C=C",
           "1,3-cyclohexadiene": "C1=CC=CCC1"}

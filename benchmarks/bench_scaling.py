@@ -74,8 +74,8 @@ def _xyz(atoms, comment: str) -> str:
 
 
 def size_scaling(quick: bool):
-    from ringshift.shifts.prediction import predict
     from ringshift.io.structures import load_structure
+    from ringshift.shifts.prediction import predict
 
     cases = [("acene", n, acene_xyz(n)) for n in ((2, 6, 12) if quick else (2, 6, 12, 24, 48, 74))]
     cases += [("annulene", n, annulene_xyz(n)) for n in ((18, 50) if quick else (18, 50, 102, 202, 302))]

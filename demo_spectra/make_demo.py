@@ -22,12 +22,12 @@ from pathlib import Path
 import numpy as np
 from rdkit import Chem
 
+from ringshift.io.jcampdx import write_jcamp_spectrum
+from ringshift.io.peak_tables import write_peak_table_csv
+from ringshift.io.structures import load_structure
+from ringshift.shifts.prediction import predict
 from ringshift.spectra.peaks import Peak
 from ringshift.spectra.picking import simulate_spectrum
-from ringshift.io.peak_tables import write_peak_table_csv
-from ringshift.io.jcampdx import write_jcamp_spectrum
-from ringshift.shifts.prediction import predict
-from ringshift.io.structures import load_structure
 
 HERE = Path(__file__).resolve().parent.parent / "ringshift" / "data" / "demo"   # shipped in the wheel; demo_spectra/ links to it
 OBSERVE_MHZ = 500.0

@@ -10,8 +10,8 @@ library never names a command-line flag.
 from __future__ import annotations
 
 import math
+from collections.abc import Iterable
 from numbers import Real
-from typing import Iterable
 
 import numpy as np
 

@@ -43,8 +43,8 @@ from __future__ import annotations
 
 import math
 import warnings
+from collections.abc import Sequence
 from numbers import Integral
-from typing import Sequence
 
 import numpy as np
 

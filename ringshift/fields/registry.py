@@ -7,7 +7,7 @@ returns ppm of ring-current shift per nA/T of diatropic current.
 
 from __future__ import annotations
 
-from typing import Sequence
+from collections.abc import Sequence
 
 import numpy as np
 

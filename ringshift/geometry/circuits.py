@@ -21,8 +21,8 @@ external field along +n). Isotropic shieldings do not depend on that choice.
 
 from __future__ import annotations
 
+from collections.abc import Iterable, Sequence
 from dataclasses import dataclass
-from typing import Iterable, Sequence
 
 import numpy as np
 from rdkit import Chem

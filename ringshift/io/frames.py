@@ -23,9 +23,9 @@ import math
 import re
 import tempfile
 import warnings
+from collections.abc import Iterator
 from dataclasses import dataclass
 from pathlib import Path
-from typing import Iterator
 
 import numpy as np
 from rdkit import Chem, rdBase

@@ -7,9 +7,9 @@ skipped.
 
 from __future__ import annotations
 
+from collections.abc import Iterator
 from dataclasses import dataclass
 from pathlib import Path
-from typing import Iterator
 
 from ringshift.errors import InputError
 from ringshift.io.frames import _SDF, _sd_records

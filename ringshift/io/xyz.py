@@ -10,8 +10,8 @@ lines between frames are allowed. Every frame must list the atoms of the first f
 from __future__ import annotations
 
 import re
+from collections.abc import Callable, Iterable, Iterator
 from dataclasses import dataclass
-from typing import Callable, Iterable, Iterator
 
 import numpy as np
 from rdkit import Chem

@@ -17,9 +17,9 @@ Schneider, Can. J. Chem. 1963, 41, 966).
 
 from __future__ import annotations
 
+from collections.abc import Sequence
 from dataclasses import dataclass, replace
-from functools import lru_cache
-from typing import Sequence
+from functools import cache
 
 import numpy as np
 from scipy import constants as _sc
@@ -260,7 +260,7 @@ def regular_polygon(n: int, side_A: float = BETA_REF_LENGTH_A) -> np.ndarray:
     return np.column_stack([rad * np.cos(t), rad * np.sin(t), np.zeros(n)])
 
 
-@lru_cache(maxsize=None)
+@cache
 def benzene_reference_response(beta_model: str) -> float:
     """Diatropic ring-current response g of benzene (regular hexagon, 1.397 Å) in the given β model.
 

@@ -197,7 +197,7 @@ def _p_axes(mol, xyz: np.ndarray, atoms, bonds) -> tuple[np.ndarray, list[str]]:
     return axes, notes
 
 
-def orbital_axes(pi: "PiSystem", mol, coords) -> np.ndarray:
+def orbital_axes(pi: PiSystem, mol, coords) -> np.ndarray:
     """Unit p-orbital axes (n_pi, 3) of the π atoms of one conformer (coords (n_atoms, 3), Å).
 
     The axes of :func:`ringshift.geometry.planes.p_orbital_axes` (POAV1 for three σ neighbours), signs made

@@ -26,11 +26,12 @@ import json
 import sys
 import tempfile
 import time
+from collections.abc import Iterator, Mapping
 from concurrent.futures import FIRST_COMPLETED, ProcessPoolExecutor, wait
 from concurrent.futures.process import BrokenProcessPool
 from dataclasses import dataclass
 from pathlib import Path
-from typing import Any, Iterator, Mapping
+from typing import Any
 
 from ringshift.errors import InputError, OutputError
 from ringshift.io.libraries import LibraryItem, iter_library

@@ -19,9 +19,9 @@ import itertools
 import math
 import time
 import warnings
+from collections.abc import Iterator, Mapping, Sequence
 from dataclasses import dataclass, field
 from pathlib import Path
-from typing import Iterator, Mapping, Sequence
 
 import numpy as np
 

@@ -8,7 +8,7 @@ of :mod:`ringshift.shifts.reference`. A hydrogen that fits no class gets :data:`
 from __future__ import annotations
 
 from collections import deque
-from typing import Iterable
+from collections.abc import Iterable
 
 import numpy as np
 from rdkit import Chem

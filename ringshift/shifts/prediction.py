@@ -10,14 +10,14 @@ ring-current part.
 from __future__ import annotations
 
 import warnings
-from typing import Mapping, Sequence
+from collections.abc import Mapping, Sequence
 
 import numpy as np
 from rdkit import Chem
 
+from ringshift import _validation as _v
 from ringshift import fields
 from ringshift.constants import BENZENE_CURRENT_NA_PER_T, BETA_MODELS, CURRENT_SOURCES, JB_SEPARATION_A, MODELS
-from ringshift import _validation as _v
 from ringshift.errors import GeometryWarning, InputError
 from ringshift.fields.registry import MODEL_DESCRIPTIONS, geometric_factors
 from ringshift.geometry.circuits import Circuit, CircuitGeometry, circuit_geometry, find_circuits

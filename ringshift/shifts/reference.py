@@ -17,12 +17,12 @@ import csv
 import io
 import math
 import re
+from collections.abc import Iterable, Mapping
 from dataclasses import dataclass
 from functools import lru_cache
 from importlib import resources
 from pathlib import Path
 from types import MappingProxyType
-from typing import Iterable, Mapping
 
 import numpy as np
 

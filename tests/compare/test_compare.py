@@ -20,11 +20,11 @@ from numpy.testing import assert_allclose
 from scipy import integrate, linalg, stats
 
 from ringshift.compare.assignment import overflow_protons, slot_counts, solve_assignment, standardized_cost
-from ringshift.compare.records import CircuitPrior, GroupModel, ObservedPeak
-from ringshift.compare.comparer import compare
 from ringshift.compare.candidates import rank_candidates
-from ringshift.errors import AssignmentWarning, InputError
+from ringshift.compare.comparer import compare
 from ringshift.compare.evidence import kass_raftery_category, linear_gaussian_fit, sign_evidence
+from ringshift.compare.records import CircuitPrior, GroupModel, ObservedPeak
+from ringshift.errors import AssignmentWarning, InputError
 
 # ------------------------------------------------------------------ invented model and simulator
 #: Invented bridged [14]annulene-like molecule: (label, n_h, class, ref ppm, ref sd ppm, g ppm per nA/T).

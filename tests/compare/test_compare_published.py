@@ -9,8 +9,8 @@ from rdkit import Chem
 
 from ringshift.compare.run import run_compare
 from ringshift.io.peak_tables import read_peaks
-from ringshift.shifts.prediction import predict
 from ringshift.io.structures import load_structure
+from ringshift.shifts.prediction import predict
 
 
 def _annulene_smiles(pattern: str) -> str:

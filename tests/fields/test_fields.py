@@ -8,13 +8,15 @@ import warnings
 
 import numpy as np
 import pytest
-from hypothesis import assume, given, settings, strategies as st
+from hypothesis import assume, given, settings
+from hypothesis import strategies as st
 from numpy.testing import assert_allclose
 from scipy.integrate import quad
 from scipy.spatial.transform import Rotation
 
 from ringshift import fields
-from ringshift.constants import MU0_PPM_A_PER_NA_T as MU0, WIRE_CUTOFF_A as RC
+from ringshift.constants import MU0_PPM_A_PER_NA_T as MU0
+from ringshift.constants import WIRE_CUTOFF_A as RC
 from ringshift.errors import GeometryWarning, InputError
 
 Z = np.array([0.0, 0.0, 1.0])

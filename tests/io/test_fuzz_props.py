@@ -19,14 +19,13 @@ from hypothesis import strategies as st
 from numpy.testing import assert_allclose
 from scipy.spatial.transform import Rotation
 
-from ringshift.io import jcampdx_codec
-from ringshift.io import jcampdx
 from ringshift.errors import InputError
 from ringshift.fields.polygon import polygon_shielding
-from ringshift.spectra.peaks import SHIFT_RANGE_PPM, PeakList
-from ringshift.io.peak_tables import parse_peak_table_csv, read_peaks
 from ringshift.geometry.circuits import circuit_geometry
+from ringshift.io import jcampdx, jcampdx_codec
+from ringshift.io.peak_tables import parse_peak_table_csv, read_peaks
 from ringshift.io.structures import load_structure
+from ringshift.spectra.peaks import SHIFT_RANGE_PPM, PeakList
 
 DATA = Path(__file__).resolve().parents[1] / "data" / "peaks"
 SEEDS_CSV = [p.read_text(encoding="utf-8") for p in sorted(DATA.glob("*.csv")) + sorted(DATA.glob("*.tsv"))]

@@ -19,10 +19,10 @@ from scipy import constants, special
 from scipy.spatial.transform import Rotation
 
 from ringshift.errors import InputError
-from ringshift.io.structures import Structure, load_structure
-from ringshift.geometry.symmetry import group_equivalent_hydrogens, kabsch_rmsd
 from ringshift.geometry.conformers import boltzmann_weights, ez_stereo_check
+from ringshift.geometry.symmetry import group_equivalent_hydrogens, kabsch_rmsd
 from ringshift.io.molecule_files import read_mol_records
+from ringshift.io.structures import Structure, load_structure
 
 #: (1Z,3E,5E,7Z,9E,11E,13Z,15E,17E)-[18]annulene; heavy atom k is ring locant k+1.
 ANNULENE18 = r"[H]/C1=C/C=C/C=C/C=C\C=C\C=C\C=C/C=C/C=C1\[H]"

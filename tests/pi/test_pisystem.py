@@ -14,15 +14,27 @@ from numpy.testing import assert_allclose
 from rdkit import Chem
 from rdkit.Chem import AllChem, rdMolTransforms
 
-from ringshift.pi.parameters import BETA0_EV, BETA_REF_LENGTH_A, COULSON_R0_A, COULSON_SLOPE_A, HETERO_PARAMETERS, POLYACETYLENE_BLA_A
-from ringshift.pi.huckel import SCF_R0_A, SCF_RELATIONS, SCF_SLOPE_A, huckel_matrix, occupy, polyene_chain_lengths
-from ringshift.pi.london import benzene_reference_response, regular_polygon
 from ringshift.constants import BENZENE_CURRENT_NA_PER_T
 from ringshift.errors import InputError
+from ringshift.pi.huckel import (
+    SCF_R0_A,
+    SCF_RELATIONS,
+    SCF_SLOPE_A,
+    huckel,
+    huckel_matrix,
+    occupy,
+    polyene_chain_lengths,
+)
+from ringshift.pi.london import benzene_reference_response, london_currents, pi_charge_shift_ppm, regular_polygon
+from ringshift.pi.parameters import (
+    BETA0_EV,
+    BETA_REF_LENGTH_A,
+    COULSON_R0_A,
+    COULSON_SLOPE_A,
+    HETERO_PARAMETERS,
+    POLYACETYLENE_BLA_A,
+)
 from ringshift.pi.perception import circuit_electrons, huckel_class, perceive_pi
-from ringshift.pi.london import pi_charge_shift_ppm
-from ringshift.pi.huckel import huckel
-from ringshift.pi.london import london_currents
 
 
 # ------------------------------------------------------------------------------------------ helpers

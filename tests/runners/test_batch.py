@@ -11,12 +11,12 @@ from numpy.testing import assert_allclose
 from rdkit import Chem
 from rdkit.Chem import rdDistGeom
 
-from ringshift.io.libraries import iter_library
-from ringshift.runners.batch import run_batch
 from ringshift.errors import InputError, OutputError
-from ringshift.report.json import prediction_to_dict
-from ringshift.shifts.prediction import predict
+from ringshift.io.libraries import iter_library
 from ringshift.io.structures import load_structure
+from ringshift.report.json import prediction_to_dict
+from ringshift.runners.batch import run_batch
+from ringshift.shifts.prediction import predict
 
 LOAD = {"conformers": 1}
 LIBRARY = """# invented test library (names are labels only)

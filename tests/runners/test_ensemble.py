@@ -12,13 +12,13 @@ from rdkit import Chem
 from scipy import constants, special
 
 from ringshift import fields
-from ringshift.io.frames import ENERGY_UNITS, Frame, TrajectoryWarning, iter_sdf_records, iter_xyz_frames, parse_energy
-from ringshift.runners.trajectory import polygon_shielding_frames, predict_trajectory, predict_trajectory_file
-from ringshift.runners.averaging import exchange_groups
-from ringshift.report.json import trajectory_to_dict
 from ringshift.errors import GeometryWarning, InputError
-from ringshift.shifts.prediction import predict
+from ringshift.io.frames import ENERGY_UNITS, Frame, TrajectoryWarning, iter_sdf_records, iter_xyz_frames, parse_energy
 from ringshift.io.structures import load_structure
+from ringshift.report.json import trajectory_to_dict
+from ringshift.runners.averaging import exchange_groups
+from ringshift.runners.trajectory import polygon_shielding_frames, predict_trajectory, predict_trajectory_file
+from ringshift.shifts.prediction import predict
 
 N_FRAMES = 12
 

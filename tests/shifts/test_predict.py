@@ -7,8 +7,8 @@ from rdkit import Chem
 from rdkit.Chem import AllChem
 from scipy.spatial.transform import Rotation
 
-from ringshift.shifts.prediction import predict
 from ringshift.io.structures import load_structure
+from ringshift.shifts.prediction import predict
 
 
 @pytest.fixture(scope="module")

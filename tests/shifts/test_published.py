@@ -15,8 +15,8 @@ are the packaged ring-current-free table (ringshift/data/reference_shifts.csv, i
 import numpy as np
 import pytest
 
-from ringshift.shifts.prediction import predict
 from ringshift.io.structures import load_structure
+from ringshift.shifts.prediction import predict
 
 BENZENE_J = 12.0
 

@@ -17,9 +17,15 @@ from rdkit import Chem
 from rdkit.Chem.rdMolDescriptors import CalcMolFormula
 
 from ringshift.errors import InputError
-from ringshift.shifts.reference import CSV_COLUMNS, ReferenceTable, assemble_prediction, load_reference_table, reference_arrays, reference_shifts
-from ringshift.shifts.classes import FALLBACK_CLASS
-from ringshift.shifts.classes import classify_hydrogens
+from ringshift.shifts.classes import FALLBACK_CLASS, classify_hydrogens
+from ringshift.shifts.reference import (
+    CSV_COLUMNS,
+    ReferenceTable,
+    assemble_prediction,
+    load_reference_table,
+    reference_arrays,
+    reference_shifts,
+)
 
 # 1,6-methano[10]annulene = bicyclo[4.4.1]undeca-1,3,5,7,9-pentaene: C11 bridges C1 and C6.
 METHANO10 = "C1C2=CC=CC=C1C=CC=C2"

@@ -18,15 +18,20 @@ from hypothesis import strategies as st
 from numpy.testing import assert_allclose
 from scipy import stats
 
-from ringshift.io import jcampdx
-from ringshift.io import jcampdx_codec
 from ringshift.errors import AssignmentWarning, InputError
-from ringshift.spectra.solvents import SOLVENT_RESIDUAL_PPM, flag_reference_peaks
-from ringshift.spectra.peaks import Peak, PeakList, Spectrum, normalise_integrals
+from ringshift.io import jcampdx, jcampdx_codec
 from ringshift.io.jcampdx import write_jcamp_spectrum
-from ringshift.spectra.peaks import estimate_noise
+from ringshift.io.peak_tables import (
+    parse_peak_table_csv,
+    read_jcamp,
+    read_peak_table_csv,
+    read_peaks,
+    write_jcamp_peaks,
+    write_peak_table_csv,
+)
+from ringshift.spectra.peaks import Peak, PeakList, Spectrum, estimate_noise, normalise_integrals
 from ringshift.spectra.picking import pick_peaks, simulate_spectrum
-from ringshift.io.peak_tables import parse_peak_table_csv, read_jcamp, read_peak_table_csv, read_peaks, write_jcamp_peaks, write_peak_table_csv
+from ringshift.spectra.solvents import SOLVENT_RESIDUAL_PPM, flag_reference_peaks
 
 DATA = Path(__file__).resolve().parents[1] / "data" / "peaks"
 
