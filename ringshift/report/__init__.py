@@ -2,12 +2,16 @@
 
 Public entry points (import the submodules directly; they load matplotlib and RDKit drawing code):
 
-* :mod:`ringshift.report.figures`: ``spectrum_figure``, ``contributions_figure``, ``levels_figure``,
-  ``save_levels_figure``, ``save_figure``, ``figure_bytes``;
+* :mod:`ringshift.report.figures`: ``spectrum_figure``, ``contributions_figure``, ``save_figure``,
+  ``figure_bytes`` (and, from :mod:`ringshift.report.level_diagram`, ``levels_figure``, ``save_levels_figure``);
 * :mod:`ringshift.report.maps`: ``shielding_map_figure``, ``normal_scan_figure`` and the arrays behind
-  them (``shielding_map``, ``normal_scan``);
-* :mod:`ringshift.report.sdf`: ``structure_figure`` (RDKit 2D drawing), ``structure_sdf``, ``write_sdf``;
-* :mod:`ringshift.report.html`: ``write_report``.
+  them (``shielding_map``, ``normal_scan``) on a fixed colour scale, with any model of
+  ``maps.MAP_MODELS``; the loops and their kernels are in :mod:`ringshift.report.map_loops`;
+* :mod:`ringshift.report.structure_drawing`: ``structure_figure`` (RDKit 2D drawing with labels placed by
+  :mod:`ringshift.report.labels`), also importable from :mod:`ringshift.report.sdf` with ``structure_sdf``,
+  ``write_sdf``;
+* :mod:`ringshift.report.html`: ``write_report`` (typography and print style in
+  :mod:`ringshift.report.html_text`).
 """
 
 from __future__ import annotations

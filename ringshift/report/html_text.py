@@ -2,7 +2,7 @@
 
 One place for the report's typography, so every table, note and caption follows the same rules:
 
-* numbers never print a negative zero (``-0.00`` → ``0.00``; a zero carries no sign);
+* numbers never print a negative zero (``-0.00`` → ``0.00``), by :func:`ringshift.report.numbers.text`;
 * symbols: ``±``, ``×``, ``Å``, ``°``, ``α``, ``β`` and "Hückel" replace the ASCII spellings that
   the JSON and the log keep (``+/-``, `` x ``, ``0.64 A``, ``50 deg``, ``alpha``, ``beta``,
   ``Hueckel``/``huckel``); :func:`ascii_form` is the inverse used to check displayed text;
@@ -15,6 +15,8 @@ from __future__ import annotations
 
 import os
 import re
+
+from ringshift.report import numbers
 
 __all__ = ["CSS", "number", "readable", "ascii_form", "file_name", "scrub_paths", "provenance_label"]
 
@@ -74,7 +76,6 @@ footer{margin-top:40px;font-size:.8rem;color:var(--muted)}
 }
 """
 
-_ZERO = re.compile(r"^[+\-−]?0(\.0*)?$")
 _SYMBOLS = [
     (re.compile(r"\+/-"), "±"),
     (re.compile(r"(?<=\d) ?A\b(?![/-])"), " Å"),
@@ -108,9 +109,8 @@ _UNITS = [("_nA_per_T", " (nA/T)"), ("_ppm_per_electron", " (ppm per electron)")
 
 
 def number(value: float, spec: str) -> str:
-    """``format(value, spec)`` without a negative zero: a value that rounds to zero prints unsigned."""
-    text = format(value, spec)
-    return text.lstrip("+-") if _ZERO.match(text) else text
+    """``format(value, spec)`` without a negative zero (the one rule of :func:`ringshift.report.numbers.text`)."""
+    return numbers.text(value, spec)
 
 
 def readable(text: str) -> str:

@@ -33,6 +33,7 @@ from matplotlib.lines import Line2D
 
 from ringshift.constants import JB_SEPARATION_A
 from ringshift.errors import InputError
+from ringshift.report import numbers
 from ringshift.report.figures import FITTED, INK, MUTED, PRIOR, STYLE, split_source
 from ringshift.report.map_loops import (
     MAP_MODELS,
@@ -256,9 +257,8 @@ def _title(maps_or_scan, loops, width_in: float, what: str) -> str:
 
 
 def _plain(value: float, spec: str) -> str:
-    """Formatted number, never a negative zero ("-0.0" prints as "0.0")."""
-    text = format(value, spec)
-    return text.lstrip("+-") if float(text) == 0 else text
+    """Formatted number, never a negative zero (:func:`ringshift.report.numbers.text`)."""
+    return numbers.text(value, spec)
 
 
 def shielding_map_figure(source, *, circuit: str | None = None, plane: str = "both", height_A: float = 0.0,

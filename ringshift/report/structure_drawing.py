@@ -22,6 +22,7 @@ from rdkit.Geometry import Point2D
 
 from ringshift.errors import InputError
 from ringshift.report import labels as L
+from ringshift.report import numbers
 
 __all__ = ["structure_figure", "structure_layout", "StructureLayout", "DrawnLabel", "glyph_boxes",
            "CIRCUIT_COLOURS", "NOTE_FONT_PX", "BOND_CLEAR_PX", "LABEL_GAP_PX"]
@@ -104,9 +105,8 @@ def _heavy_copy(mol: Chem.Mol) -> tuple[Chem.Mol, dict[int, int]]:
 
 
 def _signed2(value: float) -> str:
-    """``+1.23`` / ``-1.23`` (ASCII: a Unicode minus vanished in RDKit text); zero as ``0.00``."""
-    text = f"{value:+.2f}"
-    return "0.00" if text in ("+0.00", "-0.00") else text
+    """``+1.23`` / ``-1.23`` (ASCII: a Unicode minus vanished in RDKit text); never ``-0.00``."""
+    return numbers.text(value, "+.2f")
 
 
 def glyph_boxes(svg: str) -> list[np.ndarray]:

@@ -157,7 +157,7 @@ def test_png_has_the_layout_size(drawn):
 
 
 def test_no_negative_zero_in_notes():
-    assert S._signed2(-0.001) == "0.00" and S._signed2(0.004) == "0.00"
+    assert S._signed2(-0.001) == "+0.00" and S._signed2(0.004) == "+0.00"
     assert S._signed2(-0.006) == "-0.01" and S._signed2(1.234) == "+1.23"
 
 
