@@ -42,7 +42,7 @@ table{border-collapse:collapse;font-size:12.5px;background:#fff;border:1px solid
 th,td{padding:3px 7px;border-bottom:1px solid var(--rule);text-align:left;vertical-align:top}
 th{background:#f1eee8;font-weight:600;overflow-wrap:normal;hyphens:manual}
 thead th{vertical-align:bottom}
-td{overflow-wrap:anywhere}
+td{overflow-wrap:break-word}
 td.num{text-align:right;font-variant-numeric:tabular-nums;white-space:nowrap;overflow-wrap:normal}
 td.list{white-space:normal;min-width:4em}
 .def{font-size:.85rem;color:var(--muted);max-width:70em}

@@ -56,8 +56,8 @@ class MapFrame:
 def check_map_model(model: str) -> str:
     """``model`` if it can be mapped; otherwise an InputError saying why and what to use instead."""
     if model == "network":
-        raise InputError("the network model has no map: its bond currents are not kept per circuit and fitted "
-                         "currents are per circuit; map the face loops with --model polygon", "--model")
+        raise InputError("the network model has no map: a prediction keeps per-circuit currents, not the bond "
+                         "currents the network model sums; map the circuit loops with --model polygon", "--model")
     if model not in MAP_MODELS:
         raise InputError(f"unknown shielding model {model!r}; expected one of {', '.join(MAP_MODELS)}", "--model")
     return model
