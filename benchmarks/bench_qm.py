@@ -47,22 +47,24 @@ from __future__ import annotations
 
 import os
 
-for _var in ("OMP_NUM_THREADS", "OPENBLAS_NUM_THREADS", "MKL_NUM_THREADS"):
-    os.environ.setdefault(_var, "1")   # one core unless the caller says otherwise
+# one core unless the caller says otherwise
+os.environ.setdefault("OMP_NUM_THREADS", "1")
+os.environ.setdefault("OPENBLAS_NUM_THREADS", "1")
+os.environ.setdefault("MKL_NUM_THREADS", "1")
 
-import argparse  # noqa: E402
-import sys  # noqa: E402
-import tempfile  # noqa: E402
-import time  # noqa: E402
-import warnings  # noqa: E402
-from dataclasses import dataclass  # noqa: E402
-from functools import reduce  # noqa: E402
-from pathlib import Path  # noqa: E402
+import argparse
+import sys
+import tempfile
+import time
+import warnings
+from dataclasses import dataclass
+from functools import reduce
+from pathlib import Path
 
-import numpy as np  # noqa: E402
+import numpy as np
 
 from ringshift.io.structures import load_structure
-from ringshift.report.maps import loop_shift_ppm, loops_of  # noqa: E402
+from ringshift.report.maps import loop_shift_ppm, loops_of
 from ringshift.shifts.prediction import predict
 
 SMILES = {"benzene": "c1ccccc1", "naphthalene": "c1ccc2ccccc2c1", "ethylene": "C=C",
@@ -361,7 +363,8 @@ def main(argv=None) -> int:
     # ---- 5. targets
     print("\n5. Targets")
     speed = giao["benzene"].seconds / rs_time["benzene"]
-    print(f"  speed: ringshift predict(benzene) {rs_time['benzene'] * 1e3:.2f} ms vs GIAO-HF {giao['benzene'].seconds:.2f} s: "
+    print(f"  speed: ringshift predict(benzene) {rs_time['benzene'] * 1e3:.2f} ms "
+          f"vs GIAO-HF {giao['benzene'].seconds:.2f} s: "
           f"{speed:.0f}x (target >= {TARGET_SPEEDUP:.0f}x: {'met' if speed >= TARGET_SPEEDUP else 'NOT met'}"
           f"{'' if basis == '6-31g*' else '; the target is set for 6-31G*'})")
     if bz_diff is not None:

@@ -21,22 +21,25 @@ from __future__ import annotations
 
 import os
 
-for _var in ("OMP_NUM_THREADS", "OPENBLAS_NUM_THREADS", "MKL_NUM_THREADS", "NUMEXPR_NUM_THREADS"):
-    os.environ[_var] = "1"  # one core: must be set before numpy is imported
+# one core: must be set before numpy is imported
+os.environ["OMP_NUM_THREADS"] = "1"
+os.environ["OPENBLAS_NUM_THREADS"] = "1"
+os.environ["MKL_NUM_THREADS"] = "1"
+os.environ["NUMEXPR_NUM_THREADS"] = "1"
 
-import argparse  # noqa: E402
-import importlib.util  # noqa: E402
-import json  # noqa: E402
-import pathlib  # noqa: E402
-import resource  # noqa: E402
-import subprocess  # noqa: E402
-import sys  # noqa: E402
-import tempfile  # noqa: E402
-import time  # noqa: E402
-import tracemalloc  # noqa: E402
-import warnings  # noqa: E402
+import argparse
+import importlib.util
+import json
+import pathlib
+import resource
+import subprocess
+import sys
+import tempfile
+import time
+import tracemalloc
+import warnings
 
-import numpy as np  # noqa: E402
+import numpy as np
 
 HERE = pathlib.Path(__file__).resolve().parent
 ROOT = HERE.parent
