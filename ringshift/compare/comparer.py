@@ -119,7 +119,8 @@ def _validate(groups, peaks, circuits) -> None:
         garr = g.geometric_ppm_per_nA_T
         if not isinstance(garr, np.ndarray) or garr.shape != (n_circ,):
             shape = getattr(garr, "shape", type(garr).__name__)
-            raise InputError(f"expected {n_circ} values (one per circuit), got {shape}", f"{src}.geometric_ppm_per_nA_T")
+            raise InputError(f"expected {n_circ} values (one per circuit), got {shape}",
+                             f"{src}.geometric_ppm_per_nA_T")
         if not np.all(np.isfinite(garr)):
             raise InputError(f"expected finite values, got {garr.tolist()}", f"{src}.geometric_ppm_per_nA_T")
         if not isinstance(g.proton_class, str) or not g.proton_class:

@@ -50,7 +50,8 @@ def group_models(pred) -> list[GroupModel]:
     for g in pred.groups:
         out.append(GroupModel(
             label=g.label, atoms=tuple(g.atoms), parents=tuple(g.parents), n_h=g.n_h,
-            proton_class=g.proton_class, reference_ppm=float(g.reference_ppm), reference_sd_ppm=float(g.reference_sd_ppm),
+            proton_class=g.proton_class, reference_ppm=float(g.reference_ppm),
+            reference_sd_ppm=float(g.reference_sd_ppm),
             geometric_ppm_per_nA_T=np.asarray(g.geometric_ppm_per_nA_T, dtype=float), charge_ppm=float(g.charge_ppm)))
     return out
 
@@ -64,7 +65,7 @@ def circuit_priors(pred, *, prior_sd_nA_per_T: float = PRIOR_SD_NA_PER_T) -> lis
 def observed_peaks(peaklist, pred) -> list[ObservedPeak]:
     """Observed peaks for the comparer; a fixed assignment names H or heavy-atom indices (0-based)."""
     out = []
-    for k, p in enumerate(peaklist.peaks):
+    for p in peaklist.peaks:
         fixed = None
         if p.fixed_atoms:
             want = set(p.fixed_atoms)

@@ -345,7 +345,8 @@ def p_orbital_axes(coords: np.ndarray, atoms: Sequence[int], neighbours: Sequenc
     return np.where(ok[..., None], v / np.where(norm > 1e-12, norm, 1.0), 0.0)
 
 
-def circuit_geometry(coords: np.ndarray, circuit: Circuit | Sequence[int], mol: Chem.Mol | None = None) -> CircuitGeometry:
+def circuit_geometry(coords: np.ndarray, circuit: Circuit | Sequence[int],
+                     mol: Chem.Mol | None = None) -> CircuitGeometry:
     """Centre, normal, radius, area, planarity and p-orbital misalignment of one circuit.
 
     Parameters
@@ -386,7 +387,8 @@ def circuit_geometry(coords: np.ndarray, circuit: Circuit | Sequence[int], mol: 
     return CircuitGeometry(centre, normal, radius, area, rms, mis)
 
 
-def double_loop_vertices(vertices: np.ndarray, normal: np.ndarray, separation_A: float) -> tuple[np.ndarray, np.ndarray]:
+def double_loop_vertices(vertices: np.ndarray, normal: np.ndarray,
+                         separation_A: float) -> tuple[np.ndarray, np.ndarray]:
     """The two Johnson–Bovey loops: the polygon shifted by ±separation along the normal.
 
     Parameters

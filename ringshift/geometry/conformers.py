@@ -174,7 +174,8 @@ def _generate(mol: Chem.Mol, n: int, seed: int, window: float, rmsd_A: float, so
         ok = sorted((c for c in ok if energies[c] - e_min <= window), key=lambda c: (energies[c], c))
     heavy = [a.GetIdx() for a in mol.GetAtoms() if a.GetAtomicNum() > 1]
     tags = {a.GetIdx(): 1 + a.GetTotalNumHs(includeNeighbors=True) for a in mol.GetAtoms()}
-    kept = [ok[k] for k in prune_conformers(coords[ok][:, heavy], automorphisms(symmetry_graph(mol, heavy, tags)), rmsd_A)]
+    autos = automorphisms(symmetry_graph(mol, heavy, tags))
+    kept = [ok[k] for k in prune_conformers(coords[ok][:, heavy], autos, rmsd_A)]
     info = {"coordinates": "etkdg-v3" + (f"+{ff}" if ff else ""), "embedding_basic_knowledge": basic,
             "conformers_requested": n, "conformers_embedded": int(coords.shape[0]),
             "conformers_rejected_ez": int(coords.shape[0] - n_ez), "conformers_kept": len(kept),

@@ -14,7 +14,8 @@ import numpy as np
 from scipy.sparse import coo_matrix
 from scipy.sparse.csgraph import breadth_first_order
 
-__all__ = ['plane_fit', 'poav_vectors', 'poav_defined', 'LINEAR_BOND_ANGLE_DEG', 'p_orbital_axes', 'circuit_normals', 'circuit_incidence']
+__all__ = ['plane_fit', 'poav_vectors', 'poav_defined', 'LINEAR_BOND_ANGLE_DEG', 'p_orbital_axes', 'circuit_normals',
+           'circuit_incidence']
 
 
 

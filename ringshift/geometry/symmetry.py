@@ -14,7 +14,8 @@ from rdkit import Chem
 
 from ringshift.errors import InputError
 
-__all__ = ['group_equivalent_hydrogens', 'H_SYMMETRY_TOLERANCE_A', 'symmetry_graph', 'automorphisms', 'kabsch_rmsd', 'prune_conformers']
+__all__ = ['group_equivalent_hydrogens', 'H_SYMMETRY_TOLERANCE_A', 'symmetry_graph', 'automorphisms', 'kabsch_rmsd',
+           'prune_conformers']
 
 
 #: Largest heavy-atom displacement (Å) of an approximate symmetry operation (group_equivalent_hydrogens).
@@ -203,7 +204,8 @@ def group_equivalent_hydrogens(mol: Chem.Mol, coords: np.ndarray, *,
     if not hs:
         return ()
     isotopes = {at.GetIdx(): at.GetIsotope() for at in mol.GetAtoms()}
-    rank = list(Chem.CanonicalRankAtoms(symmetry_graph(mol, range(n), isotopes), breakTies=False, includeChirality=False))
+    rank = list(Chem.CanonicalRankAtoms(symmetry_graph(mol, range(n), isotopes), breakTies=False,
+                                        includeChirality=False))
     anchor, beyond, tags = _rotor_sites(mol, rank)
     uf = list(range(n))
 

@@ -37,7 +37,8 @@ from ringshift.io.structures import Structure, load_structure
 from ringshift.io.xyz import parse_xyz_frames
 from ringshift.limits import check_coordinates
 
-__all__ = ['TrajectoryWarning', 'Frame', 'FrameStream', 'iter_xyz_frames', 'iter_sdf_records', 'parse_energy', 'ENERGY_UNITS']
+__all__ = ['TrajectoryWarning', 'Frame', 'FrameStream', 'iter_xyz_frames', 'iter_sdf_records', 'parse_energy',
+           'ENERGY_UNITS']
 
 
 _SDF = (".sdf", ".sd")
@@ -52,8 +53,8 @@ _NUM = r"[-+]?(?:\d+\.?\d*|\.\d+)(?:[eEdD][-+]?\d+)?"
 
 _UNIT = r"(kcal/mol|kcal|kj/mol|kj|hartree|eh|au|ev)\b"
 
-_KEYED = re.compile(rf"\b(?:energy|e(?=(?:_\w+)?\s*[=:]|\s+[-+.\d]))(?:_(kcal_mol|kj_mol|hartree|eh|ev))?\s*[=:]?\s*({_NUM})\s*(?:{_UNIT})?",
-                    re.IGNORECASE)
+_KEYED = re.compile(r"\b(?:energy|e(?=(?:_\w+)?\s*[=:]|\s+[-+.\d]))(?:_(kcal_mol|kj_mol|hartree|eh|ev))?"
+                    rf"\s*[=:]?\s*({_NUM})\s*(?:{_UNIT})?", re.IGNORECASE)
 
 _BARE = re.compile(rf"^\s*({_NUM})\s*(?:{_UNIT})?\s*$", re.IGNORECASE)
 

@@ -32,7 +32,8 @@ from ringshift.spectra.peaks import (
 from ringshift.spectra.picking import MERGE_HZ, _pick
 from ringshift.spectra.solvents import REFERENCE_TOLERANCE_PPM, _flag, _solvent_name
 
-__all__ = ['parse_peak_table_csv', 'read_jcamp', 'read_peak_table_csv', 'read_peaks', 'write_jcamp_peaks', 'write_peak_table_csv']
+__all__ = ['parse_peak_table_csv', 'read_jcamp', 'read_peak_table_csv', 'read_peaks', 'write_jcamp_peaks',
+           'write_peak_table_csv']
 
 
 #: File name endings read as JCAMP-DX whatever their content.

@@ -62,7 +62,9 @@ from ringshift.pi.perception import (
     _p_axes,
 )
 
-__all__ = ['HuckelResult', 'huckel', 'beta_distance_factor', 'huckel_matrix', 'occupy', 'solve_fragments', 'density_matrix', 'scf_cc_lengths', 'polyene_chain_lengths', 'calibrate_chain_slope', 'SCF_R0_A', 'SCF_SLOPE_A', 'SCF_RELATIONS']
+__all__ = ['HuckelResult', 'huckel', 'beta_distance_factor', 'huckel_matrix', 'occupy', 'solve_fragments',
+           'density_matrix', 'scf_cc_lengths', 'polyene_chain_lengths', 'calibrate_chain_slope', 'SCF_R0_A',
+           'SCF_SLOPE_A', 'SCF_RELATIONS']
 
 
 
@@ -74,10 +76,10 @@ class HuckelResult:
     energies_beta (n,) ascending, x = (E − α)/|β| (bonding negative); vectors (n, n) MO columns;
     occupations (n,), each π fragment filled with its own electrons; homo_lumo_gap_beta (smallest
     over fragments; None if undefined; 0 for a partly filled shell); open_shell; degenerate_homo;
-    degenerate_open_shell (a partly filled degenerate HOMO shell); mo_fragment (n,); charges (n,) q = Z − P_rr (e); bond_orders (n_bonds,) Coulson P_rs;
-    resonance (n_bonds,) β_rs/β0 used; bond_lengths_A (n_bonds,) lengths entering β(r) (geometry, or
-    self-consistent C–C lengths for "scf" / "scf-coulson"; None for "uniform"); beta_model; parameters (table and
-    citations); converged (scf); warnings.
+    degenerate_open_shell (a partly filled degenerate HOMO shell); mo_fragment (n,); charges (n,) q = Z − P_rr (e);
+    bond_orders (n_bonds,) Coulson P_rs; resonance (n_bonds,) β_rs/β0 used; bond_lengths_A (n_bonds,) lengths
+    entering β(r) (geometry, or self-consistent C–C lengths for "scf" / "scf-coulson"; None for "uniform");
+    beta_model; parameters (table and citations); converged (scf); warnings.
     """
 
     energies_beta: np.ndarray
@@ -194,8 +196,8 @@ def huckel(pi: PiSystem, mol, coords=None, *, beta_model: str = "distance",
               "distortion": distortion}
     return HuckelResult(
         energies_beta=_frozen(e), vectors=_frozen(c), occupations=_frozen(occ), homo_lumo_gap_beta=gap,
-        open_shell=open_shell, degenerate_homo=deg, degenerate_open_shell=deg_open, mo_fragment=_frozen(labels, np.intp),
-        charges=_frozen(np.array(pi.core_charges, float) - np.diag(p)),
+        open_shell=open_shell, degenerate_homo=deg, degenerate_open_shell=deg_open,
+        mo_fragment=_frozen(labels, np.intp), charges=_frozen(np.array(pi.core_charges, float) - np.diag(p)),
         bond_orders=_frozen(p[lb[:, 0], lb[:, 1]] if len(lb) else np.zeros(0)), resonance=_frozen(res),
         bond_lengths_A=None if used_len is None else _frozen(used_len), beta_model=beta_model,
         parameters=params, converged=converged, warnings=tuple(notes))

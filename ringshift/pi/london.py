@@ -42,7 +42,8 @@ from ringshift.pi.huckel import (
 from ringshift.pi.parameters import BETA0_EV, BETA_REF_LENGTH_A, DEGENERACY_TOL, HETERO_PARAMETERS, PI_CHARGE_PPM_PER_E
 from ringshift.pi.perception import _PLANAR_TOL_A, PiSystem, _check_circuit, _frozen
 
-__all__ = ['LondonCurrents', 'london_currents', 'circuit_normals', 'london_bond_response', 'kirchhoff_decomposition', 'regular_polygon', 'benzene_reference_response', 'absolute_current_nA_per_T', 'pi_charge_shift_ppm']
+__all__ = ['LondonCurrents', 'london_currents', 'circuit_normals', 'london_bond_response', 'kirchhoff_decomposition',
+           'regular_polygon', 'benzene_reference_response', 'absolute_current_nA_per_T', 'pi_charge_shift_ppm']
 
 
 @dataclass(frozen=True, eq=False)
@@ -117,7 +118,8 @@ def london_currents(pi: PiSystem, mol, coords, circuits: Sequence[Sequence[int]]
     _check_model(beta_model, pi)
     xyz = _v.coordinates(mol, coords, required=True)
     assert xyz is not None, "_v.coordinates(required=True) raises rather than returning None"
-    if isinstance(beta0_eV, bool) or not isinstance(beta0_eV, (int, float)) or not np.isfinite(beta0_eV) or beta0_eV == 0:
+    if (isinstance(beta0_eV, bool) or not isinstance(beta0_eV, (int, float)) or not np.isfinite(beta0_eV)
+            or beta0_eV == 0):
         raise InputError(f"beta0_eV: expected a finite non-zero resonance integral in eV (e.g. -3.0), got {beta0_eV!r}")
     if isinstance(circuits, (str, bytes)) or not hasattr(circuits, "__iter__"):
         raise InputError("circuits: expected a sequence of atom-index cycles")
@@ -135,7 +137,8 @@ def london_currents(pi: PiSystem, mol, coords, circuits: Sequence[Sequence[int]]
     bz_abs = float(absolute_current_nA_per_T(g_bz, beta0_eV))
     notes = list(pi.warnings) + list(hr.warnings) + [
         f"circuit {n} ({len(c)} atoms) is non-planar: largest deviation {d:.2f} Å from its plane; the current "
-        "is its response to a field along its mean normal" for n, (c, d) in enumerate(zip(oriented, devs)) if d > _PLANAR_TOL_A]
+        "is its response to a field along its mean normal"
+        for n, (c, d) in enumerate(zip(oriented, devs)) if d > _PLANAR_TOL_A]
     # the result without numbers; the other outcomes replace its status and numbers
     empty = LondonCurrents(
         status="no π system", open_shell=False, field_dirs=_frozen(np.eye(3)), circuits=tuple(oriented),

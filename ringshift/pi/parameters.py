@@ -19,7 +19,8 @@ from __future__ import annotations
 
 import numpy as np
 
-__all__ = ['HETERO_PARAMETERS', 'BETA_REF_LENGTH_A', 'BETA_DECAY_A', 'COULSON_R0_A', 'COULSON_SLOPE_A', 'BETA0_EV', 'POLYACETYLENE_BLA_A', 'PI_CHARGE_PPM_PER_E']
+__all__ = ['HETERO_PARAMETERS', 'BETA_REF_LENGTH_A', 'BETA_DECAY_A', 'COULSON_R0_A', 'COULSON_SLOPE_A', 'BETA0_EV',
+           'POLYACETYLENE_BLA_A', 'PI_CHARGE_PPM_PER_E']
 
 
 _DL = "Derflinger & Lischka, Monatsh. Chem. 1969, 100, 1003"

@@ -122,8 +122,9 @@ def trajectory_to_dict(tp: TrajectoryPrediction) -> dict:
     pos = {h: k for k, h in enumerate(tp.h_indices)}
     labels = [c.label for c in tp.circuits]
     return {
-        "ringshift_result": "trajectory_prediction", "schema_version": SCHEMA_VERSION, "name": tp.template.structure.name,
-        "source": tp.provenance["source"], "model": tp.model, "currents": tp.currents,
+        "ringshift_result": "trajectory_prediction", "schema_version": SCHEMA_VERSION,
+        "name": tp.template.structure.name, "source": tp.provenance["source"], "model": tp.model,
+        "currents": tp.currents,
         "n_frames": tp.n_frames, "weights": tp.provenance["weights"], "temperature_K": tp.temperature_K,
         "exchange_groups": [list(g) for g in tp.exchange_groups],
         "circuits": [{k: (list(v) if isinstance(v, tuple) else r(v) if isinstance(v, float) else v)
@@ -134,8 +135,9 @@ def trajectory_to_dict(tp: TrajectoryPrediction) -> dict:
                      "ring_current_by_circuit_ppm": {lab: r(tp.per_circuit_ppm[c, k]) for c, lab in enumerate(labels)},
                      "reference_ppm": r(tp.reference_ppm[k]), "charge_ppm": r(tp.charge_ppm[k]),
                      "predicted_ppm": r(tp.predicted_ppm[k])} for h, k in pos.items()],
-        "groups": [{"label": g.label, "atoms": list(g.atoms), "n_h": len(g.atoms), "ring_current_ppm": r(g.ring_current_ppm),
-                    "spread_ppm": r(g.spread_ppm), "predicted_ppm": r(g.predicted_ppm)} for g in tp.groups],
+        "groups": [{"label": g.label, "atoms": list(g.atoms), "n_h": len(g.atoms),
+                    "ring_current_ppm": r(g.ring_current_ppm), "spread_ppm": r(g.spread_ppm),
+                    "predicted_ppm": r(g.predicted_ppm)} for g in tp.groups],
         "frames": {"numbers": tp.frame_numbers.tolist(), "weights": [r(x, 8) for x in tp.weights]},
         "provenance": tp.provenance, "warnings": list(tp.warnings), "caution": CAUTION,
     }

@@ -45,10 +45,11 @@ def comparison_text(res: CompareResult) -> str:
     lines.append("group  nH  class                     peak     observed  predicted  residual  ring current  "
                  "ref. needed without current")
     for ga in c.assignment:
-        need = "" if ga.needed_reference_ppm is None else f"{ga.needed_reference_ppm:7.2f} (table {ga.reference_ppm:.2f}, z {ga.needed_reference_z:+.1f})"
+        need = ("" if ga.needed_reference_ppm is None
+                else f"{ga.needed_reference_ppm:7.2f} (table {ga.reference_ppm:.2f}, z {ga.needed_reference_z:+.1f})")
         lines.append(f"{ga.label:<6} {ga.n_h:>2}  {ga.proton_class[:24]:<24} {str(ga.peak_label or '-'):<8} "
-                     f"{_fmt_cell(ga.observed_ppm)}  {_fmt_cell(ga.predicted_ppm)}  {_fmt_cell(ga.residual_ppm, '+8.2f')}  "
-                     f"{_fmt_cell(ga.ring_current_ppm, '+10.2f')}    {need}")
+                     f"{_fmt_cell(ga.observed_ppm)}  {_fmt_cell(ga.predicted_ppm)}  "
+                     f"{_fmt_cell(ga.residual_ppm, '+8.2f')}  {_fmt_cell(ga.ring_current_ppm, '+10.2f')}    {need}")
     if c.unassigned_peaks:
         lines.append("unassigned peaks: " + ", ".join(f"{c.peaks[i].shift_ppm:.2f}" for i in c.unassigned_peaks))
     if c.unassigned_groups:
@@ -100,7 +101,8 @@ def prediction_table(pred) -> str:
     out.write(f"{s.name}: {len(pred.protons)} H in {len(pred.groups)} groups, "
               f"{s.coords.shape[0]} conformer(s), model {pred.model}\n")
     for cr in pred.circuits:
-        cur = "n/a" if cr.current_nA_per_T is None else f"{cr.current_nA_per_T:+.1f} nA/T ({cr.current_rel_benzene:+.2f} x benzene)"
+        cur = ("n/a" if cr.current_nA_per_T is None
+               else f"{cr.current_nA_per_T:+.1f} nA/T ({cr.current_rel_benzene:+.2f} x benzene)")
         extra = f", {cr.pi_electrons} pi e ({cr.huckel_class})" if cr.pi_electrons is not None else ""
         out.write(f"  circuit {cr.circuit.label}: {cr.circuit.size}-membered {cr.circuit.kind}{extra}, "
                   f"current {cur} [{cr.current_source}], planarity RMS {cr.planarity_rms_A:.2f} A\n")

@@ -4,8 +4,8 @@ Libraries (many molecules; :func:`run_batch`), one prediction per molecule, in p
 
 Output. One JSON object per line and molecule, in library order:
 ``{"name", "index", "source", "schema_version", "ok": true, "result": <prediction_to_dict>}`` or
-``{"name", "index", "source", "schema_version", "ok": false, "error": "<one line>"}``. A failing molecule never stops the
-batch. Lines are appended and flushed one by one, so an interruption loses at most the molecules in
+``{"name", "index", "source", "schema_version", "ok": false, "error": "<one line>"}``. A failing molecule never stops
+the batch. Lines are appended and flushed one by one, so an interruption loses at most the molecules in
 flight; out-of-order results from the workers wait in a buffer until their turn.
 Resume. Molecules whose (index, name) is already in the output are skipped; a cut-off last line is
 removed first. A record whose name differs from the library's molecule at that index means the output

@@ -49,7 +49,8 @@ from ringshift.shifts.prediction import network_totals, predict
 from ringshift.shifts.records import Prediction
 from ringshift.shifts.reference import assemble_prediction
 
-__all__ = ['polygon_shielding_frames', 'CircuitStats', 'TrajectoryPrediction', 'predict_trajectory', 'predict_trajectory_file']
+__all__ = ['polygon_shielding_frames', 'CircuitStats', 'TrajectoryPrediction', 'predict_trajectory',
+           'predict_trajectory_file']
 
 
 #: Sources of the currents of a trajectory (see :func:`predict_trajectory`).
@@ -176,7 +177,8 @@ def _check_options(template, model, currents, memory_MB, weights, temperature_K)
             raise InputError(f"expected a finite number > 0, got {v!r}", source=name)
     if isinstance(weights, str):
         if weights not in ("uniform", "boltzmann"):
-            raise InputError(f"expected 'uniform', 'boltzmann' or an array of weights, got {weights!r}", source="weights")
+            raise InputError(f"expected 'uniform', 'boltzmann' or an array of weights, got {weights!r}",
+                             source="weights")
         return weights
     w = np.asarray(weights, dtype=np.float64).reshape(-1)
     if w.size == 0 or not np.all(np.isfinite(w)) or np.any(w < 0) or w.sum() <= 0:
@@ -296,7 +298,8 @@ def predict_trajectory(template: Structure | None, frames, *, model: str = "poly
     numbers_a = np.concatenate([np.asarray(n, dtype=np.int64) for n in numbers])
     lw_all = np.concatenate(logws)
     if not isinstance(w_given, str):
-        total = getattr(frames, "n_seen", None) or (frames.shape[0] if isinstance(frames, np.ndarray) else int(numbers_a.max()))
+        total = getattr(frames, "n_seen", None) or (
+            frames.shape[0] if isinstance(frames, np.ndarray) else int(numbers_a.max()))
         if w_given.shape[0] != total:
             raise InputError(f"got {w_given.shape[0]} weights for {total} frames", source="weights")
     if not np.any(np.isfinite(lw_all)):
@@ -379,7 +382,8 @@ def _assemble(template, tpred, model, currents, loops, h_idx, ex, A, acc, number
         members.setdefault(root(h), []).append(h)
     fast_sd = sd[n_h:2 * n_h]
     groups = tuple(TrajectoryGroup(f"H{k + 1}", tuple(m), float(np.mean(fast[[pos[h] for h in m]])),
-                                   float(np.mean(fast_sd[[pos[h] for h in m]])), float(np.mean(pred[[pos[h] for h in m]])))
+                                   float(np.mean(fast_sd[[pos[h] for h in m]])),
+                                   float(np.mean(pred[[pos[h] for h in m]])))
                    for k, m in enumerate(sorted(members.values())))
     circuits = tuple(CircuitStats(
         c.label, tuple(c.atoms), current_nA_per_T=float(geo[i, 0]), current_sd_nA_per_T=float(geo_sd[i, 0]),
@@ -389,7 +393,8 @@ def _assemble(template, tpred, model, currents, loops, h_idx, ex, A, acc, number
         planar_fraction=float(geo[i, 5])) for i, c in enumerate(loops))
     src = {"huckel": f"Hueckel-London currents of the template ({tpred.provenance['beta_model']} beta), fixed",
            "benzene": "12 nA/T on RDKit-aromatic circuits, fixed",
-           "huckel-per-frame": f"Hueckel-London currents of every frame ({tpred.provenance['beta_model']} beta)"}[currents]
+           "huckel-per-frame": f"Hueckel-London currents of every frame "
+                               f"({tpred.provenance['beta_model']} beta)"}[currents]
     prov = {"model": model, "currents": currents, "currents_description": src, "weights": weight_kind,
             "temperature_K": temperature_K, "chunk_frames": chunk, "memory_MB": memory_MB,
             "frames_used": int(numbers.shape[0]), "elapsed_s": round(elapsed, 4),

@@ -179,7 +179,8 @@ def predict(structure: Structure, *, model: str = "polygon", currents: str = "hu
         pi_ok = all(a in pi.atoms for c in loops for a in c.atoms)
         if loops and not pi_ok:
             raise InputError("a given circuit contains atoms outside the pi system; Hueckel-London currents "
-                             "need pi atoms (use the 'benzene' current source or give the current yourself)", "user_circuits")
+                             "need pi atoms (use the 'benzene' current source or give the current yourself)",
+                             "user_circuits")
         cur, hl_status, london = huckel_london_currents(structure, pi, loops, geoms, beta_model)
         sources = [f"huckel-london ({beta_model} beta)" if st == "ok" else "none: " + st for st in hl_status]
         for st in set(hl_status) - {"ok"}:

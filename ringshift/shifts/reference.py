@@ -31,7 +31,8 @@ from ringshift import limits as _limits
 from ringshift.errors import InputError
 from ringshift.shifts.classes import classify_hydrogens
 
-__all__ = ['ReferenceShift', 'ReferenceTable', 'ReferenceArrays', 'CSV_COLUMNS', 'load_reference_table', 'reference_shifts', 'reference_arrays', 'assemble_prediction']
+__all__ = ['ReferenceShift', 'ReferenceTable', 'ReferenceArrays', 'CSV_COLUMNS', 'load_reference_table',
+           'reference_shifts', 'reference_arrays', 'assemble_prediction']
 
 
 #: Columns of a reference-shift CSV, in this order.
@@ -275,7 +276,8 @@ def assemble_prediction(ref_ppm, ring_current_ppm, charge_ppm) -> np.ndarray:
     InputError
         An input is not 1-D, not finite, or the lengths differ.
     """
-    ref, rc, q = (_v.vector(ref_ppm, "ref_ppm", "ppm values"), _v.vector(ring_current_ppm, "ring_current_ppm", "ppm values"),
+    ref, rc, q = (_v.vector(ref_ppm, "ref_ppm", "ppm values"),
+                  _v.vector(ring_current_ppm, "ring_current_ppm", "ppm values"),
                   _v.vector(charge_ppm, "charge_ppm", "ppm values"))
     if not ref.shape == rc.shape == q.shape:
         raise InputError(f"lengths are {ref.shape[0]}, {rc.shape[0]}, {q.shape[0]}; expected ref_ppm, "
