@@ -29,7 +29,8 @@ from ringshift.shifts.prediction import predict
 from ringshift.spectra.peaks import Peak
 from ringshift.spectra.picking import simulate_spectrum
 
-HERE = Path(__file__).resolve().parent.parent / "ringshift" / "data" / "demo"   # shipped in the wheel; demo_spectra/ links to it
+# shipped in the wheel; demo_spectra/ links to it
+HERE = Path(__file__).resolve().parent.parent / "ringshift" / "data" / "demo"
 OBSERVE_MHZ = 500.0
 SEED = 20261201
 

@@ -70,7 +70,8 @@ def test_every_mapped_parameter_is_an_option():
     assert all(o.startswith("--") for o in OPTION_OF_PARAMETER.values())
 
 
-@pytest.mark.parametrize("command", [["predict", "c1ccccc1", "--conformers", "1"], ["pi", "c1ccccc1", "--conformers", "1"]],
+@pytest.mark.parametrize("command", [["predict", "c1ccccc1", "--conformers", "1"],
+                                     ["pi", "c1ccccc1", "--conformers", "1"]],
                          ids=["predict", "pi"])
 def test_one_format_vocabulary(command, capsys):
     """``text`` and ``json`` mean the same on every command; the old name ``table`` still gives text."""

@@ -445,9 +445,11 @@ def test_shift_parts_add_up():
     J = result.circuits[0].current_nA_per_T
     for g, row in zip(groups, result.assignment):
         assert_allclose(row.ring_current_ppm, J * g.geometric_ppm_per_nA_T[0], rtol=1e-12)
-        assert_allclose(row.predicted_ppm, g.reference_ppm + row.class_offset_ppm + row.ring_current_ppm + 0.4, atol=1e-12)
+        assert_allclose(row.predicted_ppm, g.reference_ppm + row.class_offset_ppm + row.ring_current_ppm + 0.4,
+                        atol=1e-12)
         assert_allclose(row.needed_reference_ppm, row.observed_ppm - 0.4, atol=1e-12)
-        assert_allclose(row.needed_reference_z, (row.needed_reference_ppm - g.reference_ppm) / math.hypot(g.reference_sd_ppm, 0.1), rtol=1e-12)
+        z_sd = math.hypot(g.reference_sd_ppm, 0.1)
+        assert_allclose(row.needed_reference_z, (row.needed_reference_ppm - g.reference_ppm) / z_sd, rtol=1e-12)
     # the inner proton needs a reference far outside its class spread without a ring current
     inner = next(r for r in result.assignment if r.label == "H-inner")
     assert inner.needed_reference_z < -10

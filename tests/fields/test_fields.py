@@ -106,7 +106,9 @@ def slow_polygon_shielding(points, vertices, normal, separation_A=0.64):
 
 def slow_loop_bz(rho, z, a):
     """B_z/(mu0 I) of a CCW circular loop by quadrature of Biot–Savart: (1/4π)∫ a(a − ρ cos φ)/|r−l|³ dφ."""
-    f = lambda phi: a * (a - rho * math.cos(phi)) / (a * a + rho * rho - 2 * a * rho * math.cos(phi) + z * z) ** 1.5
+    def f(phi):
+        return a * (a - rho * math.cos(phi)) / (a * a + rho * rho - 2 * a * rho * math.cos(phi) + z * z) ** 1.5
+
     val, _ = quad(f, 0.0, math.pi, epsabs=0.0, epsrel=1e-12, limit=200)
     return 2.0 * val / (4.0 * math.pi)
 
@@ -181,7 +183,8 @@ def _ngon_on_axis(m, R, z):
     # Regular m-gon of circumradius R, point on its axis: each side at distance d0 = R cos(π/m) from the
     # axis, half-length R sin(π/m); finite-wire field summed (textbook Biot–Savart) gives
     # B_z = (mu0 I/4π) m R² sin(2π/m) / ((z² + R² cos²(π/m)) sqrt(R² + z²)).
-    return m * R * R * math.sin(2 * math.pi / m) / ((z * z + (R * math.cos(math.pi / m)) ** 2) * math.sqrt(R * R + z * z))
+    return (m * R * R * math.sin(2 * math.pi / m)
+            / ((z * z + (R * math.cos(math.pi / m)) ** 2) * math.sqrt(R * R + z * z)))
 
 
 @pytest.mark.parametrize("m", [3, 6, 12, 50, 200], ids=lambda m: f"{m}-gon")
@@ -204,7 +207,8 @@ def test_regular_polygon_on_axis_closed_form_and_convergence_to_circle(m):
 def test_far_field_equals_point_dipole(R_over_a, theta):
     # Pople point dipole (J. Chem. Phys. 1956, 24, 1111) is the leading exterior multipole; the next one
     # is relatively −1.5 (a/R)² P4/P2 (textbook expansion) ⇒ |ratio − 1| ≤ 2 (a/R)² for these angles
-    # (|P4/P2| ≤ 1; angles kept away from the magic angle, where P2 = 0). The hexagon's own correction is also O((a/R)²); measured 1.25 (a/R)².
+    # (|P4/P2| ≤ 1; angles kept away from the magic angle, where P2 = 0). The hexagon's own correction is
+    # also O((a/R)²); measured 1.25 (a/R)².
     R = R_over_a * A_BENZ
     p = np.array([[R * np.sin(theta) * 0.8, R * np.sin(theta) * 0.6, R * np.cos(theta)]])
     circ = fields.point_dipole_shielding(p, [0, 0, 0], Z, np.pi * A_BENZ ** 2)
@@ -236,7 +240,9 @@ def test_johnson_bovey_equals_200gon_and_converges_second_order():
 # Ampère's law
 # ----------------------------------------------------------------------------------------------------
 def _line_integral(fn, x, y):
-    f = lambda z: float(fn(np.array([[x, y, z]]))[0])
+    def f(z):
+        return float(fn(np.array([[x, y, z]]))[0])
+
     parts = [quad(f, lo, hi, epsabs=1e-13, epsrel=1e-12, limit=400)[0]
              for lo, hi in [(-np.inf, -3), (-3, 0), (0, 3), (3, np.inf)]]
     return sum(parts)
@@ -265,7 +271,9 @@ def test_ampere_line_integral(kernel, xy, inside):
 def test_ampere_for_segment_field_vector():
     # ∮ of the vector field of a closed CCW polygon along the axis: ∫ g_z dz = 4π (Ampère, B = mu0 I g/4π).
     hexagon = regular_polygon(6)
-    f = lambda z: fields.segment_field([[0.2, 0.1, z]], hexagon, np.roll(hexagon, -1, axis=0))[0, 2]
+    def f(z):
+        return fields.segment_field([[0.2, 0.1, z]], hexagon, np.roll(hexagon, -1, axis=0))[0, 2]
+
     total = quad(f, -np.inf, 0, epsabs=1e-13, epsrel=1e-12)[0] + quad(f, 0, np.inf, epsabs=1e-13, epsrel=1e-12)[0]
     assert_allclose(total, 4 * np.pi, rtol=1e-9)
 
@@ -363,7 +371,8 @@ def test_haigh_mallion_far_limit_of_polygon(R_over_a):
     hexagon = regular_polygon(6)  # bond length L = a
     R = R_over_a * A_BENZ
     axis = np.array([[0, 0, R]])
-    ratio = fields.haigh_mallion_shielding(axis, hexagon, Z) / fields.polygon_shielding(axis, hexagon, Z, separation_A=0.0)
+    ratio = (fields.haigh_mallion_shielding(axis, hexagon, Z)
+             / fields.polygon_shielding(axis, hexagon, Z, separation_A=0.0))
     assert_allclose((ratio[0] - 1) * R_over_a ** 2, -0.25, rtol=3.0 / R_over_a ** 2)
     for th in (0.4, np.pi / 2, 2.5):
         p = np.array([[R * np.sin(th) * 0.6, R * np.sin(th) * 0.8, R * np.cos(th)]])
@@ -413,13 +422,16 @@ def test_network_two_fused_rings_equal_their_perimeter():
     # Superposition (linearity of Biot–Savart, textbook): two fused faces with equal current J cancel on the
     # shared bond, so their bond network equals one loop around the 10-atom perimeter.
     s3 = np.sqrt(3.0) * A_BENZ
-    left, right = regular_polygon(6, phase=np.pi / 6) - [s3 / 2, 0, 0], regular_polygon(6, phase=np.pi / 6) + [s3 / 2, 0, 0]
+    left = regular_polygon(6, phase=np.pi / 6) - [s3 / 2, 0, 0]
+    right = regular_polygon(6, phase=np.pi / 6) + [s3 / 2, 0, 0]
     J = 10.0
     starts, ends, cur = [], [], []
     for ring in (left, right):
         ccw = ring  # angles increase: counter-clockwise about +z, so diatropic currents are −J along i→i+1
         for i in range(6):
-            starts.append(ccw[i]); ends.append(ccw[(i + 1) % 6]); cur.append(-J)
+            starts.append(ccw[i])
+            ends.append(ccw[(i + 1) % 6])
+            cur.append(-J)
     # perimeter in ring order: shared bottom atom, right ring, shared top atom, left ring
     perimeter = np.r_[right[[3, 4, 5, 0, 1, 2]], left[[1, 2, 3, 4]]]
     assert_allclose(perimeter[0], left[5], atol=1e-12)  # the rings share atoms (fused)
@@ -630,22 +642,40 @@ BAD = [
     ("points-shape", lambda: fields.polygon_shielding(np.zeros((4, 2)), regular_polygon(6), Z), "points"),
     ("points-nan", lambda: fields.polygon_shielding([[np.nan, 0, 0]], regular_polygon(6), Z), "points"),
     ("two-vertices", lambda: fields.polygon_shielding([[1, 0, 0]], regular_polygon(6)[:2], Z), "vertices"),
-    ("repeated-vertex", lambda: fields.polygon_shielding([[0, 0, 1.0]], np.r_[regular_polygon(6), regular_polygon(6)[:1]], Z), "vertices"),
+    ("repeated-vertex",
+     lambda: fields.polygon_shielding([[0, 0, 1.0]], np.r_[regular_polygon(6), regular_polygon(6)[:1]], Z), "vertices"),
     ("zero-normal", lambda: fields.polygon_shielding([[0, 0, 1.0]], regular_polygon(6), [0, 0, 0]), "normal"),
     ("normal-in-plane", lambda: fields.polygon_shielding([[0, 0, 1.0]], regular_polygon(6), [1, 0, 0]), "vertices"),
-    ("negative-separation", lambda: fields.polygon_shielding([[0, 0, 1.0]], regular_polygon(6), Z, separation_A=-1), "separation_A"),
-    ("stack-mismatch", lambda: fields.polygon_shielding(np.zeros((2, 3, 3)), np.stack([regular_polygon(6)] * 3), np.stack([Z] * 2)), "vertices"),
-    ("stack-flat-ring", lambda: fields.polygon_shielding(np.zeros((2, 1, 3)), np.stack([regular_polygon(6)] * 2), np.array([Z, [1.0, 0, 0]])), "vertices[1]"),
-    ("stack-zero-normal", lambda: fields.polygon_shielding(np.zeros((2, 1, 3)), np.stack([regular_polygon(6)] * 2), np.array([[0, 0, 0], Z])), "normal[0]"),
+    ("negative-separation",
+     lambda: fields.polygon_shielding([[0, 0, 1.0]], regular_polygon(6), Z, separation_A=-1), "separation_A"),
+    ("stack-mismatch",
+     lambda: fields.polygon_shielding(np.zeros((2, 3, 3)), np.stack([regular_polygon(6)] * 3), np.stack([Z] * 2)),
+     "vertices"),
+    ("stack-flat-ring",
+     lambda: fields.polygon_shielding(np.zeros((2, 1, 3)), np.stack([regular_polygon(6)] * 2),
+                                      np.array([Z, [1.0, 0, 0]])),
+     "vertices[1]"),
+    ("stack-zero-normal",
+     lambda: fields.polygon_shielding(np.zeros((2, 1, 3)), np.stack([regular_polygon(6)] * 2),
+                                      np.array([[0, 0, 0], Z])),
+     "normal[0]"),
     ("bad-chunk", lambda: fields.polygon_shielding([[0, 0, 1.0]], regular_polygon(6), Z, chunk_size=0), "chunk_size"),
     ("radius", lambda: fields.johnson_bovey_shielding([[0, 0, 1.0]], [0, 0, 0], Z, 0.0), "radius_A"),
     ("area", lambda: fields.point_dipole_shielding([[0, 0, 1.0]], [0, 0, 0], Z, -2.0), "area_A2"),
     ("ends-shape", lambda: fields.segment_field([[0, 0, 1.0]], np.zeros((3, 3)), np.ones((2, 3))), "ends"),
     ("zero-segment", lambda: fields.segment_field([[0, 0, 1.0]], np.zeros((1, 3)), np.zeros((1, 3))), "starts/ends"),
-    ("currents-shape", lambda: fields.network_shielding([[0, 0, 1.0]], np.zeros((3, 3)), np.ones((3, 3)), np.ones(4), field_dir=Z), "bond_currents"),
-    ("no-field-dir", lambda: fields.network_shielding([[0, 0, 1.0]], np.zeros((3, 3)), np.ones((3, 3)), np.ones(3)), "field_dir"),
-    ("3dir-no-normals", lambda: fields.network_shielding([[0, 0, 1.0]], np.zeros((3, 3)), np.ones((3, 3)), np.ones((3, 3))), "normal_per_bond"),
-    ("3dir-not-orthonormal", lambda: fields.network_shielding([[0, 0, 1.0]], np.zeros((3, 3)), np.ones((3, 3)), np.ones((3, 3)), separation_A=0, field_dir=np.ones((3, 3))), "field_dir"),
+    ("currents-shape",
+     lambda: fields.network_shielding([[0, 0, 1.0]], np.zeros((3, 3)), np.ones((3, 3)), np.ones(4), field_dir=Z),
+     "bond_currents"),
+    ("no-field-dir",
+     lambda: fields.network_shielding([[0, 0, 1.0]], np.zeros((3, 3)), np.ones((3, 3)), np.ones(3)), "field_dir"),
+    ("3dir-no-normals",
+     lambda: fields.network_shielding([[0, 0, 1.0]], np.zeros((3, 3)), np.ones((3, 3)), np.ones((3, 3))),
+     "normal_per_bond"),
+    ("3dir-not-orthonormal",
+     lambda: fields.network_shielding([[0, 0, 1.0]], np.zeros((3, 3)), np.ones((3, 3)), np.ones((3, 3)),
+                                      separation_A=0, field_dir=np.ones((3, 3))),
+     "field_dir"),
     ("text-points", lambda: fields.polygon_shielding("abc", regular_polygon(6), Z), "points"),
 ]
 

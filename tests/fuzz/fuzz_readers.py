@@ -7,7 +7,8 @@ Usage::
 
 Targets
     ``csv``     :func:`ringshift.io.peak_tables.parse_peak_table_csv` on the input decoded as UTF-8 (or Latin-1)
-    ``jcamp``   :func:`ringshift.io.jcampdx.parse_jcamp_text`, then picking via :func:`ringshift.io.peak_tables.read_peaks`
+    ``jcamp``   :func:`ringshift.io.jcampdx.parse_jcamp_text`, then picking via
+                :func:`ringshift.io.peak_tables.read_peaks`
     ``peaks``   :func:`ringshift.io.peak_tables.read_peaks` on the raw bytes written to a ``.csv`` or ``.jdx`` file
     ``xyz``     :func:`ringshift.io.structures.load_structure` on the bytes as an ``.xyz`` file
     ``sdf``     :func:`ringshift.io.structures.load_structure` on the bytes as an ``.sdf`` file (3D records only;
@@ -95,10 +96,9 @@ class Runner:
     def __init__(self, target: str):
         self.target = target
         self.tmp = Path(tempfile.mkdtemp(prefix="ringshift-fuzz-"))
+        # imported here (instrumented by atheris)
         from ringshift.errors import InputError
-
-        from ringshift.io import jcampdx, molecule_files, peak_tables, structures  # imported here (instrumented by atheris)
-
+        from ringshift.io import jcampdx, molecule_files, peak_tables, structures
 
         self.jcamp, self.peaks, self.InputError = jcampdx, peak_tables, InputError
 
@@ -178,7 +178,7 @@ def run_atheris(target: str, seconds: int, corpus: Path, artifacts: Path) -> int
         (corpus / f"seed-{k}").write_bytes(s)
     artifacts.mkdir(parents=True, exist_ok=True)
     tokens = corpus.parent / f"{corpus.name}.dict"          # libFuzzer dictionary: the mutate engine's tokens
-    tokens.write_text("".join('"' + "".join("\\x%02x" % b for b in t) + '"\n' for t in _TOKENS), encoding="ascii")
+    tokens.write_text("".join('"' + "".join(f"\\x{b:02x}" for b in t) + '"\n' for t in _TOKENS), encoding="ascii")
     args = [sys.argv[0], f"-max_total_time={seconds}", f"-artifact_prefix={artifacts}/", "-max_len=20000",
             "-rss_limit_mb=4096", "-timeout=20", "-print_final_stats=1", f"-dict={tokens}", str(corpus)]
     atheris.Setup(args, runner)

@@ -1,4 +1,5 @@
-"""Trajectories and ensembles (ringshift.runners.trajectory): frame averages, streaming, weights, exchange, damaged files."""
+"""Trajectories and ensembles (ringshift.runners.trajectory): frame averages, streaming, weights, exchange,
+damaged files."""
 
 from __future__ import annotations
 
@@ -173,8 +174,9 @@ def test_boltzmann_weights_from_comment_energies(naphthalene, frames, tmp_path):
 
 
 @pytest.mark.parametrize("comment, value", [
-    ("energy=-123.4", -123.4), ("-7.5", -7.5), ("E: 2.0 kj/mol", 2.0 / 4.184), ("energy_hartree=-0.5", -0.5 * 627.509474),
-    (" energy: -1.25 gnorm: 0.0001 xtb: 6.4.1", -1.25), ("Properties=species:S:1 energy=-2.0 ev pbc=\"F F F\"", -2.0 * 23.0605478),
+    ("energy=-123.4", -123.4), ("-7.5", -7.5), ("E: 2.0 kj/mol", 2.0 / 4.184),
+    ("energy_hartree=-0.5", -0.5 * 627.509474), (" energy: -1.25 gnorm: 0.0001 xtb: 6.4.1", -1.25),
+    ("Properties=species:S:1 energy=-2.0 ev pbc=\"F F F\"", -2.0 * 23.0605478),
     ("frame 12", None), ("", None)],
     ids=["keyed", "bare", "kj", "suffix-hartree", "xtb-style", "extxyz-ev", "no-energy", "empty"])
 def test_parse_energy(comment, value):
