@@ -427,7 +427,9 @@ def polyene_chain_lengths(r0_A: float, slope_A: float, *, decay_A: float = BETA_
     Returns (r_short, r_long, p_short, p_long): Å, Å, bond orders. Raises RuntimeError without
     convergence.
     """
-    f = lambda r: np.exp(-(r - BETA_REF_LENGTH_A) / decay_A)  # noqa: E731
+    def f(r):
+        return np.exp(-(r - BETA_REF_LENGTH_A) / decay_A)
+
     cosk = np.cos(_GL_K)
     r1, r2 = r0_A - slope_A * 0.8, r0_A - slope_A * 0.45
     for _ in range(max_iter):

@@ -344,7 +344,10 @@ def _flux_ring_current(n, n_el):
         order = np.argsort(e, kind="stable")
         occ = occupy(e[order], n_el)[0]
         return float(occ @ (2 * np.cos(2 * np.pi * k[order] / n)) / n**2)
-    area = lambda n: n / 4 * 1.397**2 / np.tan(np.pi / n)  # noqa: E731
+
+    def area(n):
+        return n / 4 * 1.397**2 / np.tan(np.pi / n)
+
     return curv(n, n_el) * area(n) / (curv(6, 6) * area(6))
 
 
