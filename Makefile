@@ -7,11 +7,13 @@ DEV_STAMP := $(VENV)/.dev-installed-stamp
 # What `make lint` checks. ruff: the package, the tests, the benchmarks and the demo generator;
 # mypy: the package (configured in pyproject.toml).
 LINT_PATHS := ringshift tests benchmarks demo_spectra
-# LINT_STRICT=1 makes ruff/mypy findings fail `make lint` (and so `make test`). It is 0 while the
-# backlog of findings in the package is being cleared: findings are printed in full, with a
-# summary, but do not stop the tests. A linter that cannot run (exit 2: bad config, crash) always
-# fails.
-LINT_STRICT ?= 0
+# Whether findings fail `make lint` (and so `make test`), per linter. ruff is clean and blocking.
+# mypy is not blocking until its remaining findings (in ringshift/report/) are fixed: they are
+# printed in full, with a summary, but do not stop the tests; set MYPY_BLOCKING ?= 1 then.
+# `make lint MYPY_BLOCKING=1` shows the strict verdict now. A linter that cannot run (exit 2: bad
+# configuration, syntax error, crash) always fails.
+RUFF_BLOCKING ?= 1
+MYPY_BLOCKING ?= 0
 
 .PHONY: demo test lint bench browser clean
 
@@ -38,10 +40,13 @@ lint: $(DEV_STAMP)
 	if [ $$r -gt 1 ] || [ $$m -gt 1 ]; then \
 		echo "make lint: a linter did not run (ruff exit $$r, mypy exit $$m)" >&2; exit 2; fi; \
 	if [ $$r -eq 0 ] && [ $$m -eq 0 ]; then echo "make lint: ruff and mypy clean"; exit 0; fi; \
-	if [ "$(LINT_STRICT)" = 1 ]; then \
-		echo "make lint: FAILED (ruff exit $$r, mypy exit $$m)" >&2; exit 1; fi; \
-	echo "make lint: NOT CLEAN (ruff exit $$r, mypy exit $$m) - not blocking while LINT_STRICT=0;" \
-	     "'make lint LINT_STRICT=1' fails on these" >&2
+	fail=0; \
+	for t in "ruff $$r RUFF_BLOCKING=$(RUFF_BLOCKING)" "mypy $$m MYPY_BLOCKING=$(MYPY_BLOCKING)"; do \
+		set -- $$t; [ "$$2" -eq 0 ] && continue; \
+		if [ "$$3" = "$${3%=*}=1" ]; then echo "make lint: $$1 FAILED ($$3)" >&2; fail=1; \
+		else echo "make lint: $$1 NOT CLEAN - reported above, not blocking ($$3)" >&2; fi; \
+	done; \
+	exit $$fail
 
 # `make test` runs `make lint` first, then pytest.
 # pytest exits 5 when it collected no tests; that is a broken suite, reported as such.
