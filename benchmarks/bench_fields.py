@@ -1,7 +1,7 @@
 """Speed and memory of the polygon Biot–Savart kernel (ringshift.fields.polygon.polygon_shielding).
 
 Prints point×segment evaluations per second on one core for the vectorised kernel and for the
-plain-Python reference (the slow twin of tests/test_fields.py), and the peak memory for 1e5 points ×
+plain-Python reference (the slow twin of tests/fields/test_fields.py), and the peak memory for 1e5 points ×
 1e3 segments. One evaluation = one field point × one straight wire segment (a double loop over an
 m-gon has 2m wire segments).
 
@@ -38,7 +38,7 @@ ROOT = pathlib.Path(__file__).resolve().parents[1]
 
 
 def _slow_twin():
-    spec = importlib.util.spec_from_file_location("_test_fields", ROOT / "tests" / "test_fields.py")
+    spec = importlib.util.spec_from_file_location("_test_fields", ROOT / "tests" / "fields" / "test_fields.py")
     mod = importlib.util.module_from_spec(spec)
     spec.loader.exec_module(mod)
     return mod.slow_polygon_shielding

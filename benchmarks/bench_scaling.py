@@ -10,7 +10,7 @@
    so the maximum RSS (resource.getrusage) is that run's own. Target: 10^4 frames in ≤ 10 s, ≤ 500 MB.
 3. Kernels: evaluations per second (1 evaluation = 1 proton × 1 wire segment, or × 1 loop for the
    circular/dipole models) for every shielding kernel and the bond-current network, against the plain
-   Python twins of tests/test_fields.py, and against the limit set by each kernel's flop count and this
+   Python twins of tests/fields/test_fields.py, and against the limit set by each kernel's flop count and this
    core's peak rate (estimated from a float64 numpy matmul).
 
 Prints tables and saves benchmarks/scaling.png.
@@ -200,7 +200,7 @@ def _best(fn, repeat=3):
 def kernel_throughput(quick: bool):
     from ringshift import fields
 
-    spec = importlib.util.spec_from_file_location("_tf", ROOT / "tests" / "test_fields.py")
+    spec = importlib.util.spec_from_file_location("_tf", ROOT / "tests" / "fields" / "test_fields.py")
     slow = importlib.util.module_from_spec(spec)
     spec.loader.exec_module(slow)
     rng = np.random.default_rng(1)
