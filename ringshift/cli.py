@@ -286,7 +286,7 @@ def report_cmd(structure, peaks, charge, conformers, seed, temperature, model, c
 @click.option("--for-circuit", "for_circuit", default=None, metavar="LABEL",
               help="Centre and orient the map on this circuit [default: the mean plane of all loop atoms].")
 @click.option("--contour-max", "contour_max", type=click.FloatRange(0.05, 1000.0), default=10.0, show_default=True,
-              metavar="PPM", help="Top of the colour scale, +/- PPM (the same value gives the same colours for "
+              metavar="PPM", help="Top of the colour scale, ± PPM (the same value gives the same colours for "
                                   "every compound; levels run on a 1-2-5 ladder two decades below it).")
 @click.option("--force", is_flag=True, help="Overwrite an existing file.")
 def map_cmd(structure, charge, conformers, seed, temperature, model, currents, beta_model, scale, set_current,

@@ -32,12 +32,12 @@ def comparison_text(res: CompareResult) -> str:
         d = c.claim.to_dict()
         lines.append(f"claim '{d['claim']}': {d['outcome']}. {d['reason']}")
     lines.append("")
-    lines.append("circuit  verdict       J fitted (nA/T)    95% interval     x benzene  a priori  "
+    lines.append("circuit  verdict       J fitted (nA/T)    95% interval     × benzene  a priori  "
                  "log10 BF dia:none  para:none  evidence")
     for cf in c.circuits:
         ev = cf.evidence
         ci = cf.ci95_nA_per_T
-        lines.append(f"{cf.label:<8} {cf.verdict:<13} {cf.current_nA_per_T:+8.2f} +/- {cf.stderr_nA_per_T:<5.2f} "
+        lines.append(f"{cf.label:<8} {cf.verdict:<13} {cf.current_nA_per_T:+8.2f}  ±  {cf.stderr_nA_per_T:<5.2f} "
                      f"[{ci[0]:+6.1f}, {ci[1]:+6.1f}]   {cf.current_rel_benzene:+7.2f}   {cf.prior_nA_per_T:+7.1f}  "
                      f"{ev.log10_bf_dia_vs_none:+17.1f}  {ev.log10_bf_para_vs_none:+9.1f}  "
                      f"{ev.best} over {ev.runner_up}: {ev.kass_raftery}")
@@ -102,7 +102,7 @@ def prediction_table(pred) -> str:
               f"{s.coords.shape[0]} conformer(s), model {pred.model}\n")
     for cr in pred.circuits:
         cur = ("n/a" if cr.current_nA_per_T is None
-               else f"{cr.current_nA_per_T:+.1f} nA/T ({cr.current_rel_benzene:+.2f} x benzene)")
+               else f"{cr.current_nA_per_T:+.1f} nA/T ({cr.current_rel_benzene:+.2f} × benzene)")
         extra = f", {cr.pi_electrons} pi e ({cr.huckel_class})" if cr.pi_electrons is not None else ""
         out.write(f"  circuit {cr.circuit.label}: {cr.circuit.size}-membered {cr.circuit.kind}{extra}, "
                   f"current {cur} [{cr.current_source}], planarity RMS {cr.planarity_rms_A:.2f} A\n")
@@ -149,7 +149,7 @@ def pi_text(summary: dict) -> str:
         cur = c.get("current_rel_benzene")
         cur_txt = ("no loop (descriptive)" if c["kind"] == "perimeter" else
                    "no number: " + c["current_source"] if cur is None else
-                   f"{cur:+.2f} x benzene = {c['current_nA_per_T']:+.1f} nA/T "
+                   f"{cur:+.2f} × benzene = {c['current_nA_per_T']:+.1f} nA/T "
                    f"({'diatropic' if cur > 0 else 'paratropic' if cur < 0 else 'none'})")
         lines.append(f"  {c['label']:<4} {c['size']:>3}-atom {c['kind']:<10} {_verdict(c)}; "
                      f"RMS {c['planarity_rms_A']:.2f} A, p-misalignment {c['max_p_misalignment_deg']:.0f} deg; "
