@@ -1,14 +1,14 @@
 """How results look in a notebook: a one-line ``repr``, an HTML table and pandas DataFrames.
 
 The mixins here give the result records (:class:`~ringshift.shifts.records.Prediction`,
-:class:`~ringshift.compare.run.CompareResult`, :class:`~ringshift.runners.trajectory.TrajectoryPrediction`)
+:class:`~ringshift.comparison.run.CompareResult`, :class:`~ringshift.runners.trajectory.TrajectoryPrediction`)
 
 * ``repr(result)``: one line, well under 200 characters, naming the molecule, its circuits and currents;
 * ``result._repr_html_()``: compact HTML tables that Jupyter shows for a result at the end of a cell;
 * ``result.to_frame(table=...)``: a :class:`pandas.DataFrame` (pandas is the optional extra
   ``ringshift[frames]``).
 
-Tables and frames are built from the JSON dictionaries of :mod:`ringshift.report.json`
+Tables and frames are built from the JSON dictionaries of :mod:`ringshift.reporting.json`
 (``prediction_to_dict``, ``comparison_to_dict``, ``trajectory_to_dict``), so a frame, the HTML table,
 ``results.json`` and ``--format json`` hold the same (rounded) numbers under the same field names.
 A field whose value is a dict (``ring_current_by_circuit_ppm``) becomes one column per key,
@@ -188,7 +188,7 @@ class _Display:
     def to_frame(self, table: str | None = None):
         """A :class:`pandas.DataFrame` of one of the result's tables (see the class's ``_tables``).
 
-        Columns are the JSON field names of :mod:`ringshift.report.json`; dict fields are spread
+        Columns are the JSON field names of :mod:`ringshift.reporting.json`; dict fields are spread
         into ``field.key`` columns. Needs pandas (``pip install 'ringshift[frames]'``).
         """
         _pandas()  # say what is missing before any work
@@ -217,7 +217,7 @@ class PredictionDisplay(_Display):
                "circuits": lambda d: d["circuits"]}
 
     def _as_dict(self) -> dict:
-        from ringshift.report.json import prediction_to_dict
+        from ringshift.reporting.json import prediction_to_dict
 
         return prediction_to_dict(self)
 
@@ -276,7 +276,7 @@ def _fit(data: dict) -> dict | None:
 
 
 class ComparisonDisplay(_Display):
-    """Display of a :class:`~ringshift.compare.run.CompareResult`.
+    """Display of a :class:`~ringshift.comparison.run.CompareResult`.
 
     ``to_frame()`` / ``to_frame("peaks")``: one row per observed peak (``index``, ``label``, ``shift_ppm``,
     ``integral``, ``kind``, ``slots``, ``groups``, ``assigned_h``) joined with the assignment of the group
@@ -290,7 +290,7 @@ class ComparisonDisplay(_Display):
     _tables = {"peaks": _peak_rows, "assignment": lambda d: d["assignment"], "circuits": lambda d: d["circuits"]}
 
     def _as_dict(self) -> dict:
-        from ringshift.report.json import comparison_to_dict
+        from ringshift.reporting.json import comparison_to_dict
 
         r: Any = self
         return comparison_to_dict(r)
@@ -349,7 +349,7 @@ class TrajectoryDisplay(_Display):
                "circuits": lambda d: d["circuits"]}
 
     def _as_dict(self) -> dict:
-        from ringshift.report.json import trajectory_to_dict
+        from ringshift.reporting.json import trajectory_to_dict
 
         r: Any = self
         return trajectory_to_dict(r)

@@ -11,7 +11,7 @@ Errors. Bad input raises :class:`ringshift.errors.InputError` naming the argumen
 with a finished Prediction) is an error rather than silently ignored. Existing report folders raise
 :class:`ringshift.errors.OutputError` unless ``force=True``.
 
-Results. :class:`~ringshift.shifts.records.Prediction` and :class:`~ringshift.compare.run.CompareResult`
+Results. :class:`~ringshift.shifts.records.Prediction` and :class:`~ringshift.comparison.run.CompareResult`
 print as one line, show as HTML tables in Jupyter and give pandas DataFrames with ``to_frame()``
 (see :mod:`ringshift._display`).
 
@@ -32,7 +32,7 @@ if TYPE_CHECKING:
     from collections.abc import Iterator, Mapping, Sequence
     from typing import TypeAlias
 
-    from ringshift.compare.run import CompareResult
+    from ringshift.comparison.run import CompareResult
     from ringshift.io.structures import Structure
     from ringshift.shifts.records import Prediction
     from ringshift.spectra.peaks import PeakList
@@ -174,7 +174,7 @@ def _model_options(model, currents, beta_model, scale, set_current, user_circuit
 
 
 def _compare_options(claim, noise_ppm, solvent) -> None:
-    from ringshift.compare.evidence import CLAIM_VERDICT
+    from ringshift.comparison.evidence import CLAIM_VERDICT
     from ringshift.spectra.solvents import _solvent_name
 
     if claim is not None:
@@ -398,7 +398,7 @@ def compare(structure: StructureLike | Prediction, peaks: str | os.PathLike[str]
     >>> sorted(a.peak_label for a in res.comparison.assignment)
     ['p1', 'p2', 'p3', 'p4']
     """
-    from ringshift.compare.run import run_compare
+    from ringshift.comparison.run import run_compare
     from ringshift.spectra.peaks import PeakList
 
     _compare_options(claim, noise_ppm, solvent)
@@ -483,9 +483,9 @@ def report(structure: StructureLike | Prediction | CompareResult,
     report.html True results.json
     """
 
-    from ringshift.compare.run import CompareResult
+    from ringshift.comparison.run import CompareResult
     from ringshift.pi.summary import pi_summary
-    from ringshift.report import write_report
+    from ringshift.reporting import write_report
 
     out = _path(out_dir)
     if out is None:

@@ -147,8 +147,8 @@ def _emit(text: str, output, force: bool):
 def predict_cmd(structure, charge, conformers, seed, temperature, model, currents, beta_model, scale, set_current,
                 circuit, fmt, output, force):
     """Ring-current shift of every hydrogen of STRUCTURE."""
-    from ringshift.report.json import prediction_to_dict, to_json
-    from ringshift.report.text import prediction_csv, prediction_table
+    from ringshift.reporting.json import prediction_to_dict, to_json
+    from ringshift.reporting.text import prediction_csv, prediction_table
 
     pred = _run_predict(structure, charge, conformers, seed, temperature, model, currents, beta_model, scale,
                         set_current, circuit)
@@ -177,10 +177,10 @@ def predict_cmd(structure, charge, conformers, seed, temperature, model, current
 def compare_cmd(structure, peaks, charge, conformers, seed, temperature, model, currents, beta_model, scale,
                 set_current, circuit, solvent, claim, noise, fmt, output, force):
     """Assign the observed PEAKS (CSV/TSV or JCAMP-DX) to STRUCTURE, fit its ring currents, give a verdict."""
-    from ringshift.compare.run import run_compare
+    from ringshift.comparison.run import run_compare
     from ringshift.io.peak_tables import read_peaks
-    from ringshift.report.json import comparison_to_dict, to_json
-    from ringshift.report.text import comparison_text
+    from ringshift.reporting.json import comparison_to_dict, to_json
+    from ringshift.reporting.text import comparison_text
 
     pred = _run_predict(structure, charge, conformers, seed, temperature, model, currents, beta_model, scale,
                         set_current, circuit)
@@ -217,13 +217,13 @@ def _noise(value):
 def pi_cmd(structure, charge, conformers, seed, temperature, beta_model, plot, fmt, force):
     """Pi-electron counts, 4n+2/4n class, planarity, Hueckel levels and circuit currents of STRUCTURE."""
     from ringshift.pi.summary import pi_summary
-    from ringshift.report.json import to_json
-    from ringshift.report.text import pi_text
+    from ringshift.reporting.json import to_json
+    from ringshift.reporting.text import pi_text
 
     s = _load(structure, charge, conformers, seed, temperature)
     summary = pi_summary(s, beta_model=beta_model)
     if plot:
-        from ringshift.report.figures import save_levels_figure
+        from ringshift.reporting.figures import save_levels_figure
 
         save_levels_figure(summary, plot, force=force)
         click.echo(f"wrote {plot}", err=True)
@@ -247,11 +247,11 @@ def report_cmd(structure, peaks, charge, conformers, seed, temperature, model, c
     """Write a self-contained HTML report (with figures, JSON and SDF) for STRUCTURE [and PEAKS]."""
     from pathlib import Path
 
-    from ringshift.compare.run import run_compare
+    from ringshift.comparison.run import run_compare
     from ringshift.errors import OutputError
     from ringshift.io.peak_tables import read_peaks
     from ringshift.pi.summary import pi_summary
-    from ringshift.report import write_report
+    from ringshift.reporting import write_report
 
     if Path(out_dir).exists() and not force:  # refuse before any work is done
         raise OutputError(f"{out_dir}: already exists; use --force to replace it")
@@ -292,8 +292,8 @@ def report_cmd(structure, peaks, charge, conformers, seed, temperature, model, c
 def map_cmd(structure, charge, conformers, seed, temperature, model, currents, beta_model, scale, set_current,
             circuit, output, plane, height, extent, grid, for_circuit, contour_max, force):
     """Shielding map (isotropic ring-current shift, ppm) of STRUCTURE's loops, with the chosen --model."""
-    from ringshift.report.figures import save_figure
-    from ringshift.report.maps import check_map_model, normal_scan_figure, shielding_map_figure
+    from ringshift.reporting.figures import save_figure
+    from ringshift.reporting.maps import check_map_model, normal_scan_figure, shielding_map_figure
 
     check_map_model(model)  # refuse a model without a map before any work is done
     pred = _run_predict(structure, charge, conformers, seed, temperature, model, currents, beta_model, scale,
@@ -335,7 +335,7 @@ def map_cmd(structure, charge, conformers, seed, temperature, model, currents, b
 def trajectory_cmd(frames, charge, model, currents, beta_model, weights, temperature, energy_unit, frame_weights,
                    exchange, exchange_group, memory, fmt, output, force):
     """Frame-averaged ring-current shifts of a multi-frame XYZ or multi-record SDF (streamed)."""
-    from ringshift.report.json import CAUTION, to_json, trajectory_to_dict
+    from ringshift.reporting.json import CAUTION, to_json, trajectory_to_dict
     from ringshift.runners.averaging import read_weights_file
     from ringshift.runners.trajectory import predict_trajectory_file
 

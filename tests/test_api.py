@@ -76,16 +76,17 @@ def test_top_level_names_and_all():
 
 
 def test_compare_and_report_stay_functions_after_subpackage_imports():
-    # subpackages of the same names exist; importing one of their modules must not rebind the name
-    import ringshift.compare.run  # noqa: F401
-    import ringshift.report.json  # noqa: F401
+    # the stage subpackages have names of their own, so importing them never rebinds the functions
+    import ringshift.comparison.run
+    import ringshift.reporting.json
 
     assert ringshift.compare is ringshift.api.compare
     assert ringshift.report is ringshift.api.report
-    from ringshift.compare.run import run_compare
-    from ringshift.report import json as report_json
+    from ringshift.comparison.run import run_compare
+    from ringshift.reporting import json as report_json
 
     assert callable(run_compare) and callable(report_json.prediction_to_dict)
+    assert ringshift.reporting.json is report_json and ringshift.comparison.run.run_compare is run_compare
 
 
 def test_import_ringshift_loads_no_heavy_dependency():
@@ -238,7 +239,7 @@ def test_comparison_html_shows_verdict_currents_and_assignment(result):
 
 # ------------------------------------------------------------------------------------------ frames
 def test_prediction_frame_rows_columns_and_values_match_the_json(fj14c):
-    from ringshift.report.json import prediction_to_dict
+    from ringshift.reporting.json import prediction_to_dict
 
     pytest.importorskip("pandas")
     data = prediction_to_dict(fj14c)
@@ -259,7 +260,7 @@ def test_prediction_frame_rows_columns_and_values_match_the_json(fj14c):
 
 
 def test_comparison_frame_has_one_row_per_peak_joined_with_its_group(result):
-    from ringshift.report.json import comparison_to_dict
+    from ringshift.reporting.json import comparison_to_dict
 
     pytest.importorskip("pandas")
     data = comparison_to_dict(result)
@@ -294,7 +295,7 @@ def test_unassigned_peak_row_has_empty_assignment(fj14c):
 
 
 def test_trajectory_prediction_display():
-    from ringshift.report.json import trajectory_to_dict
+    from ringshift.reporting.json import trajectory_to_dict
     from ringshift.runners.trajectory import predict_trajectory_file
 
     pytest.importorskip("pandas")

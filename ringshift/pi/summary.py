@@ -14,8 +14,8 @@ from ringshift.pi.huckel import HuckelResult
 from ringshift.pi.huckel import huckel as _pisystem_huckel
 from ringshift.pi.perception import PiSystem
 from ringshift.pi.perception import huckel_class as _pisystem_huckel_class
-from ringshift.report.json import CAUTION, SCHEMA_VERSION, circuit_to_dict
-from ringshift.report.numbers import rounded as _r
+from ringshift.reporting.json import CAUTION, SCHEMA_VERSION, circuit_to_dict
+from ringshift.reporting.numbers import rounded as _r
 from ringshift.shifts.prediction import predict
 
 

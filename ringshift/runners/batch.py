@@ -36,7 +36,7 @@ from typing import Any
 from ringshift.errors import InputError, OutputError
 from ringshift.io.libraries import LibraryItem, iter_library
 from ringshift.io.structures import load_structure
-from ringshift.report.json import SCHEMA_VERSION
+from ringshift.reporting.json import SCHEMA_VERSION
 
 __all__ = ['BatchSummary', 'run_batch', 'work_item']
 
@@ -62,7 +62,7 @@ def _one_line(exc: BaseException) -> str:
 
 def work_item(item: LibraryItem, load_kwargs: Mapping | None = None, predict_kwargs: Mapping | None = None) -> str:
     """Predict one library molecule; returns its JSON line (never raises for a bad molecule)."""
-    from ringshift.report.json import prediction_to_dict
+    from ringshift.reporting.json import prediction_to_dict
     from ringshift.shifts.prediction import predict
 
     try:

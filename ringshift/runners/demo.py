@@ -36,12 +36,12 @@ def run_demo(out_dir: str | Path, *, force: bool = False, progress=None) -> str:
     Returns the summary text. Refuses an existing ``out_dir`` unless ``force``; the folder is built
     beside it and renamed at the end, so a failure leaves nothing half-written.
     """
-    from ringshift.compare.candidates import rank
-    from ringshift.compare.run import run_compare
+    from ringshift.comparison.candidates import rank
+    from ringshift.comparison.run import run_compare
     from ringshift.io.peak_tables import read_peaks
     from ringshift.io.structures import load_structure
     from ringshift.pi.summary import pi_summary
-    from ringshift.report import write_report
+    from ringshift.reporting import write_report
     from ringshift.shifts.prediction import predict
 
     data = demo_data_dir()

@@ -2,7 +2,7 @@
 
 Frozen dataclasses produced by :func:`ringshift.shifts.prediction.predict`. Units: Å, ppm, nA/T;
 indices are 0-based atom indices of the input structure. Their one JSON form is
-:func:`ringshift.report.json.prediction_to_dict`.
+:func:`ringshift.reporting.json.prediction_to_dict`.
 """
 
 from __future__ import annotations

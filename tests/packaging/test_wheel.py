@@ -36,7 +36,7 @@ SOURCE_PKG = REPO / "ringshift"
 
 # The stage subpackages of the layout; the wheel must carry each one's __init__.py (the test also
 # derives the list from the source tree, so a new subpackage is covered without editing this).
-STAGES = ("io", "geometry", "pi", "fields", "shifts", "spectra", "compare", "report", "runners")
+STAGES = ("io", "geometry", "pi", "fields", "shifts", "spectra", "comparison", "reporting", "runners")
 DEMO_FILES = ("fj14c.sdf", "fj14c_1H.jdx", "fj14c_peaks.csv", "fj14o.sdf", "fj14o_1H.jdx", "fj14o_peaks.csv")
 DEMO_NAMES = ("fj14c", "fj14o")
 
@@ -193,7 +193,7 @@ def test_installed_wheel_runs_the_demo(site, tmp_path):
     print("ringshift.__file__ in the demo run:", origins.get("ringshift"))
     assert origins.get("ringshift") and Path(origins["ringshift"]).resolve() == site_pkg / "__init__.py"
     # the modules that did the work were loaded, and every ringshift module came from the wheel
-    for needed in ("ringshift.cli", "ringshift.runners.demo", "ringshift.shifts.prediction", "ringshift.report"):
+    for needed in ("ringshift.cli", "ringshift.runners.demo", "ringshift.shifts.prediction", "ringshift.reporting"):
         assert needed in origins, f"{needed} was not imported by the demo run"
     elsewhere = {n: f for n, f in origins.items() if f is None or not Path(f).resolve().is_relative_to(site_pkg)}
     assert elsewhere == {}, f"modules not loaded from the installed wheel ({site_pkg}): {elsewhere}"

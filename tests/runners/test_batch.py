@@ -14,7 +14,7 @@ from rdkit.Chem import rdDistGeom
 from ringshift.errors import InputError, OutputError
 from ringshift.io.libraries import iter_library
 from ringshift.io.structures import load_structure
-from ringshift.report.json import prediction_to_dict
+from ringshift.reporting.json import prediction_to_dict
 from ringshift.runners.batch import run_batch
 from ringshift.shifts.prediction import predict
 

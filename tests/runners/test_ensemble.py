@@ -16,7 +16,7 @@ from ringshift import fields
 from ringshift.errors import GeometryWarning, InputError
 from ringshift.io.frames import ENERGY_UNITS, Frame, TrajectoryWarning, iter_sdf_records, iter_xyz_frames, parse_energy
 from ringshift.io.structures import load_structure
-from ringshift.report.json import trajectory_to_dict
+from ringshift.reporting.json import trajectory_to_dict
 from ringshift.runners.averaging import exchange_groups
 from ringshift.runners.trajectory import polygon_shielding_frames, predict_trajectory, predict_trajectory_file
 from ringshift.shifts.prediction import predict

@@ -159,7 +159,7 @@ def test_annulene16_sign_pattern_paratropic():
     # Planar-ish 4n annulene with bond alternation: paratropic (Pople & Untch, J. Am. Chem. Soc. 1966, 88,
     # 4811): inner H downfield, outer H upfield, as observed for [16]annulene at low temperature (inner
     # 10.43, outer 5.40 ppm; Calder et al., J. Chem. Soc. C 1967, 1041; from memory).
-    from tests.compare.test_compare_published import _annulene_smiles
+    from tests.comparison.test_compare_published import _annulene_smiles
 
     pred = predict(load_structure(_annulene_smiles("ZEZEZEZE")))
     assert pred.circuits[0].current_nA_per_T < 0

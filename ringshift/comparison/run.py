@@ -1,0 +1,97 @@
+"""Glue between a prediction, an observed peak list and the comparer.
+
+:func:`run_compare` turns a :class:`ringshift.shifts.records.Prediction` into the comparer's group models
+and circuit priors, the :class:`ringshift.spectra.peaks.PeakList` into observed peaks, and calls
+:func:`ringshift.comparison.comparer.compare`. :func:`ringshift.reporting.json.comparison_to_dict` is the one JSON form
+of the result.
+"""
+
+from __future__ import annotations
+
+from dataclasses import dataclass
+from typing import TYPE_CHECKING
+
+import numpy as np
+
+from ringshift._display import ComparisonDisplay
+from ringshift.comparison.comparer import compare as _cmp_compare
+from ringshift.comparison.records import CircuitPrior, Comparison, GroupModel, ObservedPeak
+from ringshift.constants import BENZENE_CURRENT_NA_PER_T
+from ringshift.errors import InputError
+
+if TYPE_CHECKING:
+    from ringshift.shifts.records import Prediction
+    from ringshift.spectra.peaks import PeakList
+
+__all__ = ['run_compare', 'group_models', 'circuit_priors', 'observed_peaks', 'CompareResult']
+
+
+#: Width of the a priori current prior, nA/T: "weakly around the Hückel–London value". One benzene
+#: current either way lets the data move the current freely while keeping an ill-determined circuit
+#: near theory (common practice, no source).
+PRIOR_SD_NA_PER_T = BENZENE_CURRENT_NA_PER_T
+
+_KIND = {"sample": "signal", "tms": "reference", "solvent": "solvent", "impurity": "impurity"}
+
+
+@dataclass(frozen=True)
+class CompareResult(ComparisonDisplay):
+    """A comparison with what it rests on: the prediction, the peak list and the comparer's inputs."""
+
+    prediction: Prediction
+    peaks: PeakList
+    comparison: Comparison
+    observed: tuple[ObservedPeak, ...]
+
+
+def group_models(pred) -> list[GroupModel]:
+    """Comparer inputs, one per hydrogen group of the prediction."""
+    out = []
+    for g in pred.groups:
+        out.append(GroupModel(
+            label=g.label, atoms=tuple(g.atoms), parents=tuple(g.parents), n_h=g.n_h,
+            proton_class=g.proton_class, reference_ppm=float(g.reference_ppm),
+            reference_sd_ppm=float(g.reference_sd_ppm),
+            geometric_ppm_per_nA_T=np.asarray(g.geometric_ppm_per_nA_T, dtype=float), charge_ppm=float(g.charge_ppm)))
+    return out
+
+
+def circuit_priors(pred, *, prior_sd_nA_per_T: float = PRIOR_SD_NA_PER_T) -> list[CircuitPrior]:
+    """Weak Gaussian priors around each circuit's a priori current (0 where there is none)."""
+    return [CircuitPrior(cr.circuit.label, float(cr.current_nA_per_T or 0.0), prior_sd_nA_per_T)
+            for cr in pred.circuits]
+
+
+def observed_peaks(peaklist, pred) -> list[ObservedPeak]:
+    """Observed peaks for the comparer; a fixed assignment names H or heavy-atom indices (0-based)."""
+    out = []
+    for p in peaklist.peaks:
+        fixed = None
+        if p.fixed_atoms:
+            want = set(p.fixed_atoms)
+            fixed = tuple(gi for gi, g in enumerate(pred.groups) if want & (set(g.atoms) | set(g.parents)))
+            if not fixed:
+                where = f"{peaklist.source}:{p.line}" if p.line else peaklist.source
+                raise InputError(f"peak at {p.shift_ppm:.2f} ppm is fixed to atoms {sorted(want)}, which are "
+                                 "neither hydrogens nor heavy atoms carrying hydrogens (0-based indices as in "
+                                 "'ringshift predict --format json')", where)
+        out.append(ObservedPeak(shift_ppm=float(p.shift_ppm), integral=p.integral, fixed_groups=fixed,
+                                    label=p.label or f"{p.shift_ppm:.2f}", kind=_KIND.get(p.kind, p.kind)))
+    return out
+
+
+def run_compare(pred, peaklist, *, claim: str | None = None, noise_ppm=None, seed: int = 0) -> CompareResult:
+    """Assign, fit and weigh the evidence for one structure against one peak list."""
+    if not pred.groups:
+        raise InputError("the molecule has no hydrogens: there is nothing to compare with a 1H spectrum",
+                         pred.structure.source)
+    obs = observed_peaks(peaklist, pred)
+    if not obs:
+        raise InputError("no peaks found; expected at least one sample peak", peaklist.source)
+    if not any(o.kind == "signal" for o in obs):
+        raise InputError("no sample peaks (only solvent/TMS/impurity peaks)", peaklist.source)
+    if not pred.circuits:
+        raise InputError("the molecule has no conjugated circuit: there is no ring current to fit",
+                         pred.structure.source)
+    comp = _cmp_compare(group_models(pred), obs, circuit_priors(pred), noise_ppm=noise_ppm, claim=claim, seed=seed)
+    return CompareResult(pred, peaklist, comp, tuple(obs))
