@@ -1,6 +1,6 @@
 """The public Python API (ringshift.api, re-exported by ``import ringshift``) and the notebook display
 of results (ringshift._display): names, equivalent inputs, short repr, HTML, DataFrames, error names,
-and the examples of docs/python_api.md (and README.md's "Python API" section) and of the docstrings.
+and the examples of README.md's "Python API" section and of the docstrings.
 """
 
 from __future__ import annotations
@@ -410,12 +410,10 @@ def _python_blocks(markdown: str) -> list[str]:
 
 
 def _python_api_sources() -> list[tuple[str, str]]:
-    """(label, markdown) of docs/python_api.md and, once pasted there, README.md's Python API section."""
-    out = [("docs/python_api.md", (ROOT / "docs" / "python_api.md").read_text(encoding="utf-8"))]
+    """(label, markdown) of README.md's Python API section (it must exist)."""
     section = _api_section((ROOT / "README.md").read_text(encoding="utf-8"))
-    if section is not None:
-        out.append(("README.md#python-api", section))
-    return out
+    assert section is not None, "README.md has no 'Python API' section"
+    return [("README.md#python-api", section)]
 
 
 def test_readme_section_extraction():
@@ -438,7 +436,7 @@ def test_python_blocks_of_the_docs_run(label, text, tmp_path, monkeypatch):
     namespace: dict = {"__name__": "__docs__"}
     for k, block in enumerate(blocks):
         exec(compile(block, f"{label} block {k + 1}", "exec"), namespace)  # noqa: S102
-    if label.startswith("docs/"):
+    if label.startswith("README.md"):
         # what the text promises: six benzene rows with predicted shifts, a report folder
         assert "predicted_ppm" in namespace["df"].columns and len(namespace["df"]) == 6
         assert json.loads(Path(namespace["paths"]["results"]).read_text())["ringshift_result"] == "comparison"
