@@ -64,7 +64,7 @@ from pathlib import Path
 import numpy as np
 
 from ringshift.io.structures import load_structure
-from ringshift.reporting.maps import loop_shift_ppm, loops_of
+from ringshift.reporting.map_loops import loop_shift_ppm, loops_of
 from ringshift.shifts.prediction import predict
 
 SMILES = {"benzene": "c1ccccc1", "naphthalene": "c1ccc2ccccc2c1", "ethylene": "C=C",

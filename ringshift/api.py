@@ -47,48 +47,15 @@ DEFAULT_SEED = 42
 
 
 # ------------------------------------------------------------------------------ error vocabulary
-# The pipeline's messages name command-line options; here they name this module's arguments.
-_SOURCE_NAMES = {"--model": "model", "--currents": "currents", "--beta": "beta_model",
-                 "--scale/--set-current": "scale/set_current", "--circuit": "user_circuits",
-                 "--noise": "noise_ppm", "--charge": "charge", "--temperature": "temperature_K"}
-#: Literal replacements in messages, applied in this order (longer phrases first).
-_MESSAGE_NAMES = (
-    ("--currents huckel", "currents='huckel'"),
-    ("--currents benzene", "currents='benzene'"),
-    ("--set-current LABEL=NA_PER_T", "set_current={'LABEL': nA_per_T}"),
-    ("--set-current/--scale", "set_current/scale"),
-    ("--set-current", "set_current"),
-    ("--scale", "scale"),
-    ("--circuit", "user_circuits"),
-    ("--model", "model"),
-    ("--beta", "beta_model"),
-    ("--charge", "charge=..."),
-    ("use --force", "pass force=True"),
-    ("'ringshift predict --format json'", "Prediction.to_frame()"),
-)
-
-
-def _api_words(text: str) -> str:
-    for old, new in _MESSAGE_NAMES:
-        text = text.replace(old, new)
-    return text
-
-
+# The library names its arguments in errors (ringshift._validation); only "use force" of an output that
+# exists is worded here as the argument this module takes.
 @contextmanager
 def _api_names() -> Iterator[None]:
-    """Re-raise the pipeline's InputError/OutputError with argument names instead of CLI options."""
+    """Re-raise an OutputError that asks for ``force`` with the argument as it is passed here."""
     try:
         yield
-    except InputError as exc:
-        source = exc.source
-        if source and source.startswith("--"):
-            source = _SOURCE_NAMES.get(source, source.lstrip("-").replace("-", "_"))
-        message = _api_words(exc.bare_message)
-        if source == exc.source and message == exc.bare_message:
-            raise
-        raise InputError(message, source).with_traceback(exc.__traceback__) from None
     except OutputError as exc:
-        message = _api_words(str(exc))
+        message = str(exc).replace("use force", "pass force=True")
         if message == str(exc):
             raise
         raise OutputError(message).with_traceback(exc.__traceback__) from None

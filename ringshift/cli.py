@@ -24,7 +24,7 @@ OPTION_OF_PARAMETER = {
     "scale": "--scale", "set_current": "--set-current", "charge": "--charge", "conformers": "--conformers",
     "seed": "--seed", "temperature_K": "--temperature", "noise_ppm": "--noise", "claim": "--claim",
     "solvent": "--solvent", "weights": "--weights", "energy_unit": "--energy-unit", "memory_MB": "--memory",
-    "jobs": "--jobs", "scheduler": "--scheduler",
+    "jobs": "--jobs", "scheduler": "--scheduler", "contour_max_ppm": "--contour-max",
 }
 
 
@@ -223,7 +223,7 @@ def pi_cmd(structure, charge, conformers, seed, temperature, beta_model, plot, f
     s = _load(structure, charge, conformers, seed, temperature)
     summary = pi_summary(s, beta_model=beta_model)
     if plot:
-        from ringshift.reporting.figures import save_levels_figure
+        from ringshift.reporting.level_diagram import save_levels_figure
 
         save_levels_figure(summary, plot, force=force)
         click.echo(f"wrote {plot}", err=True)
@@ -293,7 +293,8 @@ def map_cmd(structure, charge, conformers, seed, temperature, model, currents, b
             circuit, output, plane, height, extent, grid, for_circuit, contour_max, force):
     """Shielding map (isotropic ring-current shift, ppm) of STRUCTURE's loops, with the chosen --model."""
     from ringshift.reporting.figures import save_figure
-    from ringshift.reporting.maps import check_map_model, normal_scan_figure, shielding_map_figure
+    from ringshift.reporting.map_loops import check_map_model
+    from ringshift.reporting.maps import normal_scan_figure, shielding_map_figure
 
     check_map_model(model)  # refuse a model without a map before any work is done
     pred = _run_predict(structure, charge, conformers, seed, temperature, model, currents, beta_model, scale,
@@ -433,7 +434,7 @@ def main(argv=None):
     except (InputError, OutputError) as exc:
         if debug:
             raise
-        text = _error_text(exc) if isinstance(exc, InputError) else str(exc)
+        text = _error_text(exc) if isinstance(exc, InputError) else str(exc).replace("use force", "use --force")
         print(f"ringshift: error: {text}", file=sys.stderr)
         sys.exit(EXIT_BAD_INPUT)
     except KeyboardInterrupt:

@@ -32,7 +32,7 @@ class InputError(RingshiftError, ValueError):
 
 
 class OutputError(RingshiftError, OSError):
-    """An output cannot be written (exists without --force, unwritable folder, ...)."""
+    """An output cannot be written (exists and replacing it was not asked for, unwritable folder, ...)."""
 
     def __init__(self, message: str):
         super().__init__(" ".join(message.split()))

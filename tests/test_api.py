@@ -360,18 +360,17 @@ def test_bad_input_names_the_api_argument(param, call, fj14c):
     assert not re.search(r"(^|\s|\()--[a-z]", str(exc.value)), str(exc.value)   # no command-line option
 
 
-def test_command_line_wording_is_translated_to_argument_names():
-    # the pipeline below the API may still word a message for the command line; the API renames it
+def test_library_errors_name_arguments_and_outputs_ask_for_force():
+    # the library words errors with argument names (ringshift._validation); the API only words "force"
     from ringshift.api import _api_names
 
-    with pytest.raises(InputError) as exc, _api_names():
-        raise InputError("atoms 0 and 9 are not bonded (or use --currents benzene or --set-current)", "--circuit")
-    assert exc.value.source == "user_circuits"
-    assert str(exc.value) == ("user_circuits: atoms 0 and 9 are not bonded (or use currents='benzene' or "
-                              "set_current)")
     with pytest.raises(OutputError) as exc2, _api_names():
-        raise OutputError("out: already exists; use --force to replace it")
+        raise OutputError("out: already exists; use force to replace it")
     assert str(exc2.value) == "out: already exists; pass force=True to replace it"
+    s = ringshift.load_structure("c1ccccc1", conformers=1)
+    with pytest.raises(InputError) as exc:
+        ringshift.predict(s, scale={"Z9": 0.5})
+    assert exc.value.source == "scale" and "--" not in str(exc.value)
 
 
 def test_report_refuses_an_existing_folder_before_any_work(tmp_path, fj14c):

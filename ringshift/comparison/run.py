@@ -73,8 +73,8 @@ def observed_peaks(peaklist, pred) -> list[ObservedPeak]:
             if not fixed:
                 where = f"{peaklist.source}:{p.line}" if p.line else peaklist.source
                 raise InputError(f"peak at {p.shift_ppm:.2f} ppm is fixed to atoms {sorted(want)}, which are "
-                                 "neither hydrogens nor heavy atoms carrying hydrogens (0-based indices as in "
-                                 "'ringshift predict --format json')", where)
+                                 "neither hydrogens nor heavy atoms carrying hydrogens (0-based indices, as in the "
+                                 "prediction's JSON)", where)
         out.append(ObservedPeak(shift_ppm=float(p.shift_ppm), integral=p.integral, fixed_groups=fixed,
                                     label=p.label or f"{p.shift_ppm:.2f}", kind=_KIND.get(p.kind, p.kind)))
     return out

@@ -17,7 +17,7 @@ def atomic_write(path: str | os.PathLike, data: str | bytes, *, force: bool = Fa
     """
     path = Path(path)
     if path.exists() and not force:
-        raise OutputError(f"{path}: already exists; use --force to overwrite it")
+        raise OutputError(f"{path}: already exists; use force to overwrite it")
     folder = path.parent if str(path.parent) else Path(".")
     if not folder.is_dir():
         raise OutputError(f"{path}: folder {folder} does not exist")

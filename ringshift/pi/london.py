@@ -28,8 +28,8 @@ from ringshift import _validation as _v
 from ringshift.constants import BENZENE_CURRENT_NA_PER_T
 from ringshift.errors import InputError
 from ringshift.geometry import planes as pg
+from ringshift.pi.bond_lengths import SCF_RELATIONS
 from ringshift.pi.huckel import (
-    SCF_RELATIONS,
     HuckelResult,
     _check_model,
     beta_distance_factor,

@@ -417,7 +417,7 @@ def write_report(out_dir, prediction, *, compare_result=None, pi_summary=None, f
     if out.exists() and not out.is_dir():
         raise OutputError(f"{out}: exists and is not a folder")
     if out.exists() and not force:
-        raise OutputError(f"{out}: already exists; use --force to replace the report folder")
+        raise OutputError(f"{out}: already exists; use force to replace the report folder")
     parent = out.parent if str(out.parent) else Path(".")
     if not parent.is_dir():
         raise OutputError(f"{out}: parent folder {parent} does not exist")

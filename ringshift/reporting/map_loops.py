@@ -57,9 +57,9 @@ def check_map_model(model: str) -> str:
     """``model`` if it can be mapped; otherwise an InputError saying why and what to use instead."""
     if model == "network":
         raise InputError("the network model has no map: a prediction keeps per-circuit currents, not the bond "
-                         "currents the network model sums; map the circuit loops with --model polygon", "--model")
+                         "currents the network model sums; map the circuit loops with the polygon model", "model")
     if model not in MAP_MODELS:
-        raise InputError(f"unknown shielding model {model!r}; expected one of {', '.join(MAP_MODELS)}", "--model")
+        raise InputError(f"unknown shielding model {model!r}; expected one of {', '.join(MAP_MODELS)}", "model")
     return model
 
 
@@ -153,7 +153,7 @@ def loops_of(source) -> tuple[tuple[Loop, ...], str]:
                   for cr in pred.circuits)
     if not any(lp.current_nA_per_T for lp in loops):
         raise InputError("no circuit carries a current (open shell or zero currents): nothing to map; "
-                         "give one with --set-current LABEL=NA_PER_T", pred.structure.source)
+                         "give a current yourself (set_current, nA/T per circuit label)", pred.structure.source)
     return loops, ("fitted" if fitted else "a priori")
 
 

@@ -188,8 +188,8 @@ def contour_levels(contour_max_ppm: float = DEFAULT_CONTOUR_MAX_PPM) -> np.ndarr
     """
     top = float(contour_max_ppm)
     if not (np.isfinite(top) and 0.05 <= top <= 1000.0):
-        raise InputError(f"contour_max_ppm={contour_max_ppm!r}; expected a number of ppm from 0.05 to 1000",
-                         "--contour-max")
+        raise InputError(f"got {contour_max_ppm!r}; expected a number of ppm from 0.05 to 1000",
+                         "contour_max_ppm")
     mags = [m for m in LEVEL_LADDER_PPM if top / 10.0**LEVEL_DECADES * (1 - 1e-9) <= m < top * (1 - 1e-9)] + [top]
     return np.array([-m for m in reversed(mags)] + [0.0] + mags)
 

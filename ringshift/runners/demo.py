@@ -47,7 +47,7 @@ def run_demo(out_dir: str | Path, *, force: bool = False, progress=None) -> str:
     data = demo_data_dir()
     out = Path(out_dir)
     if out.exists() and not force:
-        raise OutputError(f"{out}: already exists; use --force to replace it")
+        raise OutputError(f"{out}: already exists; use force to replace it")
     parent = out.resolve().parent
     if not parent.is_dir():
         raise OutputError(f"{out}: folder {parent} does not exist")

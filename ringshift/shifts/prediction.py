@@ -167,7 +167,7 @@ def predict(structure: Structure, *, model: str = "polygon", currents: str = "hu
     for key in list((scale or {}).keys()) + list((set_current or {}).keys()):
         if key not in labels:
             raise InputError(f"no circuit labelled {key!r}; this molecule has {', '.join(labels) or 'none'}",
-                             "--scale/--set-current")
+                             "set_current" if key in (set_current or {}) else "scale")
     notes.extend(pi.warnings)
 
     # currents: (n_conf, n_loops) nA/T

@@ -16,15 +16,8 @@ from rdkit.Chem import AllChem, rdMolTransforms
 
 from ringshift.constants import BENZENE_CURRENT_NA_PER_T
 from ringshift.errors import InputError
-from ringshift.pi.huckel import (
-    SCF_R0_A,
-    SCF_RELATIONS,
-    SCF_SLOPE_A,
-    huckel,
-    huckel_matrix,
-    occupy,
-    polyene_chain_lengths,
-)
+from ringshift.pi.bond_lengths import SCF_R0_A, SCF_RELATIONS, SCF_SLOPE_A, polyene_chain_lengths
+from ringshift.pi.huckel import huckel, huckel_matrix, occupy
 from ringshift.pi.london import benzene_reference_response, london_currents, pi_charge_shift_ppm, regular_polygon
 from ringshift.pi.parameters import (
     BETA0_EV,

@@ -222,7 +222,7 @@ def test_report_is_self_contained(report):
 
 def test_report_refuses_existing_folder(report, comparison, tmp_path):
     out, _ = report
-    with pytest.raises(OutputError, match="already exists; use --force"):
+    with pytest.raises(OutputError, match="already exists; use force"):
         write_report(out, comparison.prediction, compare_result=comparison)
     target = tmp_path / "rep"
     write_report(target, comparison.prediction)
