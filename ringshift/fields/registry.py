@@ -17,11 +17,11 @@ from ringshift.errors import InputError
 from ringshift.geometry.circuits import Circuit, CircuitGeometry
 
 MODEL_DESCRIPTIONS = {
-    "polygon": "exact polygon Biot-Savart double loop through the ring atoms (+/-0.64 A, half current each)",
-    "johnson-bovey": "Johnson-Bovey double circular loop of the ring's mean radius (+/-0.64 A)",
+    "polygon": "exact polygon Biot-Savart double loop through the ring atoms (±0.64 Å, half current each)",
+    "johnson-bovey": "Johnson-Bovey double circular loop of the ring's mean radius (±0.64 Å)",
     "haigh-mallion": "Haigh-Mallion geometric factor in the mean ring plane",
     "dipole": "Pople point magnetic dipole at the ring centre",
-    "network": "Biot-Savart over every pi bond carrying its own Hueckel-London bond current (+/-0.64 A)",
+    "network": "Biot-Savart over every pi bond carrying its own Hueckel-London bond current (±0.64 Å)",
 }
 
 

@@ -72,8 +72,8 @@ def run_demo(out_dir: str | Path, *, force: bool = False, progress=None) -> str:
             c = res.comparison
             fit = next(cf for cf in c.circuits if cf.label == c.verdict_circuit)
             lines.append(f"{name.upper()}: verdict {c.verdict} (circuit {fit.label}, "
-                         f"J = {fit.current_nA_per_T:+.1f} +/- {fit.stderr_nA_per_T:.1f} nA/T, "
-                         f"{fit.current_rel_benzene:+.2f} x benzene; a priori {fit.prior_nA_per_T:+.1f})")
+                         f"J = {fit.current_nA_per_T:+.1f} ± {fit.stderr_nA_per_T:.1f} nA/T, "
+                         f"{fit.current_rel_benzene:+.2f} × benzene; a priori {fit.prior_nA_per_T:+.1f})")
             if c.claim is not None:
                 lines.append(f"  claim '{claim}': {c.claim.outcome}")
             lines.append(f"  report: {out / name / 'report.html'}")
