@@ -439,3 +439,13 @@ def test_python_blocks_of_the_docs_run(label, text, tmp_path, monkeypatch):
         # what the text promises: six benzene rows with predicted shifts, a report folder
         assert "predicted_ppm" in namespace["df"].columns and len(namespace["df"]) == 6
         assert json.loads(Path(namespace["paths"]["results"]).read_text())["ringshift_result"] == "comparison"
+
+
+def test_structure_and_peak_list_have_short_reprs():
+    # the inputs print as one line too (dataclass reprs would dump coordinate arrays and every peak)
+    s = ringshift.load_structure(SDF)
+    text = repr(s)
+    assert len(text) < 200 and "\n" not in text and "C20H20" in text and "1 conformer" in text
+    peaks = ringshift.read_peaks(DEMO / "fj14c_1H.jdx", solvent="CDCl3")
+    text = repr(peaks)
+    assert len(text) < 200 and "\n" not in text and "solvent" in text and "points" in text

@@ -80,6 +80,15 @@ class Structure:
     h_groups: tuple[tuple[int, ...], ...]
     provenance: dict
 
+    def __repr__(self) -> str:
+        """One line: name, formula, atoms, conformers and charge (the arrays stay out of the text)."""
+        from rdkit.Chem.rdMolDescriptors import CalcMolFormula
+
+        n_conf = int(self.coords.shape[0])
+        return (f"<Structure {self.name}: {CalcMolFormula(self.mol)}, {self.mol.GetNumAtoms()} atoms, "
+                f"{n_conf} conformer{'s' if n_conf != 1 else ''}, {len(self.h_groups)} H groups, "
+                f"charge {self.charge:+d}>")
+
 
 def _check_options(charge, conformers, seed, temperature_K, energy_window_kcal_mol, rmsd_prune_A) -> None:
     for label, value, low in (("temperature_K", temperature_K, None), ("rmsd_prune_A", rmsd_prune_A, 0),

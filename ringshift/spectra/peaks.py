@@ -154,6 +154,15 @@ class PeakList:
         object.__setattr__(self, "peaks", tuple(self.peaks))
         object.__setattr__(self, "warnings", tuple(self.warnings))
 
+    def __repr__(self) -> str:
+        """One line: source, peak count by kind and the spectrum's size (no arrays in the text)."""
+        kinds: dict[str, int] = {}
+        for pk in self.peaks:
+            kinds[pk.kind] = kinds.get(pk.kind, 0) + 1
+        by_kind = ", ".join(f"{n} {k}" for k, n in kinds.items())
+        spec = "" if self.spectrum is None else f", spectrum of {self.spectrum.ppm.size} points"
+        return f"<PeakList {self.source}: {len(self.peaks)} peaks ({by_kind or 'none'}){spec}>"
+
     @property
     def sample_peaks(self) -> tuple[Peak, ...]:
         """The peaks of ``kind == "sample"`` (those to be assigned)."""
