@@ -7,7 +7,7 @@ prediction and a batch line carries one; they refer to the prediction schema by 
 against the ``$id`` of each schema (identifiers, not addresses to download from).
 
 :func:`schema` reads one schema. :func:`validate` checks a document against the schema its
-``ringshift_result`` names (a batch line, which has none, is recognised by its ``ok`` field). Validation
+``ringshift_result`` names (a batch line written before it carried one is recognised by its ``ok`` field). Validation
 needs the ``jsonschema`` package (>= 4.18), a test-only dependency imported only when :func:`validate` runs.
 """
 
@@ -31,6 +31,7 @@ RESULT_SCHEMAS: dict[str, str] = {
     "comparison": "comparison",
     "pi_system": "pi_system",
     "trajectory_prediction": "trajectory",
+    "batch_record": "batch_record",
 }
 
 _INSTALL_HINT = ("validating ringshift JSON needs the jsonschema package (>= 4.18), which is not installed: "

@@ -2,9 +2,9 @@
 
 Libraries (many molecules; :func:`run_batch`), one prediction per molecule, in parallel, resumable.
 
-Output. One JSON object per line and molecule, in library order:
-``{"name", "index", "source", "schema_version", "ok": true, "result": <prediction_to_dict>}`` or
-``{"name", "index", "source", "schema_version", "ok": false, "error": "<one line>"}``. A failing molecule never stops
+Output. One JSON object per line and molecule, in library order: ``{"ringshift_result": "batch_record",
+"name", "index", "source", "schema_version", "ok": true, "result": <prediction_to_dict>}`` or the same with
+``"ok": false, "error": "<one line>"``. A failing molecule never stops
 the batch. Lines are appended and flushed one by one, so an interruption loses at most the molecules in
 flight; out-of-order results from the workers wait in a buffer until their turn.
 Resume. Molecules whose (index, name) is already in the output are skipped; a cut-off last line is
@@ -82,7 +82,8 @@ def work_item(item: LibraryItem, load_kwargs: Mapping | None = None, predict_kwa
 
 def _record(item: LibraryItem, **fields) -> str:
     """One JSON line of the batch output (module docstring)."""
-    head = {"name": item.name, "index": item.index, "source": item.source, "schema_version": SCHEMA_VERSION}
+    head = {"ringshift_result": "batch_record", "name": item.name, "index": item.index, "source": item.source,
+            "schema_version": SCHEMA_VERSION}
     return json.dumps(head | fields, ensure_ascii=False, allow_nan=False)
 
 
