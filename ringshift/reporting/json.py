@@ -116,6 +116,11 @@ def to_json(data: dict) -> str:
     return json.dumps(data, indent=2, ensure_ascii=False, allow_nan=False) + "\n"
 
 
+#: Record field -> JSON key of a trajectory circuit, so a quantity has the name it has in a prediction.
+_TRAJECTORY_CIRCUIT_KEYS = {"max_misalignment_deg": "max_p_misalignment_deg",
+                            "max_misalignment_sd_deg": "max_p_misalignment_sd_deg"}
+
+
 def trajectory_to_dict(tp: TrajectoryPrediction) -> dict:
     """Plain-data (JSON) form of a :class:`TrajectoryPrediction`."""
     r = _r
@@ -127,8 +132,9 @@ def trajectory_to_dict(tp: TrajectoryPrediction) -> dict:
         "currents": tp.currents,
         "n_frames": tp.n_frames, "weights": tp.provenance["weights"], "temperature_K": tp.temperature_K,
         "exchange_groups": [list(g) for g in tp.exchange_groups],
-        "circuits": [{k: (list(v) if isinstance(v, tuple) else r(v) if isinstance(v, float) else v)
-                      for k, v in dataclasses.asdict(c).items()} for c in tp.circuits],
+        "circuits": [{_TRAJECTORY_CIRCUIT_KEYS.get(k, k): (list(v) if isinstance(v, tuple) else r(v)
+                      if isinstance(v, float) else v) for k, v in dataclasses.asdict(c).items()}
+                     for c in tp.circuits],
         "protons": [{"index": h, "ring_current_ppm": r(tp.ring_current_ppm[k]), "spread_ppm": r(tp.spread_ppm[k]),
                      "ring_current_slow_exchange_ppm": r(tp.ring_current_slow_ppm[k]),
                      "spread_slow_exchange_ppm": r(tp.spread_slow_ppm[k]),
