@@ -31,15 +31,21 @@ def tmp_module():
 
 
 @pytest.fixture(scope="package")
-def hexagon(tmp_module):
-    """Benzene as an exact regular hexagon in the xy plane, J = 12 nA/T set outright."""
+def hexagon_file(tmp_module):
+    """Benzene as an exact regular hexagon in the xy plane, as an XYZ file (constructed geometry)."""
     ang = np.arange(6) * np.pi / 3
     lines = ["12", "regular hexagon benzene (constructed)"]
     lines += [f"C {R_CC * math.cos(a):.10f} {R_CC * math.sin(a):.10f} 0.0" for a in ang]
     lines += [f"H {R_CH * math.cos(a):.10f} {R_CH * math.sin(a):.10f} 0.0" for a in ang]
     path = tmp_module / "hexagon.xyz"
     path.write_text("\n".join(lines) + "\n")
-    return predict(load_structure(str(path), charge=0), set_current={"R1": 12.0})
+    return str(path)
+
+
+@pytest.fixture(scope="package")
+def hexagon(hexagon_file):
+    """The regular-hexagon benzene with J = 12 nA/T set outright."""
+    return predict(load_structure(hexagon_file, charge=0), set_current={"R1": 12.0})
 
 
 @pytest.fixture(scope="package")

@@ -18,19 +18,7 @@ from ringshift.io.structures import load_structure
 from ringshift.reporting import maps as M
 from ringshift.shifts.prediction import predict
 
-R_CC, R_CH = 1.39, 2.47
 MAPPABLE = ["polygon", "johnson-bovey", "haigh-mallion", "dipole"]
-
-
-@pytest.fixture(scope="module")
-def hexagon_file(tmp_path_factory):
-    ang = np.arange(6) * np.pi / 3
-    lines = ["12", "regular hexagon benzene (constructed)"]
-    lines += [f"C {R_CC * math.cos(a):.10f} {R_CC * math.sin(a):.10f} 0.0" for a in ang]
-    lines += [f"H {R_CH * math.cos(a):.10f} {R_CH * math.sin(a):.10f} 0.0" for a in ang]
-    path = tmp_path_factory.mktemp("maps") / "hexagon.xyz"
-    path.write_text("\n".join(lines) + "\n")
-    return str(path)
 
 
 @pytest.mark.parametrize("model", MAPPABLE, ids=MAPPABLE)
