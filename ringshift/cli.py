@@ -292,7 +292,7 @@ def report_cmd(structure, peaks, charge, conformers, seed, temperature, model, c
 def map_cmd(structure, charge, conformers, seed, temperature, model, currents, beta_model, scale, set_current,
             circuit, output, plane, height, extent, grid, for_circuit, contour_max, force):
     """Shielding map (isotropic ring-current shift, ppm) of STRUCTURE's loops, with the chosen --model."""
-    from ringshift.reporting.figures import save_figure
+    from ringshift.reporting.figure_style import save_figure
     from ringshift.reporting.map_loops import check_map_model
     from ringshift.reporting.maps import normal_scan_figure, shielding_map_figure
 

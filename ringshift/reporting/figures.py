@@ -14,10 +14,6 @@ the RDKit structure drawing in :mod:`ringshift.reporting.sdf`.
 
 from __future__ import annotations
 
-import io
-from pathlib import Path
-from typing import Any
-
 import numpy as np
 from matplotlib import rc_context
 from matplotlib.figure import Figure
@@ -25,32 +21,26 @@ from matplotlib.lines import Line2D
 from matplotlib.patches import Patch
 
 from ringshift.errors import InputError
-from ringshift.io.writing import atomic_write
 from ringshift.reporting import numbers
+from ringshift.reporting.figure_style import (
+    FITTED,
+    INK,
+    MUTED,
+    OBSERVED,
+    PRIOR,
+    REFERENCE,
+    STYLE,
+    UNASSIGNED,
+    figure_bytes,
+    save_figure,
+)
+from ringshift.reporting.level_diagram import level_clusters, levels_figure, save_levels_figure
 
 __all__ = ["spectrum_figure", "contributions_figure", "levels_figure", "level_clusters", "save_levels_figure",
            "save_figure", "figure_bytes", "spread_positions", "STYLE", "INK", "OBSERVED", "FITTED", "PRIOR",
            "REFERENCE"]
 
-#: Colours: distinct in hue and in lightness (greyscale: FITTED mid, PRIOR light, OBSERVED dark).
-INK = "#1c1c1c"
-OBSERVED = "#202a36"
-FITTED = "#b4531c"
-PRIOR = "#8c8c8c"
-REFERENCE = "#4f6d3a"
-MUTED = "#a6a6a6"
-UNASSIGNED = "#7a1f1f"
 
-#: rc parameters applied while a figure is built and saved (local rc_context, never global).
-STYLE: dict[Any, Any] = {  # matplotlib types the keys as a Literal of rc names
-    "font.family": "DejaVu Sans", "font.size": 8.5, "axes.titlesize": 9.5, "axes.titlelocation": "left",
-    "axes.labelsize": 8.5, "axes.spines.top": False, "axes.spines.right": False, "axes.linewidth": 0.7,
-    "xtick.major.width": 0.7, "ytick.major.width": 0.7, "legend.frameon": False, "legend.fontsize": 8,
-    "svg.fonttype": "none", "svg.hashsalt": "ringshift", "pdf.fonttype": 42, "savefig.dpi": 150,
-    "hatch.linewidth": 0.6, "hatch.color": PRIOR,
-}
-
-_FORMATS = {".png": "png", ".svg": "svg", ".pdf": "pdf"}
 _PEAK_TAG = {"solvent": "solvent", "reference": "TMS", "tms": "TMS", "impurity": "impurity"}
 
 
@@ -109,52 +99,6 @@ def spread_positions(x, min_gap: float) -> np.ndarray:
     res = np.empty_like(x)
     res[order] = out
     return res
-
-
-# ------------------------------------------------------------------------------------------ saving
-def figure_bytes(fig: Figure, fmt: str) -> bytes:
-    """Render a figure to ``png``, ``svg`` or ``pdf`` bytes (SVG text kept as text)."""
-    if fmt not in _FORMATS.values():
-        raise InputError(f"unknown figure format {fmt!r}; expected png, svg or pdf", "format")
-    buf = io.BytesIO()
-    with rc_context(STYLE):
-        fig.savefig(buf, format=fmt, metadata=_metadata(fmt))
-    return buf.getvalue()
-
-
-def _metadata(fmt: str):
-    # fixed metadata keeps files reproducible (no creation date)
-    if fmt == "svg":
-        return {"Date": None, "Creator": "ringshift"}
-    if fmt == "pdf":
-        return {"CreationDate": None, "Creator": "ringshift"}
-    return {"Software": "ringshift"}
-
-
-def save_figure(fig: Figure, path, *, force: bool = False) -> Path:
-    """Write a figure as PNG, SVG or PDF (by the file extension), atomically.
-
-    Parameters
-    ----------
-    fig : matplotlib.figure.Figure
-    path : str or os.PathLike
-        Ends in ``.png``, ``.svg`` or ``.pdf``.
-    force : bool
-        Overwrite an existing file.
-
-    Returns
-    -------
-    pathlib.Path
-        The written path. Raises :class:`~ringshift.errors.InputError` for another extension and
-        :class:`~ringshift.errors.OutputError` when the file exists (without ``force``) or the folder
-        cannot be written.
-    """
-    p = Path(path)
-    fmt = _FORMATS.get(p.suffix.lower())
-    if fmt is None:
-        raise InputError(f"cannot tell the figure format from {p.name!r}; expected a .png, .svg or .pdf file",
-                         str(path))
-    return atomic_write(p, figure_bytes(fig, fmt), force=force)
 
 
 # ---------------------------------------------------------------------------------------- spectrum
@@ -430,6 +374,3 @@ def contributions_figure(source, *, width_in: float = 8.0) -> Figure:
         fig.legend(handles=handles, loc="outside lower center", ncol=3)
     return fig
 
-
-# the level diagram lives in its own module; its names stay importable from here
-from ringshift.reporting.level_diagram import level_clusters, levels_figure, save_levels_figure  # noqa: E402

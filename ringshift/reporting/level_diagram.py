@@ -13,7 +13,7 @@ from matplotlib import rc_context
 from matplotlib.figure import Figure
 
 from ringshift.errors import InputError
-from ringshift.reporting.figures import FITTED, INK, MUTED, PRIOR, STYLE, save_figure
+from ringshift.reporting.figure_style import FITTED, INK, MUTED, PRIOR, STYLE, save_figure
 
 __all__ = ["level_clusters", "levels_figure", "save_levels_figure"]
 

@@ -34,7 +34,8 @@ from matplotlib.lines import Line2D
 from ringshift.constants import JB_SEPARATION_A
 from ringshift.errors import InputError
 from ringshift.reporting import numbers
-from ringshift.reporting.figures import FITTED, INK, MUTED, PRIOR, STYLE, split_source
+from ringshift.reporting.figure_style import FITTED, INK, MUTED, PRIOR, STYLE
+from ringshift.reporting.figures import split_source
 from ringshift.reporting.map_loops import (
     MAP_MODELS,
     Loop,
