@@ -29,6 +29,8 @@ import os
 from collections.abc import Callable, Iterable, Sequence
 from typing import Any, ClassVar
 
+from ringshift._numbers import text
+
 __all__ = ["PredictionDisplay", "ComparisonDisplay", "TrajectoryDisplay", "records_frame", "PANDAS_HINT"]
 
 #: The one-line message of the ImportError raised by ``to_frame()`` without pandas.
@@ -95,14 +97,14 @@ def _cell(value: Any, digits: int = 2) -> str:
     if isinstance(value, bool):
         return "yes" if value else "no"
     if isinstance(value, float):
-        return f"{value:.{digits}f}"
+        return text(value, f".{digits}f")
     if isinstance(value, (list, tuple)):
         return " ".join(str(v) for v in value)
     return str(value)
 
 
 def _signed(value: float | None, digits: int = 2) -> str:
-    return "–" if value is None else f"{value:+.{digits}f}"
+    return "–" if value is None else text(value, f"+.{digits}f")
 
 
 def _html_table(caption: str, header: Sequence[str], rows: Iterable[Sequence[Any]]) -> str:

@@ -336,6 +336,7 @@ def map_cmd(structure, charge, conformers, seed, temperature, model, currents, b
 def trajectory_cmd(frames, charge, model, currents, beta_model, weights, temperature, energy_unit, frame_weights,
                    exchange, exchange_group, memory, fmt, output, force):
     """Frame-averaged ring-current shifts of a multi-frame XYZ or multi-record SDF (streamed)."""
+    from ringshift._numbers import text as num
     from ringshift.reporting.json import CAUTION, to_json, trajectory_to_dict
     from ringshift.runners.averaging import read_weights_file
     from ringshift.runners.trajectory import predict_trajectory_file
@@ -367,9 +368,9 @@ def trajectory_cmd(frames, charge, model, currents, beta_model, weights, tempera
                 f"exchange {exchange}", "", "group  nH  atoms (H)                 ring current  spread  predicted"]
         for g in tp.groups:
             atoms = " ".join(map(str, g.atoms))
-            pred = "" if g.predicted_ppm is None else f"{g.predicted_ppm:9.2f}"
-            rows.append(f"{g.label:<6} {len(g.atoms):>2}  {atoms[:24]:<24}  {g.ring_current_ppm:+12.2f}  "
-                        f"{g.spread_ppm:6.2f}  {pred}")
+            pred = num(g.predicted_ppm, "9.2f")
+            rows.append(f"{g.label:<6} {len(g.atoms):>2}  {atoms[:24]:<24}  {num(g.ring_current_ppm, '+12.2f')}  "
+                        f"{num(g.spread_ppm, '6.2f')}  {pred}")
         rows += [f"note: {w}" for w in tp.warnings] + ["", f"Caution: {CAUTION}"]
         text = "\n".join(rows) + "\n"
     _emit(text, output, force)

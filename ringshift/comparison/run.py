@@ -14,6 +14,7 @@ from typing import TYPE_CHECKING
 import numpy as np
 
 from ringshift._display import ComparisonDisplay
+from ringshift._numbers import text
 from ringshift.comparison.comparer import compare as _cmp_compare
 from ringshift.comparison.records import CircuitPrior, Comparison, GroupModel, ObservedPeak
 from ringshift.constants import BENZENE_CURRENT_NA_PER_T
@@ -76,7 +77,7 @@ def observed_peaks(peaklist, pred) -> list[ObservedPeak]:
                                  "neither hydrogens nor heavy atoms carrying hydrogens (0-based indices, as in the "
                                  "prediction's JSON)", where)
         out.append(ObservedPeak(shift_ppm=float(p.shift_ppm), integral=p.integral, fixed_groups=fixed,
-                                    label=p.label or f"{p.shift_ppm:.2f}", kind=_KIND.get(p.kind, p.kind)))
+                                    label=p.label or text(p.shift_ppm, ".2f"), kind=_KIND.get(p.kind, p.kind)))
     return out
 
 

@@ -15,6 +15,7 @@ from dataclasses import dataclass
 
 import numpy as np
 
+from ringshift._numbers import text
 from ringshift.comparison.assignment import overflow_protons, pair_swaps, solve_assignment, standardized_cost
 from ringshift.comparison.evidence import LinearGaussianFit, linear_gaussian_fit
 from ringshift.comparison.records import GroupAssignment
@@ -210,7 +211,7 @@ def starting_points(prior_mean: np.ndarray, prior_sd: np.ndarray, n_classes: int
 
 def peak_label(peak) -> str:
     """Label of a peak for reports: its own, else its shift."""
-    return peak.label if peak.label else f"{peak.shift_ppm:.2f} ppm"
+    return peak.label if peak.label else f"{text(peak.shift_ppm, '.2f')} ppm"
 
 
 def group_results(problem: SearchProblem, a: np.ndarray, fit: LinearGaussianFit, groups, peaks,

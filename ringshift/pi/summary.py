@@ -9,13 +9,13 @@ from __future__ import annotations
 
 import numpy as np
 
+from ringshift._numbers import rounded as _r
 from ringshift._records import to_plain
 from ringshift.pi.huckel import HuckelResult
 from ringshift.pi.huckel import huckel as _pisystem_huckel
 from ringshift.pi.perception import PiSystem
 from ringshift.pi.perception import huckel_class as _pisystem_huckel_class
 from ringshift.reporting.json import CAUTION, SCHEMA_VERSION, circuit_to_dict
-from ringshift.reporting.numbers import rounded as _r
 from ringshift.shifts.prediction import predict
 
 

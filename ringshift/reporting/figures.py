@@ -20,8 +20,8 @@ from matplotlib.figure import Figure
 from matplotlib.lines import Line2D
 from matplotlib.patches import Patch
 
+from ringshift import _numbers as numbers
 from ringshift.errors import InputError
-from ringshift.reporting import numbers
 from ringshift.reporting.figure_style import (
     FITTED,
     INK,
@@ -46,7 +46,7 @@ _PEAK_TAG = {"solvent": "solvent", "reference": "TMS", "tms": "TMS", "impurity":
 
 def _ppm2(value: float) -> str:
     """Shift with two decimals, never "-0.00" (TMS at -0.001 ppm reads 0.00;
-    :func:`ringshift.reporting.numbers.text`)."""
+    :func:`ringshift._numbers.text`)."""
     return numbers.text(value, ".2f")
 
 

@@ -2,7 +2,7 @@
 
 One place for the report's typography, so every table, note and caption follows the same rules:
 
-* numbers never print a negative zero (``-0.00`` → ``0.00``), by :func:`ringshift.reporting.numbers.text`;
+* numbers never print a negative zero (``-0.00`` → ``0.00``), by :func:`ringshift._numbers.text`;
 * symbols: ``±``, ``×``, ``Å``, ``°``, ``α``, ``β`` and "Hückel" replace the ASCII spellings that
   the JSON and the log keep (``+/-``, `` x ``, ``0.64 A``, ``50 deg``, ``alpha``, ``beta``,
   ``Hueckel``/``huckel``); :func:`ascii_form` is the inverse used to check displayed text;
@@ -16,7 +16,7 @@ from __future__ import annotations
 import os
 import re
 
-from ringshift.reporting import numbers
+from ringshift import _numbers as numbers
 
 __all__ = ["CSS", "number", "readable", "ascii_form", "file_name", "scrub_paths", "provenance_label"]
 
@@ -109,7 +109,7 @@ _UNITS = [("_nA_per_T", " (nA/T)"), ("_ppm_per_electron", " (ppm per electron)")
 
 
 def number(value: float, spec: str) -> str:
-    """``format(value, spec)`` without a negative zero (the one rule of :func:`ringshift.reporting.numbers.text`)."""
+    """``format(value, spec)`` without a negative zero (the one rule of :func:`ringshift._numbers.text`)."""
     return numbers.text(value, spec)
 
 

@@ -10,7 +10,7 @@ import dataclasses
 import json
 from typing import TYPE_CHECKING
 
-from ringshift.reporting.numbers import rounded as _r
+from ringshift._numbers import rounded as _r
 
 if TYPE_CHECKING:
     from ringshift.comparison.run import CompareResult

@@ -31,9 +31,9 @@ from matplotlib.colors import BoundaryNorm, LinearSegmentedColormap
 from matplotlib.figure import Figure
 from matplotlib.lines import Line2D
 
+from ringshift import _numbers as numbers
 from ringshift.constants import JB_SEPARATION_A
 from ringshift.errors import InputError
-from ringshift.reporting import numbers
 from ringshift.reporting.figure_style import FITTED, INK, MUTED, PRIOR, STYLE
 from ringshift.reporting.figures import split_source
 from ringshift.reporting.map_loops import (
@@ -258,7 +258,7 @@ def _title(maps_or_scan, loops, width_in: float, what: str) -> str:
 
 
 def _plain(value: float, spec: str) -> str:
-    """Formatted number, never a negative zero (:func:`ringshift.reporting.numbers.text`)."""
+    """Formatted number, never a negative zero (:func:`ringshift._numbers.text`)."""
     return numbers.text(value, spec)
 
 

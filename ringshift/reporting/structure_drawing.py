@@ -20,9 +20,9 @@ from rdkit.Chem import rdCoordGen, rdDepictor
 from rdkit.Chem.Draw import rdMolDraw2D
 from rdkit.Geometry import Point2D
 
+from ringshift import _numbers as numbers
 from ringshift.errors import InputError
 from ringshift.reporting import labels as L
-from ringshift.reporting import numbers
 
 __all__ = ["structure_figure", "structure_layout", "StructureLayout", "DrawnLabel", "glyph_boxes",
            "CIRCUIT_COLOURS", "NOTE_FONT_PX", "BOND_CLEAR_PX", "LABEL_GAP_PX"]

@@ -11,10 +11,10 @@ import csv
 import io
 from typing import TYPE_CHECKING
 
+from ringshift._numbers import rounded as _r
+from ringshift._numbers import text
 from ringshift.pi.summary import _verdict
 from ringshift.reporting.json import CAUTION
-from ringshift.reporting.numbers import rounded as _r
-from ringshift.reporting.numbers import text
 
 if TYPE_CHECKING:
     from ringshift.comparison.run import CompareResult
@@ -51,12 +51,12 @@ def comparison_text(res: CompareResult) -> str:
                      f"{_fmt_cell(ga.observed_ppm)}  {_fmt_cell(ga.predicted_ppm)}  "
                      f"{_fmt_cell(ga.residual_ppm, '+8.2f')}  {_fmt_cell(ga.ring_current_ppm, '+10.2f')}    {need}")
     if c.unassigned_peaks:
-        lines.append("unassigned peaks: " + ", ".join(f"{c.peaks[i].shift_ppm:.2f}" for i in c.unassigned_peaks))
+        lines.append("unassigned peaks: " + ", ".join(text(c.peaks[i].shift_ppm, ".2f") for i in c.unassigned_peaks))
     if c.unassigned_groups:
         lines.append("unassigned groups: " + ", ".join(c.assignment[i].label for i in c.unassigned_groups))
     if c.ignored_peaks:
         lines.append("not assigned (solvent/reference): " +
-                     ", ".join(f"{c.peaks[i].shift_ppm:.2f}" for i in c.ignored_peaks))
+                     ", ".join(text(c.peaks[i].shift_ppm, ".2f") for i in c.ignored_peaks))
     for a in c.alternatives:
         moves = "; ".join(f"{g} {src or '-'} -> {dst or '-'}" for g, src, dst in a.changes)
         lines.append(f"alternative assignment (+{a.delta_cost:.2f} in 2 ln B): {moves}; "
@@ -98,16 +98,16 @@ def prediction_table(pred) -> str:
 
     out = io.StringIO()
     s = pred.structure
-    out.write(f"{s.name}: {len(pred.protons)} H in {len(pred.groups)} groups, "
-              f"{s.coords.shape[0]} conformer(s), model {pred.model}\n")
+    out.write(f"{s.name}: {len(pred.protons)} H in {len(pred.groups)} group{'' if len(pred.groups) == 1 else 's'}, "
+              f"{s.coords.shape[0]} conformer{'' if s.coords.shape[0] == 1 else 's'}, model {pred.model}\n")
     for cr in pred.circuits:
         cur = ("n/a" if cr.current_nA_per_T is None
-               else f"{cr.current_nA_per_T:+.1f} nA/T ({cr.current_rel_benzene:+.2f} × benzene)")
-        extra = f", {cr.pi_electrons} pi e ({cr.huckel_class})" if cr.pi_electrons is not None else ""
+               else f"{text(cr.current_nA_per_T, '+.1f')} nA/T ({text(cr.current_rel_benzene, '+.2f')} × benzene)")
+        extra = f", {cr.pi_electrons} π e ({cr.huckel_class})" if cr.pi_electrons is not None else ""
         out.write(f"  circuit {cr.circuit.label}: {cr.circuit.size}-membered {cr.circuit.kind}{extra}, "
-                  f"current {cur} [{cr.current_source}], planarity RMS {cr.planarity_rms_A:.2f} A\n")
+                  f"current {cur} [{cr.current_source}], planarity RMS {cr.planarity_rms_A:.2f} Å\n")
     for cr in pred.perimeters:
-        extra = f", {cr.pi_electrons} pi e ({cr.huckel_class})" if cr.pi_electrons is not None else ""
+        extra = f", {cr.pi_electrons} π e ({cr.huckel_class})" if cr.pi_electrons is not None else ""
         out.write(f"  perimeter {cr.circuit.label}: {cr.circuit.size} atoms{extra} (descriptive, no loop)\n")
     out.write("\nShifts in ppm; ring current > 0 is downfield.\n")
     out.write(line(head) + "\n")
@@ -122,7 +122,7 @@ def prediction_table(pred) -> str:
 
 def prediction_csv(pred) -> str:
     """Per-proton CSV table (indices 0-based, as in the JSON; numbers from
-    :func:`ringshift.reporting.numbers.rounded`)."""
+    :func:`ringshift._numbers.rounded`)."""
     labels = [cr.circuit.label for cr in pred.circuits]
     buf = io.StringIO()
     wr = csv.writer(buf, lineterminator="\n")
@@ -145,22 +145,22 @@ def pi_text(summary: dict) -> str:
     if summary["radical"]:
         lines.append("  radical: odd pi-electron count (open shell at the Hueckel level)")
     lines.append("")
-    lines.append("circuits (current: Hueckel-London, relative to benzene with the same parameters)")
+    lines.append("circuits (current: Hückel–London, relative to benzene with the same parameters)")
     for c in summary["circuits"] + summary["perimeters"]:
         cur = c.get("current_rel_benzene")
         cur_txt = ("no loop (descriptive)" if c["kind"] == "perimeter" else
                    "no number: " + c["current_source"] if cur is None else
-                   f"{cur:+.2f} × benzene = {c['current_nA_per_T']:+.1f} nA/T "
+                   f"{text(cur, '+.2f')} × benzene = {text(c['current_nA_per_T'], '+.1f')} nA/T "
                    f"({'diatropic' if cur > 0 else 'paratropic' if cur < 0 else 'none'})")
         lines.append(f"  {c['label']:<4} {c['size']:>3}-atom {c['kind']:<10} {_verdict(c)}; "
-                     f"RMS {c['planarity_rms_A']:.2f} A, p-misalignment {c['max_p_misalignment_deg']:.0f} deg; "
+                     f"RMS {c['planarity_rms_A']:.2f} Å, p-misalignment {c['max_p_misalignment_deg']:.0f}°; "
                      f"{cur_txt}")
     lv = summary.get("levels")
     if lv:
         lines.append("")
         gap = lv["homo_lumo_gap_beta"]
-        lines.append(f"Hueckel levels ({lv['convention']}); HOMO-LUMO gap "
-                     f"{'n/a' if gap is None else f'{gap:.3f} |beta|'}; "
+        lines.append(f"Hückel levels ({lv['convention']}); HOMO–LUMO gap "
+                     f"{'n/a' if gap is None else f'{gap:.3f} |β|'}; "
                      f"{'OPEN SHELL' if lv['open_shell'] else 'closed shell'}")
         e = lv["energies_beta"]
         occ = lv["occupations"]

@@ -11,6 +11,7 @@ from __future__ import annotations
 import re
 from dataclasses import replace
 
+from ringshift._numbers import text
 from ringshift.errors import InputError
 from ringshift.spectra.peaks import Peak
 
@@ -52,7 +53,7 @@ def _flag(peaks, solvent, flag_tms, tolerance, eligible=None):
         if hit and p.kind == "sample" and (eligible is None or eligible[i]):
             p = replace(p, kind=hit[1])
             where = f" (line {p.line})" if p.line else ""
-            notes.append(f"peak at {p.shift_ppm:.3f} ppm{where} flagged as {hit[2]} ({hit[0]:.2f} ppm); "
+            notes.append(f"peak at {text(p.shift_ppm, '.3f')} ppm{where} flagged as {hit[2]} ({hit[0]:.2f} ppm); "
                          "not assigned")
         out.append(p)
     return tuple(out), notes

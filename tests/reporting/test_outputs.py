@@ -9,11 +9,14 @@ import json
 
 import pytest
 
+from ringshift._numbers import rounded, text
 from ringshift.io.structures import load_structure
 from ringshift.reporting.json import SCHEMA_VERSION, prediction_to_dict, to_json
-from ringshift.reporting.numbers import rounded, text
 from ringshift.reporting.text import prediction_csv, prediction_table
+from ringshift.runners.demo import demo_data_dir
 from ringshift.shifts.prediction import predict
+
+DEMO = demo_data_dir()
 
 
 @pytest.mark.parametrize("value, spec, expected", [
@@ -54,3 +57,14 @@ def test_json_carries_schema_version_and_no_negative_zero(toluene):
     assert doc["schema_version"] == SCHEMA_VERSION
     assert "-0.0," not in out and "-0.0\n" not in out
     assert "-0.00 " not in prediction_table(toluene)
+
+
+def test_no_negative_zero_in_compare_text_or_notes(capsys):
+    # the demo spectrum puts TMS at -0.000 ppm (invented data): labels, notes and lists must say 0.00
+    from ringshift.cli import main
+
+    with pytest.raises(SystemExit) as info:
+        main(["compare", str(DEMO / "fj14c.sdf"), str(DEMO / "fj14c_1H.jdx"), "--solvent", "CDCl3"])
+    assert info.value.code == 0
+    out = capsys.readouterr().out
+    assert "-0.00" not in out and "-0.0 " not in out

@@ -3,22 +3,18 @@
 :func:`rounded` is used for JSON (and the CSV/DataFrame forms made from it): a float rounded to a fixed
 number of decimals, ``None`` for missing or non-finite values, never ``-0.0``. :func:`text` is used for
 tables, figures and the HTML report: Python format specs, a stated placeholder for missing values, and
-never a negative zero ("-0.00" prints as "0.00"; "+0.00" stays as it is). Symbols of the text outputs
-are fixed here too: ± for uncertainties, × for ratios and multiples, Å for lengths.
+never a negative zero ("-0.00" prints as "0.00"; "+0.00" stays as it is). Human-readable outputs (text,
+HTML, figures) write ± for uncertainties, × for ratios and multiples, Å for lengths and ° for angles.
 """
 
 from __future__ import annotations
 
 import math
 
-__all__ = ["FLOAT_DIGITS", "PLUS_MINUS", "TIMES", "ANGSTROM", "rounded", "text"]
+__all__ = ["FLOAT_DIGITS", "rounded", "text"]
 
 #: Decimals kept in JSON for shifts (ppm), currents (nA/T) and lengths (Å).
 FLOAT_DIGITS = 4
-
-PLUS_MINUS = "±"
-TIMES = "×"
-ANGSTROM = "Å"
 
 
 def rounded(x, nd: int = FLOAT_DIGITS) -> float | None:
