@@ -82,3 +82,18 @@ def test_one_format_vocabulary(command, capsys):
         assert info.value.code == 0
         outs[fmt] = capsys.readouterr().out
     assert outs["text"] == outs["table"] and outs["json"].lstrip().startswith("{")
+
+
+@pytest.mark.parametrize("rows, expected", [
+    ("shift_ppm,integral,atoms\n7.3,3,6\n7.2,3,7\n", "equivalent protons share one peak"),
+    ("shift_ppm,integral,atoms,kind\n7.3,6,,\n7.26,1,6,solvent\n", "marked 'solvent' and also fixed"),
+], ids=["group-on-two-peaks", "solvent-with-atoms"])
+def test_fixed_atom_conflicts_name_the_file_line_not_internals(rows, expected, tmp_path, capsys):
+    # benzene: H atoms 6..11 form one group of equivalent protons (common practice, no source)
+    peaks = tmp_path / "peaks.csv"
+    peaks.write_text(rows)
+    with pytest.raises(SystemExit) as info:
+        main(["compare", "c1ccccc1", str(peaks), "--conformers", "1"])
+    err = capsys.readouterr().err
+    assert info.value.code == 2 and expected in err and "peaks.csv:3" in err
+    assert "fixed_groups" not in err and "peaks[" not in err and err.count("\n") == 1

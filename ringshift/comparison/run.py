@@ -15,6 +15,7 @@ import numpy as np
 
 from ringshift._display import ComparisonDisplay
 from ringshift._numbers import text
+from ringshift.comparison.comparer import IGNORED_KINDS
 from ringshift.comparison.comparer import compare as _cmp_compare
 from ringshift.comparison.records import CircuitPrior, Comparison, GroupModel, ObservedPeak
 from ringshift.constants import BENZENE_CURRENT_NA_PER_T
@@ -66,16 +67,29 @@ def circuit_priors(pred, *, prior_sd_nA_per_T: float = PRIOR_SD_NA_PER_T) -> lis
 def observed_peaks(peaklist, pred) -> list[ObservedPeak]:
     """Observed peaks for the comparer; a fixed assignment names H or heavy-atom indices (0-based)."""
     out = []
-    for p in peaklist.peaks:
+    owner: dict[int, tuple[int, str]] = {}          # group -> (peak index, its shift as text)
+    for k, p in enumerate(peaklist.peaks):
         fixed = None
         if p.fixed_atoms:
+            where = f"{peaklist.source}:{p.line}" if p.line else peaklist.source
+            shift = text(p.shift_ppm, ".2f")
             want = set(p.fixed_atoms)
             fixed = tuple(gi for gi, g in enumerate(pred.groups) if want & (set(g.atoms) | set(g.parents)))
             if not fixed:
-                where = f"{peaklist.source}:{p.line}" if p.line else peaklist.source
-                raise InputError(f"peak at {p.shift_ppm:.2f} ppm is fixed to atoms {sorted(want)}, which are "
+                raise InputError(f"peak at {shift} ppm is fixed to atoms {sorted(want)}, which are "
                                  "neither hydrogens nor heavy atoms carrying hydrogens (0-based indices, as in the "
                                  "prediction's JSON)", where)
+            if _KIND.get(p.kind, p.kind) in IGNORED_KINDS:
+                raise InputError(f"peak at {shift} ppm is marked {p.kind!r} and also fixed to atoms "
+                                 f"{sorted(want)}; a solvent, reference or impurity line holds no protons of the "
+                                 "molecule (drop its atoms, or its kind)", where)
+            for gi in fixed:
+                if gi in owner and owner[gi][0] != k:
+                    g = pred.groups[gi]
+                    raise InputError(f"peak at {shift} ppm is fixed to atoms {sorted(want)}, but the equivalent "
+                                     f"protons of group {g.label} (atoms {list(g.atoms)}) are already fixed to the "
+                                     f"peak at {owner[gi][1]} ppm; equivalent protons share one peak", where)
+                owner[gi] = (k, shift)
         out.append(ObservedPeak(shift_ppm=float(p.shift_ppm), integral=p.integral, fixed_groups=fixed,
                                     label=p.label or text(p.shift_ppm, ".2f"), kind=_KIND.get(p.kind, p.kind)))
     return out
