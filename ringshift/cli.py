@@ -25,6 +25,7 @@ OPTION_OF_PARAMETER = {
     "seed": "--seed", "temperature_K": "--temperature", "noise_ppm": "--noise", "claim": "--claim",
     "solvent": "--solvent", "weights": "--weights", "energy_unit": "--energy-unit", "memory_MB": "--memory",
     "jobs": "--jobs", "scheduler": "--scheduler", "contour_max_ppm": "--contour-max",
+    "circuit": "--for-circuit",
 }
 
 
@@ -43,6 +44,8 @@ def _error_text(exc: InputError) -> str:
     """One line for an InputError, with an API parameter name shown as the matching command-line option."""
     if exc.source in OPTION_OF_PARAMETER:
         return " ".join(f"{OPTION_OF_PARAMETER[exc.source]}: {exc.bare_message}".split())
+    if exc.parameter in OPTION_OF_PARAMETER:
+        return f"{exc} (option {OPTION_OF_PARAMETER[exc.parameter]})"
     return str(exc)
 
 
@@ -257,6 +260,10 @@ def report_cmd(structure, peaks, charge, conformers, seed, temperature, model, c
         raise OutputError(f"{out_dir}: already exists; use --force to replace it")
     say = (lambda m: None) if quiet else (lambda m: click.echo(f"... {m}", err=True))
     say("structure, pi system and ring currents")
+    if not peaks and (claim or noise is not None or solvent):
+        given = [o for o, v in (("--claim", claim), ("--noise", noise), ("--solvent", solvent)) if v]
+        raise InputError(f"{' and '.join(given)} {'needs' if len(given) == 1 else 'need'} observed peaks: give "
+                         "PEAKS after STRUCTURE, or leave the option out")
     pred = _run_predict(structure, charge, conformers, seed, temperature, model, currents, beta_model, scale,
                         set_current, circuit)
     res = None

@@ -20,12 +20,16 @@ class InputError(RingshiftError, ValueError):
     message : str
         One line: what arrived, what was expected, how to fix it.
     source : str, optional
-        The input the message refers to (a path, ``path:line`` or an option name). When given, the
-        message is prefixed with it.
+        The input the message refers to (a path, ``path:line`` or an API parameter name). When given,
+        the message is prefixed with it.
+    parameter : str, optional
+        The API parameter that would fix the problem when ``source`` is a file (e.g. ``"charge"`` for an
+        XYZ file whose bonds do not fit a neutral molecule); the command line names its option.
     """
 
-    def __init__(self, message: str, source: str | None = None):
+    def __init__(self, message: str, source: str | None = None, *, parameter: str | None = None):
         self.source = source
+        self.parameter = parameter
         self.bare_message = message
         text = f"{source}: {message}" if source else message
         super().__init__(" ".join(text.split()))  # always one line

@@ -97,3 +97,33 @@ def test_fixed_atom_conflicts_name_the_file_line_not_internals(rows, expected, t
     err = capsys.readouterr().err
     assert info.value.code == 2 and expected in err and "peaks.csv:3" in err
     assert "fixed_groups" not in err and "peaks[" not in err and err.count("\n") == 1
+
+
+def test_report_refuses_comparison_options_without_peaks(tmp_path, capsys):
+    with pytest.raises(SystemExit) as info:
+        main(["report", "c1ccccc1", "--conformers", "1", "--claim", "aromatic", "-o", str(tmp_path / "r")])
+    err = capsys.readouterr().err
+    assert info.value.code == 2 and "--claim needs observed peaks" in err
+    assert not (tmp_path / "r").exists()
+
+
+def test_a_file_error_names_the_parameter_that_fixes_it(tmp_path, capsys):
+    # the cyclopentadienyl anion as XYZ without its charge: bonds do not fit a neutral molecule
+    # (geometry invented, regular pentagon, common practice, no source)
+    import math
+
+    lines = ["10", "C5H5- without its charge"]
+    for k in range(5):
+        a = 2 * math.pi * k / 5
+        lines.append(f"C {1.19 * math.cos(a):.6f} {1.19 * math.sin(a):.6f} 0.0")
+    for k in range(5):
+        a = 2 * math.pi * k / 5
+        lines.append(f"H {2.27 * math.cos(a):.6f} {2.27 * math.sin(a):.6f} 0.0")
+    path = tmp_path / "cp.xyz"
+    path.write_text("\n".join(lines) + "\n")
+    with pytest.raises(InputError) as info:
+        load_structure(str(path))
+    assert info.value.parameter == "charge" and "--" not in str(info.value)
+    with pytest.raises(SystemExit):
+        main(["predict", str(path)])
+    assert "(option --charge)" in capsys.readouterr().err

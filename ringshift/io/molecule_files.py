@@ -174,11 +174,11 @@ def _mol_from_xyz(path: Path, charge: int | None) -> tuple[Chem.Mol, np.ndarray]
         no_h = "; the file has no hydrogen atoms (XYZ input needs every atom)" if "H" not in symbols else ""
         if charge is None:
             msg = (f"cannot assign bonds for a neutral molecule ({why}){hint}{no_h}; if this is an ion, give "
-                   "its charge with --charge")
+                   "its net charge")
         else:
             msg = (f"the given charge {q} does not fit the geometry: RDKit cannot assign bonds with it ({why})"
-                   f"{hint}{no_h}; check --charge and that no atom is missing")
-        raise InputError(msg, source=str(path)) from None
+                   f"{hint}{no_h}; check the net charge and that no atom is missing")
+        raise InputError(msg, source=str(path), parameter="charge") from None
     if "H" not in symbols and "C" in symbols:
         warnings.warn(GeometryWarning(f"{path}: no hydrogen atoms; an XYZ file must list every atom, so the bonds "
                                       "were perceived for a hydrogen-free molecule (add the hydrogens)"), stacklevel=3)

@@ -207,7 +207,7 @@ CASES = [
     C("xyz-overlap", ["predict", "{d}/overlap.xyz"], 2, "atoms 3 (C) and 12 (C) (0-based) are 0.050 Å apart"),
     C("sdf-overlap", ["predict", "{d}/overlap.sdf"], 2, "atoms 0 (C) and 6 (H) (0-based) are 0.100 Å apart"),
     C("xyz-unknown-element", ["predict", "{d}/unknown_element.xyz"], 2, "expected 'element x y z'"),
-    C("xyz-no-bonds-neutral", ["predict", "{d}/radical.xyz"], 2, "give its charge with --charge"),
+    C("xyz-no-bonds-neutral", ["predict", "{d}/radical.xyz"], 2, "give its net charge (option --charge)"),
     C("xyz-charge-does-not-fit", ["predict", "{d}/naphthalene.xyz", "--charge", "2"], 2,
       "the given charge 2 does not fit the geometry"),
     C("xyz-frames-reordered", ["predict", "{d}/frames_reordered.xyz"], 2, "same order"),
@@ -348,7 +348,7 @@ def test_charge_messages_differ_with_and_without_charge(data_dir, capsys):
     # Without --charge the user is told how to give one; with a wrong --charge, that it does not fit
     # and which small charge does (naphthalene is neutral; common practice, no source).
     _, _, err = run(["predict", data_dir / "radical.xyz"], capsys)
-    assert "if this is an ion, give its charge with --charge" in err and "does not fit" not in err
+    assert "if this is an ion, give its net charge (option --charge)" in err and "does not fit" not in err
     _, _, err = run(["predict", data_dir / "naphthalene.xyz", "--charge", "2"], capsys)
     assert "if this is an ion" not in err
     assert "net charge 0 fits the geometry" in err
