@@ -12,7 +12,8 @@ and small reference-shift errors, so the demo shows the whole job on data whose 
 * FJ-14o: hidden benzene-ring currents +11.0 nA/T each, no current in the cyclophane macrocycle.
 
 Run from the project root:  python demo_spectra/make_demo.py
-It overwrites the files in demo_spectra/ and is deterministic (fixed seeds).
+It overwrites the files in ringshift/data/demo/ (demo_spectra/ links to them) and is deterministic
+(fixed seeds).
 """
 
 from __future__ import annotations

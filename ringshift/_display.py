@@ -273,10 +273,6 @@ def _assignment_keys(data: dict) -> list[str]:
     return list(keys)
 
 
-def _fit(data: dict) -> dict | None:
-    return next((c for c in data["circuits"] if c["label"] == data["verdict_circuit"]), None)
-
-
 class ComparisonDisplay(_Display):
     """Display of a :class:`~ringshift.comparison.run.CompareResult`.
 

@@ -8,9 +8,6 @@ from __future__ import annotations
 
 from scipy import constants as _sc
 
-#: Vacuum permeability μ0 in T·m/A (CODATA, via scipy.constants).
-MU0_T_M_PER_A: float = _sc.mu_0
-
 #: μ0 × (1 nA/T) expressed in ppm·Å. A current susceptibility J (nA/T) in a field B induces a current
 #: I = J·B; its field at distance r scales as μ0 I / r, so μ0·J is a length, and
 #: 4π×1e-7 T·m/A × 1e-9 A/T = 1.2566e-15 m = 1.2566e-5 Å = 12.566 ppm·Å.

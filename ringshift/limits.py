@@ -1,7 +1,7 @@
 """Documented limits of ringshift's inputs, and the checks that enforce them.
 
 The readers behind :func:`ringshift.io.structures.load_structure` (SMILES, MOL/SDF, XYZ), the peak-list
-and JCAMP-DX readers (:mod:`ringshift.spectra.peaks`, :mod:`ringshift.io.jcampdx`) and user reference-shift
+and JCAMP-DX readers (:mod:`ringshift.io.peak_tables`, :mod:`ringshift.io.jcampdx`) and user reference-shift
 tables (:mod:`ringshift.shifts.reference`) apply these limits before they do expensive work; a file or string
 beyond a limit raises :class:`~ringshift.errors.InputError` with a one-line message naming the
 input, the limit and what to do. The values are generous for real molecules and 1D ¹H spectra

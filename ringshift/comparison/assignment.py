@@ -1,7 +1,7 @@
 """Assignment of hydrogen groups to observed peaks: optimal matching on integral slots.
 
-Array kernels (matching, alternating search) used by :mod:`ringshift.comparison.comparer`, and the per-group,
-per-peak and alternative-assignment result records.
+Array kernels (the matching) used by the search of :mod:`ringshift.comparison.search`, which
+alternates them with the fit; the result records are in :mod:`ringshift.comparison.records`.
 
 A peak whose integral corresponds to k protons offers k *slots*; a group of n_h equivalent protons
 needs n_h slots. Every proton of every free group is a row of a cost matrix, every slot a column,
@@ -21,9 +21,9 @@ spoiled. When no group is split the matching is exactly optimal (the proton-leve
 relaxation of the group-level one and their costs agree on whole-group assignments); otherwise the
 result is a local optimum (the group-level problem is a generalized assignment problem, NP-hard).
 
-The matching is alternated with the linear-Gaussian fit (:class:`SearchProblem`, :func:`search`):
+The matching is alternated with the linear-Gaussian fit (:mod:`ringshift.comparison.search`):
 fit → predictive mean and variance of every group → z² → matching → fit, until the assignment
-repeats, from several starting currents; :func:`polish` then tries every pair swap and every
+repeats, from several starting currents; ``search.polish`` then tries every pair swap and every
 re-solve with one used (group, peak) pair forbidden, keeps any improvement, and returns the
 neighbouring assignments for the report of alternatives.
 """

@@ -1,8 +1,8 @@
 """Closed-form Bayesian linear regression and the evidence for a ring current's sign.
 
 Pure array kernels (arrays in, arrays out) used by :mod:`ringshift.comparison.comparer`, the per-circuit
-result records (:class:`CircuitFit`, :class:`CircuitEvidence`), the claim check and the helper that
-turns result dataclasses into plain JSON-able types.
+fits and the claim check (their records, :class:`~ringshift.comparison.records.CircuitFit` and
+:class:`~ringshift.comparison.records.CircuitEvidence`, are in :mod:`ringshift.comparison.records`).
 
 The model is linear-Gaussian: data ``y`` (n,), design ``X`` (n, p), parameters θ (p,) with an
 independent Gaussian prior θ_k ~ N(m0_k, s0_k²) and noise ε ~ N(0, σ² I). Then the posterior of θ is

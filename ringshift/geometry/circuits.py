@@ -298,7 +298,7 @@ def _check_user_circuit(mol: Chem.Mol, cyc: tuple[int, ...]) -> None:
             )
 
 
-def plane_fit(points: np.ndarray) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
+def plane_fit_rms(points: np.ndarray) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
     """Least-squares plane of point sets by SVD (:func:`ringshift.geometry.planes.plane_fit`), RMS deviation.
 
     Parameters
@@ -318,7 +318,7 @@ def plane_fit(points: np.ndarray) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
     return centre, normal, np.sqrt(np.mean(dev**2, axis=1))
 
 
-def p_orbital_axes(coords: np.ndarray, atoms: Sequence[int], neighbours: Sequence[Sequence[int]]) -> np.ndarray:
+def ring_p_axes(coords: np.ndarray, atoms: Sequence[int], neighbours: Sequence[Sequence[int]]) -> np.ndarray:
     """Local p-orbital axis of each atom, for every conformer (:func:`ringshift.geometry.planes.poav_vectors`).
 
     Three neighbours: the POAV1 axis (normal of the plane through the tips of the unit bond vectors);
@@ -366,7 +366,7 @@ def circuit_geometry(coords: np.ndarray, circuit: Circuit | Sequence[int],
     pts = xyz[:, atoms, :]
     if not np.all(np.isfinite(pts)):
         raise InputError("non-finite ring-atom coordinates", f"circuit {atoms}")
-    centre, normal, rms = plane_fit(pts)
+    centre, normal, rms = plane_fit_rms(pts)
     rel = pts - centre[:, None, :]
     radius = np.linalg.norm(rel, axis=2).mean(axis=1)
     area = 0.5 * np.abs(np.einsum("ij,ij->i", np.cross(rel, np.roll(rel, -1, axis=1)).sum(axis=1), normal))
@@ -379,7 +379,7 @@ def circuit_geometry(coords: np.ndarray, circuit: Circuit | Sequence[int],
         nbrs = [nb if len(nb) >= 2 else [atoms[(k - 1) % m], atoms[(k + 1) % m]] for k, nb in enumerate(nbrs)]
     else:
         nbrs = [[atoms[(k - 1) % m], atoms[(k + 1) % m]] for k in range(m)]
-    axes = p_orbital_axes(xyz, atoms, nbrs)
+    axes = ring_p_axes(xyz, atoms, nbrs)
     undefined = ~np.any(axes, axis=2)                      # sp-like ring atoms follow the ring normal
     axes = np.where(undefined[..., None], normal[:, None, :], axes)
     cosang = np.abs(np.einsum("kmj,kmj->km", axes, np.roll(axes, -1, axis=1)))
@@ -387,20 +387,3 @@ def circuit_geometry(coords: np.ndarray, circuit: Circuit | Sequence[int],
     return CircuitGeometry(centre, normal, radius, area, rms, mis)
 
 
-def double_loop_vertices(vertices: np.ndarray, normal: np.ndarray,
-                         separation_A: float) -> tuple[np.ndarray, np.ndarray]:
-    """The two Johnson–Bovey loops: the polygon shifted by ±separation along the normal.
-
-    Parameters
-    ----------
-    vertices : ndarray, shape (..., m, 3)
-    normal : ndarray, shape (..., 3)
-    separation_A : float
-        Half-distance between the loops, Å (Johnson & Bovey, J. Chem. Phys. 1958, 29, 1012: 0.64 Å).
-
-    Returns
-    -------
-    upper, lower : ndarray, shape (..., m, 3)
-    """
-    shift = separation_A * np.asarray(normal)[..., None, :]
-    return vertices + shift, vertices - shift

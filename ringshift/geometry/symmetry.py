@@ -1,10 +1,8 @@
 """Molecular symmetry: groups of NMR-equivalent hydrogens, graph automorphisms, symmetry-aware RMSD.
 
 :func:`group_equivalent_hydrogens` finds the graph symmetry that the 3D geometry realises; the
-conformer generator of :mod:`ringshift.io.structures` prunes duplicates with :func:`prune_conformers`
-(RMSD minimised over automorphisms, :func:`kabsch_rmsd`). Moved out of :mod:`ringshift.io.structures`,
-which re-exports :func:`group_equivalent_hydrogens`, :func:`kabsch_rmsd` and
-:data:`H_SYMMETRY_TOLERANCE_A`.
+conformer generator (:mod:`ringshift.geometry.conformers`) prunes duplicates with
+:func:`prune_conformers` (RMSD minimised over automorphisms, :func:`kabsch_rmsd`).
 """
 
 from __future__ import annotations

@@ -2,7 +2,7 @@
 
 Implements the parts of JCAMP-DX 4.24 (McDonald & Wilks, Appl. Spectrosc. 1988, 42, 151) and of its
 NMR version 5.01 (Davies & Lampen, Appl. Spectrosc. 1993, 47, 1093) that a ¹H spectrum or peak list
-needs. This module works on text and arrays only; :mod:`ringshift.spectra.peaks` turns the result into
+needs. This module works on text and arrays only; :mod:`ringshift.io.peak_tables` turns the result into
 :class:`~ringshift.spectra.peaks.PeakList` objects.
 
 Read

@@ -1,6 +1,6 @@
 """The one XYZ parser: frames of a one- or multi-frame XYZ text, from any iterator of lines.
 
-Used by :func:`ringshift.io.molecule_files.read_xyz` (a structure file, every frame required whole) and
+Used by the structure reader :mod:`ringshift.io.molecule_files` (a structure file, every frame required whole) and
 :func:`ringshift.io.frames.iter_xyz_frames` (a trajectory read as a stream, where a frame cut short by
 the end of the file may be skipped). Format: an atom count line, a comment line, then one
 ``element x y z`` line per atom (Å; the element as a symbol in any case, or an atomic number). Blank

@@ -31,7 +31,7 @@ the Peierls-type alternation of long conjugated chains.
   (1.36/1.44 Å from nutation NMR; Yannoni & Clarke, Phys. Rev. Lett. 1983, 51, 1191, from memory).
   This gives S = 0.1988 Å, R0 = 1.5295 Å; the chain comes out 1.365/1.445 Å (the mean is not fitted).
   Checks not used in the calibration: ethylene 1.331 Å (1.339 Å by electron diffraction), naphthalene
-  and planar cyclooctatetraene within 0.015 / 0.01 Å of experiment (tests/test_pisystem.py). No
+  and planar cyclooctatetraene within 0.015 / 0.01 Å of experiment (tests/pi/test_pisystem.py). No
   annulene NMR datum enters; see :mod:`ringshift.pi.perception` for what it does to annulene currents.
 
 The search starts from a small (±0.01 Å) bond alternation along the RDKit Kekulé structure and accepts

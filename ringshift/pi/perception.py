@@ -1,9 +1,9 @@
-"""π systems of RDKit molecules: perception, electron counts, Hückel levels and Hückel–London currents.
+"""The one π perception: π atoms, bonds, electron counts, fragments and planarity of an RDKit molecule.
 
-Pipeline: ``perceive_pi(mol, coords)`` → :class:`PiSystem`; ``huckel(pi, mol, coords)`` →
-:class:`HuckelResult`; ``london_currents(pi, mol, coords, circuits)`` → :class:`LondonCurrents`. The
-numerical kernels (Hückel matrix, occupations, analytic London response, Kirchhoff decomposition, the
-parameter table and its sources) live in :mod:`ringshift.pi.huckel`; conventions are stated there.
+``perceive_pi(mol, coords)`` → :class:`PiSystem`. The Hückel levels built on it are
+:func:`ringshift.pi.huckel.huckel`, the currents :func:`ringshift.pi.london.london_currents`, the
+parameters :mod:`ringshift.pi.parameters`; proton classes and the default circuit graph use this
+perception too.
 
 π atoms and electrons
 ---------------------
@@ -17,7 +17,7 @@ the rest go into the p orbital (sp: half of the rest). This gives C 1, C⁻ 2, C
 pyrrole N 2, furan O and thiophene S 2, carbonyl O 1, B 0, pyridinium N⁺ 1. The core charge is
 Z = electrons + q, so the π charges q_r = Z_r − P_rr add up to the formal charge on the π atoms.
 
-Annulenes and the β model (measured; tests/test_pisystem.py)
+Annulenes and the β model (measured; tests/pi/test_pisystem.py)
 -----------------------------------------------------------
 Hückel–London overestimates large (4n+2)-annulenes: uniform β gives 3.14 × benzene for a regular
 18-gon and 2.24 × for the real-shaped (honeycomb: the coronene perimeter, 120°, 1.397 Å) [18]annulene;
@@ -28,7 +28,7 @@ of Longuet-Higgins & Salem. Its one free parameter, the electron–lattice coupl
 data outside annulene NMR: the line passes through benzene (1.397 Å) and the self-consistent infinite
 all-trans polyene reproduces the bond-length alternation of trans-polyacetylene, 0.08 Å (1.36/1.44 Å;
 Yannoni & Clarke, Phys. Rev. Lett. 1983, 51, 1191, from memory): S = 0.1988 Å, R0 = 1.5295 Å
-(:mod:`ringshift.pi.huckel`). The earlier Coulson line through ethylene and benzene (S = 0.186 Å) remains
+(:mod:`ringshift.pi.bond_lengths`). The earlier Coulson line through ethylene and benzene (S = 0.186 Å) remains
 as ``beta_model="scf-coulson"``; it under-alternates the infinite chain (BLA 0.067 Å).
 
 Measured J/J_benzene (distance on the given geometry / scf-coulson / scf), ideal honeycomb perimeters

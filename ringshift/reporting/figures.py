@@ -52,7 +52,7 @@ def _ppm2(value: float) -> str:
 
 # ------------------------------------------------------------------------------------------- inputs
 def split_source(source):
-    """(prediction, compare_result or None) from a Prediction or an analysis.CompareResult."""
+    """(prediction, compare_result or None) from a Prediction or a :class:`ringshift.comparison.run.CompareResult`."""
     if hasattr(source, "comparison") and hasattr(source, "prediction"):
         return source.prediction, source
     if all(hasattr(source, a) for a in ("groups", "circuits", "structure")):

@@ -4,7 +4,7 @@ One place for the report's typography, so every table, note and caption follows 
 
 * numbers never print a negative zero (``-0.00`` → ``0.00``), by :func:`ringshift._numbers.text`;
 * symbols: ``±``, ``×``, ``Å``, ``°``, ``α``, ``β`` and "Hückel" replace the ASCII spellings that
-  the JSON and the log keep (``+/-``, `` x ``, ``0.64 A``, ``50 deg``, ``alpha``, ``beta``,
+  older JSON and logs used (``+/-``, `` x ``, ``0.64 A``, ``50 deg``, ``alpha``, ``beta``,
   ``Hueckel``/``huckel``); :func:`ascii_form` is the inverse used to check displayed text;
 * file paths show the file name only: a report must not reveal the folders of the machine it was
   made on;

@@ -1,7 +1,10 @@
-"""Turning results into JSON, CSV and text tables, and writing files atomically.
+"""The one JSON form of each result, with ``schema_version``: prediction, comparison and trajectory.
 
-There is one function per result type that produces plain Python data (:func:`prediction_to_dict`);
-the CLI, the report and the API all format from it, so they cannot disagree.
+There is one function per result type that produces plain Python data (:func:`prediction_to_dict`,
+:func:`comparison_to_dict`, :func:`trajectory_to_dict`; the π summary is
+:func:`ringshift.pi.summary.pi_summary`); the CLI, the report, the text and CSV tables and the API's
+``to_frame`` all format from them, so they cannot disagree. The JSON Schemas are in
+``ringshift/data/schemas/`` (:mod:`ringshift.reporting.schemas`).
 """
 
 from __future__ import annotations

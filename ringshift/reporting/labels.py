@@ -1,7 +1,7 @@
 """Placing text labels on a 2D drawing: clear of bonds, of atom symbols and of each other.
 
 Pure geometry on pixel coordinates (x to the right, y downwards, as in SVG), arrays in and arrays
-out; the RDKit drawing in :mod:`ringshift.reporting.sdf` measures its text, calls :func:`place_labels`
+out; the RDKit drawing in :mod:`ringshift.reporting.structure_drawing` measures its text, calls :func:`place_labels`
 and draws the result.
 
 A label is an axis-aligned box of known size that belongs to an anchor point (an atom, or a circuit

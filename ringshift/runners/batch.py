@@ -1,6 +1,4 @@
-"""Library runs: one prediction per molecule, in parallel, resumable, written as JSON lines.
-
-Libraries (many molecules; :func:`run_batch`), one prediction per molecule, in parallel, resumable.
+"""Library runs (:func:`run_batch`): one prediction per molecule, in parallel, resumable, as JSON lines.
 
 Output. One JSON object per line and molecule, in library order: ``{"ringshift_result": "batch_record",
 "name", "index", "source", "schema_version", "ok": true, "result": <prediction_to_dict>}`` or the same with

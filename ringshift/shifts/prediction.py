@@ -1,7 +1,7 @@
 """The prediction pipeline: Structure → circuits → currents → per-proton ring-current shifts.
 
 One plain function, :func:`predict`, on frozen dataclasses. Geometric factors (ppm per nA/T) are
-computed per conformer, circuit and proton by the kernels of :mod:`ringshift.fields.polygon`; shifts are
+computed per conformer, circuit and proton by :func:`ringshift.fields.registry.geometric_factors`; shifts are
 currents × factors, Boltzmann-averaged over conformers and then over each group of equivalent
 protons. Reference shifts and the π-charge term are kept as separate columns, never folded into the
 ring-current part.

@@ -515,7 +515,7 @@ def test_map_height_beyond_any_molecule_is_refused(capsys, tmp_path, data_dir):
     assert code == 2 and "height" in err and not target.exists()
 
 
-# Found while hardening, in files owned by others (batch.py / ensemble.py); each test states the fix.
+# Found while hardening the runners (runners/batch.py, runners/trajectory.py, io/frames.py); each test states the fix.
 def _write(tmp_path: Path, name: str, data: bytes) -> Path:
     path = tmp_path / name
     path.write_bytes(data)

@@ -9,7 +9,7 @@ from rdkit import Chem
 from scipy.spatial.transform import Rotation
 
 from ringshift.errors import InputError
-from ringshift.geometry.circuits import circuit_geometry, find_circuits, p_orbital_axes, plane_fit
+from ringshift.geometry.circuits import circuit_geometry, find_circuits, plane_fit_rms, ring_p_axes
 
 
 def _mol(smi):
@@ -132,7 +132,7 @@ def test_geometry_is_invariant_under_rigid_motions(rot, shift, n, seed):
 
 def test_plane_fit_stack_shapes():
     pts = np.stack([_hexagon(), _hexagon(1.5)])
-    c, n, rms = plane_fit(pts)
+    c, n, rms = plane_fit_rms(pts)
     assert c.shape == (2, 3) and n.shape == (2, 3) and rms.shape == (2,)
 
 
@@ -144,7 +144,7 @@ def test_p_orbital_axis_is_poav1_with_unequal_bonds():
         dirs = rng.normal(size=(3, 3)) + np.array([0.0, 0.0, -1.5])   # three bonds pointing downwards
         dirs /= np.linalg.norm(dirs, axis=1)[:, None]
         xyz = np.vstack([np.zeros(3), dirs * rng.uniform(1.0, 1.6, (3, 1))])[None]
-        axis = p_orbital_axes(xyz, [0], [[1, 2, 3]])[0, 0]
+        axis = ring_p_axes(xyz, [0], [[1, 2, 3]])[0, 0]
         cosines = dirs @ axis
         assert_allclose(cosines, np.full(3, cosines[0]), atol=1e-10)
 
@@ -158,7 +158,7 @@ def test_ring_axes_equal_the_huckel_axes():
     s = load_structure("C1=CC=CC=CC=C1", conformers=1, seed=3)   # tub-shaped cyclooctatetraene
     atoms = [a.GetIdx() for a in s.mol.GetAtoms() if a.GetAtomicNum() == 6]
     nbrs = [[n.GetIdx() for n in s.mol.GetAtomWithIdx(a).GetNeighbors()] for a in atoms]
-    ring = p_orbital_axes(s.coords[:1], atoms, nbrs)[0]
+    ring = ring_p_axes(s.coords[:1], atoms, nbrs)[0]
     bonds = [(k, (k + 1) % 8) for k in range(8)]
     hu = pg.p_orbital_axes(s.coords[0], atoms, nbrs, bonds)[0]
     assert_allclose(np.abs(np.einsum("ij,ij->i", ring, hu)), np.ones(8), atol=1e-12)
