@@ -451,8 +451,8 @@ def report(structure: StructureLike | Prediction | CompareResult,
     """
 
     from ringshift.comparison.run import CompareResult
-    from ringshift.pi.summary import pi_summary
     from ringshift.reporting import write_report
+    from ringshift.reporting.pi_summary import pi_summary
 
     out = _path(out_dir)
     if out is None:

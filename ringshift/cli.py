@@ -219,8 +219,8 @@ def _noise(value):
 @click.option("--force", is_flag=True, help="Overwrite an existing plot file.")
 def pi_cmd(structure, charge, conformers, seed, temperature, beta_model, plot, fmt, force):
     """Pi-electron counts, 4n+2/4n class, planarity, Hueckel levels and circuit currents of STRUCTURE."""
-    from ringshift.pi.summary import pi_summary
     from ringshift.reporting.json import to_json
+    from ringshift.reporting.pi_summary import pi_summary
     from ringshift.reporting.text import pi_text
 
     s = _load(structure, charge, conformers, seed, temperature)
@@ -253,8 +253,8 @@ def report_cmd(structure, peaks, charge, conformers, seed, temperature, model, c
     from ringshift.comparison.run import run_compare
     from ringshift.errors import OutputError
     from ringshift.io.peak_tables import read_peaks
-    from ringshift.pi.summary import pi_summary
     from ringshift.reporting import write_report
+    from ringshift.reporting.pi_summary import pi_summary
 
     if Path(out_dir).exists() and not force:  # refuse before any work is done
         raise OutputError(f"{out_dir}: already exists; use --force to replace it")

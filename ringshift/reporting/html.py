@@ -4,8 +4,8 @@
 end, so a failure leaves no partial report. The page has no external resources and no scripts:
 figures are inline SVG, the style sheet is inline. Every value in its tables is read from the same
 dictionaries that are written as ``results.json`` (:func:`ringshift.reporting.json.comparison_to_dict` or
-:func:`ringshift.reporting.json.prediction_to_dict`) and ``pi.json`` (:func:`ringshift.pi.summary.pi_summary`):
-each table cell carries ``data-src`` (``results`` or ``pi``) and ``data-path`` (a JSON pointer,
+:func:`ringshift.reporting.json.prediction_to_dict`) and ``pi.json``
+(:func:`ringshift.reporting.pi_summary.pi_summary`): each table cell carries ``data-src`` (``results`` or ``pi``) and ``data-path`` (a JSON pointer,
 RFC 6901) naming the value it shows.
 """
 
@@ -390,7 +390,7 @@ def write_report(out_dir, prediction, *, compare_result=None, pi_summary=None, f
     compare_result : ringshift.comparison.run.CompareResult, optional
         Adds the assignment, fitted currents, verdict and claim; must come from ``prediction``.
     pi_summary : dict, optional
-        :func:`ringshift.pi.summary.pi_summary` output; computed from ``prediction`` when omitted.
+        :func:`ringshift.reporting.pi_summary.pi_summary` output; computed from ``prediction`` when omitted.
     force : bool
         Replace an existing folder.
 
@@ -405,10 +405,10 @@ def write_report(out_dir, prediction, *, compare_result=None, pi_summary=None, f
     OutputError
         The folder exists (without ``force``), its parent is missing or not writable.
     """
-    from ringshift.pi.summary import pi_summary as make_pi
     from ringshift.reporting import figures as F
     from ringshift.reporting import sdf as S
     from ringshift.reporting.json import comparison_to_dict
+    from ringshift.reporting.pi_summary import pi_summary as make_pi
 
     out = Path(out_dir)
     if compare_result is not None and compare_result.prediction is not prediction:

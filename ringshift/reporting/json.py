@@ -2,7 +2,7 @@
 
 There is one function per result type that produces plain Python data (:func:`prediction_to_dict`,
 :func:`comparison_to_dict`, :func:`trajectory_to_dict`; the π summary is
-:func:`ringshift.pi.summary.pi_summary`); the CLI, the report, the text and CSV tables and the API's
+:func:`ringshift.reporting.pi_summary.pi_summary`); the CLI, the report, the text and CSV tables and the API's
 ``to_frame`` all format from them, so they cannot disagree. The JSON Schemas are in
 ``ringshift/data/schemas/`` (:mod:`ringshift.reporting.schemas`).
 """

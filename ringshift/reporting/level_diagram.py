@@ -37,7 +37,7 @@ def levels_figure(summary: dict, *, degeneracy_tol: float = 0.05) -> Figure:
     Parameters
     ----------
     summary : dict
-        :func:`ringshift.pi.summary.pi_summary` output; its ``levels`` entry gives ``energies_beta``
+        :func:`ringshift.reporting.pi_summary.pi_summary` output; its ``levels`` entry gives ``energies_beta``
         (x = (E − α)/|β|, bonding negative) and ``occupations`` (0–2).
     degeneracy_tol : float
         Levels closer than this (units of |β|) are drawn side by side.

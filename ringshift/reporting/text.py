@@ -13,8 +13,8 @@ from typing import TYPE_CHECKING
 
 from ringshift._numbers import rounded as _r
 from ringshift._numbers import text
-from ringshift.pi.summary import _verdict
 from ringshift.reporting.json import CAUTION
+from ringshift.reporting.pi_summary import circuit_verdict
 
 if TYPE_CHECKING:
     from ringshift.comparison.run import CompareResult
@@ -152,7 +152,7 @@ def pi_text(summary: dict) -> str:
                    "no number: " + c["current_source"] if cur is None else
                    f"{text(cur, '+.2f')} × benzene = {text(c['current_nA_per_T'], '+.1f')} nA/T "
                    f"({'diatropic' if cur > 0 else 'paratropic' if cur < 0 else 'none'})")
-        lines.append(f"  {c['label']:<4} {c['size']:>3}-atom {c['kind']:<10} {_verdict(c)}; "
+        lines.append(f"  {c['label']:<4} {c['size']:>3}-atom {c['kind']:<10} {circuit_verdict(c)}; "
                      f"RMS {c['planarity_rms_A']:.2f} Å, p-misalignment {c['max_p_misalignment_deg']:.0f}°; "
                      f"{cur_txt}")
     lv = summary.get("levels")

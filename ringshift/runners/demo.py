@@ -40,8 +40,8 @@ def run_demo(out_dir: str | Path, *, force: bool = False, progress=None) -> str:
     from ringshift.comparison.run import run_compare
     from ringshift.io.peak_tables import read_peaks
     from ringshift.io.structures import load_structure
-    from ringshift.pi.summary import pi_summary
     from ringshift.reporting import write_report
+    from ringshift.reporting.pi_summary import pi_summary
     from ringshift.shifts.prediction import predict
 
     data = demo_data_dir()

@@ -23,10 +23,10 @@ from scipy import stats
 from ringshift.constants import JB_SEPARATION_A, MU0_PPM_A_PER_NA_T
 from ringshift.errors import InputError, OutputError
 from ringshift.io.structures import load_structure
-from ringshift.pi.summary import pi_summary
 from ringshift.reporting import figures as F
 from ringshift.reporting import maps as M
 from ringshift.reporting import sdf as S
+from ringshift.reporting.pi_summary import pi_summary
 from ringshift.shifts.prediction import predict
 from ringshift.spectra.peaks import Peak, PeakList
 from ringshift.spectra.picking import simulate_spectrum

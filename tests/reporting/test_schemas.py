@@ -26,9 +26,9 @@ from ringshift.comparison.evidence import CLAIM_VERDICT, HYPOTHESIS_VERDICT, KAS
 from ringshift.comparison.run import _KIND as PEAK_KIND_IN_JSON
 from ringshift.constants import BETA_MODELS, MODELS, TRAJECTORY_CURRENTS
 from ringshift.io.structures import load_structure
-from ringshift.pi.summary import pi_summary
 from ringshift.reporting import schemas
 from ringshift.reporting.json import SCHEMA_VERSION, prediction_to_dict, to_json
+from ringshift.reporting.pi_summary import pi_summary
 from ringshift.shifts.prediction import predict
 from ringshift.spectra.peaks import PEAK_KINDS
 

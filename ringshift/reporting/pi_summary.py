@@ -62,7 +62,7 @@ def pi_summary(structure, *, beta_model: str = "scf", prediction=None) -> dict:
     }
 
 
-def _verdict(c: dict) -> str:
+def circuit_verdict(c: dict) -> str:
     cls, planar = c.get("huckel_class"), c.get("planar")
     if cls is None:
         return "not a pi circuit"
