@@ -5,8 +5,8 @@ end, so a failure leaves no partial report. The page has no external resources a
 figures are inline SVG, the style sheet is inline. Every value in its tables is read from the same
 dictionaries that are written as ``results.json`` (:func:`ringshift.reporting.json.comparison_to_dict` or
 :func:`ringshift.reporting.json.prediction_to_dict`) and ``pi.json``
-(:func:`ringshift.reporting.pi_summary.pi_summary`): each table cell carries ``data-src`` (``results`` or ``pi``) and ``data-path`` (a JSON pointer,
-RFC 6901) naming the value it shows.
+(:func:`ringshift.reporting.pi_summary.pi_summary`): each table cell carries ``data-src`` (``results``
+or ``pi``) and ``data-path`` (a JSON pointer, RFC 6901) naming the value it shows.
 """
 
 from __future__ import annotations
