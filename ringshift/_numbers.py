@@ -1,9 +1,10 @@
 """The one place where numbers are rounded and formatted for output.
 
-:func:`rounded` is used for JSON (and the CSV/DataFrame forms made from it): a float rounded to a fixed
-number of decimals, ``None`` for missing or non-finite values, never ``-0.0``. :func:`text` is used for
-tables, figures and the HTML report: Python format specs, a stated placeholder for missing values, and
-never a negative zero ("-0.00" prints as "0.00"; "+0.00" stays as it is). Human-readable outputs (text,
+:func:`rounded` is used for the JSON of predictions, trajectories and π summaries (and the CSV/DataFrame
+forms made from it): a float rounded to a fixed number of decimals, ``None`` for missing or non-finite
+values, never ``-0.0``. Comparison results keep full precision (``None`` for non-finite values).
+:func:`text` is used for tables, figures and the HTML report: Python format specs, a stated placeholder
+for missing values, and never a negative zero ("-0.00" prints as "0.00"; "+0.00" stays as it is). Human-readable outputs (text,
 HTML, figures) write ± for uncertainties, × for ratios and multiples, Å for lengths and ° for angles.
 """
 

@@ -144,7 +144,8 @@ def _emit(text: str, output, force: bool):
 @click.argument("structure")
 @_apply(structure_options)
 @_apply(model_options)
-@click.option("--format", "fmt", type=_Format("text", "json", "csv"), default="text", show_default=True)
+@click.option("--format", "fmt", type=_Format("text", "json", "csv"), default="text", show_default=True,
+              help="Readable table, JSON, or one CSV row per hydrogen.")
 @click.option("-o", "--output", type=click.Path(dir_okay=False), default=None, help="Write to FILE (atomically).")
 @click.option("--force", is_flag=True, help="Overwrite an existing output file.")
 def predict_cmd(structure, charge, conformers, seed, temperature, model, currents, beta_model, scale, set_current,
@@ -174,7 +175,8 @@ def predict_cmd(structure, charge, conformers, seed, temperature, model, current
               help="Check an aromaticity claim against the spectrum.")
 @click.option("--noise", default=None, metavar="PPM|auto",
               help="Model error of a predicted shift in ppm [default: 0.3], or 'auto' (maximum evidence).")
-@click.option("--format", "fmt", type=_Format("text", "json"), default="text", show_default=True)
+@click.option("--format", "fmt", type=_Format("text", "json"), default="text", show_default=True,
+              help="Readable text or JSON.")
 @click.option("-o", "--output", type=click.Path(dir_okay=False), default=None, help="Write to FILE (atomically).")
 @click.option("--force", is_flag=True, help="Overwrite an existing output file.")
 def compare_cmd(structure, peaks, charge, conformers, seed, temperature, model, currents, beta_model, scale,
@@ -215,7 +217,8 @@ def _noise(value):
               show_default=True, help="Resonance integrals of the Hueckel step.")
 @click.option("--plot", type=click.Path(dir_okay=False), default=None,
               help="Write a diagram of the pi levels (PNG or SVG by extension).")
-@click.option("--format", "fmt", type=_Format("text", "json"), default="text", show_default=True)
+@click.option("--format", "fmt", type=_Format("text", "json"), default="text", show_default=True,
+              help="Readable text or JSON.")
 @click.option("--force", is_flag=True, help="Overwrite an existing plot file.")
 def pi_cmd(structure, charge, conformers, seed, temperature, beta_model, plot, fmt, force):
     """Pi-electron counts, 4n+2/4n class, planarity, Hueckel levels and circuit currents of STRUCTURE."""
@@ -239,7 +242,8 @@ def pi_cmd(structure, charge, conformers, seed, temperature, beta_model, plot, f
 @_apply(structure_options)
 @_apply(model_options)
 @click.option("--solvent", default=None, help="Deuterated solvent whose residual peak is flagged (e.g. CDCl3).")
-@click.option("--claim", type=click.Choice(["aromatic", "antiaromatic", "nonaromatic"]), default=None)
+@click.option("--claim", type=click.Choice(["aromatic", "antiaromatic", "nonaromatic"]), default=None,
+              help="The aromaticity claim to check against the fitted currents (needs PEAKS).")
 @click.option("--noise", default=None, metavar="PPM|auto", help="Model error of a predicted shift (ppm) or 'auto'.")
 @click.option("-o", "--output", "out_dir", type=click.Path(file_okay=False), required=True,
               help="New folder for the report (HTML, figures, JSON, SDF).")
@@ -319,14 +323,15 @@ def map_cmd(structure, charge, conformers, seed, temperature, model, currents, b
 @click.argument("frames", type=click.Path(dir_okay=False))
 @click.option("--charge", type=int, default=None, help="Net charge (XYZ frames of ions).")
 @click.option("--model", type=click.Choice([m for m in MODELS if m != "network"]),
-              default="polygon", show_default=True)
+              default="polygon", show_default=True, help="Shielding model of the loops.")
 @click.option("--currents", type=click.Choice(CURRENT_SOURCES + ("huckel-per-frame",)), default="huckel",
-              show_default=True, help="Currents of the first frame held fixed, 12 nA/T, or Hueckel-London per frame.")
+              show_default=True, help="Currents of the first frame held fixed, 12 nA/T, or Hückel–London per frame.")
 @click.option("--beta", "beta_model", type=click.Choice(BETA_MODELS), default="scf",
-              show_default=True)
+              show_default=True, help="Resonance integrals of the Hückel step (see `predict -h`).")
 @click.option("--weights", type=click.Choice(["uniform", "boltzmann"]), default="uniform", show_default=True,
               help="Frame weights (Boltzmann from energies in the XYZ comment lines or SD fields).")
-@click.option("--temperature", type=click.FloatRange(1.0, 2000.0), default=298.15, show_default=True)
+@click.option("--temperature", type=click.FloatRange(1.0, 2000.0), default=298.15, show_default=True,
+              help="Temperature of the Boltzmann weights (K).")
 @click.option("--energy-unit", type=click.Choice(["kcal/mol", "kJ/mol", "hartree", "eV"]), default="kcal/mol",
               show_default=True, help="Unit of bare energies in XYZ comment lines.")
 @click.option("--frame-weights", type=click.Path(dir_okay=False), default=None, metavar="FILE",
@@ -337,9 +342,11 @@ def map_cmd(structure, charge, conformers, seed, temperature, model, currents, b
               help="Protons (H atom indices) in fast exchange with each other; repeat for more groups.")
 @click.option("--memory", type=click.FloatRange(10.0, 1e5), default=500.0, show_default=True,
               help="Memory budget for the frame blocks (MB).")
-@click.option("--format", "fmt", type=_Format("text", "json"), default="text", show_default=True)
-@click.option("-o", "--output", type=click.Path(dir_okay=False), default=None)
-@click.option("--force", is_flag=True)
+@click.option("--format", "fmt", type=_Format("text", "json"), default="text", show_default=True,
+              help="Readable text or JSON.")
+@click.option("-o", "--output", type=click.Path(dir_okay=False), default=None,
+              help="Write to this file instead of standard output.")
+@click.option("--force", is_flag=True, help="Replace an existing output file of ringshift.")
 def trajectory_cmd(frames, charge, model, currents, beta_model, weights, temperature, energy_unit, frame_weights,
                    exchange, exchange_group, memory, fmt, output, force):
     """Frame-averaged ring-current shifts of a multi-frame XYZ or multi-record SDF (streamed)."""
@@ -392,10 +399,11 @@ def trajectory_cmd(frames, charge, model, currents, beta_model, weights, tempera
 @click.option("--quiet", is_flag=True, help="No progress bar.")
 @_apply(structure_options)
 @click.option("--model", type=click.Choice(MODELS),
-              default="polygon", show_default=True)
-@click.option("--currents", type=click.Choice(CURRENT_SOURCES), default="huckel", show_default=True)
+              default="polygon", show_default=True, help="Shielding model (see `predict -h`).")
+@click.option("--currents", type=click.Choice(CURRENT_SOURCES), default="huckel", show_default=True,
+              help="A priori currents: Hückel–London, or 12 nA/T per aromatic ring.")
 @click.option("--beta", "beta_model", type=click.Choice(BETA_MODELS), default="scf",
-              show_default=True)
+              show_default=True, help="Resonance integrals of the Hückel step (see `predict -h`).")
 def batch_cmd(library, output, jobs, scheduler, restart, quiet, charge, conformers, seed, temperature, model,
               currents, beta_model):
     """Predict every molecule of LIBRARY (SDF, or SMILES file: SMILES [name] per line) into JSON lines."""
