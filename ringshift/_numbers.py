@@ -4,8 +4,9 @@
 forms made from it): a float rounded to a fixed number of decimals, ``None`` for missing or non-finite
 values, never ``-0.0``. Comparison results keep full precision (``None`` for non-finite values).
 :func:`text` is used for tables, figures and the HTML report: Python format specs, a stated placeholder
-for missing values, and never a negative zero ("-0.00" prints as "0.00"; "+0.00" stays as it is). Human-readable outputs (text,
-HTML, figures) write ± for uncertainties, × for ratios and multiples, Å for lengths and ° for angles.
+for missing values, and never a negative zero ("-0.00" prints as "0.00"; "+0.00" stays as it is).
+Human-readable outputs (text, HTML, figures) write ± for uncertainties, × for ratios and multiples, Å
+for lengths and ° for angles.
 """
 
 from __future__ import annotations
