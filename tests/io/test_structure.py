@@ -399,8 +399,9 @@ def test_xyz_single_and_multi_frame_round_trip(tmp_path):
 def test_xyz_ion_needs_its_charge(tmp_path):
     mol = _embedded("[cH-]1cccc1")
     path = _write(tmp_path, "cp.xyz", Chem.MolToXYZBlock(mol))
-    with pytest.raises(InputError, match="--charge"):
+    with pytest.raises(InputError, match="give its net charge") as info:
         load_structure(path)
+    assert info.value.parameter == "charge"      # the CLI names its option from this
     s = load_structure(path, charge=-1)
     assert s.charge == -1 and [len(g) for g in s.h_groups] == [5]
 
