@@ -12,7 +12,7 @@ import warnings
 
 import click
 
-from ringshift.constants import BETA_MODELS, CURRENT_SOURCES, MODELS
+from ringshift.constants import BETA_MODELS, CURRENT_SOURCES, MAP_MODELS, MODELS
 from ringshift.errors import InputError, OutputError, RingshiftWarning
 
 EXIT_BAD_INPUT = 2
@@ -80,10 +80,10 @@ model_options = [
     click.option("--model", type=click.Choice(MODELS),
                  default="polygon", show_default=True, help="Shielding model."),
     click.option("--currents", type=click.Choice(CURRENT_SOURCES), default="huckel", show_default=True,
-                 help="A priori current of each circuit: Hueckel-London, or 12 nA/T on RDKit-aromatic rings."),
+                 help="A priori current of each circuit: Hückel–London, or 12 nA/T on RDKit-aromatic rings."),
     click.option("--beta", "beta_model", type=click.Choice(BETA_MODELS), default="scf",
                  show_default=True,
-                 help="Resonance integrals of the Hueckel step: self-consistent bond lengths, geometry, or uniform."),
+                 help="Resonance integrals of the Hückel step: self-consistent bond lengths, geometry, or uniform."),
     click.option("--scale", multiple=True, metavar="LABEL=FACTOR",
                  help="Multiply a circuit's current, e.g. --scale M1=0.8 (repeatable)."),
     click.option("--set-current", "set_current", multiple=True, metavar="LABEL=NA_PER_T",
@@ -91,6 +91,10 @@ model_options = [
     click.option("--circuit", multiple=True, metavar="I,J,K,...",
                  help="Give a circuit explicitly as ring-ordered atom indices (0-based; repeatable)."),
 ]
+
+#: The map draws loops only: its --model offers the models a map can draw (constants.MAP_MODELS).
+map_model_options = [click.option("--model", type=click.Choice(MAP_MODELS), default="polygon", show_default=True,
+                                  help="Shielding model of the map's loops.")] + model_options[1:]
 
 
 def _apply(options):
@@ -284,7 +288,7 @@ def report_cmd(structure, peaks, charge, conformers, seed, temperature, model, c
 @cli.command("map")
 @click.argument("structure")
 @_apply(structure_options)
-@_apply(model_options)
+@_apply(map_model_options)
 @click.option("-o", "--output", required=True, type=click.Path(dir_okay=False),
               help="Figure file (.png, .svg or .pdf).")
 @click.option("--plane", type=click.Choice(["ring", "perpendicular", "both", "scan"]), default="both",

@@ -44,3 +44,5 @@ MODELS: tuple[str, ...] = ("polygon", "johnson-bovey", "haigh-mallion", "dipole"
 CURRENT_SOURCES: tuple[str, ...] = ("huckel", "benzene")
 TRAJECTORY_CURRENTS: tuple[str, ...] = ("huckel", "huckel-per-frame", "benzene")
 BETA_MODELS: tuple[str, ...] = ("scf", "scf-coulson", "distance", "uniform")
+#: Models a shielding map can draw: the bond-current network needs bond currents a prediction does not keep.
+MAP_MODELS: tuple[str, ...] = tuple(m for m in MODELS if m != "network")

@@ -15,7 +15,7 @@ from dataclasses import dataclass, field, fields
 
 import numpy as np
 
-from ringshift.constants import JB_SEPARATION_A, MODELS
+from ringshift.constants import JB_SEPARATION_A, MAP_MODELS
 from ringshift.errors import GeometryWarning, InputError
 from ringshift.fields.registry import geometric_factors
 from ringshift.geometry.circuits import Circuit, CircuitGeometry
@@ -27,7 +27,6 @@ __all__ = ["Loop", "MapFrame", "MAP_MODELS", "check_map_model", "loop_shift_ppm"
 #: Models that can be mapped: each gives a shielding at any point from a circuit's loop. The network
 #: model sums Hückel–London bond currents that a prediction does not keep, and fitted currents are
 #: per circuit, so it has no map of its own.
-MAP_MODELS = tuple(m for m in MODELS if m != "network")
 
 @dataclass(frozen=True)
 class Loop:
