@@ -355,7 +355,7 @@ class TrajectoryDisplay(_Display):
     def _summary(self) -> str:
         r: Any = self
         s, circuits = r.template.structure, r.circuits
-        items = [f"{c.label} {c.current_nA_per_T:+.1f}" for c in circuits]
+        items = [f"{c.label} {text(c.current_nA_per_T, '+.1f')}" for c in circuits]
         parts = [_plural(r.n_frames, "frame"), _circuits_text(len(circuits), items),
                  f"{len(r.h_indices)} H in {_plural(len(r.groups), 'group')}", f"model {r.model}"]
         if r.warnings:

@@ -19,12 +19,18 @@ __all__ = ["FLOAT_DIGITS", "rounded", "text"]
 FLOAT_DIGITS = 4
 
 
-def rounded(x, nd: int = FLOAT_DIGITS) -> float | None:
-    """``x`` rounded to ``nd`` decimals as a float; None for None, NaN or ±inf; 0.0 instead of -0.0."""
+def _finite(x) -> float | None:
+    """``x`` as a float, or None for None, NaN or ±inf."""
     if x is None:
         return None
     value = float(x)
-    if not math.isfinite(value):
+    return value if math.isfinite(value) else None
+
+
+def rounded(x, nd: int = FLOAT_DIGITS) -> float | None:
+    """``x`` rounded to ``nd`` decimals as a float; None for None, NaN or ±inf; 0.0 instead of -0.0."""
+    value = _finite(x)
+    if value is None:
         return None
     v = round(value, nd)
     return 0.0 if v == 0 else v
@@ -32,10 +38,8 @@ def rounded(x, nd: int = FLOAT_DIGITS) -> float | None:
 
 def text(x, spec: str = ".2f", missing: str = "") -> str:
     """``format(x, spec)`` without negative zeros; ``missing`` for None or non-finite values."""
-    if x is None:
-        return missing
-    value = float(x)
-    if not math.isfinite(value):
+    value = _finite(x)
+    if value is None:
         return missing
     out = format(value, spec)
     try:

@@ -17,8 +17,8 @@ import numpy as np
 
 from ringshift.errors import InputError
 
-__all__ = ["real", "optional_real", "integer", "choice", "array", "unit_vector", "vector", "nonzero_segments",
-           "molecule", "coordinates"]
+__all__ = ["real", "optional_real", "integer", "choice", "label_numbers", "index_lists", "array", "unit_vector",
+           "vector", "nonzero_segments", "molecule", "coordinates"]
 
 
 def real(value, param: str, *, positive: bool = False, nonneg: bool = False, minimum: float | None = None,
@@ -70,6 +70,38 @@ def choice(value, choices: Iterable[str], param: str, what: str = "value") -> st
     if value not in options:
         raise InputError(f"unknown {what} {value!r}; expected one of {', '.join(options)}", param)
     return value
+
+
+def label_numbers(value, param: str) -> dict[str, float] | None:
+    """None, or a mapping of circuit label (str) to a finite number, as a new dict of floats."""
+    from collections.abc import Mapping
+
+    if value is None:
+        return None
+    if not isinstance(value, Mapping):
+        raise InputError(f"expected a mapping of circuit label to number, e.g. {{'R1': 0.8}}, got "
+                         f"{type(value).__name__}", param)
+    for key, num in value.items():
+        if not isinstance(key, str):
+            raise InputError(f"expected circuit labels (str) as keys, got {key!r}", param)
+        real(num, param)
+    return {k: float(v) for k, v in value.items()}
+
+
+def index_lists(value, param: str) -> list[list[int]] | None:
+    """None, or a list of circuits, each a list of int atom indices (not bools), as new lists of int."""
+    from numbers import Integral
+
+    def listlike(x) -> bool:
+        return hasattr(x, "__len__") and hasattr(x, "__iter__") and not isinstance(x, (str, bytes, dict))
+
+    if value is None:
+        return None
+    if not (listlike(value) and all(listlike(c) and all(isinstance(a, Integral) and not isinstance(a, bool)
+                                                        for a in c) for c in value)):
+        raise InputError("expected a list of circuits, each a list of 0-based atom indices in ring order, "
+                         f"e.g. [[0, 1, 2, 3, 4, 5]], got {value!r}", param)
+    return [[int(a) for a in c] for c in value]
 
 
 def array(x, param: str, shape: tuple[int, ...], what: str) -> np.ndarray:

@@ -71,42 +71,6 @@ def _choice(value, choices: Sequence[str], name: str) -> None:
     choice(value, choices, name, name.replace("_", " "))
 
 
-def _positive_number(value, name: str) -> None:
-    from ringshift._validation import real
-
-    real(value, name, positive=True)
-
-
-def _label_numbers(value, name: str) -> None:
-    from collections.abc import Mapping
-
-    from ringshift._validation import real
-
-    if value is None:
-        return
-    if not isinstance(value, Mapping):
-        raise InputError(f"expected a mapping of circuit label to number, e.g. {{'R1': 0.8}}, got "
-                         f"{type(value).__name__}", name)
-    for key, num in value.items():
-        if not isinstance(key, str):
-            raise InputError(f"expected circuit labels (str) as keys, got {key!r}", name)
-        real(num, name)
-
-
-def _index_lists(value, name: str) -> None:
-    from numbers import Integral
-
-    def listlike(x) -> bool:
-        return hasattr(x, "__len__") and hasattr(x, "__iter__") and not isinstance(x, (str, bytes, dict))
-
-    if value is None:
-        return
-    if not (listlike(value) and all(listlike(c) and all(isinstance(a, Integral) and not isinstance(a, bool)
-                                                        for a in c) for c in value)):
-        raise InputError("expected a list of circuits, each a list of 0-based atom indices in ring order, "
-                         f"e.g. [[0, 1, 2, 3, 4, 5]], got {value!r}", name)
-
-
 def _not_given(options: Mapping[str, object], why: str) -> None:
     """Refuse options that cannot apply (rather than ignoring them); the error names the first."""
     given = [k for k, v in options.items() if v is not None]
@@ -125,18 +89,15 @@ def _model_options(model, currents, beta_model, scale, set_current, user_circuit
         if value is not None:
             _choice(value, choices, name)
             out[name] = value
-    _label_numbers(scale, "scale")
-    _label_numbers(set_current, "set_current")
-    _index_lists(user_circuits, "user_circuits")
+    from ringshift import _validation as v
+
     if separation_A is not None:
-        _positive_number(separation_A, "separation_A")
-        out["separation_A"] = float(separation_A)
-    if scale is not None:
-        out["scale"] = {k: float(v) for k, v in scale.items()}
-    if set_current is not None:
-        out["set_current"] = {k: float(v) for k, v in set_current.items()}
-    if user_circuits is not None:
-        out["user_circuits"] = [[int(a) for a in c] for c in user_circuits]
+        out["separation_A"] = v.real(separation_A, "separation_A", positive=True)
+    for name, checked in (("scale", v.label_numbers(scale, "scale")),
+                          ("set_current", v.label_numbers(set_current, "set_current")),
+                          ("user_circuits", v.index_lists(user_circuits, "user_circuits"))):
+        if checked is not None:
+            out[name] = checked
     return out
 
 
@@ -149,7 +110,9 @@ def _compare_options(claim, noise_ppm, solvent) -> None:
     if noise_ppm is not None and noise_ppm != "auto":
         if isinstance(noise_ppm, str):
             raise InputError(f"expected a number of ppm > 0, 'auto' or None, got {noise_ppm!r}", "noise_ppm")
-        _positive_number(noise_ppm, "noise_ppm")
+        from ringshift._validation import real
+
+        real(noise_ppm, "noise_ppm", positive=True)
     if solvent is not None:
         _solvent_name(solvent)   # raises InputError("solvent ... unknown; expected one of ...", "solvent")
 

@@ -7,8 +7,10 @@ shows the traceback. Warnings are one line each on stderr.
 
 from __future__ import annotations
 
+import math
 import sys
 import warnings
+from collections.abc import Sequence
 
 import click
 
@@ -64,6 +66,23 @@ def _index_lists(values, option: str = "--circuit", example: str = "0,1,2,3,4,5"
             raise InputError(f"expected atom indices separated by commas (e.g. {example}), got {v!r}", option)
         out.append([int(x) for x in items])
     return out or None
+
+
+def parse_assignments(items: Sequence[str], option: str) -> dict[str, float]:
+    """Parse ``LABEL=VALUE`` strings (e.g. ``R1=0.8``) into a mapping; errors name the option."""
+    out: dict[str, float] = {}
+    for item in items:
+        if "=" not in item:
+            raise InputError(f"expected LABEL=NUMBER (e.g. R1=0.8), got {item!r}", option)
+        key, _, val = item.partition("=")
+        try:
+            num = float(val)
+        except ValueError:
+            raise InputError(f"{val!r} is not a number in {item!r}", option) from None
+        if not math.isfinite(num):
+            raise InputError(f"{val!r} is not a finite number", option)
+        out[key.strip()] = num
+    return out
 
 
 structure_options = [
@@ -126,7 +145,7 @@ def _load(structure, charge, conformers, seed, temperature):
 
 def _run_predict(structure, charge, conformers, seed, temperature, model, currents, beta_model, scale, set_current,
                  circuit):
-    from ringshift.shifts.prediction import parse_assignments, predict
+    from ringshift.shifts.prediction import predict
 
     s = _load(structure, charge, conformers, seed, temperature)
     return predict(s, model=model, currents=currents, beta_model=beta_model, scale=parse_assignments(scale, "--scale"),

@@ -28,8 +28,12 @@ from ringshift.shifts.prediction import predict
     (lambda: v.unit_vector([0, 0, 0], "normal"), "normal", "zero length"),
     (lambda: v.vector([[1.0]], "ring_current_ppm", "ppm values"), "ring_current_ppm", "1-D"),
     (lambda: v.molecule("c1ccccc1"), "mol", "Chem.Mol"),
+    (lambda: v.label_numbers([("R1", 0.8)], "scale"), "scale", "mapping of circuit label"),
+    (lambda: v.label_numbers({"R1": "half"}, "scale"), "scale", "real number"),
+    (lambda: v.index_lists("0,1,2", "user_circuits"), "user_circuits", "list of circuits"),
+    (lambda: v.index_lists([[0, True, 2]], "user_circuits"), "user_circuits", "list of circuits"),
 ], ids=["bool", "nan", "positive", "nonneg", "range", "optional", "integer", "choice", "shape", "inf", "unit",
-        "vector", "molecule"])
+        "vector", "molecule", "labels-not-mapping", "label-value", "indices-text", "indices-bool"])
 def test_gate_names_the_parameter(call, param, text):
     with pytest.raises(InputError) as info:
         call()
@@ -42,6 +46,8 @@ def test_gate_passes_good_values_through():
     assert v.optional_real(None, "x") is None and v.optional_real("7.26", "x") == 7.26
     np.testing.assert_allclose(v.unit_vector([0, 0, 2], "n"), [0, 0, 1], rtol=0, atol=1e-15)
     assert v.array([[0, 0, 0]], "p", (-1, 3), "x").flags["C_CONTIGUOUS"]
+    assert v.label_numbers({"R1": 1}, "scale") == {"R1": 1.0} and v.label_numbers(None, "scale") is None
+    assert v.index_lists(((0, 1, 2),), "user_circuits") == [[0, 1, 2]]
 
 
 def test_library_errors_name_api_parameters_not_options():

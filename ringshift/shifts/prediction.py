@@ -35,23 +35,6 @@ def _weighted(values: np.ndarray, w: np.ndarray) -> np.ndarray:
     return np.tensordot(w, values, axes=(0, 0))
 
 
-def parse_assignments(items: Sequence[str], option: str) -> dict[str, float]:
-    """Parse ``LABEL=VALUE`` strings (e.g. ``R1=0.8``) into a mapping; errors name the option."""
-    out: dict[str, float] = {}
-    for item in items:
-        if "=" not in item:
-            raise InputError(f"expected LABEL=NUMBER (e.g. R1=0.8), got {item!r}", option)
-        key, _, val = item.partition("=")
-        try:
-            num = float(val)
-        except ValueError:
-            raise InputError(f"{val!r} is not a number in {item!r}", option) from None
-        if not np.isfinite(num):
-            raise InputError(f"{val!r} is not a finite number", option)
-        out[key.strip()] = num
-    return out
-
-
 def benzene_equivalent_currents(mol: Chem.Mol, circuits: Sequence[Circuit]) -> list[tuple[float, str]]:
     """Benzene current (12 nA/T) for every circuit whose atoms RDKit flags aromatic, 0 otherwise."""
     out = []
