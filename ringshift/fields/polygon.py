@@ -39,8 +39,10 @@ from __future__ import annotations
 import numpy as np
 
 from ringshift import _validation as _v
-from ringshift.constants import JB_SEPARATION_A, WIRE_CUTOFF_A
+from ringshift.constants import BAND_NODES, JB_SEPARATION_A, WIRE_CUTOFF_A
+from ringshift.errors import InputError
 from ringshift.fields._common import _MU0_4PI, _chunk, _cross, _polygons, _warn_near
+from ringshift.fields.band import band_quadrature, offset_directions
 
 __all__ = ['segment_field', 'polygon_shielding']
 
@@ -209,8 +211,9 @@ def segment_field(points, starts, ends, *, currents=None, chunk_size=None) -> np
     return np.ascontiguousarray(out[0].T)
 
 
-def polygon_shielding(points, vertices, normal, *, separation_A=JB_SEPARATION_A, chunk_size=None):
-    """Isotropic shielding of a polygonal double loop carrying a unit diatropic current.
+def polygon_shielding(points, vertices, normal, *, separation_A=JB_SEPARATION_A, width_A=0.0,
+                      height_width_A=0.0, band_nodes=BAND_NODES, chunk_size=None):
+    """Isotropic shielding of a polygonal double loop (thin or a band of finite width), unit diatropic current.
 
     Parameters
     ----------
@@ -223,6 +226,15 @@ def polygon_shielding(points, vertices, normal, *, separation_A=JB_SEPARATION_A,
     separation_A : float, keyword-only
         Each loop is the polygon shifted by ±separation_A along the normal with half the current
         (Johnson & Bovey, J. Chem. Phys. 1958, 29, 1012; default 0.64 Å). 0 gives a single loop.
+    width_A : float, keyword-only, Å
+        Standard deviation of a Gaussian spread of the current perpendicular to each edge in the ring
+        plane (:mod:`ringshift.fields.band`). Default 0: the thin wire.
+    height_width_A : float, keyword-only, Å
+        Standard deviation of each lobe's Gaussian spread along the normal about ±separation_A.
+        Default 0: thin lobes. With both widths 0 the result is the thin double loop, bit for bit.
+    band_nodes : int, keyword-only
+        Gauss–Hermite nodes per non-zero width (default :data:`ringshift.constants.BAND_NODES`); the cost
+        is about (nodes if width_A else 1) × (nodes if height_width_A else 1) thin double loops.
     chunk_size : int, optional
         Points (for a stack: frame×point pairs) per chunk; memory use is O(chunk_size × m),
         independent of n and n_conf.
@@ -235,12 +247,18 @@ def polygon_shielding(points, vertices, normal, *, separation_A=JB_SEPARATION_A,
     Notes
     -----
     Exact Biot–Savart sum over the straight segments (formula in :func:`segment_field`); the two loops
-    are evaluated as one loop in the ring plane seen from the points moved by ∓separation_A. A stack is
+    are evaluated as one loop in the ring plane seen from the points moved by ∓separation_A (the band:
+    offset copies of the polygon, seen from points moved by minus each quadrature height). A stack is
     evaluated frame-batched in blocks of about chunk_size frame×point pairs; it equals separate calls
     per conformer to rounding (tested). Points within WIRE_CUTOFF_A of a wire are regularised and
     reported by one GeometryWarning per call, counting points over all conformers.
     """
     h = _v.real(separation_A, "separation_A", nonneg=True)
+    wt = _v.real(width_A, "width_A", nonneg=True)
+    wz = _v.real(height_width_A, "height_width_A", nonneg=True)
+    if isinstance(band_nodes, bool) or not isinstance(band_nodes, (int, np.integer)) or not 1 <= band_nodes <= 20:
+        raise InputError(f"band_nodes: expected an integer number of quadrature nodes from 1 to 20, got "
+                         f"{band_nodes!r}", "band_nodes")
     stacked = np.ndim(points) == 3
     if stacked:
         P = _v.array(points, "points", (-1, -1, 3), "points of shape (n_conf, n, 3)")
@@ -252,15 +270,29 @@ def polygon_shielding(points, vertices, normal, *, separation_A=JB_SEPARATION_A,
         V = _v.array(vertices, "vertices", (-1, 3), "ring vertices of shape (m, 3) with m >= 3")[None]
         N = _v.array(normal, "normal", (3,), "a vector of shape (3,)")[None]
     N, sign = _polygons(V, N, stacked)
-    chunk, k, m = _chunk(chunk_size, V.shape[1] + 1), P.shape[1], V.shape[1]
-    if h > 0.0:  # points moved by ∓h along n see one loop in the ring plane; filled in place
-        P = np.concatenate([P, P], axis=1)
-        P[:, :k] -= h * N[:, None]
-        P[:, k:] += h * N[:, None]
-    g, near = _segment_kernel(P, np.concatenate([V, V[:, :1]], axis=1), slice(0, m), slice(1, m + 1),
-                              N[:, None], np.ones((1, m)), chunk)
-    if h > 0.0:
-        g, near = 0.5 * (g[..., :k] + g[..., k:]), near[:, :k] | near[:, k:]
+    k, m = P.shape[1], V.shape[1]
+    offsets, w_off, heights, w_h = band_quadrature(h, wt, wz, int(band_nodes))
+    nz = heights.size
+    if nz > 1:  # points moved by −z along n see one loop in the ring plane; filled in place
+        P = np.concatenate([P] * nz, axis=1)
+        for j, z in enumerate(heights):
+            P[:, j * k:(j + 1) * k] -= z * N[:, None]
+    # one closed polygon per in-plane offset, its m segments weighted by the offset's current fraction
+    if offsets.size == 1:
+        loops = np.concatenate([V, V[:, :1]], axis=1)
+        ia, ib, weights = slice(0, m), slice(1, m + 1), np.ones((1, m))
+    else:
+        d = offset_directions(V, N, sign)
+        loops = np.concatenate([np.concatenate([V + t * d, V[:, :1] + t * d[:, :1]], axis=1) for t in offsets],
+                               axis=1)
+        base = (m + 1) * np.arange(offsets.size)[:, None]
+        ia = (base + np.arange(m)).ravel()
+        ib = ia + 1
+        weights = np.repeat(w_off, m)[None]
+    g, near = _segment_kernel(P, loops, ia, ib, N[:, None], weights, _chunk(chunk_size, loops.shape[1]))
+    if nz > 1:
+        g = np.einsum("j,fdjp->fdp", w_h, g.reshape(g.shape[0], g.shape[1], nz, k))
+        near = near.reshape(near.shape[0], nz, k).any(axis=1)
     _warn_near(int(near.sum()))
     sigma = (_MU0_4PI / 3.0) * sign[:, None] * g[:, 0]
     return sigma if stacked else sigma[0]
