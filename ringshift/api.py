@@ -142,7 +142,8 @@ def _structure(structure, load: Mapping[str, object]) -> Structure:
 # ------------------------------------------------------------------------------------ functions
 def load_structure(spec: str | os.PathLike[str], *, charge: int | None = None, conformers: int | None = None,
                    seed: int = DEFAULT_SEED, temperature_K: float = 298.15, energy_window_kcal_mol: float = 10.0,
-                   rmsd_prune_A: float = 0.3, fmt: str | None = None) -> Structure:
+                   rmsd_prune_A: float = 0.3, fmt: str | None = None, exchange: str = "slow",
+                   geometry: str = "force-field") -> Structure:
     """Read a SMILES or a .mol/.sdf/.xyz file into a :class:`~ringshift.io.structures.Structure`.
 
     Parameters
@@ -162,6 +163,12 @@ def load_structure(spec: str | os.PathLike[str], *, charge: int | None = None, c
         of a lower one are dropped.
     fmt : {"smiles", "mol", "sdf", "xyz"}, optional
         Force the input format.
+    exchange : {"slow", "fast"}
+        Groups of equivalent protons for slow exchange (the symmetry of the lowest-energy conformer: the
+        low-temperature spectrum) or fast exchange (protons that conformational and bond-shift processes
+        interchange are averaged too: the high-temperature limit, e.g. [18]annulene's inner and outer H).
+    geometry : {"force-field", "gfn2-xtb"}
+        Conformers from MMFF94 (or the input), or re-optimised with GFN2-xTB (``pip install 'ringshift[xtb]'``).
 
     Returns
     -------
@@ -183,14 +190,16 @@ def load_structure(spec: str | os.PathLike[str], *, charge: int | None = None, c
                          "spec")
     with _api_names():
         return _load(text, charge=charge, conformers=conformers, seed=seed, temperature_K=temperature_K,
-                     energy_window_kcal_mol=energy_window_kcal_mol, rmsd_prune_A=rmsd_prune_A, fmt=fmt)
+                     energy_window_kcal_mol=energy_window_kcal_mol, rmsd_prune_A=rmsd_prune_A, fmt=fmt,
+                     exchange=exchange, geometry=geometry)
 
 
 def predict(structure: StructureLike, *, model: str = "polygon", currents: str = "huckel", beta_model: str = "scf",
             scale: Mapping[str, float] | None = None, set_current: Mapping[str, float] | None = None,
             user_circuits: Sequence[Sequence[int]] | None = None, separation_A: float | None = None,
             charge: int | None = None, conformers: int | None = None, seed: int | None = None,
-            temperature_K: float | None = None, fmt: str | None = None) -> Prediction:
+            temperature_K: float | None = None, fmt: str | None = None, exchange: str | None = None,
+            geometry: str | None = None) -> Prediction:
     """Ring-current ¹H shift of every hydrogen of a structure.
 
     Parameters
@@ -212,7 +221,7 @@ def predict(structure: StructureLike, *, model: str = "polygon", currents: str =
         Circuits given as ring-ordered 0-based atom indices instead of the perceived ones.
     separation_A : float, optional
         Half-separation of the double loops, Å (default 0.64, Johnson–Bovey).
-    charge, conformers, seed, temperature_K, fmt : optional
+    charge, conformers, seed, temperature_K, fmt, exchange, geometry : optional
         Passed to :func:`load_structure` when ``structure`` is a SMILES or a path (defaults as there);
         an error with a loaded Structure.
 
@@ -233,7 +242,8 @@ def predict(structure: StructureLike, *, model: str = "polygon", currents: str =
 
     opts = _model_options(model, currents, beta_model, scale, set_current, user_circuits, separation_A)
     s = _structure(structure, {"charge": charge, "conformers": conformers, "seed": seed,
-                               "temperature_K": temperature_K, "fmt": fmt})
+                               "temperature_K": temperature_K, "fmt": fmt, "exchange": exchange,
+                               "geometry": geometry})
     with _api_names():
         return _predict(s, **opts)
 
@@ -287,7 +297,8 @@ def compare(structure: StructureLike | Prediction, peaks: str | os.PathLike[str]
             beta_model: str | None = None, scale: Mapping[str, float] | None = None,
             set_current: Mapping[str, float] | None = None, user_circuits: Sequence[Sequence[int]] | None = None,
             separation_A: float | None = None, charge: int | None = None, conformers: int | None = None,
-            temperature_K: float | None = None, fmt: str | None = None) -> CompareResult:
+            temperature_K: float | None = None, fmt: str | None = None, exchange: str | None = None,
+            geometry: str | None = None) -> CompareResult:
     """Assign observed peaks to a structure's protons, fit its ring currents and give a verdict.
 
     Parameters
@@ -309,7 +320,7 @@ def compare(structure: StructureLike | Prediction, peaks: str | os.PathLike[str]
         Seed of the conformer generator and of the fit's random starts (default 42).
     model, currents, beta_model, scale, set_current, user_circuits, separation_A : optional
         As in :func:`predict` (its defaults); an error with a Prediction.
-    charge, conformers, temperature_K, fmt : optional
+    charge, conformers, temperature_K, fmt, exchange, geometry : optional
         As in :func:`load_structure`; only with a SMILES or a path.
 
     Returns
@@ -343,7 +354,7 @@ def compare(structure: StructureLike | Prediction, peaks: str | os.PathLike[str]
     pred = _prediction(structure, seed=seed if loads_here else None, model=model, currents=currents,
                        beta_model=beta_model, scale=scale, set_current=set_current, user_circuits=user_circuits,
                        separation_A=separation_A, charge=charge, conformers=conformers,
-                       temperature_K=temperature_K, fmt=fmt)
+                       temperature_K=temperature_K, fmt=fmt, exchange=exchange, geometry=geometry)
     if peak_path is not None:
         peak_list = read_peaks(peak_path, n_hydrogens=len(pred.protons), solvent=solvent)
     else:
@@ -354,12 +365,13 @@ def compare(structure: StructureLike | Prediction, peaks: str | os.PathLike[str]
 
 
 def _prediction(structure, *, seed, model, currents, beta_model, scale, set_current, user_circuits, separation_A,
-                charge, conformers, temperature_K, fmt) -> Prediction:
+                charge, conformers, temperature_K, fmt, exchange=None, geometry=None) -> Prediction:
     from ringshift.shifts.records import Prediction
 
     model_opts = {"model": model, "currents": currents, "beta_model": beta_model, "scale": scale,
                   "set_current": set_current, "user_circuits": user_circuits, "separation_A": separation_A}
-    load = {"charge": charge, "conformers": conformers, "temperature_K": temperature_K, "fmt": fmt}
+    load = {"charge": charge, "conformers": conformers, "temperature_K": temperature_K, "fmt": fmt,
+            "exchange": exchange, "geometry": geometry}
     if isinstance(structure, Prediction):
         _not_given({**model_opts, **load, "seed": seed},
                    "the Prediction is already computed; prediction options apply to a SMILES, a file path "
@@ -376,7 +388,7 @@ def report(structure: StructureLike | Prediction | CompareResult,
            scale: Mapping[str, float] | None = None, set_current: Mapping[str, float] | None = None,
            user_circuits: Sequence[Sequence[int]] | None = None, separation_A: float | None = None,
            charge: int | None = None, conformers: int | None = None, temperature_K: float | None = None,
-           fmt: str | None = None) -> dict[str, Path]:
+           fmt: str | None = None, exchange: str | None = None, geometry: str | None = None) -> dict[str, Path]:
     """Write a self-contained report folder (HTML page, figures, JSON, SDF) and return its files.
 
     Parameters
@@ -394,7 +406,7 @@ def report(structure: StructureLike | Prediction | CompareResult,
         As in :func:`compare`; they need ``peaks``.
     seed, model, currents, beta_model, scale, set_current, user_circuits, separation_A : optional
         As in :func:`compare`.
-    charge, conformers, temperature_K, fmt : optional
+    charge, conformers, temperature_K, fmt, exchange, geometry : optional
         As in :func:`compare`.
 
     Returns
@@ -427,7 +439,8 @@ def report(structure: StructureLike | Prediction | CompareResult,
     compare_opts = {"claim": claim, "solvent": solvent, "noise_ppm": noise_ppm}
     model_opts = {"seed": seed, "model": model, "currents": currents, "beta_model": beta_model, "scale": scale,
                   "set_current": set_current, "user_circuits": user_circuits, "separation_A": separation_A,
-                  "charge": charge, "conformers": conformers, "temperature_K": temperature_K, "fmt": fmt}
+                  "charge": charge, "conformers": conformers, "temperature_K": temperature_K, "fmt": fmt,
+                  "exchange": exchange, "geometry": geometry}
     result: CompareResult | None
     if isinstance(structure, CompareResult):
         _not_given({"peaks": peaks, **compare_opts, **model_opts}, "the CompareResult is already computed")
@@ -436,7 +449,8 @@ def report(structure: StructureLike | Prediction | CompareResult,
         result = compare(structure, peaks, claim=claim, solvent=solvent, noise_ppm=noise_ppm, seed=seed, model=model,
                          currents=currents, beta_model=beta_model, scale=scale, set_current=set_current,
                          user_circuits=user_circuits, separation_A=separation_A, charge=charge,
-                         conformers=conformers, temperature_K=temperature_K, fmt=fmt)
+                         conformers=conformers, temperature_K=temperature_K, fmt=fmt, exchange=exchange,
+                         geometry=geometry)
     else:
         _not_given(compare_opts, "comparison options need observed peaks (give peaks)")
         result = None
@@ -445,7 +459,8 @@ def report(structure: StructureLike | Prediction | CompareResult,
     else:
         pred = _prediction(structure, seed=seed, model=model, currents=currents, beta_model=beta_model, scale=scale,
                            set_current=set_current, user_circuits=user_circuits, separation_A=separation_A,
-                           charge=charge, conformers=conformers, temperature_K=temperature_K, fmt=fmt)
+                           charge=charge, conformers=conformers, temperature_K=temperature_K, fmt=fmt,
+                           exchange=exchange, geometry=geometry)
     beta = pred.provenance.get("beta_model", "scf")
     with _api_names():
         paths = write_report(out, pred, compare_result=result,

@@ -27,8 +27,13 @@ OPTION_OF_PARAMETER = {
     "seed": "--seed", "temperature_K": "--temperature", "noise_ppm": "--noise", "claim": "--claim",
     "solvent": "--solvent", "weights": "--weights", "energy_unit": "--energy-unit", "memory_MB": "--memory",
     "jobs": "--jobs", "scheduler": "--scheduler", "contour_max_ppm": "--contour-max",
-    "circuit": "--for-circuit",
+    "circuit": "--for-circuit", "exchange": "--exchange", "geometry": "--geometry",
 }
+
+#: Choices of --exchange and --geometry: ringshift.geometry.symmetry.EXCHANGE_RULES and
+#: ringshift.io.structures.GEOMETRY_ROUTES (spelt out here so that importing the CLI stays light; a test checks them).
+EXCHANGE_CHOICES = ("slow", "fast")
+GEOMETRY_CHOICES = ("force-field", "gfn2-xtb")
 
 
 class _Format(click.Choice):
@@ -93,6 +98,13 @@ structure_options = [
     click.option("--seed", type=int, default=42, show_default=True, help="Random seed for conformer generation."),
     click.option("--temperature", type=click.FloatRange(1.0, 2000.0), default=298.15, show_default=True,
                  help="Temperature (K) for Boltzmann weights."),
+    click.option("--exchange", type=click.Choice(EXCHANGE_CHOICES), default="slow", show_default=True,
+                 help="Equivalent protons: 'slow', the symmetry of the lowest-energy conformer (low-temperature "
+                      "spectrum); 'fast', also average protons that conformational and bond-shift processes "
+                      "interchange (high-temperature limit, e.g. annulene inner/outer H)."),
+    click.option("--geometry", type=click.Choice(GEOMETRY_CHOICES), default="force-field", show_default=True,
+                 help="Conformers from MMFF94 (or the input file), or re-optimised with GFN2-xTB "
+                      "(needs pip install 'ringshift[xtb]')."),
 ]
 
 model_options = [
@@ -137,17 +149,18 @@ def cli(ctx, debug):
     ctx.obj["debug"] = debug
 
 
-def _load(structure, charge, conformers, seed, temperature):
+def _load(structure, charge, conformers, seed, temperature, exchange="slow", geometry="force-field"):
     from ringshift.io.structures import load_structure
 
-    return load_structure(structure, charge=charge, conformers=conformers, seed=seed, temperature_K=temperature)
+    return load_structure(structure, charge=charge, conformers=conformers, seed=seed, temperature_K=temperature,
+                          exchange=exchange, geometry=geometry)
 
 
-def _run_predict(structure, charge, conformers, seed, temperature, model, currents, beta_model, scale, set_current,
-                 circuit):
+def _run_predict(structure, charge, conformers, seed, temperature, exchange, geometry, model, currents, beta_model,
+                 scale, set_current, circuit):
     from ringshift.shifts.prediction import predict
 
-    s = _load(structure, charge, conformers, seed, temperature)
+    s = _load(structure, charge, conformers, seed, temperature, exchange, geometry)
     return predict(s, model=model, currents=currents, beta_model=beta_model, scale=parse_assignments(scale, "--scale"),
                    set_current=parse_assignments(set_current, "--set-current"),
                    user_circuits=_index_lists(circuit))
@@ -171,14 +184,14 @@ def _emit(text: str, output, force: bool):
               help="Readable table, JSON, or one CSV row per hydrogen.")
 @click.option("-o", "--output", type=click.Path(dir_okay=False), default=None, help="Write to FILE (atomically).")
 @click.option("--force", is_flag=True, help="Overwrite an existing output file.")
-def predict_cmd(structure, charge, conformers, seed, temperature, model, currents, beta_model, scale, set_current,
-                circuit, fmt, output, force):
+def predict_cmd(structure, charge, conformers, seed, temperature, exchange, geometry, model, currents, beta_model,
+                scale, set_current, circuit, fmt, output, force):
     """Ring-current shift of every hydrogen of STRUCTURE."""
     from ringshift.reporting.json import prediction_to_dict, to_json
     from ringshift.reporting.text import prediction_csv, prediction_table
 
-    pred = _run_predict(structure, charge, conformers, seed, temperature, model, currents, beta_model, scale,
-                        set_current, circuit)
+    pred = _run_predict(structure, charge, conformers, seed, temperature, exchange, geometry, model, currents,
+                        beta_model, scale, set_current, circuit)
     if fmt == "json":
         text = to_json(prediction_to_dict(pred))
     elif fmt == "csv":
@@ -202,16 +215,16 @@ def predict_cmd(structure, charge, conformers, seed, temperature, model, current
               help="Readable text or JSON.")
 @click.option("-o", "--output", type=click.Path(dir_okay=False), default=None, help="Write to FILE (atomically).")
 @click.option("--force", is_flag=True, help="Overwrite an existing output file.")
-def compare_cmd(structure, peaks, charge, conformers, seed, temperature, model, currents, beta_model, scale,
-                set_current, circuit, solvent, claim, noise, fmt, output, force):
+def compare_cmd(structure, peaks, charge, conformers, seed, temperature, exchange, geometry, model, currents,
+                beta_model, scale, set_current, circuit, solvent, claim, noise, fmt, output, force):
     """Assign the observed PEAKS (CSV/TSV or JCAMP-DX) to STRUCTURE, fit its ring currents, give a verdict."""
     from ringshift.comparison.run import run_compare
     from ringshift.io.peak_tables import read_peaks
     from ringshift.reporting.json import comparison_to_dict, to_json
     from ringshift.reporting.text import comparison_text
 
-    pred = _run_predict(structure, charge, conformers, seed, temperature, model, currents, beta_model, scale,
-                        set_current, circuit)
+    pred = _run_predict(structure, charge, conformers, seed, temperature, exchange, geometry, model, currents,
+                        beta_model, scale, set_current, circuit)
     pl = read_peaks(peaks, n_hydrogens=len(pred.protons), solvent=solvent)
     res = run_compare(pred, pl, claim=claim, noise_ppm=_noise(noise), seed=seed)
     if fmt == "json":
@@ -243,13 +256,13 @@ def _noise(value):
 @click.option("--format", "fmt", type=_Format("text", "json"), default="text", show_default=True,
               help="Readable text or JSON.")
 @click.option("--force", is_flag=True, help="Overwrite an existing plot file.")
-def pi_cmd(structure, charge, conformers, seed, temperature, beta_model, plot, fmt, force):
+def pi_cmd(structure, charge, conformers, seed, temperature, exchange, geometry, beta_model, plot, fmt, force):
     """Pi-electron counts, 4n+2/4n class, planarity, Hueckel levels and circuit currents of STRUCTURE."""
     from ringshift.reporting.json import to_json
     from ringshift.reporting.pi_summary import pi_summary
     from ringshift.reporting.text import pi_text
 
-    s = _load(structure, charge, conformers, seed, temperature)
+    s = _load(structure, charge, conformers, seed, temperature, exchange, geometry)
     summary = pi_summary(s, beta_model=beta_model)
     if plot:
         from ringshift.reporting.level_diagram import save_levels_figure
@@ -272,8 +285,8 @@ def pi_cmd(structure, charge, conformers, seed, temperature, beta_model, plot, f
               help="New folder for the report (HTML, figures, JSON, SDF).")
 @click.option("--force", is_flag=True, help="Replace an existing report folder.")
 @click.option("--quiet", is_flag=True, help="No progress messages.")
-def report_cmd(structure, peaks, charge, conformers, seed, temperature, model, currents, beta_model, scale,
-               set_current, circuit, solvent, claim, noise, out_dir, force, quiet):
+def report_cmd(structure, peaks, charge, conformers, seed, temperature, exchange, geometry, model, currents,
+               beta_model, scale, set_current, circuit, solvent, claim, noise, out_dir, force, quiet):
     """Write a self-contained HTML report (with figures, JSON and SDF) for STRUCTURE [and PEAKS]."""
     from pathlib import Path
 
@@ -291,8 +304,8 @@ def report_cmd(structure, peaks, charge, conformers, seed, temperature, model, c
         given = [o for o, v in (("--claim", claim), ("--noise", noise), ("--solvent", solvent)) if v]
         raise InputError(f"{' and '.join(given)} {'needs' if len(given) == 1 else 'need'} observed peaks: give "
                          "PEAKS after STRUCTURE, or leave the option out")
-    pred = _run_predict(structure, charge, conformers, seed, temperature, model, currents, beta_model, scale,
-                        set_current, circuit)
+    pred = _run_predict(structure, charge, conformers, seed, temperature, exchange, geometry, model, currents,
+                        beta_model, scale, set_current, circuit)
     res = None
     if peaks:
         say("assignment and fit")
@@ -323,16 +336,16 @@ def report_cmd(structure, peaks, charge, conformers, seed, temperature, model, c
               metavar="PPM", help="Top of the colour scale, ± PPM (the same value gives the same colours for "
                                   "every compound; levels run on a 1-2-5 ladder two decades below it).")
 @click.option("--force", is_flag=True, help="Overwrite an existing file.")
-def map_cmd(structure, charge, conformers, seed, temperature, model, currents, beta_model, scale, set_current,
-            circuit, output, plane, height, extent, grid, for_circuit, contour_max, force):
+def map_cmd(structure, charge, conformers, seed, temperature, exchange, geometry, model, currents, beta_model, scale,
+            set_current, circuit, output, plane, height, extent, grid, for_circuit, contour_max, force):
     """Shielding map (isotropic ring-current shift, ppm) of STRUCTURE's loops, with the chosen --model."""
     from ringshift.reporting.figure_style import save_figure
     from ringshift.reporting.map_loops import check_map_model
     from ringshift.reporting.maps import normal_scan_figure, shielding_map_figure
 
     check_map_model(model)  # refuse a model without a map before any work is done
-    pred = _run_predict(structure, charge, conformers, seed, temperature, model, currents, beta_model, scale,
-                        set_current, circuit)
+    pred = _run_predict(structure, charge, conformers, seed, temperature, exchange, geometry, model, currents,
+                        beta_model, scale, set_current, circuit)
     if plane == "scan":
         fig = normal_scan_figure(pred, circuit=for_circuit, model=model)
     else:
@@ -427,12 +440,13 @@ def trajectory_cmd(frames, charge, model, currents, beta_model, weights, tempera
               help="A priori currents: Hückel–London, or 12 nA/T per aromatic ring.")
 @click.option("--beta", "beta_model", type=click.Choice(BETA_MODELS), default="scf",
               show_default=True, help="Resonance integrals of the Hückel step (see `predict -h`).")
-def batch_cmd(library, output, jobs, scheduler, restart, quiet, charge, conformers, seed, temperature, model,
-              currents, beta_model):
+def batch_cmd(library, output, jobs, scheduler, restart, quiet, charge, conformers, seed, temperature, exchange,
+              geometry, model, currents, beta_model):
     """Predict every molecule of LIBRARY (SDF, or SMILES file: SMILES [name] per line) into JSON lines."""
     from ringshift.runners.batch import run_batch
 
-    load = {"charge": charge, "conformers": conformers, "seed": seed, "temperature_K": temperature}
+    load = {"charge": charge, "conformers": conformers, "seed": seed, "temperature_K": temperature,
+            "exchange": exchange, "geometry": geometry}
     summ = run_batch(library, output, jobs=jobs, scheduler=scheduler, resume=not restart, overwrite=restart,
                      progress=not quiet, load_kwargs=load, model=model, currents=currents, beta_model=beta_model)
     click.echo(f"{summ.n_total} molecules: {summ.n_computed} computed ({summ.n_failed} failed), "

@@ -1,8 +1,9 @@
 """Molecular symmetry: groups of NMR-equivalent hydrogens, graph automorphisms, symmetry-aware RMSD.
 
-:func:`group_equivalent_hydrogens` finds the graph symmetry that the 3D geometry realises; the
-conformer generator (:mod:`ringshift.geometry.conformers`) prunes duplicates with
-:func:`prune_conformers` (RMSD minimised over automorphisms, :func:`kabsch_rmsd`).
+:func:`group_equivalent_hydrogens` finds the graph symmetry that the 3D geometry realises (slow exchange)
+or, with ``exchange="fast"``, the classes of protons that conformational and bond-shift processes
+interchange (:func:`fast_exchange_classes`); the conformer generator (:mod:`ringshift.geometry.conformers`)
+prunes duplicates with :func:`prune_conformers` (RMSD minimised over automorphisms, :func:`kabsch_rmsd`).
 """
 
 from __future__ import annotations
@@ -12,8 +13,15 @@ from rdkit import Chem
 
 from ringshift.errors import InputError
 
-__all__ = ['group_equivalent_hydrogens', 'H_SYMMETRY_TOLERANCE_A', 'symmetry_graph', 'automorphisms', 'kabsch_rmsd',
-           'prune_conformers']
+__all__ = ['group_equivalent_hydrogens', 'fast_exchange_classes', 'EXCHANGE_RULES', 'H_SYMMETRY_TOLERANCE_A',
+           'symmetry_graph', 'automorphisms', 'kabsch_rmsd', 'prune_conformers']
+
+#: Exchange rules of :func:`group_equivalent_hydrogens`: the static (low-temperature) structure, or the
+#: fast-exchange (high-temperature) limit of conformational and bond-shift processes.
+EXCHANGE_RULES: tuple[str, ...] = ("slow", "fast")
+
+#: Isotope number that marks the substituted proton in the substitution test (no real H isotope has it).
+_MARK_ISOTOPE = 99
 
 
 #: Largest heavy-atom displacement (Å) of an approximate symmetry operation (group_equivalent_hydrogens).
@@ -165,35 +173,52 @@ def _ring_flips(mol: Chem.Mol, x: np.ndarray, rank: list[int], anchor: np.ndarra
             yield atoms, atoms[best]
 
 
-def group_equivalent_hydrogens(mol: Chem.Mol, coords: np.ndarray, *,
-                               tol_A: float = H_SYMMETRY_TOLERANCE_A) -> tuple[tuple[int, ...], ...]:
-    """Groups of NMR-equivalent protons: the graph symmetry that the 3D geometry realises.
+def group_equivalent_hydrogens(mol: Chem.Mol, coords: np.ndarray, *, tol_A: float = H_SYMMETRY_TOLERANCE_A,
+                               exchange: str = "slow") -> tuple[tuple[int, ...], ...]:
+    """Groups of NMR-equivalent protons, for slow or fast exchange.
 
-    Two 1H are equivalent when an automorphism of the heavy-atom graph, realised by a rotation or
-    reflection of the reference geometry with every heavy atom within ``tol_A`` (approximate point-group
-    symmetry), carries one onto the other; each H follows its parent atom (the nearest image among the
-    H of the image atom, one-to-one). Fast motions are averaged first: H of a symmetric rotor (CH3,
-    NH3+, C(CH3)3, ...) form one site, O-H/S-H follow their atom, a phenyl on an sp3 carbon may flip.
-    Graph symmetry alone (``Chem.CanonicalRankAtoms(mol, breakTies=False)``) lumps [18]annulene's inner
-    and outer H and diastereotopic CH2 protons; no rotation or reflection of the geometry swaps those.
-    Motions that leave a static minimum of lower symmetry are not averaged (ring inversion, the twist of
-    [2.2]paracyclophane, the tilt of meso-aryl groups in porphyrins): such groups come out split, as in
-    the static structure. Deuterium and tritium are not 1H and are left out.
+    ``exchange="slow"`` (the static structure, the low-temperature spectrum): two 1H are equivalent
+    when an automorphism of the heavy-atom graph, realised by a rotation or reflection of the reference
+    geometry with every heavy atom within ``tol_A`` (approximate point-group symmetry), carries one onto
+    the other; each H follows its parent atom (the nearest image among the H of the image atom,
+    one-to-one). Motions fast at any temperature are averaged first: H of a symmetric rotor (CH3, NH3+,
+    C(CH3)3, ...) form one site, O-H/S-H follow their atom, a phenyl on an sp3 carbon may flip. Graph
+    symmetry alone (``Chem.CanonicalRankAtoms(mol, breakTies=False)``) lumps [18]annulene's inner and outer
+    H and diastereotopic CH2 protons; no rotation or reflection of the geometry swaps those. Motions that
+    leave a static minimum of lower symmetry are not averaged (ring inversion, the inner/outer exchange of
+    annulenes, the twist of [2.2]paracyclophane, the tilt of meso-aryl groups in porphyrins): such groups
+    come out split, as in the static structure.
+
+    ``exchange="fast"`` (the high-temperature limit): every conformational and bond-shift process is fast,
+    so the slow groups are merged further by :func:`fast_exchange_classes`: protons related by the
+    constitution (elements and connectivity; ring bond orders, E/Z of ring double bonds and conformation
+    ignored) are averaged unless the configuration of the molecule keeps them apart (diastereotopic
+    protons). Bonds are never broken: tautomeric proton transfer (porphyrin NH) is not averaged.
+
+    Deuterium and tritium are not 1H and are left out.
 
     Parameters
     ----------
     mol : rdkit.Chem.Mol
         Sanitised explicit-H molecule.
     coords : numpy.ndarray, shape (n_atoms, 3) or (n_conf, n_atoms, 3)
-        Reference geometry in Å, normally the lowest-energy conformer (first of a stack).
+        Reference geometry in Å, normally the lowest-energy conformer (first of a stack); with "fast" it
+        also fixes the configuration (stereocentres, E/Z outside rings).
     tol_A : float
         Largest atomic displacement (Å) for a symmetry operation to count.
+    exchange : {"slow", "fast"}
+        Exchange rule, see above.
 
     Returns
     -------
     tuple of tuple of int
         Sorted groups of H atom indices, ordered by first index; empty without hydrogens.
     """
+    from ringshift._validation import choice
+
+    if not isinstance(exchange, str):
+        raise InputError(f"expected one of {', '.join(EXCHANGE_RULES)}, got {exchange!r}", source="exchange")
+    choice(exchange, EXCHANGE_RULES, "exchange", "exchange rule")
     x = np.asarray(coords, dtype=np.float64)
     x, n = (x[0] if x.ndim == 3 else x), mol.GetNumAtoms()
     if x.shape != (n, 3):
@@ -201,6 +226,123 @@ def group_equivalent_hydrogens(mol: Chem.Mol, coords: np.ndarray, *,
     hs = [at.GetIdx() for at in mol.GetAtoms() if at.GetAtomicNum() == 1 and at.GetIsotope() in (0, 1)]
     if not hs:
         return ()
+    groups = _static_groups(mol, x, hs, tol_A)
+    if exchange == "fast":
+        groups = _merge(groups, fast_exchange_classes(mol, x))
+    return groups
+
+
+def _merge(a, b) -> tuple[tuple[int, ...], ...]:
+    """Finest common coarsening of two partitions of the same atoms (groups that share an atom join)."""
+    owner: dict[int, int] = {}
+    merged: list[set[int]] = []
+    for grp in list(a) + list(b):
+        hit = sorted({owner[h] for h in grp if h in owner})
+        target = hit[0] if hit else len(merged)
+        if not hit:
+            merged.append(set())
+        for k in hit[1:]:
+            merged[target] |= merged[k]
+            for h in merged[k]:
+                owner[h] = target
+            merged[k] = set()
+        merged[target] |= set(grp)
+        for h in grp:
+            owner[h] = target
+    return tuple(sorted(tuple(sorted(g)) for g in merged if g))
+
+
+def _substituted_key(mol: Chem.Mol, x: np.ndarray, h: int) -> str:
+    """Canonical isomeric SMILES of the constitution graph with proton ``h`` marked, stereo read from ``x``.
+
+    Bonds in rings become single (bond shift), charges are dropped; bonds outside rings keep their order
+    so that their E/Z is perceived. All H are explicit atoms, so only tetrahedral centres with four
+    neighbours and double bonds outside rings can carry stereo.
+    """
+    rw = Chem.RWMol()
+    for at in mol.GetAtoms():
+        atom = Chem.Atom(at.GetAtomicNum())
+        atom.SetIsotope(_MARK_ISOTOPE if at.GetIdx() == h else at.GetIsotope())
+        atom.SetNoImplicit(True)
+        rw.AddAtom(atom)
+    for b in mol.GetBonds():
+        kind = b.GetBondType()
+        if b.IsInRing() or kind not in (Chem.BondType.DOUBLE, Chem.BondType.TRIPLE):
+            kind = Chem.BondType.SINGLE
+        rw.AddBond(b.GetBeginAtomIdx(), b.GetEndAtomIdx(), kind)
+    graph = rw.GetMol()
+    graph.UpdatePropertyCache(strict=False)
+    Chem.FastFindRings(graph)
+    conf = Chem.Conformer(graph.GetNumAtoms())
+    conf.SetPositions(np.ascontiguousarray(x))
+    conf.Set3D(True)
+    graph.AddConformer(conf)
+    Chem.AssignStereochemistryFrom3D(graph)
+    return Chem.MolToSmiles(graph)
+
+
+def fast_exchange_classes(mol: Chem.Mol, coords: np.ndarray) -> tuple[tuple[int, ...], ...]:
+    """Classes of protons averaged when conformational and bond-shift processes are fast on the NMR timescale.
+
+    Rule (the substitution test of stereochemistry textbooks: replace each proton in turn by a test group
+    and compare the products; e.g. Eliel & Wilen, Stereochemistry of Organic Compounds, Wiley 1994, ch. 8,
+    from memory): proton ``h`` is marked in the constitution graph (elements, connectivity; ring bonds
+    single, charges dropped, conformation ignored), the configuration is read from ``coords``
+    (``Chem.AssignStereochemistryFrom3D``), and the canonical isomeric SMILES of the marked graph is
+    compared with that of its mirror image. Two protons are in one class when their marked graphs are
+    the same molecule (homotopic) or mirror images (enantiotopic, isochronous in an achiral solvent);
+    diastereomeric products (diastereotopic protons) keep them apart.
+
+    What RDKit can and cannot tell (RDKit 2026.09, measured): ``Chem.CanonicalRankAtoms(mol,
+    breakTies=False, includeChirality=True)`` ranks the two CH2 protons of (R)-butan-2-ol, the two =CH2
+    protons of vinyl chloride and the two isopropyl methyls of 4-chloro-2-methylpentane alike, so ranks
+    alone would merge diastereotopic protons. The substitution test tells them apart whenever the stereo
+    element that makes them different is one RDKit perceives: tetrahedral centres with four neighbours
+    (including a pseudo-asymmetric CH2 such as C3 of meso-pentane-2,4-diol) and E/Z of double bonds outside
+    rings. It cannot tell protons made diastereotopic by axial chirality (allenes, hindered biaryls),
+    planar chirality (cyclophanes) or helicity, which RDKit does not perceive: those come out merged. E/Z of
+    ring double bonds is ignored on purpose (in a delocalised annulene, inner/outer exchange moves the
+    cis/trans labels around the ring); so is every conformational barrier, including slow ones such as
+    amide C-N rotation (the two N-methyls of DMF merge).
+
+    Parameters
+    ----------
+    mol : rdkit.Chem.Mol
+        Explicit-H molecule.
+    coords : numpy.ndarray, shape (n_atoms, 3)
+        Geometry in Å that fixes the configuration.
+
+    Returns
+    -------
+    tuple of tuple of int
+        Sorted classes of 1H indices (D and T left out), ordered by first index.
+    """
+    x = np.asarray(coords, dtype=np.float64)
+    hs = [at.GetIdx() for at in mol.GetAtoms() if at.GetAtomicNum() == 1 and at.GetIsotope() in (0, 1)]
+    isotopes = {at.GetIdx(): at.GetIsotope() for at in mol.GetAtoms()}
+    rank = list(Chem.CanonicalRankAtoms(symmetry_graph(mol, range(mol.GetNumAtoms()), isotopes), breakTies=False,
+                                        includeChirality=False))
+    by_rank: dict[int, list[int]] = {}
+    for h in hs:
+        by_rank.setdefault(rank[h], []).append(h)
+    mirror = x * np.array([-1.0, 1.0, 1.0])
+    classes: list[tuple[int, ...]] = []
+    for members in by_rank.values():           # equal ranks are necessary; the test decides
+        if len(members) == 1:
+            classes.append(tuple(members))
+            continue
+        by_key: dict[str, list[int]] = {}
+        for h in members:
+            key = min(_substituted_key(mol, x, h), _substituted_key(mol, mirror, h))
+            by_key.setdefault(key, []).append(h)
+        classes.extend(tuple(g) for g in by_key.values())
+    return tuple(sorted(tuple(sorted(c)) for c in classes))
+
+
+def _static_groups(mol: Chem.Mol, x: np.ndarray, hs: list[int], tol_A: float) -> tuple[tuple[int, ...], ...]:
+    """Slow-exchange groups of the protons ``hs`` from the geometry ``x`` (n_atoms, 3), Å; see
+    :func:`group_equivalent_hydrogens`."""
+    n = mol.GetNumAtoms()
     isotopes = {at.GetIdx(): at.GetIsotope() for at in mol.GetAtoms()}
     rank = list(Chem.CanonicalRankAtoms(symmetry_graph(mol, range(n), isotopes), breakTies=False,
                                         includeChirality=False))

@@ -9,6 +9,9 @@ keeps the bond stereo labels (design notes §6-7).
 Conformers without 3D input: ETKDG v3 with macrocycle torsions (Wang, Witek, Landrum & Riniker, J. Chem.
 Inf. Model. 2020, 60, 2044), MMFF94 (Halgren, J. Comput. Chem. 1996, 17, 490), E/Z rejection, energy
 window, RMSD pruning over graph automorphisms, Boltzmann weights; sorted by energy.
+Geometry route ``"gfn2-xtb"``: the force-field (or input) conformers are re-optimised with GFN2-xTB
+(:mod:`ringshift.geometry.xtb`, the optional ``tblite`` extra) and weighted by GFN2 energies.
+Equivalent protons: :func:`ringshift.geometry.symmetry.group_equivalent_hydrogens` with the chosen exchange rule.
 """
 
 from __future__ import annotations
@@ -27,7 +30,7 @@ from ringshift.geometry.conformers import (
     boltzmann_weights,
     default_conformer_count,
 )
-from ringshift.geometry.symmetry import group_equivalent_hydrogens
+from ringshift.geometry.symmetry import EXCHANGE_RULES, group_equivalent_hydrogens
 from ringshift.io.molecule_files import (
     _check_chemistry,
     _detect_format,
@@ -37,7 +40,11 @@ from ringshift.io.molecule_files import (
     _short,
 )
 
-__all__ = ['Structure', 'load_structure']
+__all__ = ['Structure', 'load_structure', 'GEOMETRY_ROUTES', 'EXCHANGE_RULES']
+
+#: Geometry routes of :func:`load_structure`: MMFF94 conformers (or the input coordinates) as they are, or
+#: re-optimised with GFN2-xTB (Bannwarth, Ehlert & Grimme, J. Chem. Theory Comput. 2019, 15, 1652).
+GEOMETRY_ROUTES: tuple[str, ...] = ("force-field", "gfn2-xtb")
 
 
 _MAX_SEED = 2**31 - 1            # ETKDG's randomSeed is a C int; -1 means "random"
@@ -67,7 +74,8 @@ class Structure:
     h_groups : tuple of tuple of int
         Groups of equivalent 1H indices, each sorted, groups sorted by first index.
     provenance : dict
-        Format, coordinate method, counts, seed, temperature and thresholds.
+        Format, coordinate method, counts, seed, temperature and thresholds, the geometry route
+        (``geometry``, with ``geometry_refinement`` for GFN2-xTB) and the exchange rule (``exchange``).
     """
 
     name: str
@@ -90,7 +98,15 @@ class Structure:
                 f"charge {self.charge:+d}>")
 
 
-def _check_options(charge, conformers, seed, temperature_K, energy_window_kcal_mol, rmsd_prune_A) -> None:
+def _check_options(charge, conformers, seed, temperature_K, energy_window_kcal_mol, rmsd_prune_A, exchange,
+                   geometry) -> None:
+    from ringshift._validation import choice
+
+    for label, value, choices, what in (("exchange", exchange, EXCHANGE_RULES, "exchange rule"),
+                                        ("geometry", geometry, GEOMETRY_ROUTES, "geometry route")):
+        if not isinstance(value, str):
+            raise InputError(f"expected one of {', '.join(choices)}, got {value!r}", source=label)
+        choice(value, choices, label, what)
     for label, value, low in (("temperature_K", temperature_K, None), ("rmsd_prune_A", rmsd_prune_A, 0),
                               ("energy_window_kcal_mol", energy_window_kcal_mol, 0)):
         if isinstance(value, bool) or not isinstance(value, (int, float)) or not math.isfinite(value) \
@@ -114,7 +130,7 @@ def _check_options(charge, conformers, seed, temperature_K, energy_window_kcal_m
 
 def load_structure(spec: str, *, charge: int | None = None, conformers: int | None = None, seed: int = 42,
                    temperature_K: float = 298.15, energy_window_kcal_mol: float = 10.0, rmsd_prune_A: float = 0.3,
-                   fmt: str | None = None) -> Structure:
+                   fmt: str | None = None, exchange: str = "slow", geometry: str = "force-field") -> Structure:
     """Read a SMILES or a MOL/SDF/XYZ file into an explicit-H :class:`Structure`.
 
     Parameters
@@ -136,18 +152,30 @@ def load_structure(spec: str, *, charge: int | None = None, conformers: int | No
         Heavy-atom RMSD (Å, over automorphisms) below which a generated conformer duplicates a lower one.
     fmt : {"smiles", "mol", "sdf", "xyz"}, optional
         Force the input format.
+    exchange : {"slow", "fast"}
+        Which protons form one group (:func:`~ringshift.geometry.symmetry.group_equivalent_hydrogens`):
+        "slow", the symmetry of the lowest-energy conformer (the low-temperature spectrum; methyl and
+        tert-butyl rotation and phenyl flips still averaged); "fast", protons that conformational and
+        bond-shift processes interchange are averaged as well (the high-temperature limit, e.g. the inner and
+        outer H of [18]annulene), diastereotopic protons kept apart where RDKit perceives the stereo element.
+        A group's shift is the mean of its members' conformer-averaged shifts.
+    geometry : {"force-field", "gfn2-xtb"}
+        "force-field": MMFF94 conformers (input coordinates as given); "gfn2-xtb": those conformers
+        re-optimised with GFN2-xTB (needs the ``xtb`` extra, ``pip install 'ringshift[xtb]'``), their GFN2
+        energies giving the Boltzmann weights; generated conformers are re-sorted by GFN2 energy.
 
     Returns
     -------
     Structure
         Generated conformers sorted by energy. File ensembles (SD records, XYZ frames) keep file order and
         are neither windowed nor pruned; Boltzmann weights when every SD record has an energy field
-        (:data:`ENERGY_PROPERTIES`), else uniform. H groups come from the lowest-energy (or first) conformer.
+        (:data:`ENERGY_PROPERTIES`) or GFN2 energies exist, else uniform. H groups come from the
+        lowest-energy (or first) conformer.
     """
     if not isinstance(spec, (str, Path)) or not str(spec).strip():
         raise InputError("expected a SMILES or a path to a .mol, .sdf, .sd or .xyz file", source="spec")
     spec = str(spec).strip()
-    _check_options(charge, conformers, seed, temperature_K, energy_window_kcal_mol, rmsd_prune_A)
+    _check_options(charge, conformers, seed, temperature_K, energy_window_kcal_mol, rmsd_prune_A, exchange, geometry)
     kind = _detect_format(spec, fmt)
     prov: dict = {"format": kind}
     coords = energies = None
@@ -173,7 +201,11 @@ def load_structure(spec: str, *, charge: int | None = None, conformers: int | No
                     energy_window_kcal_mol=float(energy_window_kcal_mol))
     else:
         prov.update(coordinates="input", conformers_kept=int(coords.shape[0]))
+    prov["geometry"] = geometry
+    if geometry == "gfn2-xtb":
+        coords, energies = _refine_gfn2(base, coords, int(net), spec, prov, sort=kind == "smiles")
     prov["temperature_K"] = float(temperature_K)
+    prov["exchange"] = exchange
     coords = np.ascontiguousarray(coords, dtype=np.float64)
     mol = Chem.Mol(base)
     mol.RemoveAllConformers()
@@ -191,9 +223,45 @@ def load_structure(spec: str, *, charge: int | None = None, conformers: int | No
         weights = boltzmann_weights(energies, temperature_K)
     else:
         weights = np.full(coords.shape[0], 1.0 / coords.shape[0])
-    h_groups = group_equivalent_hydrogens(mol, coords[int(np.argmin(energies)) if energies is not None else 0])
+    h_groups = group_equivalent_hydrogens(mol, coords[int(np.argmin(energies)) if energies is not None else 0],
+                                          exchange=exchange)
     for arr in (coords, weights, energies):
         if arr is not None:
             arr.setflags(write=False)
     return Structure(name=name, source=spec, mol=mol, coords=coords, weights=weights, energies_kcal_mol=energies,
                      charge=int(net), h_groups=h_groups, provenance=prov)
+
+
+def _refine_gfn2(mol: Chem.Mol, coords: np.ndarray, charge: int, spec: str, prov: dict, *,
+                 sort: bool) -> tuple[np.ndarray, np.ndarray]:
+    """Re-optimise the conformers (n_conf, n_atoms, 3), Å, with GFN2-xTB; record the route in ``prov``.
+
+    Returns the GFN2 coordinates (k, n_atoms, 3) in Å and energies (k,) in kcal/mol relative to the lowest,
+    sorted by energy when ``sort`` (generated conformers). The net charge and the number of unpaired
+    electrons (RDKit radical electrons) are passed on: without them tblite computes the neutral closed shell.
+    """
+    try:
+        from ringshift.geometry.xtb import gfn2_optimise  # type: ignore[import-not-found,unused-ignore]
+    except ModuleNotFoundError as exc:
+        if exc.name != "ringshift.geometry.xtb":
+            raise
+        raise InputError("the gfn2-xtb geometry route is not part of this installation of ringshift; "
+                         "use geometry 'force-field'", source="geometry") from None
+    unpaired = int(sum(at.GetNumRadicalElectrons() for at in mol.GetAtoms()))
+    out, energies, info = gfn2_optimise(mol, np.ascontiguousarray(coords, dtype=np.float64), charge=charge,
+                                        unpaired=unpaired, source=spec)
+    out = np.ascontiguousarray(out, dtype=np.float64)
+    energies = np.asarray(energies, dtype=np.float64)
+    n = mol.GetNumAtoms()
+    if out.ndim != 3 or out.shape[1:] != (n, 3) or out.shape[0] < 1 or energies.shape != (out.shape[0],) \
+            or not (np.all(np.isfinite(out)) and np.all(np.isfinite(energies))):
+        raise RuntimeError(f"gfn2_optimise returned coordinates of shape {out.shape} and energies of shape "
+                           f"{energies.shape}; expected (k, {n}, 3) and (k,), finite")
+    if sort:
+        order = np.argsort(energies, kind="stable")
+        out, energies = out[order], energies[order]
+    energies = energies - energies.min()
+    prov["coordinates"] = f"{prov['coordinates']}+gfn2-xtb"
+    prov["conformers_kept"] = int(out.shape[0])
+    prov["geometry_refinement"] = dict(info)
+    return out, energies
