@@ -41,7 +41,7 @@ only a stable, closed-shell fixed point, so it leaves the equal-bond solution wh
 
 from __future__ import annotations
 
-from dataclasses import dataclass, field
+from dataclasses import dataclass, field, replace
 
 import numpy as np
 
@@ -52,8 +52,6 @@ from ringshift.pi.bond_lengths import SCF_RELATIONS
 from ringshift.pi.parameters import (
     BETA_DECAY_A,
     BETA_REF_LENGTH_A,
-    COULSON_R0_A,
-    COULSON_SLOPE_A,
     DEGENERACY_TOL,
     HETERO_PARAMETERS,
 )
@@ -64,7 +62,7 @@ from ringshift.pi.perception import (
 )
 
 __all__ = ['HuckelResult', 'huckel', 'beta_distance_factor', 'huckel_matrix', 'occupy', 'solve_fragments',
-           'density_matrix', 'scf_cc_lengths', 'bond_polarizability']
+           'density_matrix', 'bond_polarizability']
 
 
 
@@ -97,6 +95,12 @@ class HuckelResult:
     warnings: tuple[str, ...] = ()
     degenerate_open_shell: bool = False
     mo_fragment: np.ndarray | None = None
+    scf_energy_eV: float | None = None
+    scf_alternatives: tuple[HuckelResult, ...] = ()
+    scf_energy_above_kcal_per_mol: float = 0.0
+    scf_fragment: int | None = None
+    scf_starts: int = 0
+    scf_evaluations: int = 0
 
 
 def _check_model(beta_model: str, pi) -> None:
@@ -151,6 +155,9 @@ def huckel(pi: PiSystem, mol, coords=None, *, beta_model: str = "distance",
     Returns
     -------
     HuckelResult
+        For "scf"/"scf-coulson": the lowest-energy stable self-consistent solution, its model energy
+        (``scf_energy_eV``) and the other stable solutions found (``scf_alternatives``, each a HuckelResult
+        with ``scf_energy_above_kcal_per_mol``); :mod:`ringshift.pi.scf_lengths`.
     """
     _v.molecule(mol)
     _check_model(beta_model, pi)
@@ -158,34 +165,8 @@ def huckel(pi: PiSystem, mol, coords=None, *, beta_model: str = "distance",
     if distortion is not None and not (isinstance(distortion, (int, float)) and -1.0 < float(distortion) < 1.0):
         raise InputError(f"distortion: expected a bond-alternation fraction in (-1, 1), got {distortion!r}")
     lb, hd, k, is_cc, dbl, ov, lengths, dist = _setup(pi, mol, xyz, distortion)
-    notes, converged = [], True
     frags = [np.searchsorted(pi.atoms, f) for f in pi.fragments]
     f_elec = [sum(pi.electrons[i] for i in f) for f in frags]
-    if beta_model == "uniform":
-        res, used_len = k * dist * ov, None
-    elif beta_model == "distance":
-        res = np.where(is_cc, beta_distance_factor(lengths), k) * dist * ov
-        used_len = lengths
-    else:  # each fragment keeps its own electrons
-        r0, slope = SCF_RELATIONS[beta_model][:2]
-        r = np.zeros(len(lb))
-        for f_idx, f_el in zip(frags, f_elec):
-            sel = np.flatnonzero(np.isin(lb[:, 0], f_idx))
-            loc = np.searchsorted(f_idx, lb[sel])
-            r[sel], ok, nit = scf_cc_lengths(hd[f_idx], loc, k[sel], is_cc[sel], (ov * dist)[sel], dbl[sel], f_el,
-                                                r0_A=r0, slope_A=slope)
-            if not ok:
-                converged = False
-                notes.append(f"scf bond lengths: no stable closed-shell solution after {nit} iterations")
-        res = np.where(is_cc, beta_distance_factor(np.where(is_cc, r, BETA_REF_LENGTH_A)), k) * dist * ov
-        used_len = np.where(is_cc, r, lengths)
-    h0 = huckel_matrix(hd, lb, res)
-    e, c, occ, labels, open_shell, deg, deg_open, gap = solve_fragments(h0, frags, f_elec)
-    p = density_matrix(c, occ)
-    if open_shell:
-        notes.append("open shell: " + ("degenerate, partly filled HOMO" if deg_open else "singly occupied HOMO"))
-    elif gap is not None and gap < 0.05:
-        notes.append(f"near-degenerate HOMO/LUMO (gap {gap:.3g} |β|): currents are large and geometry-sensitive")
     params = {"table": {t: HETERO_PARAMETERS[t] for t in sorted(set(pi.atom_types))}, "beta_model": beta_model,
               "beta_r": "beta0*exp(-(r-1.397)/0.3106), Longuet-Higgins & Salem 1959 (from memory)",
               "bond_order_length": ({"relation": f"r = {SCF_RELATIONS[beta_model][0]:.4f} - "
@@ -193,13 +174,69 @@ def huckel(pi: PiSystem, mol, coords=None, *, beta_model: str = "distance",
                                     if beta_model in SCF_RELATIONS else None),
               "overlap": "|cos| of POAV-type p-orbital axes" if xyz is not None else "none (no coordinates)",
               "distortion": distortion}
+    if beta_model == "uniform":
+        return _assemble(pi, lb, hd, frags, f_elec, k * dist * ov, None, beta_model, params)
+    if beta_model == "distance":
+        return _assemble(pi, lb, hd, frags, f_elec, np.where(is_cc, beta_distance_factor(lengths), k) * dist * ov,
+                         lengths, beta_model, params)
+    from ringshift.pi.scf_lengths import KCAL_PER_MOL_PER_EV, scf_fixed_points  # builds on this module's kernels
+
+    r0, slope = SCF_RELATIONS[beta_model][:2]
+    searches, sels = [], []
+    for f_idx, f_el in zip(frags, f_elec):  # each fragment keeps its own electrons
+        sel = np.flatnonzero(np.isin(lb[:, 0], f_idx))
+        loc = np.searchsorted(f_idx, lb[sel])
+        searches.append(scf_fixed_points(hd[f_idx], loc, k[sel], is_cc[sel], (ov * dist)[sel], dbl[sel], f_el,
+                                         r0_A=r0, slope_A=slope, geometry_lengths_A=lengths[sel]))
+        sels.append(sel[is_cc[sel]])
+
+    def result(choice, notes=(), **extra):
+        r = np.where(is_cc, BETA_REF_LENGTH_A, 0.0)
+        for sel, s, c in zip(sels, searches, choice):
+            r[sel] = s.points[c].lengths_A
+        res = np.where(is_cc, beta_distance_factor(np.where(is_cc, r, BETA_REF_LENGTH_A)), k) * dist * ov
+        energy = float(sum(s.points[c].energy_eV for s, c in zip(searches, choice)))
+        return _assemble(pi, lb, hd, frags, f_elec, res, np.where(is_cc, r, lengths), beta_model, params,
+                         notes=notes, scf_energy_eV=energy, **extra)
+
+    notes = [f"scf bond lengths: no stable closed-shell self-consistent solution for fragment {n} "
+             f"({len(frags[n])} atoms) from {s.n_starts} starts; the lowest-energy point found is used "
+             f"(largest Jacobian eigenvalue {s.chosen.max_jacobian:.3g}, residual {s.chosen.residual_A:.1e} Å)"
+             for n, s in enumerate(searches) if not s.converged]
+    base = [0] * len(searches)
+    chosen = result(base)
+    alternatives = []
+    for n, s in enumerate(searches):
+        for c in range(1, len(s.points)):
+            alt = base.copy()
+            alt[n] = c
+            d_kcal = (s.points[c].energy_eV - s.chosen.energy_eV) * KCAL_PER_MOL_PER_EV
+            alternatives.append(result(alt, scf_energy_above_kcal_per_mol=d_kcal, scf_fragment=n))
+    alternatives.sort(key=lambda h: h.scf_energy_above_kcal_per_mol)
+    return replace(chosen, converged=all(s.converged for s in searches),
+                   warnings=tuple(notes) + chosen.warnings, scf_alternatives=tuple(alternatives),
+                   scf_starts=sum(s.n_starts for s in searches),
+                   scf_evaluations=sum(s.n_evaluations for s in searches))
+
+
+def _assemble(pi: PiSystem, lb, hd, frags, f_elec, res, used_len, beta_model, params, *, notes=(),
+              **extra) -> HuckelResult:
+    """Levels, occupations, charges and bond orders for given resonance factors res (n_bonds,)."""
+    notes = list(notes)
+    h0 = huckel_matrix(hd, lb, res)
+    e, c, occ, labels, open_shell, deg, deg_open, gap = solve_fragments(h0, frags, f_elec)
+    p = density_matrix(c, occ)
+    if open_shell:
+        notes.append("open shell: " + ("degenerate, partly filled HOMO" if deg_open else "singly occupied HOMO"))
+    elif gap is not None and gap < 0.05:
+        notes.append(f"near-degenerate HOMO/LUMO (gap {gap:.3g} |β|): currents are large and geometry-sensitive")
     return HuckelResult(
         energies_beta=_frozen(e), vectors=_frozen(c), occupations=_frozen(occ), homo_lumo_gap_beta=gap,
         open_shell=open_shell, degenerate_homo=deg, degenerate_open_shell=deg_open,
         mo_fragment=_frozen(labels, np.intp), charges=_frozen(np.array(pi.core_charges, float) - np.diag(p)),
         bond_orders=_frozen(p[lb[:, 0], lb[:, 1]] if len(lb) else np.zeros(0)), resonance=_frozen(res),
         bond_lengths_A=None if used_len is None else _frozen(used_len), beta_model=beta_model,
-        parameters=params, converged=converged, warnings=tuple(notes))
+        parameters=params, warnings=tuple(notes), **extra)
 
 
 def beta_distance_factor(r_A) -> np.ndarray:
@@ -318,94 +355,6 @@ def density_matrix(vectors, occ) -> np.ndarray:
     c = np.asarray(vectors, dtype=np.float64)
     return (c * np.asarray(occ, dtype=np.float64)) @ c.T
 
-
-def scf_cc_lengths(h_diag, bonds, fixed_resonance, is_cc, overlap, kekule_double, n_electrons, *,
-                   r0_A: float = COULSON_R0_A, slope_A: float = COULSON_SLOPE_A, seed_A: float = 0.01,
-                   tol_A: float = 1e-9, max_iter: int = 300, depth: int = 6):
-    """Self-consistent C–C bond lengths from π bond orders: r = R0 − S p, β(r) = β0 e^(−Δr/0.3106).
-
-    The fixed point r = F(r) is found with Anderson acceleration (Walker & Ni, SIAM J. Numer. Anal.
-    2011, 49, 1715) from a small alternation along the Kekulé structure. Anderson can land on an
-    unstable fixed point (e.g. equal bonds in a large annulene), so every solution is checked: it is
-    accepted only if the largest eigenvalue of the Jacobian of F, S/0.3106 · π · β(r)/β0 with π the
-    bond–bond polarisability, is below 1 and the shell is closed; otherwise it is displaced along the
-    unstable mode (or the Kekulé pattern) and the search restarts.
-
-    Parameters: h_diag (n,) Coulomb parameters; bonds (m, 2) local index pairs; fixed_resonance (m,)
-    β_rs/β0 of bonds whose β does not depend on length (k_CX; ignored for C–C); is_cc (m,) bool, the
-    iterated C–C bonds; overlap (m,) factors on every β (|cos ω| alignment, explicit distortion);
-    kekule_double (m,) bool, double bonds of a Kekulé structure (the seed); n_electrons int; r0_A, slope_A
-    (keyword-only) R0 and S in Å (default the Coulson line of ``"scf-coulson"``).
-
-    Returns: lengths (m,) float64 Å (C–C entries self-consistent, others 0 and unused); converged (True
-    if a stable, closed-shell fixed point was found); n_iter.
-    """
-    hd = np.asarray(h_diag, dtype=np.float64)
-    b = np.asarray(bonds, dtype=np.intp).reshape(-1, 2)
-    kfix = np.asarray(fixed_resonance, dtype=np.float64)
-    cc = np.asarray(is_cc, dtype=bool)
-    ov = np.asarray(overlap, dtype=np.float64)
-    dbl = np.asarray(kekule_double, dtype=bool)
-    r = np.zeros(b.shape[0])
-    if not cc.any():
-        return r, True, 0
-
-    def solve(x):
-        rr = np.full(b.shape[0], BETA_REF_LENGTH_A)
-        rr[cc] = x
-        fac = np.where(cc, beta_distance_factor(rr), kfix) * ov
-        e, c = np.linalg.eigh(huckel_matrix(hd, b, fac))
-        occ, open_shell = occupy(e, n_electrons)[:2]
-        return fac, e, c, occ, open_shell
-
-    def fmap(x):
-        _, _, c, occ, _ = solve(x)
-        return r0_A - slope_A * density_matrix(c, occ)[b[cc, 0], b[cc, 1]]
-
-    seed = np.where(dbl[cc], -1.0, 1.0)
-    x = BETA_REF_LENGTH_A + seed_A * seed
-    total = 0
-    for _attempt in range(5):
-        dxs: list[np.ndarray] = []
-        dfs: list[np.ndarray] = []
-        x_old = f_old = None
-        done = False
-        for _ in range(max_iter):
-            total += 1
-            f = fmap(x) - x
-            if np.max(np.abs(f)) < tol_A:
-                done = True
-                break
-            if x_old is not None:
-                dxs.append(x - x_old)
-                dfs.append(f - f_old)
-                if len(dxs) > depth:
-                    dxs.pop(0)
-                    dfs.pop(0)
-            x_old, f_old = x, f
-            if dfs:
-                dfm, dxm = np.array(dfs).T, np.array(dxs).T
-                x = x + f - (dxm + dfm) @ np.linalg.lstsq(dfm, f, rcond=None)[0]
-            else:
-                x = x + 0.5 * f
-            x = np.clip(x, 1.25, 1.60)  # keep iterates physical; fixed points lie within 1.33–1.52 Å
-        if not done:
-            break
-        fac, e, c, occ, open_shell = solve(x)
-        if open_shell:
-            x = x + 0.02 * seed
-            continue
-        d = (fac * slope_A / BETA_DECAY_A)[cc]  # ∂F/∂x = slope · π · f/λ
-        pol = bond_polarizability(c, e, occ, b)[np.ix_(cc, cc)]
-        lam, vec = np.linalg.eigh(np.sqrt(d)[:, None] * pol * np.sqrt(d)[None, :])
-        if lam[-1] < 1.0 - 1e-9:
-            r[cc] = x
-            return r, True, total
-        mode = vec[:, -1] / np.sqrt(d)
-        mode *= np.sign(mode @ seed) or 1.0
-        x = x + 0.02 * mode / np.max(np.abs(mode))
-    r[cc] = x
-    return r, False, total
 
 def bond_polarizability(vectors, energies, occ, bonds, *, tol: float = DEGENERACY_TOL) -> np.ndarray:
     """Bond–bond polarisability π_bc = ∂p_b/∂(β_c/β0) from first-order perturbation theory.

@@ -37,13 +37,22 @@ from ringshift.pi.huckel import (
     huckel,
     huckel_matrix,
     occupy,
-    scf_cc_lengths,
 )
-from ringshift.pi.parameters import BETA0_EV, BETA_REF_LENGTH_A, DEGENERACY_TOL, HETERO_PARAMETERS, PI_CHARGE_PPM_PER_E
+from ringshift.pi.parameters import (
+    BETA0_EV,
+    BETA_REF_LENGTH_A,
+    DEGENERACY_TOL,
+    HETERO_PARAMETERS,
+    PI_CHARGE_PPM_PER_E,
+    SCF_CLOSE_KCAL_PER_MOL,
+    SCF_CURRENT_DIFF_REL,
+)
 from ringshift.pi.perception import _PLANAR_TOL_A, PiSystem, _check_circuit, _frozen
+from ringshift.pi.scf_lengths import bond_length_alternation, scf_cc_lengths
 
-__all__ = ['LondonCurrents', 'london_currents', 'circuit_normals', 'london_bond_response', 'kirchhoff_decomposition',
-           'regular_polygon', 'benzene_reference_response', 'absolute_current_nA_per_T', 'pi_charge_shift_ppm']
+__all__ = ['LondonCurrents', 'AlternativeCurrents', 'london_currents', 'circuit_normals', 'london_bond_response',
+           'kirchhoff_decomposition', 'regular_polygon', 'benzene_reference_response', 'absolute_current_nA_per_T',
+           'pi_charge_shift_ppm']
 
 
 @dataclass(frozen=True, eq=False)
@@ -62,6 +71,11 @@ class LondonCurrents:
     kirchhoff_residual: relative least-squares residual (≈1e-15 for a cycle basis);
     conservation_residual: largest net current at an atom relative to the largest bond current.
     circuit_max_deviation_A: largest deviation of each circuit from its fitted plane.
+    bla_A: bond-length alternation of the C–C lengths used (Å; mean |Δr| of bonds sharing an atom), None for
+    "uniform". alternatives: the other stable self-consistent solutions ("scf" models), lowest energy first,
+    each with its circuit currents (:class:`AlternativeCurrents`). warnings: everything the user must see,
+    including a self-consistent step that found no stable solution and solutions that are too close in energy
+    to choose between (with both currents).
     """
 
     status: str
@@ -83,6 +97,24 @@ class LondonCurrents:
     beta0_eV: float
     huckel: HuckelResult
     warnings: tuple[str, ...] = ()
+    bla_A: float | None = None
+    alternatives: tuple[AlternativeCurrents, ...] = ()
+
+
+@dataclass(frozen=True, eq=False)
+class AlternativeCurrents:
+    """Another stable self-consistent bond-length solution and its currents (same circuits and normals).
+
+    energy_above_kcal_per_mol: model energy above the chosen solution (:mod:`ringshift.pi.scf_lengths`);
+    bla_A (Å); circuit_currents_rel (n_circuits,) J/J_benzene, positive diatropic, None if the solution
+    has no finite current (open shell); circuit_currents_nA_per_T (n_circuits,) or None; huckel: its levels.
+    """
+
+    energy_above_kcal_per_mol: float
+    bla_A: float | None
+    circuit_currents_rel: np.ndarray | None
+    circuit_currents_nA_per_T: np.ndarray | None
+    huckel: HuckelResult
 
 # ---------------------------------------------------------------------------------------------------
 # London currents
@@ -150,16 +182,43 @@ def london_currents(pi: PiSystem, mol, coords, circuits: Sequence[Sequence[int]]
     if not pi.atoms:
         return empty
     lb = np.array([(pi.atoms.index(i), pi.atoms.index(j)) for i, j in pi.bonds], dtype=np.intp).reshape(-1, 2)
-    h0 = huckel_matrix([HETERO_PARAMETERS[t][0] for t in pi.atom_types], lb, hr.resonance)
-    status = ("open shell: degenerate, partly filled HOMO (e.g. a D_Nh 4n annulene); Hückel–London gives no "
-              "finite current. Pass a distortion (bond alternation) or a geometry that breaks the degeneracy")
-    if hr.degenerate_open_shell:
+    out = _circuit_response(hr, pi, xyz, lb, inc, nrm, g_bz)
+    alts = tuple(_alternative(a, pi, xyz, lb, inc, nrm, g_bz) for a in hr.scf_alternatives)
+    bla = _bla(hr, pi)
+    notes += [n for n in (_close_note(None if out is None else out[2], bla, a, oriented) for a in alts) if n]
+    empty = replace(empty, warnings=tuple(notes), alternatives=alts, bla_A=bla)
+    if out is None:
+        status = ("open shell: degenerate, partly filled HOMO (e.g. a D_Nh 4n annulene); Hückel–London gives no "
+                  "finite current. Pass a distortion (bond alternation) or a geometry that breaks the degeneracy")
         return replace(empty, status=status, open_shell=True)
+    diat, resp, rel, resid, cons = out
+    return replace(
+        empty, status="ok", open_shell=hr.open_shell,
+        bond_currents_rel=_frozen(-diat), bond_currents_nA_per_T=_frozen(-diat * BENZENE_CURRENT_NA_PER_T),
+        circuit_response_rel=_frozen(resp), circuit_currents_rel=_frozen(rel),
+        circuit_currents_nA_per_T=_frozen(rel * BENZENE_CURRENT_NA_PER_T),
+        circuit_currents_abs_nA_per_T=_frozen(rel * bz_abs), kirchhoff_residual=resid, conservation_residual=cons)
+
+
+def _bla(hr: HuckelResult, pi: PiSystem) -> float | None:
+    if hr.bond_lengths_A is None:
+        return None
+    cc = [k for k, (i, j) in enumerate(pi.bonds) if pi.atom_types[pi.atoms.index(i)].startswith("C")
+          and pi.atom_types[pi.atoms.index(j)].startswith("C")]
+    return bond_length_alternation(np.asarray(hr.bond_lengths_A)[cc], np.asarray(pi.bonds).reshape(-1, 2)[cc])
+
+
+def _circuit_response(hr: HuckelResult, pi: PiSystem, xyz, lb, inc, nrm, g_bz):
+    """(diatropic bond currents (3, m), circuit responses (c, 3), currents along the normals (c,), Kirchhoff
+    residual, conservation residual) relative to benzene; None for a degenerate open shell."""
+    if hr.degenerate_open_shell:
+        return None
+    h0 = huckel_matrix([HETERO_PARAMETERS[t][0] for t in pi.atom_types], lb, hr.resonance)
     try:
         g = london_bond_response(h0, xyz[list(pi.atoms)], lb, hr.energies_beta, hr.vectors, hr.occupations,
-                                    labels=hr.mo_fragment)
+                                 labels=hr.mo_fragment)
     except ValueError:
-        return replace(empty, status=status, open_shell=True)
+        return None
     diat = g / g_bz  # diatropic-sense current from i to j, benzene = 1
     x, resid = kirchhoff_decomposition(diat, inc)
     div = np.zeros((3, len(pi.atoms)))  # net current leaving each atom
@@ -167,13 +226,36 @@ def london_currents(pi: PiSystem, mol, coords, circuits: Sequence[Sequence[int]]
     np.add.at(div.T, lb[:, 1], -diat.T)
     cons = float(np.max(np.abs(div)) / max(np.max(np.abs(diat)), 1e-300)) if diat.size else 0.0
     resp = x.T  # (n_circuits, 3)
-    rel = np.einsum("ca,ca->c", resp, nrm.reshape(-1, 3))
-    return replace(
-        empty, status="ok", open_shell=hr.open_shell,
-        bond_currents_rel=_frozen(-diat), bond_currents_nA_per_T=_frozen(-diat * BENZENE_CURRENT_NA_PER_T),
-        circuit_response_rel=_frozen(resp), circuit_currents_rel=_frozen(rel),
-        circuit_currents_nA_per_T=_frozen(rel * BENZENE_CURRENT_NA_PER_T),
-        circuit_currents_abs_nA_per_T=_frozen(rel * bz_abs), kirchhoff_residual=resid, conservation_residual=cons)
+    return diat, resp, np.einsum("ca,ca->c", resp, nrm.reshape(-1, 3)), resid, cons
+
+
+def _alternative(hr: HuckelResult, pi: PiSystem, xyz, lb, inc, nrm, g_bz) -> AlternativeCurrents:
+    out = _circuit_response(hr, pi, xyz, lb, inc, nrm, g_bz)
+    rel = None if out is None else _frozen(out[2])
+    na = None if rel is None else _frozen(rel * BENZENE_CURRENT_NA_PER_T)
+    return AlternativeCurrents(energy_above_kcal_per_mol=float(hr.scf_energy_above_kcal_per_mol),
+                               bla_A=_bla(hr, pi), circuit_currents_rel=rel, circuit_currents_nA_per_T=na, huckel=hr)
+
+
+def _close_note(rel, bla, alt: AlternativeCurrents, circuits) -> str:
+    """A one-line warning when ``alt`` lies within SCF_CLOSE_KCAL_PER_MOL of the chosen solution and its
+    currents differ by SCF_CURRENT_DIFF_REL or more on some circuit (or only one of the two has a finite
+    current); it names the circuit that differs most and both currents. Empty string otherwise."""
+    if alt.energy_above_kcal_per_mol >= SCF_CLOSE_KCAL_PER_MOL or not len(circuits):
+        return ""
+    a = alt.circuit_currents_rel
+    if rel is not None and a is not None:
+        k = int(np.argmax(np.abs(a - rel)))
+        if abs(a[k] - rel[k]) < SCF_CURRENT_DIFF_REL:
+            return ""
+        cur: tuple[str, ...] = (f"{rel[k]:.2f}x benzene", f"{a[k]:.2f}x")
+    else:
+        k = 0
+        cur = tuple("no finite current (open shell)" if x is None else f"{x[0]:.2f}x benzene" for x in (rel, a))
+    bl = tuple("" if x is None else f", BLA {x:.3f} A" for x in (bla, alt.bla_A))
+    return (f"two self-consistent bond-length solutions within {SCF_CLOSE_KCAL_PER_MOL:.2f} kcal/mol (RT at 298 K) "
+            f"give circuits[{k}] ({len(circuits[k])} atoms) {cur[0]} (chosen: lower model energy{bl[0]}) and "
+            f"{cur[1]} (+{alt.energy_above_kcal_per_mol:.2f} kcal/mol{bl[1]}); the model cannot decide between them")
 
 
 def london_bond_response(h0, xyz, bonds, energies, vectors, occ, *, labels=None, tol: float = DEGENERACY_TOL):

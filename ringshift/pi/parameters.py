@@ -20,7 +20,7 @@ from __future__ import annotations
 import numpy as np
 
 __all__ = ['HETERO_PARAMETERS', 'BETA_REF_LENGTH_A', 'BETA_DECAY_A', 'COULSON_R0_A', 'COULSON_SLOPE_A', 'BETA0_EV',
-           'POLYACETYLENE_BLA_A', 'PI_CHARGE_PPM_PER_E']
+           'POLYACETYLENE_BLA_A', 'PI_CHARGE_PPM_PER_E', 'SCF_CLOSE_KCAL_PER_MOL', 'SCF_CURRENT_DIFF_REL']
 
 
 _DL = "Derflinger & Lischka, Monatsh. Chem. 1969, 100, 1003"
@@ -69,3 +69,13 @@ PI_CHARGE_PPM_PER_E = 10.7
 
 #: Levels closer than this (units of |β|) count as degenerate.
 DEGENERACY_TOL = 1e-6
+
+#: Two self-consistent bond-length solutions closer than this in model energy (kcal/mol) are reported with
+#: both currents: RT at 298.15 K = 0.592 kcal/mol (CODATA R), the energy below which both would be populated
+#: at room temperature (Boltzmann ratio above 1/e). The model's own energy error is larger, so the rule says
+#: "undecided", never "both present".
+SCF_CLOSE_KCAL_PER_MOL = 0.592
+
+#: ... unless their currents agree within this on every circuit (units of the benzene current, 0.24 nA/T):
+#: below the two decimals of the printed ratio (e.g. the two Kekulé phases of a symmetric ring).
+SCF_CURRENT_DIFF_REL = 0.02
