@@ -292,9 +292,9 @@ def gfn2_optimise(mol: Chem.Mol, coords, *, charge: int, unpaired: int = 0, max_
         ``unpaired``, a charge that disagrees with the molecule, implicit hydrogens, or no conformer left
         (every SCC failed or every conformer changed its E/Z configuration).
     """
-    calculator_cls = _tblite_calculator(source)
     z, x, energies_ff = _check_inputs(mol, coords, charge, unpaired, max_conformers, energies_kcal_mol,
                                       max_iterations, threads, source)
+    calculator_cls = _tblite_calculator(source)
     t0 = time.perf_counter()
     chosen = _selection(x.shape[0], max_conformers, energies_ff)
     notes: list[str] = []
