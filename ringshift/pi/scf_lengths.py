@@ -49,8 +49,6 @@ __all__ = ["ScfPoint", "ScfSearch", "scf_fixed_points", "scf_cc_lengths", "sigma
 #: 1 eV per molecule in kcal/mol (CODATA e·N_A / 4184 J/kcal).
 KCAL_PER_MOL_PER_EV = 23.060548
 
-_R_MIN_A, _R_MAX_A = 1.25, 1.60  # iterates kept physical; fixed points lie within 1.33–1.52 Å
-
 _KEKULE_AMPLITUDE_A = 0.04  # half the trans-polyacetylene BLA of 0.08 Å (Yannoni & Clarke 1983, from memory)
 
 _SAME_A = 1e-4  # two minima closer than this (max |Δr|) are one solution
@@ -76,8 +74,10 @@ def bond_length_alternation(lengths_A, bonds) -> float:
     """
     r = np.asarray(lengths_A, dtype=np.float64)
     b = np.asarray(bonds).reshape(-1, 2)
-    diffs = [abs(r[i] - r[j]) for a in np.unique(b) for k, i in enumerate(np.flatnonzero((b == a).any(axis=1)))
-             for j in np.flatnonzero((b == a).any(axis=1))[k + 1:]]
+    diffs = []
+    for a in np.unique(b):
+        at = np.flatnonzero((b == a).any(axis=1))  # the bonds of atom a
+        diffs += [abs(r[i] - r[j]) for n, i in enumerate(at) for j in at[n + 1:]]
     return float(np.mean(diffs)) if diffs else 0.0
 
 
@@ -85,19 +85,21 @@ def bond_length_alternation(lengths_A, bonds) -> float:
 class ScfPoint:
     """One stationary point of the model energy: lengths_A (m_cc,) Å of the iterated C–C bonds; energy_eV =
     E_π + Σ U (eV, α dropped); pi_energy_eV; max_jacobian (largest eigenvalue of the map's Jacobian, < 1 for a
-    minimum; inf for an open shell); closed_shell; residual_A = max |F(r) − r|; start (which start found it)."""
+    minimum; inf for a degenerate open shell); degenerate_open_shell (a partly filled degenerate shell: no
+    linear response, not accepted; a non-degenerate singly occupied level, a radical, is accepted); residual_A =
+    max |F(r) − r|; start (which start found it)."""
 
     lengths_A: np.ndarray
     energy_eV: float
     pi_energy_eV: float
     max_jacobian: float
-    closed_shell: bool
+    degenerate_open_shell: bool
     residual_A: float
     start: str
 
     @property
     def stable(self) -> bool:
-        return self.closed_shell and self.residual_A < 1e-7 and self.max_jacobian < 1.0 - 1e-9
+        return not self.degenerate_open_shell and self.residual_A < 1e-7 and self.max_jacobian < 1.0 - 1e-9
 
 
 @dataclass(frozen=True, eq=False)
@@ -128,6 +130,9 @@ class _Model:
         self.n_el, self.r0, self.s, self.beta = int(n_electrons), r0_A, slope_A, abs(beta0_eV)
         self.k = spring_constant(slope_A, beta0_eV)
         self.n_eval = 0
+        # |p| <= 1 and w <= 1 put every fixed point inside R0 ± S: the box never excludes one
+        self.box = (r0_A - slope_A * max(1.0, float(np.max(self.w, initial=1.0))) - 0.02,
+                    r0_A + slope_A * max(1.0, float(np.max(self.w, initial=1.0))) + 0.02)
 
     def levels(self, x):
         self.n_eval += 1
@@ -135,9 +140,9 @@ class _Model:
         rr[self.cc] = x
         fac = np.where(self.cc, beta_distance_factor(rr), self.kfix) * self.w
         e, c = np.linalg.eigh(huckel_matrix(self.hd, self.b, fac))
-        occ, open_shell = occupy(e, self.n_el)[:2]
+        occ, open_shell, degenerate = occupy(e, self.n_el)[:3]
         p = density_matrix(c, occ)[self.b[:, 0], self.b[:, 1]]
-        return fac, e, c, occ, open_shell, p
+        return fac, e, c, occ, open_shell and degenerate, p
 
     def energy_grad(self, x):
         fac, e, _, occ, _, p = self.levels(x)
@@ -158,12 +163,12 @@ class _Model:
         en, _, e_pi = self.energy_grad(x)
         res = float(np.max(np.abs(self.fmap_from(p) - x)))
         if open_shell:
-            return ScfPoint(x.copy(), en, e_pi, float("inf"), False, res, start), None
+            return ScfPoint(x.copy(), en, e_pi, float("inf"), True, res, start), None
         d = self.s / BETA_DECAY_A * (fac * self.w)[self.cc]  # S/λ · w² f  (fac = w f)
         pol = bond_polarizability(c, e, occ, self.b)[np.ix_(self.cc, self.cc)]
         lam, vec = np.linalg.eigh(np.sqrt(d)[:, None] * pol * np.sqrt(d)[None, :])
         mode = vec[:, -1] / np.sqrt(d)
-        pt = ScfPoint(x.copy(), en, e_pi, float(lam[-1]), True, res, start)
+        pt = ScfPoint(x.copy(), en, e_pi, float(lam[-1]), False, res, start)
         return pt, (None if pt.stable else mode / np.max(np.abs(mode)))
 
 
@@ -188,21 +193,21 @@ def _anderson(model: _Model, x, tol_A: float, max_iter: int, depth: int = 6):
             x = x + f - (dxm + dfm) @ np.linalg.lstsq(dfm, f, rcond=None)[0]
         else:
             x = x + 0.5 * f
-        x = np.clip(x, _R_MIN_A, _R_MAX_A)
+        x = np.clip(x, *model.box)
     return x, False
 
 
-def _descend(model: _Model, x0, tol_A: float, start: str):
+def _descend(model: _Model, x0, tol_A: float, start: str, max_iter: int):
     """One start: Anderson iteration (fast); where it fails or ends on an open shell, a damped descent of E
     (L-BFGS-B) and an Anderson polish. Returns (ScfPoint, unstable mode or None)."""
-    x, ok = _anderson(model, np.asarray(x0, dtype=np.float64), tol_A, 80)
+    x, ok = _anderson(model, np.asarray(x0, dtype=np.float64), tol_A, max_iter)
     if ok:  # a minimum, or a saddle that the caller leaves along its unstable mode
         pt, mode = model.assess(x, start)
-        if pt.stable or pt.closed_shell:
+        if pt.stable or not pt.degenerate_open_shell:
             return pt, mode
-    out = minimize(lambda v: model.energy_grad(v)[:2], x0, jac=True, method="L-BFGS-B",
-                   bounds=[(_R_MIN_A, _R_MAX_A)] * x0.size, options={"maxiter": 400, "ftol": 1e-15, "gtol": 1e-10})
-    x, ok = _anderson(model, np.asarray(out.x, dtype=np.float64), tol_A, 60)
+    out = minimize(lambda v: model.energy_grad(v)[:2], np.clip(x0, *model.box), jac=True, method="L-BFGS-B",
+                   bounds=[model.box] * x0.size, options={"maxiter": 5 * max_iter, "ftol": 1e-15, "gtol": 1e-10})
+    x, ok = _anderson(model, np.asarray(out.x, dtype=np.float64), tol_A, max_iter)
     if not ok or np.max(np.abs(x - out.x)) > 0.01:  # the polish left the basin: keep the descent's point
         x = np.asarray(out.x, dtype=np.float64)
     return model.assess(x, start)
@@ -214,7 +219,7 @@ def _key(pt: ScfPoint):
 
 def scf_fixed_points(h_diag, bonds, fixed_resonance, is_cc, weight, kekule_double, n_electrons, *,
                      r0_A: float, slope_A: float, beta0_eV: float = BETA0_EV, geometry_lengths_A=None,
-                     tol_A: float = 1e-9, max_restarts: int = 4) -> ScfSearch:
+                     tol_A: float = 1e-9, max_restarts: int = 4, max_iter: int = 80) -> ScfSearch:
     """All stable closed-shell self-consistent C–C lengths found from several starts, chosen one first.
 
     Parameters
@@ -229,7 +234,8 @@ def scf_fixed_points(h_diag, bonds, fixed_resonance, is_cc, weight, kekule_doubl
     r0_A, slope_A : R0 and S of r = R0 − S w p, Å (keyword-only)
     beta0_eV : β0 for the energy scale, eV
     geometry_lengths_A : (m,) Å, optional; the geometry's lengths, one more start
-    tol_A : fixed-point tolerance, Å; max_restarts : displacements along unstable modes
+    tol_A : fixed-point tolerance, Å; max_restarts : displacements along unstable modes; max_iter : Anderson
+        iterations per start (L-BFGS-B: five times as many)
 
     Returns
     -------
@@ -239,14 +245,14 @@ def scf_fixed_points(h_diag, bonds, fixed_resonance, is_cc, weight, kekule_doubl
     cc = model.cc
     m = int(cc.sum())
     if m == 0:
-        return ScfSearch((ScfPoint(np.zeros(0), 0.0, 0.0, 0.0, True, 0.0, "none"),), True, 0, 0)
+        return ScfSearch((ScfPoint(np.zeros(0), 0.0, 0.0, 0.0, False, 0.0, "none"),), True, 0, 0)
     seed = np.where(np.asarray(kekule_double, dtype=bool)[cc], -1.0, 1.0)
     pattern = np.cos(2.399963 * np.arange(m) + 0.5)  # golden-angle pattern: deterministic, no symmetry
     starts = [("kekule", BETA_REF_LENGTH_A + _KEKULE_AMPLITUDE_A * seed),
               ("kekule-reversed", BETA_REF_LENGTH_A - _KEKULE_AMPLITUDE_A * seed),
               ("equal", BETA_REF_LENGTH_A + 1e-3 * pattern)]
     if geometry_lengths_A is not None:
-        geo = np.clip(np.asarray(geometry_lengths_A, dtype=np.float64)[cc], _R_MIN_A, _R_MAX_A)
+        geo = np.clip(np.asarray(geometry_lengths_A, dtype=np.float64)[cc], *model.box)
         starts.append(("geometry", geo + 1e-4 * pattern))
     found: list[ScfPoint] = []
     others: list[ScfPoint] = []
@@ -254,7 +260,7 @@ def scf_fixed_points(h_diag, bonds, fixed_resonance, is_cc, weight, kekule_doubl
     while starts:
         name, x0 = starts.pop(0)
         n_starts += 1
-        pt, mode = _descend(model, x0, tol_A, name)
+        pt, mode = _descend(model, x0, tol_A, name, max_iter)
         if pt.stable:
             if not any(np.max(np.abs(pt.lengths_A - q.lengths_A)) < _SAME_A for q in found):
                 found.append(pt)
@@ -266,7 +272,7 @@ def scf_fixed_points(h_diag, bonds, fixed_resonance, is_cc, weight, kekule_doubl
             starts += [(name + "+mode", pt.lengths_A + 0.02 * step), (name + "-mode", pt.lengths_A - 0.02 * step)]
     if found:
         return ScfSearch(tuple(sorted(found, key=_key)), True, model.n_eval, n_starts)
-    best = min(others, key=lambda q: (q.residual_A > 1e-7, not q.closed_shell, _key(q)))
+    best = min(others, key=lambda q: (q.residual_A > 1e-7, q.degenerate_open_shell, _key(q)))
     return ScfSearch((best,), False, model.n_eval, n_starts)
 
 
