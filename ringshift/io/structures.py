@@ -162,7 +162,7 @@ def load_structure(spec: str, *, charge: int | None = None, conformers: int | No
     geometry : {"force-field", "gfn2-xtb"}
         "force-field": MMFF94 conformers (input coordinates as given); "gfn2-xtb": those conformers
         re-optimised with GFN2-xTB (needs the ``xtb`` extra, ``pip install 'ringshift[xtb]'``), their GFN2
-        energies giving the Boltzmann weights; generated conformers are re-sorted by GFN2 energy.
+        energies giving the Boltzmann weights; the conformers (file ensembles too) are sorted by GFN2 energy.
 
     Returns
     -------
@@ -203,7 +203,7 @@ def load_structure(spec: str, *, charge: int | None = None, conformers: int | No
         prov.update(coordinates="input", conformers_kept=int(coords.shape[0]))
     prov["geometry"] = geometry
     if geometry == "gfn2-xtb":
-        coords, energies = _refine_gfn2(base, coords, int(net), spec, prov, sort=kind == "smiles")
+        coords, energies = _refine_gfn2(base, coords, energies, int(net), spec, prov)
     prov["temperature_K"] = float(temperature_K)
     prov["exchange"] = exchange
     coords = np.ascontiguousarray(coords, dtype=np.float64)
@@ -232,12 +232,13 @@ def load_structure(spec: str, *, charge: int | None = None, conformers: int | No
                      charge=int(net), h_groups=h_groups, provenance=prov)
 
 
-def _refine_gfn2(mol: Chem.Mol, coords: np.ndarray, charge: int, spec: str, prov: dict, *,
-                 sort: bool) -> tuple[np.ndarray, np.ndarray]:
+def _refine_gfn2(mol: Chem.Mol, coords: np.ndarray, energies_ff: np.ndarray | None, charge: int, spec: str,
+                 prov: dict) -> tuple[np.ndarray, np.ndarray]:
     """Re-optimise the conformers (n_conf, n_atoms, 3), Å, with GFN2-xTB; record the route in ``prov``.
 
-    Returns the GFN2 coordinates (k, n_atoms, 3) in Å and energies (k,) in kcal/mol relative to the lowest,
-    sorted by energy when ``sort`` (generated conformers). The net charge and the number of unpaired
+    ``energies_ff`` (n_conf,) kcal/mol, or None, are the force-field (or SD) energies that choose which
+    conformers are re-optimised. Returns the GFN2 coordinates (k, n_atoms, 3) in Å and energies (k,) in
+    kcal/mol relative to the lowest, sorted by GFN2 energy. The net charge and the number of unpaired
     electrons (RDKit radical electrons) are passed on: without them tblite computes the neutral closed shell.
     """
     try:
@@ -249,7 +250,7 @@ def _refine_gfn2(mol: Chem.Mol, coords: np.ndarray, charge: int, spec: str, prov
                          "use geometry 'force-field'", source="geometry") from None
     unpaired = int(sum(at.GetNumRadicalElectrons() for at in mol.GetAtoms()))
     out, energies, info = gfn2_optimise(mol, np.ascontiguousarray(coords, dtype=np.float64), charge=charge,
-                                        unpaired=unpaired, source=spec)
+                                        unpaired=unpaired, source=spec, energies_kcal_mol=energies_ff)
     out = np.ascontiguousarray(out, dtype=np.float64)
     energies = np.asarray(energies, dtype=np.float64)
     n = mol.GetNumAtoms()
@@ -257,9 +258,8 @@ def _refine_gfn2(mol: Chem.Mol, coords: np.ndarray, charge: int, spec: str, prov
             or not (np.all(np.isfinite(out)) and np.all(np.isfinite(energies))):
         raise RuntimeError(f"gfn2_optimise returned coordinates of shape {out.shape} and energies of shape "
                            f"{energies.shape}; expected (k, {n}, 3) and (k,), finite")
-    if sort:
-        order = np.argsort(energies, kind="stable")
-        out, energies = out[order], energies[order]
+    order = np.argsort(energies, kind="stable")           # gfn2_optimise sorts already; keep that promise here
+    out, energies = out[order], energies[order]
     energies = energies - energies.min()
     prov["coordinates"] = f"{prov['coordinates']}+gfn2-xtb"
     prov["conformers_kept"] = int(out.shape[0])

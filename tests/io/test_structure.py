@@ -8,6 +8,9 @@ is shared through a module fixture; everything else uses small molecules or few 
 
 from __future__ import annotations
 
+import sys
+import types
+
 import numpy as np
 import pytest
 from hypothesis import given, settings
@@ -457,9 +460,109 @@ def test_mol_block_with_nan_coordinate_is_rejected(tmp_path):
     ("CCO", {"charge": 1.5}, "charge"),
     ("CCO", {"fmt": "pdb"}, "fmt"),
     ("", {}, "spec"),
+    ("CCO", {"exchange": "medium"}, "exchange"),
+    ("CCO", {"exchange": None}, "exchange"),
+    ("CCO", {"geometry": "dft"}, "geometry"),
 ], ids=["unclosed-ring", "bad-aromatic", "garbage", "missing-file", "charge-mismatch", "temperature",
-        "conformers", "rmsd", "charge-type", "fmt", "empty"])
+        "conformers", "rmsd", "charge-type", "fmt", "empty", "exchange", "exchange-none", "geometry"])
 def test_bad_arguments_raise_one_line_input_errors(spec, kwargs, needle):
     with pytest.raises(InputError) as err:
         load_structure(spec, **kwargs)
     assert needle in str(err.value) and "\n" not in str(err.value)
+
+
+# ------------------------------------------------------------------------------ exchange and geometry options
+def test_default_options_are_recorded_in_provenance():
+    s = load_structure("CCO", conformers=2)
+    assert s.provenance["exchange"] == "slow" and s.provenance["geometry"] == "force-field"
+    assert "geometry_refinement" not in s.provenance
+
+
+def test_fast_exchange_merges_cyclohexane_protons():
+    slow = load_structure("C1CCCCC1", conformers=5)
+    fast = load_structure("C1CCCCC1", conformers=5, exchange="fast")
+    # chair: axial and equatorial lines at low temperature, one line at room temperature (Jensen, Noyce,
+    # Sederholm & Berlin, J. Am. Chem. Soc. 1960, 82, 1256; from memory)
+    assert sorted(len(g) for g in slow.h_groups) == [6, 6]
+    assert fast.h_groups == (tuple(range(6, 18)),) and fast.provenance["exchange"] == "fast"
+    np.testing.assert_array_equal(slow.coords, fast.coords)       # the option changes the groups only
+
+
+def _synthetic_xtb(calls: list, answer) -> types.ModuleType:
+    """SYNTHETIC stand-in for ringshift.geometry.xtb (no quantum chemistry): records its arguments and returns
+    ``answer(coords)`` = (coords (k, n, 3) Å, energies (k,) kcal/mol, info). Tests the wiring only."""
+    module = types.ModuleType("ringshift.geometry.xtb")
+
+    def gfn2_optimise(mol, coords, *, charge, unpaired=0, source="structure", energies_kcal_mol=None, **_):
+        calls.append({"n_atoms": mol.GetNumAtoms(), "coords": np.array(coords), "charge": charge,
+                      "unpaired": unpaired, "source": source, "energies": energies_kcal_mol})
+        return answer(np.array(coords))
+
+    module.gfn2_optimise = gfn2_optimise  # type: ignore[attr-defined]
+    return module
+
+
+def _xyz_coords(text: str) -> np.ndarray:
+    return np.array([[float(v) for v in line.split()[1:]] for line in text.splitlines()[2:]])
+
+
+def test_gfn2_route_takes_conformers_energies_and_groups_from_the_refinement(tmp_path, monkeypatch):
+    text, inner = _annulene18_d6h_xyz()
+    ideal = _xyz_coords(text)
+    squashed = ideal * np.array([1.15, 0.95, 1.0])          # invented D2h distortion, ring atoms move up to 0.7 Å
+    body = "\n".join(f"{'C' if k < 18 else 'H'} {x:.6f} {y:.6f} {z:.6f}" for k, (x, y, z) in enumerate(squashed))
+    path = _write(tmp_path, "squashed18.xyz", f"36\ndistorted [18]annulene (synthetic)\n{body}\n")
+    as_read = load_structure(path)
+    assert len(as_read.h_groups) > 2                   # D6h symmetry lost in the distorted input
+    calls: list = []
+    info = {"method": "synthetic stand-in", "conformers_kept": 2}
+
+    def answer(x):    # the distorted input at 3 kcal/mol and the ideal D6h geometry at 0, unsorted
+        return np.stack([x[0], ideal]), np.array([3.0, 0.0]), info
+
+    monkeypatch.setitem(sys.modules, "ringshift.geometry.xtb", _synthetic_xtb(calls, answer))
+    s = load_structure(path, geometry="gfn2-xtb")
+    assert len(calls) == 1 and calls[0]["charge"] == 0 and calls[0]["unpaired"] == 0
+    assert calls[0]["source"] == path and calls[0]["energies"] is None
+    np.testing.assert_allclose(calls[0]["coords"], as_read.coords, atol=1e-12)
+    # sorted by the refinement's energy: the ideal geometry first, and the H groups come from it
+    np.testing.assert_allclose(s.coords[0], ideal, atol=1e-12)
+    np.testing.assert_allclose(s.energies_kcal_mol, [0.0, 3.0], atol=1e-12)
+    boltzmann = np.exp(-np.array([0.0, 3.0]) / (constants.R / constants.calorie / 1000.0 * 298.15))
+    np.testing.assert_allclose(s.weights, boltzmann / boltzmann.sum(), rtol=1e-3)   # R rounded in constants
+    assert set(s.h_groups) == {tuple(sorted(inner)), tuple(sorted(set(range(18, 36)) - inner))}
+    assert s.provenance["geometry"] == "gfn2-xtb" and s.provenance["coordinates"] == "input+gfn2-xtb"
+    assert s.provenance["geometry_refinement"] == info and s.provenance["conformers_kept"] == 2
+
+
+@pytest.mark.parametrize("smiles,charge,unpaired", [("[cH+]1cccccc1", 1, 0), ("[CH2]c1ccccc1", 0, 1)],
+                         ids=["tropylium", "benzyl-radical"])
+def test_gfn2_route_passes_charge_and_unpaired_electrons(monkeypatch, smiles, charge, unpaired):
+    calls: list = []
+
+    def answer(x):
+        return x, np.zeros(x.shape[0]), {"method": "synthetic stand-in"}
+
+    monkeypatch.setitem(sys.modules, "ringshift.geometry.xtb", _synthetic_xtb(calls, answer))
+    s = load_structure(smiles, conformers=2, geometry="gfn2-xtb")
+    assert calls[0]["charge"] == charge and calls[0]["unpaired"] == unpaired
+    assert calls[0]["energies"] is not None and len(calls[0]["energies"]) == calls[0]["coords"].shape[0]
+    assert s.provenance["coordinates"] == "etkdg-v3+mmff94+gfn2-xtb"
+
+
+def test_gfn2_route_with_a_wrong_shape_is_an_internal_error(monkeypatch):
+    def answer(x):
+        return x[:, :-1], np.zeros(x.shape[0]), {}
+
+    monkeypatch.setitem(sys.modules, "ringshift.geometry.xtb", _synthetic_xtb([], answer))
+    with pytest.raises(RuntimeError, match="gfn2_optimise returned"):
+        load_structure("CCO", conformers=1, geometry="gfn2-xtb")
+
+
+def test_gfn2_route_without_tblite_is_a_one_line_error(monkeypatch):
+    pytest.importorskip("ringshift.geometry.xtb")
+    monkeypatch.setitem(sys.modules, "tblite", None)           # as if the optional extra were not installed
+    monkeypatch.setitem(sys.modules, "tblite.interface", None)
+    with pytest.raises(InputError) as err:
+        load_structure("CCO", conformers=1, geometry="gfn2-xtb")
+    assert "pip install 'ringshift[xtb]'" in str(err.value) and "\n" not in str(err.value)
