@@ -1,7 +1,7 @@
 """The bond-order/bond-length lines of the self-consistent β models and their calibration.
 
 ``"scf"`` and ``"scf-coulson"`` make C–C lengths self-consistent with the π bond orders through r = R0 − S p
-(:func:`ringshift.pi.huckel.scf_cc_lengths`). ``"scf-coulson"``: R0 = 1.520, S = 0.186 Å, a linearisation of
+(:func:`ringshift.pi.scf_lengths.scf_fixed_points`). ``"scf-coulson"``: R0 = 1.520, S = 0.186 Å, a linearisation of
 Coulson (Proc. R. Soc. A 1939, 169, 413, from memory) through ethylene and benzene. ``"scf"``: the line
 passes through benzene (1.397 Å at p = 2/3) and S is chosen so that the self-consistent infinite all-trans
 polyene (:func:`polyene_chain_lengths`, analytic band integrals) has the bond-length alternation of

@@ -34,9 +34,18 @@ the Peierls-type alternation of long conjugated chains.
   and planar cyclooctatetraene within 0.015 / 0.01 Å of experiment (tests/pi/test_pisystem.py). No
   annulene NMR datum enters; see :mod:`ringshift.pi.perception` for what it does to annulene currents.
 
-The search starts from a small (±0.01 Å) bond alternation along the RDKit Kekulé structure and accepts
-only a stable, closed-shell fixed point, so it leaves the equal-bond solution when that is unstable
-(the Longuet-Higgins–Salem alternation of large annulenes).
+The self-consistent lengths come from :mod:`ringshift.pi.scf_lengths`: several starts (both Kekulé phases,
+perturbed equal bonds, the geometry's lengths), a damped descent of the Longuet-Higgins–Salem model energy
+E = E_π + Σ U(r) (U chosen so that its stationary points are exactly the fixed points of r = R0 − S w p, w the
+bond's alignment/distortion factor), and the lowest-energy stable closed-shell solution; the other stable
+solutions are kept (``HuckelResult.scf_alternatives``) and a search without a stable solution says so
+(``converged=False`` and a warning). Measured on regular planar annulenes with ``"scf"``: [14] equal bonds,
+[18] onwards alternated (BLA 0.060 Å for [18], 0.079 Å for [34]); 4n rings alternated and paratropic
+(benchmarks/bench_scf_step.py). The published onset of (4n+2) alternation lies near [30] (Choi & Kertesz,
+J. Chem. Phys. 1998, 108, 6681, from memory; [18]annulene delocalised, Wannere et al. 2003, from memory):
+the polyacetylene calibration (whose alternation owes much to electron correlation, absent here) makes the
+model alternate too early; its [18]annulene current (1.24×, honeycomb) is nonetheless close to what the
+observed shifts imply (:mod:`ringshift.pi.perception`).
 """
 
 from __future__ import annotations

@@ -27,7 +27,9 @@ fixed-point map to 1e-9 Å (Walker & Ni, SIAM J. Numer. Anal. 2011, 49, 1715). S
 Kekulé alternation at the infinite-chain amplitude (±0.04 Å, so an alternated minimum is reached whenever
 one exists), the opposite Kekulé phase, equal bonds with a small deterministic perturbation (1e-3 Å,
 a fixed pseudo-random pattern, so no symmetry keeps the descent on a saddle), and the geometry's own C–C
-lengths. A stationary point that is not a minimum is left along its unstable mode (both senses). Distinct
+lengths. A stationary point that is not a minimum is left along its unstable mode (both senses) unless a
+minimum already found lies below it (in the annulenes the saddle is the equal-bond point above both Kekulé
+minima, and following it only found them again at twice the cost). Distinct
 stable closed-shell minima (max |Δr| > 1e-4 Å) are kept. The choice is the lowest E; ties within 1e-9 eV
 (e.g. the two Kekulé phases of a symmetric ring) go to the lexicographically smaller rounded lengths, so the
 same input always gives the same choice.
@@ -40,8 +42,8 @@ from dataclasses import dataclass
 import numpy as np
 from scipy.optimize import minimize
 
-from ringshift.pi.huckel import beta_distance_factor, bond_polarizability, density_matrix, huckel_matrix, occupy
-from ringshift.pi.parameters import BETA0_EV, BETA_DECAY_A, BETA_REF_LENGTH_A
+from ringshift.pi.huckel import beta_distance_factor, bond_polarizability, huckel_matrix, occupy
+from ringshift.pi.parameters import BETA0_EV, BETA_DECAY_A, BETA_REF_LENGTH_A, DEGENERACY_TOL
 
 __all__ = ["ScfPoint", "ScfSearch", "scf_fixed_points", "scf_cc_lengths", "sigma_energy_eV", "spring_constant",
            "KCAL_PER_MOL_PER_EV", "bond_length_alternation"]
@@ -128,6 +130,7 @@ class _Model:
         self.cc = np.asarray(is_cc, dtype=bool)
         self.w = np.asarray(weight, dtype=np.float64)
         self.n_el, self.r0, self.s, self.beta = int(n_electrons), r0_A, slope_A, abs(beta0_eV)
+        self.h0 = huckel_matrix(self.hd, self.b, np.zeros(self.b.shape[0]))
         self.k = spring_constant(slope_A, beta0_eV)
         self.n_eval = 0
         # |p| <= 1 and w <= 1 put every fixed point inside R0 ± S: the box never excludes one
@@ -139,10 +142,20 @@ class _Model:
         rr = np.full(self.b.shape[0], BETA_REF_LENGTH_A)
         rr[self.cc] = x
         fac = np.where(self.cc, beta_distance_factor(rr), self.kfix) * self.w
-        e, c = np.linalg.eigh(huckel_matrix(self.hd, self.b, fac))
-        occ, open_shell, degenerate = occupy(e, self.n_el)[:3]
-        p = density_matrix(c, occ)[self.b[:, 0], self.b[:, 1]]
-        return fac, e, c, occ, open_shell and degenerate, p
+        h = self.h0.copy()
+        h[self.b[:, 0], self.b[:, 1]] = h[self.b[:, 1], self.b[:, 0]] = -fac
+        e, c = np.linalg.eigh(h)
+        half = self.n_el // 2
+        if self.n_el % 2 == 0 and 0 < half < e.size and e[half] - e[half - 1] > DEGENERACY_TOL:  # closed shell
+            occ = np.zeros(e.size)
+            occ[:half] = 2.0
+            bad = False
+        else:
+            occ, open_shell, degenerate = occupy(e, self.n_el)[:3]
+            bad = open_shell and degenerate
+        nz = occ > 0
+        p = (c[self.b[:, 0]][:, nz] * c[self.b[:, 1]][:, nz]) @ occ[nz]
+        return fac, e, c, occ, bad, p
 
     def energy_grad(self, x):
         fac, e, _, occ, _, p = self.levels(x)
@@ -266,7 +279,9 @@ def scf_fixed_points(h_diag, bonds, fixed_resonance, is_cc, weight, kekule_doubl
                 found.append(pt)
             continue
         others.append(pt)
-        if restarts < max_restarts:  # leave a saddle (or an open shell) along its unstable mode, both senses
+        if restarts < max_restarts and not any(q.energy_eV < pt.energy_eV for q in found):
+            # leave a saddle (or an open shell) along its unstable mode, both senses, unless a minimum found
+            # already lies below it (measured: its descents then meet the minima of the Kekulé starts)
             restarts += 2
             step = seed if mode is None else mode
             starts += [(name + "+mode", pt.lengths_A + 0.02 * step), (name + "-mode", pt.lengths_A - 0.02 * step)]
