@@ -19,6 +19,7 @@ os.environ["OPENBLAS_NUM_THREADS"] = "1"
 os.environ["MKL_NUM_THREADS"] = "1"
 
 import time
+from functools import partial
 
 import numpy as np
 from rdkit import Chem
@@ -54,13 +55,14 @@ print(f"{'ring':>6} {'BLA/A':>7} {'J/J_bz':>7} {'solutions':>9} {'huckel/ms':>9}
 for n in (12, 14, 16, 18, 20, 22, 24, 26, 30, 34):
     m, xyz = ring(n)
     pi = perceive_pi(m, xyz)
-    t, h = best(lambda: huckel(pi, m, xyz, beta_model="scf"))
+    t, h = best(partial(huckel, pi, m, xyz, beta_model="scf"))
     lc = london_currents(pi, m, xyz, [list(range(n))], beta_model="scf")
-    print(f"[{n:>2}]   {lc.bla_A:7.4f} {lc.circuit_currents_rel[0]:7.3f} {1 + len(h.scf_alternatives):>9} {t * 1e3:9.1f}")
+    n_sol = 1 + len(h.scf_alternatives)
+    print(f"[{n:>2}]   {lc.bla_A:7.4f} {lc.circuit_currents_rel[0]:7.3f} {n_sol:>9} {t * 1e3:9.1f}")
 
 CASES = {"[18]annulene": "[H]/C1=C/C=C/C=C/C=C\\C=C\\C=C\\C=C/C=C/C=C1\\[H]",
          "porphine": "C1=CC2=NC1=CC3=CC=C(N3)C=C4C=CC(=N4)C=C5C=CC(=C2)N5"}
 for name, smi in CASES.items():
     s = load_structure(smi)
-    t, p = best(lambda: predict(s, beta_model="scf"))
+    t, p = best(partial(predict, s, beta_model="scf"))
     print(f"predict {name}: {s.coords.shape[0]} conformers, best of 3 {t:.3f} s")
