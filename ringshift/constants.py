@@ -47,7 +47,8 @@ BETA_MODELS: tuple[str, ...] = ("scf", "scf-coulson", "distance", "uniform")
 #: Models a shielding map can draw: the bond-current network needs bond currents a prediction does not keep.
 MAP_MODELS: tuple[str, ...] = tuple(m for m in MODELS if m != "network")
 
-#: Gauss–Hermite nodes per non-zero width of the finite-width current band (ringshift.fields.band). Three
-#: nodes integrate the Gaussian exactly against polynomials up to degree 5; the cost of the band grows as
-#: the product of the node counts (benchmarks/calibrate_near_wire.py prints the change from 3 to 5 nodes).
+#: Gauss–Jacobi nodes per non-zero width of the finite-width current band (ringshift.fields.band). Three
+#: nodes integrate the parabolic profile exactly against polynomials up to degree 5; the cost of the band
+#: grows as the product of the node counts (benchmarks/calibrate_near_wire.py prints the quadrature error
+#: against 7 nodes and the cost against the thin wire).
 BAND_NODES: int = 3

@@ -6,18 +6,25 @@ the p-orbital lobes, and a thin wire over-estimates the field at points 1.5–2.
 annulene H, NH of porphyrins, bridges, methyls over a ring; design notes §6). The band spreads the
 current of a circuit over
 
-* an in-plane offset t perpendicular to each edge, Gaussian with standard deviation ``width_A``
-  (t > 0 outwards): every edge of the polygon is moved parallel to itself by t, i.e. every vertex moves
+* an in-plane offset t perpendicular to each edge (t > 0 outwards), with standard deviation
+  ``width_A``: every edge of the polygon is moved parallel to itself by t, i.e. every vertex moves
   along its in-plane bisector (the polygon offset below);
-* a height z along the normal, two Gaussian lobes centred at ±``separation_A`` with standard
-  deviation ``height_width_A`` and half the current each.
+* a height z along the normal: two lobes centred at ±``separation_A``, half the current each, each with
+  standard deviation ``height_width_A`` about its centre.
 
-The two are independent, so the current density is a product of the two Gaussians and the field is the
-weighted sum of the fields of offset copies of the exact polygon loop. Each Gaussian is integrated by
-Gauss–Hermite quadrature (exact for polynomials of degree 2·nodes − 1 times the Gaussian; numpy's
-``hermgauss``). A width of 0 collapses its Gaussian to one node of weight 1, so widths of 0 give back
-the thin double loop exactly. Every copy is a closed loop, so Ampère's law holds for the band as a
-whole: ∫ B·n dz along a line threading every copy is μ0 I, along a line outside every copy 0.
+The two are independent, so the current density is a product of the two profiles and the field is the
+weighted sum of the fields of offset copies of the exact polygon loop. Each profile is the parabola
+p(x) ∝ 1 − (x/h)² on |x| ≤ h = √5·σ (standard deviation σ), integrated by Gauss–Jacobi quadrature with
+α = β = 1 (exact for p times a polynomial of degree 2·nodes − 1; ``scipy.special.roots_jacobi``). A
+bounded profile is chosen over a Gaussian on purpose: Gauss–Hermite nodes of a Gaussian reach 2–5 σ, where
+inward copies of a small ring turn inside out and outer copies pass next to the ring's own protons, so the
+quadrature converges erratically there (measured in benchmarks/calibrate_near_wire.py); for points outside
+a bounded band the integrand is analytic and Gauss–Jacobi converges geometrically. A width of 0 collapses
+its profile to one node of weight 1, so widths of 0 give back the thin double loop exactly. Every copy is a
+closed loop, so Ampère's law holds for the band as a whole: ∫ B·n dz along a line threading every copy is
+μ0 I, along a line outside every copy 0. The in-plane half-width √5·width_A must stay below the
+polygon's inradius (for a perimeter, half its narrowest waist), or the innermost copies turn inside out;
+:func:`band_quadrature` returns the offsets so callers can check.
 
 The offset polygon: with o_i the outward unit in-plane normal of edge i (from vertex i to i + 1), the
 vertex between edges i − 1 and i moves by t·(o_(i−1) + o_i)/(1 + o_(i−1)·o_i), which shifts both edges by
@@ -29,6 +36,7 @@ infinity; ring polygons (interior angles 60°–300°) never reach the floor.
 from __future__ import annotations
 
 import numpy as np
+from scipy.special import roots_jacobi
 
 from ringshift.fields._common import _cross
 
@@ -39,12 +47,16 @@ __all__ = ["band_quadrature", "offset_directions"]
 MIN_BISECTOR_DENOMINATOR = 0.134
 
 
-def _gauss(sigma: float, nodes: int) -> tuple[np.ndarray, np.ndarray]:
-    """Nodes (k,) and weights (k,) (summing to 1) of a centred Gaussian of standard deviation sigma."""
+#: Half-width of the parabolic profile 1 − (x/h)² in units of its standard deviation: Var = h²/5.
+HALF_WIDTH_PER_SIGMA = float(np.sqrt(5.0))
+
+
+def _profile(sigma: float, nodes: int) -> tuple[np.ndarray, np.ndarray]:
+    """Nodes (k,) and weights (k,) (summing to 1) of the parabolic profile of standard deviation sigma."""
     if sigma == 0.0:
         return np.zeros(1), np.ones(1)
-    x, w = np.polynomial.hermite.hermgauss(nodes)
-    return np.sqrt(2.0) * sigma * x, w / np.sqrt(np.pi)
+    x, w = roots_jacobi(nodes, 1.0, 1.0)   # ∫_{-1}^{1} (1 − x²) f(x) dx ≈ Σ w f(x)
+    return HALF_WIDTH_PER_SIGMA * sigma * x, w / w.sum()
 
 
 def band_quadrature(separation_A: float, width_A: float, height_width_A: float,
@@ -56,9 +68,10 @@ def band_quadrature(separation_A: float, width_A: float, height_width_A: float,
     separation_A : float, Å
         Lobe centres at ±separation_A along the normal (0: one lobe in the plane).
     width_A, height_width_A : float, Å
-        Standard deviations of the in-plane offset and of the height about each lobe centre.
+        Standard deviations of the in-plane offset and of the height about each lobe centre (parabolic
+        profiles of half-width √5·σ).
     nodes : int
-        Gauss–Hermite nodes per non-zero width.
+        Gauss–Jacobi nodes per non-zero width.
 
     Returns
     -------
@@ -71,8 +84,8 @@ def band_quadrature(separation_A: float, width_A: float, height_width_A: float,
     height_weights : (k_z,) float64
         Fractions of the current, summing to 1 (½ per lobe for two lobes).
     """
-    t, wt = _gauss(width_A, nodes)
-    z, wz = _gauss(height_width_A, nodes)
+    t, wt = _profile(width_A, nodes)
+    z, wz = _profile(height_width_A, nodes)
     if separation_A > 0.0:
         z, wz = np.r_[separation_A + z, -separation_A + z], np.r_[0.5 * wz, 0.5 * wz]
     return t, wt, z, wz

@@ -227,13 +227,14 @@ def polygon_shielding(points, vertices, normal, *, separation_A=JB_SEPARATION_A,
         Each loop is the polygon shifted by ±separation_A along the normal with half the current
         (Johnson & Bovey, J. Chem. Phys. 1958, 29, 1012; default 0.64 Å). 0 gives a single loop.
     width_A : float, keyword-only, Å
-        Standard deviation of a Gaussian spread of the current perpendicular to each edge in the ring
-        plane (:mod:`ringshift.fields.band`). Default 0: the thin wire.
+        Standard deviation of the spread of the current perpendicular to each edge in the ring plane
+        (a parabolic profile of half-width √5·width_A; :mod:`ringshift.fields.band`). Default 0: the thin
+        wire. The half-width must stay below the polygon's inradius.
     height_width_A : float, keyword-only, Å
-        Standard deviation of each lobe's Gaussian spread along the normal about ±separation_A.
+        Standard deviation of each lobe's (parabolic) spread along the normal about ±separation_A.
         Default 0: thin lobes. With both widths 0 the result is the thin double loop, bit for bit.
     band_nodes : int, keyword-only
-        Gauss–Hermite nodes per non-zero width (default :data:`ringshift.constants.BAND_NODES`); the cost
+        Gauss–Jacobi nodes per non-zero width (default :data:`ringshift.constants.BAND_NODES`); the cost
         is about (nodes if width_A else 1) × (nodes if height_width_A else 1) thin double loops.
     chunk_size : int, optional
         Points (for a stack: frame×point pairs) per chunk; memory use is O(chunk_size × m),

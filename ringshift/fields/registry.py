@@ -48,7 +48,7 @@ def geometric_factors(coords: np.ndarray, h_idx: Sequence[int], circuits: Sequen
     separation_A : float, keyword-only, Å
         Loops (or lobes of the band) at ±separation_A along the normal, half the current each.
     width_A, height_width_A : float, keyword-only, Å
-        Finite width of the current (:mod:`ringshift.fields.band`): Gaussian standard deviations of
+        Finite width of the current (:mod:`ringshift.fields.band`): standard deviations of
         the in-plane offset and of the height about each lobe. Default 0: thin wires. Only the loop
         models (``polygon``, ``johnson-bovey``) have a width; a non-zero width with another model is an
         InputError. Calibrated values: :data:`ringshift.constants.BAND_WIDTH_A`,

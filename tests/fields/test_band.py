@@ -11,10 +11,12 @@ import pytest
 from numpy.testing import assert_allclose, assert_array_equal
 from scipy.integrate import quad
 from scipy.spatial.transform import Rotation
+from scipy.special import roots_jacobi
 
 from ringshift import fields
 from ringshift.constants import MU0_PPM_A_PER_NA_T as MU0
 from ringshift.errors import GeometryWarning, InputError
+from ringshift.fields.band import band_quadrature
 from ringshift.fields.registry import geometric_factors
 from ringshift.geometry.circuits import Circuit, circuit_geometry
 from tests.fields.test_fields import N_TILT, PENTAGON, Z, regular_polygon, slow_polygon_shielding
@@ -55,20 +57,32 @@ def _offset_polygon(v, n, t):
 def slow_band_shielding(points, vertices, normal, separation_A, width_A, height_width_A, nodes=3):
     n = np.asarray(normal, float) / np.linalg.norm(normal)
     v = np.asarray(vertices, float)
-    x, w = np.polynomial.hermite.hermgauss(nodes)  # Gauss–Hermite: ∫ e^{−x²} f ≈ Σ w f(x)
-    gauss_t = [(0.0, 1.0)] if width_A == 0 else [(math.sqrt(2) * width_A * xi, wi / math.sqrt(math.pi))
-                                                for xi, wi in zip(x, w)]
-    gauss_z = [(0.0, 1.0)] if height_width_A == 0 else [(math.sqrt(2) * height_width_A * xi, wi / math.sqrt(math.pi))
-                                                       for xi, wi in zip(x, w)]
+    # parabolic profile 1 − (x/h)², h = √5 σ: Gauss–Jacobi (α = β = 1) nodes and weights, normalised
+    x, w = roots_jacobi(nodes, 1.0, 1.0)
+
+    def profile(sigma):
+        if sigma == 0:
+            return [(0.0, 1.0)]
+        return [(math.sqrt(5) * sigma * xi, wi / sum(w)) for xi, wi in zip(x, w)]
+
     lobes = [(0.0, 1.0)] if separation_A == 0 else [(separation_A, 0.5), (-separation_A, 0.5)]
     total = np.zeros(len(points))
-    for t, wt in gauss_t:
+    for t, wt in profile(width_A):
         poly = _offset_polygon(v, n, t)
         for zc, wl in lobes:
-            for dz, wz in gauss_z:
+            for dz, wz in profile(height_width_A):
                 shifted = np.asarray(points, float) - (zc + dz) * n
                 total += wt * wl * wz * slow_polygon_shielding(shifted, poly, n, separation_A=0.0)
     return total
+
+
+def test_profile_has_the_stated_standard_deviation():
+    # the quadrature reproduces the variance of the parabolic profile (exact for 2+ nodes): σ² = h²/5
+    # (elementary integral, common practice, no source)
+    for nodes in (2, 3, 5):
+        t, wt, z, wz = band_quadrature(0.7, 0.3, 0.2, nodes)
+        assert_allclose([wt.sum(), wt @ t, wt @ t**2], [1.0, 0.0, 0.09], atol=1e-14)
+        assert_allclose([wz.sum(), wz @ z, wz @ (np.abs(z) - 0.7) ** 2], [1.0, 0.0, 0.04], atol=1e-14)
 
 
 def _random_points(seed, n, scale=4.0):
@@ -137,8 +151,8 @@ def _line_integral(fn, x, y):
                                        ((2.9, 2.2), False)], ids=["centre", "inside", "outside", "far-out"])
 def test_ampere_line_integral_for_the_band(xy, inside):
     # Ampère's law (textbook; design notes §5): every quadrature copy is a closed loop, so a line threading
-    # all of them (the innermost offset of a hexagon of apothem 1.2 Å with width 0.25 Å reaches 0.77 Å;
-    # the outermost 1.64 Å) gives ∫ sigma_iso dz = mu0/3 per unit current and a line outside all gives 0.
+    # all of them (3 nodes at ±0.655 × √5 × 0.25 Å: the copies of a hexagon of apothem 1.2 Å run from
+    # 0.83 to 1.57 Å) gives ∫ sigma_iso dz = mu0/3 per unit current and a line outside all gives 0.
     # Tolerance 1e-7 ppm·Å: quadrature error of a peaked integrand.
     def fn(p):
         return fields.polygon_shielding(p, regular_polygon(6), Z, width_A=0.25, height_width_A=0.3)
@@ -148,8 +162,8 @@ def test_ampere_line_integral_for_the_band(xy, inside):
 def test_far_field_moment_of_the_band_follows_the_offset_area():
     # Far away a loop acts through its moment I·S. A regular m-gon of apothem r offset by t has area
     # m tan(π/m)(r + t)² (Steiner's formula for parallel bodies; common practice, no source), so a
-    # Gaussian offset of standard deviation w multiplies the mean area, hence the far field, by
-    # 1 + w²/r² (exact for 3 Gauss–Hermite nodes: the integrand is quadratic). At 300 Å on the axis the
+    # spread of offsets of standard deviation w multiplies the mean area, hence the far field, by
+    # 1 + w²/r² (exact for 3 quadrature nodes: the integrand is quadratic). At 300 Å on the axis the
     # next multipole is (r/300)² ≈ 2e-5 of the field: rtol 1e-4.
     r = A = 1.39 * math.cos(math.pi / 6)
     w = 0.35
