@@ -10,22 +10,41 @@ kept within an energy window, pruned by RMSD over graph automorphisms and weight
 
 from __future__ import annotations
 
+import os
 import warnings
 
 import numpy as np
 from rdkit import Chem, rdBase
 from rdkit.Chem import rdDistGeom, rdForceFieldHelpers
+from rdkit.Geometry import Point3D
 
 from ringshift.constants import KB_KCAL_PER_MOL_K
 from ringshift.errors import GeometryWarning, InputError
+from ringshift.geometry.macrocycle import (
+    FLAT_NOISE_A,
+    conjugated_ring_atoms,
+    derived_seeds,
+    honeycomb_perimeters,
+    lattice_coordinates,
+    needs_search,
+    perimeter_rings,
+    planarity_rms_A,
+    project_onto_plane,
+    ring_cis_pattern,
+)
 from ringshift.geometry.symmetry import automorphisms, prune_conformers, symmetry_graph
 
 __all__ = ['ez_stereo_check', 'boltzmann_weights', 'default_conformer_count']
 
 
-_MACROCYCLE_RING = 12            # design notes §7: 30 conformers miss [18]annulene's planar minimum
-
-_CONFORMERS_RIGID, _CONFORMERS_MACROCYCLE = 30, 200
+_CONFORMERS_RIGID = 30
+_SEARCH_SEEDS = 4                 # ETKDG seeds per search (the user's seed and 3 derived ones)
+_SEARCH_MIN, _SEARCH_MAX, _SEARCH_ATOM_BUDGET = 12, 40, 1200   # embeddings: 1200 / n_atoms within 12..40
+_MAX_PERIMETERS = 12              # honeycomb perimeters embedded per ring, largest enclosed area first
+_PERIMETER_NODES = 200_000        # enumeration budget per ring (partial paths)
+_PERIMETER_ATTEMPTS = 50          # ETKDG attempts per perimeter start (impossible ones fail in smoothing)
+_PROJECTED = 4                    # lowest distinct bent minima projected onto their plane
+_FLAT_RMS_A = 0.1                 # conjugated ring atoms within this RMS of a plane count as flat, Å
 
 # --------------------------------------------------------------------------------------- array kernels
 def boltzmann_weights(energies_kcal_mol: np.ndarray, temperature_K: float) -> np.ndarray:
@@ -112,72 +131,188 @@ def ez_stereo_check(mol_with_stereo: Chem.Mol, coords: np.ndarray) -> list[str]:
 
 # --------------------------------------------------------------------------------------- conformers
 def default_conformer_count(mol: Chem.Mol) -> int:
-    """Conformers to embed: 200 if a ring (SSSR) has >= 12 atoms, else 30 (design notes §7)."""
-    big = any(len(r) >= _MACROCYCLE_RING for r in mol.GetRingInfo().AtomRings())
-    return _CONFORMERS_MACROCYCLE if big else _CONFORMERS_RIGID
+    """Conformers to embed: 30 for small rigid molecules; for the searched ones (:func:`needs_search`: a ring
+    of >= 12 atoms, a bridged or >= 3-ring fused system) 1200 / n_atoms, clipped to 12..40, spread over
+    several seeds and joined by flat starts (see :func:`_generate`), so that a 40-heavy-atom porphyrin stays
+    within seconds on one core (benchmarks/bench_conformers.py)."""
+    if not needs_search(mol):
+        return _CONFORMERS_RIGID
+    return int(min(_SEARCH_MAX, max(_SEARCH_MIN, _SEARCH_ATOM_BUDGET // max(1, mol.GetNumAtoms()))))
 
 
-def _etkdg(seed: int, basic_knowledge: bool, max_iterations: int = 0) -> rdDistGeom.EmbedParameters:
+def _etkdg(seed: int, basic_knowledge: bool, threads: int, max_iterations: int = 0) -> rdDistGeom.EmbedParameters:
     params = rdDistGeom.ETKDGv3()
     # rdkit-stubs type the property setters of EmbedParameters as (*args, **kwargs)
-    params.randomSeed, params.numThreads, params.maxIterations = int(seed), 0, max_iterations  # type: ignore[assignment]
+    params.randomSeed, params.numThreads, params.maxIterations = int(seed), int(threads), max_iterations  # type: ignore[assignment]
     params.useMacrocycleTorsions, params.useBasicKnowledge, params.enforceChirality = True, basic_knowledge, True  # type: ignore[assignment]
+    params.trackFailures = True  # type: ignore[assignment]
     return params
 
 
-def _embed(mol: Chem.Mol, n: int, seed: int, source: str) -> tuple[Chem.Mol, bool]:
-    """ETKDG v3; falls back to useBasicKnowledge=False ([2.2]paracyclophane, design notes §7). A probe
-    (2 conformers, 20 attempts each) decides first: a failing basic-knowledge run takes minutes."""
+def _embed_confs(mol: Chem.Mol, n: int, params: rdDistGeom.EmbedParameters) -> list[np.ndarray]:
+    """EmbedMultipleConfs on a copy; raises KeyboardInterrupt when RDKit cancelled it on Ctrl-C.
+
+    RDKit 2026.09 catches SIGINT during embedding, logs "Interrupted, cancelling conformer generation" and
+    returns no conformer without raising (measured; design notes §6). A genuine failure spends every attempt
+    on every missing conformer (maxIterations, or 10 x n_atoms when 0: 1280 failures for 4 conformers of a
+    32-atom molecule, measured) or fails before the first attempt (0 failures, impossible bounds); a cancelled
+    run stops after some but not all attempts. So fewer conformers than asked with a failure count strictly
+    between 0 and the attempts allowed means Ctrl-C: it must not fall through to a fallback or a smaller result.
+    """
+    work = Chem.Mol(mol)
     with rdBase.BlockLogs():
-        basic = len(rdDistGeom.EmbedMultipleConfs(Chem.Mol(mol), 2, _etkdg(seed, True, 20))) > 0
-        for use_basic in ((True, False) if basic else (False,)):
-            work = Chem.Mol(mol)
-            if len(rdDistGeom.EmbedMultipleConfs(work, n, _etkdg(seed, use_basic))) > 0:
-                return work, use_basic
+        ids = list(rdDistGeom.EmbedMultipleConfs(work, n, params))
+    failures = sum(params.GetFailureCounts())
+    attempts = (params.maxIterations or 10 * mol.GetNumAtoms()) * (n - len(ids))
+    if len(ids) < n and 0 < failures < attempts:
+        raise KeyboardInterrupt("conformer embedding cancelled")
+    return [work.GetConformer(c).GetPositions() for c in ids]
+
+
+def _embed(mol: Chem.Mol, counts: list[int], seeds: list[int], threads: int, source: str):
+    """ETKDG v3 for each seed; falls back to useBasicKnowledge=False ([2.2]paracyclophane, design notes §7). A
+    probe (2 conformers, 20 attempts each) decides first: a failing basic-knowledge run takes minutes."""
+    basic = len(_embed_confs(mol, 2, _etkdg(seeds[0], True, threads, 20))) > 0
+    for use_basic in ((True, False) if basic else (False,)):
+        out = [x for s, k in zip(seeds, counts) if k > 0 for x in _embed_confs(mol, k, _etkdg(s, use_basic, threads))]
+        if out:
+            return out, use_basic
     raise InputError("RDKit ETKDG could not embed the molecule (also tried useBasicKnowledge=False); supply "
                      "3D coordinates as SDF or XYZ", source=source)
 
 
-def _optimise(mol: Chem.Mol) -> tuple[np.ndarray, np.ndarray | None, str | None, int]:
-    """MMFF94 (UFF if MMFF lacks parameters) minimisation of every conformer, on a copy: MMFF set-up
-    perceives its own aromaticity in place. Returns coords, energies, force field, not converged."""
-    work, result, ff = Chem.Mol(mol), None, None
+def _perimeter_starts(mol: Chem.Mol, refs, seed: int, basic: bool, threads: int) -> tuple[list[np.ndarray], dict]:
+    """One embedding per honeycomb perimeter of each isolated conjugated ring (largest enclosed area first, at
+    most _MAX_PERIMETERS), its ring atoms fixed at the lattice sites (ETKDG coordinate map)."""
+    out: list[np.ndarray] = []
+    found, complete = 0, True
+    for ring in perimeter_rings(mol):
+        paths, done = honeycomb_perimeters(ring_cis_pattern(refs, ring), _PERIMETER_NODES)
+        found, complete = found + len(paths), complete and done
+        for sites in paths[:_MAX_PERIMETERS]:
+            xyz = lattice_coordinates(sites)
+            params = _etkdg(seed, basic, threads, _PERIMETER_ATTEMPTS)
+            params.SetCoordMap({a: Point3D(*map(float, xyz[k])) for k, a in enumerate(ring)})  # type: ignore[call-arg,arg-type]
+            out.extend(_embed_confs(mol, 1, params))
+    return out, {"perimeter_closures_found": found, "perimeter_enumeration_complete": complete}
+
+
+def _optimise(mol: Chem.Mol, coords: list[np.ndarray], threads: int):
+    """MMFF94 (UFF if MMFF lacks parameters) minimisation of each geometry, on a copy: MMFF set-up perceives
+    its own aromaticity in place. Returns coords (k, n_atoms, 3), energies or None, force field, not converged."""
+    work = Chem.Mol(mol)
+    work.RemoveAllConformers()
+    for x in coords:
+        conf = Chem.Conformer(work.GetNumAtoms())
+        conf.SetPositions(np.asarray(x, dtype=np.float64))
+        work.AddConformer(conf, assignId=True)
+    start, result, ff = Chem.Mol(work), None, None
+    helpers = rdForceFieldHelpers
     with rdBase.BlockLogs():
         try:
-            if rdForceFieldHelpers.MMFFHasAllMoleculeParams(Chem.Mol(mol)):
-                result, ff = rdForceFieldHelpers.MMFFOptimizeMoleculeConfs(work, numThreads=0, maxIters=2000), "mmff94"
-            elif rdForceFieldHelpers.UFFHasAllMoleculeParams(Chem.Mol(mol)):
-                result, ff = rdForceFieldHelpers.UFFOptimizeMoleculeConfs(work, numThreads=0, maxIters=2000), "uff"
+            if helpers.MMFFHasAllMoleculeParams(Chem.Mol(mol)):
+                result, ff = helpers.MMFFOptimizeMoleculeConfs(work, numThreads=threads, maxIters=2000), "mmff94"
+            elif helpers.UFFHasAllMoleculeParams(Chem.Mol(mol)):
+                result, ff = helpers.UFFOptimizeMoleculeConfs(work, numThreads=threads, maxIters=2000), "uff"
         except RuntimeError as exc:       # e.g. a zero-order bond that UFF cannot stretch
             warnings.warn(GeometryWarning(f"force-field minimisation failed ({' '.join(str(exc).split()[:6])}); "
                                           "ETKDG geometries are used unminimised"), stacklevel=4)
-            work, result, ff = Chem.Mol(mol), None, None
-    coords = np.stack([c.GetPositions() for c in work.GetConformers()])
+            work, result, ff = start, None, None
+    xyz = np.stack([c.GetPositions() for c in work.GetConformers()])
     if result is None:
-        return coords, None, None, 0
-    return coords, np.array([e for _, e in result], dtype=np.float64), ff, sum(1 for nc, _ in result if nc)
+        return xyz, None, None, 0
+    return xyz, np.array([e for _, e in result], dtype=np.float64), ff, sum(1 for nc, _ in result if nc)
 
 
-def _generate(mol: Chem.Mol, n: int, seed: int, window: float, rmsd_A: float, source: str):
-    """Embed, minimise, reject E/Z contradictions, apply the window, sort, prune."""
-    embedded, basic = _embed(mol, n, seed, source)
-    coords, energies, ff, not_converged = _optimise(embedded)
+def _available_cores() -> int:
+    """Cores this process may use (CPU affinity where the OS reports it), at least 1."""
+    try:
+        return max(1, len(os.sched_getaffinity(0)))
+    except AttributeError:                   # not on every OS
+        return max(1, os.cpu_count() or 1)
+
+
+def _noisy(x: np.ndarray, rng: np.random.Generator) -> np.ndarray:
+    """A flat start displaced by FLAT_NOISE_A (normal, deterministic) so that MMFF can leave a planar saddle."""
+    return x + rng.normal(0.0, FLAT_NOISE_A, size=x.shape)
+
+
+def _generate(mol: Chem.Mol, n: int, seed: int, window: float, rmsd_A: float, source: str, *, threads: int = 0):
+    """Embed, add flat starts, minimise, reject E/Z contradictions, apply the window, sort, prune.
+
+    Small rigid molecules: ``n`` ETKDG v3 embeddings with ``seed`` (Wang, Witek, Landrum & Riniker, J. Chem.
+    Inf. Model. 2020, 60, 2044), MMFF94 (Halgren, J. Comput. Chem. 1996, 17, 490). Molecules that
+    :func:`needs_search` (macrocycles, bridged and fused polycycles): ``n`` embeddings spread over
+    _SEARCH_SEEDS seeds derived from ``seed`` (:func:`derived_seeds`), plus the honeycomb perimeters of each
+    isolated conjugated ring of >= 12 atoms (:func:`honeycomb_perimeters`), all minimised; then the
+    _PROJECTED lowest distinct minima that are not yet flat are projected onto the plane of their conjugated
+    ring atoms (:func:`project_onto_plane`) and minimised again. Flat starts get a small deterministic
+    out-of-plane displacement. E/Z is checked after embedding, after projection and after minimisation.
+
+    Returns coords (n_conf, n_atoms, 3) Å sorted by energy, energies (n_conf,) kcal/mol relative to the lowest
+    (None without a force field) and the provenance dict. ``threads``: RDKit threads (0 = every core this
+    process may run on, so a process pinned to one core, as in the benchmarks, embeds on one thread).
+    """
+    threads = threads or _available_cores()
+    search = needs_search(mol)
+    seeds = derived_seeds(seed, _SEARCH_SEEDS if search else 1)
+    counts = [n // len(seeds) + (k < n % len(seeds)) for k in range(len(seeds))]
     refs = _cis_references(mol)
-    ok = [c for c in range(coords.shape[0]) if not _ez_problems(refs, coords[c])]
-    if not ok:
-        raise InputError(f"embedded geometry contradicts the E/Z stereo: {_ez_problems(refs, coords[0])[0]} (all "
-                         f"{coords.shape[0]} conformers); check the stereo marks or supply 3D coordinates",
+    rng = np.random.default_rng(int(seed))
+    embedded, basic = _embed(mol, counts, seeds, threads, source)
+    starts = [x for x in embedded if not _ez_problems(refs, x)]
+    rejected = len(embedded) - len(starts)
+    origin = ["embedded"] * len(starts)
+    info: dict = {}
+    if search:
+        perimeter, info = _perimeter_starts(mol, refs, seed, basic, threads)
+        flat = [_noisy(x, rng) for x in perimeter if not _ez_problems(refs, x)]
+        rejected += len(perimeter) - len(flat)
+        starts, origin = starts + flat, origin + ["perimeter"] * len(flat)
+    if not starts:
+        raise InputError(f"embedded geometry contradicts the E/Z stereo: {_ez_problems(refs, embedded[0])[0]} (all "
+                         f"{len(embedded)} conformers); check the stereo marks or supply 3D coordinates",
                          source=source)
-    n_ez = len(ok)
-    if energies is not None:
-        e_min = energies[ok].min()
-        ok = sorted((c for c in ok if energies[c] - e_min <= window), key=lambda c: (energies[c], c))
+    coords, energies, ff, not_converged = _optimise(mol, starts, threads)
     heavy = [a.GetIdx() for a in mol.GetAtoms() if a.GetAtomicNum() > 1]
     tags = {a.GetIdx(): 1 + a.GetTotalNumHs(includeNeighbors=True) for a in mol.GetAtoms()}
     autos = automorphisms(symmetry_graph(mol, heavy, tags))
+    planar_atoms = conjugated_ring_atoms(mol)
+    if search and energies is not None and len(planar_atoms) >= 3:
+        ok = sorted((c for c in range(len(coords)) if not _ez_problems(refs, coords[c])),
+                    key=lambda c: (energies[c], c))
+        distinct = [ok[k] for k in prune_conformers(coords[ok][:, heavy], autos, rmsd_A)]
+        bent = [c for c in distinct if planarity_rms_A(coords[c], planar_atoms) > _FLAT_RMS_A][:_PROJECTED]
+        projected = [project_onto_plane(mol, coords[c], planar_atoms) for c in bent]
+        keep = [_noisy(x, rng) for x in projected if not _ez_problems(refs, x)]
+        rejected += len(projected) - len(keep)
+        if keep:
+            c2, e2, _, nc2 = _optimise(mol, keep, threads)
+            assert e2 is not None                            # same force field as the first pass
+            coords, energies = np.concatenate([coords, c2]), np.concatenate([energies, e2])
+            origin, not_converged = origin + ["projected"] * len(keep), not_converged + nc2
+        info["candidates_projected"] = len(keep)
+    ok = [c for c in range(coords.shape[0]) if not _ez_problems(refs, coords[c])]
+    if not ok:
+        raise InputError(f"minimised geometry contradicts the E/Z stereo: {_ez_problems(refs, coords[0])[0]} (all "
+                         f"{coords.shape[0]} conformers); check the stereo marks or supply 3D coordinates",
+                         source=source)
+    rejected += coords.shape[0] - len(ok)
+    if energies is not None:
+        e_min = energies[ok].min()
+        ok = sorted((c for c in ok if energies[c] - e_min <= window), key=lambda c: (energies[c], c))
     kept = [ok[k] for k in prune_conformers(coords[ok][:, heavy], autos, rmsd_A)]
+    rel = None if energies is None else energies[kept] - energies[kept].min()
     info = {"coordinates": "etkdg-v3" + (f"+{ff}" if ff else ""), "embedding_basic_knowledge": basic,
-            "conformers_requested": n, "conformers_embedded": int(coords.shape[0]),
-            "conformers_rejected_ez": int(coords.shape[0] - n_ez), "conformers_kept": len(kept),
-            "not_converged": int(not_converged)}
-    return coords[kept], None if energies is None else energies[kept] - energies[kept].min(), info
+            "conformers_requested": n, "conformers_embedded": len(embedded),
+            "conformers_rejected_ez": int(rejected), "conformers_kept": len(kept),
+            "not_converged": int(not_converged),
+            "search": "multi-seed+flat-starts" if search else "single-seed", "search_seeds": seeds,
+            "candidates_minimised": int(coords.shape[0]),
+            "candidates_perimeter": origin.count("perimeter"), **info,
+            "kept_from_flat_starts": sum(origin[c] != "embedded" for c in kept),
+            "best_conformer_origin": origin[kept[0]],
+            "energy_spread_kcal_mol": 0.0 if rel is None else float(rel.max()),
+            "planarity_atoms": len(planar_atoms),
+            "planarity_rms_A": planarity_rms_A(coords[kept[0]], planar_atoms)}
+    return coords[kept], rel, info
