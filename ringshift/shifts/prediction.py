@@ -9,6 +9,7 @@ ring-current part.
 
 from __future__ import annotations
 
+import re
 import warnings
 from collections.abc import Mapping, Sequence
 
@@ -97,6 +98,52 @@ def huckel_london_currents(structure: Structure, pi, loops: Sequence[Circuit], g
     return cur, status, results
 
 
+_CIRCUIT_REF = re.compile(r"circuits\[(\d+)\] \(\d+ atoms\)")
+
+
+def london_notes(london: Sequence[LondonCurrents], already: Sequence[str], labels: Sequence[str],
+                 best: int) -> list[str]:
+    """The Hückel step's own warnings (non-convergence, close self-consistent solutions with both
+    currents, near-degenerate levels) for the user, once each.
+
+    The most populated conformer's messages are given in full with circuit labels (M1, ...); a message
+    that appears only in other conformers is summarised once with the number of conformers. The
+    non-planarity lines of :func:`london_currents` are left out: :func:`predict` states planarity per
+    circuit with its label.
+    """
+    def clean(msg: str) -> str:
+        return _CIRCUIT_REF.sub(lambda m: f"circuit {labels[int(m.group(1))]}" if int(m.group(1)) < len(labels)
+                                else m.group(0), msg)
+
+    skip = set(already)
+    out: list[str] = []
+    if not london:
+        return out
+    for msg in london[best].warnings:
+        if msg not in skip and "is non-planar" not in msg:
+            out.append(clean(msg))
+    others: dict[str, int] = {}
+    for k, lc in enumerate(london):
+        if k == best:
+            continue
+        for msg in dict.fromkeys(lc.warnings):
+            if msg in skip or "is non-planar" in msg:
+                continue
+            kind = "no converged" if "no stable" in msg else ("two self-consistent" if "self-consistent bond-length"
+                                                             in msg else clean(msg))
+            others[kind] = others.get(kind, 0) + 1
+    for kind, n in others.items():
+        if kind == "no converged":
+            out.append(f"scf bond lengths did not converge in {n} other conformer(s); their currents are the last "
+                       "iterate")
+        elif kind == "two self-consistent":
+            out.append(f"{n} other conformer(s) have two self-consistent bond-length solutions close in energy "
+                       "with different currents")
+        elif kind not in out:
+            out.append(f"{kind} (in {n} other conformer(s))")
+    return out
+
+
 def predict(structure: Structure, *, model: str = "polygon", currents: str = "huckel", beta_model: str = "scf",
             scale: Mapping[str, float] | None = None, set_current: Mapping[str, float] | None = None,
             user_circuits: Sequence[Sequence[int]] | None = None,
@@ -168,6 +215,7 @@ def predict(structure: Structure, *, model: str = "polygon", currents: str = "hu
         sources = [f"huckel-london ({beta_model} beta)" if st == "ok" else "none: " + st for st in hl_status]
         for st in set(hl_status) - {"ok"}:
             notes.append(st)
+        notes.extend(london_notes(london, pi.warnings, labels, best))
     else:
         for c, (val, src) in enumerate(benzene_equivalent_currents(mol, loops)):
             cur[:, c] = val
