@@ -278,19 +278,18 @@ def polygon_shielding(points, vertices, normal, *, separation_A=JB_SEPARATION_A,
         P = np.concatenate([P] * nz, axis=1)
         for j, z in enumerate(heights):
             P[:, j * k:(j + 1) * k] -= z * N[:, None]
-    # one closed polygon per in-plane offset, its m segments weighted by the offset's current fraction
-    if offsets.size == 1:
-        loops = np.concatenate([V, V[:, :1]], axis=1)
-        ia, ib, weights = slice(0, m), slice(1, m + 1), np.ones((1, m))
-    else:
+    # one closed polygon per in-plane offset, evaluated as extra frames (offset-major: frame o·F + f)
+    nt, nf = offsets.size, V.shape[0]
+    loops = np.concatenate([V, V[:, :1]], axis=1)
+    if nt > 1:
         d = offset_directions(V, N, sign)
-        loops = np.concatenate([np.concatenate([V + t * d, V[:, :1] + t * d[:, :1]], axis=1) for t in offsets],
-                               axis=1)
-        base = (m + 1) * np.arange(offsets.size)[:, None]
-        ia = (base + np.arange(m)).ravel()
-        ib = ia + 1
-        weights = np.repeat(w_off, m)[None]
-    g, near = _segment_kernel(P, loops, ia, ib, N[:, None], weights, _chunk(chunk_size, loops.shape[1]))
+        loops = np.concatenate([loops + t * np.concatenate([d, d[:, :1]], axis=1) for t in offsets])
+        P = np.concatenate([P] * nt)
+    g, near = _segment_kernel(P, loops, slice(0, m), slice(1, m + 1), np.tile(N, (nt, 1))[:, None], np.ones((1, m)),
+                              _chunk(chunk_size, m + 1))
+    if nt > 1:
+        g = np.einsum("o,ofdp->fdp", w_off, g.reshape(nt, nf, *g.shape[1:]))
+        near = near.reshape(nt, nf, -1).any(axis=0)
     if nz > 1:
         g = np.einsum("j,fdjp->fdp", w_h, g.reshape(g.shape[0], g.shape[1], nz, k))
         near = near.reshape(near.shape[0], nz, k).any(axis=1)
