@@ -1,7 +1,7 @@
 """GFN2-xTB geometry (ringshift.geometry.xtb): time per molecule on one thread, and the bond-length alternation
 of the conjugated perimeter before (MMFF94) and after (GFN2-xTB) re-optimisation.
 
-Molecules: [14]annulene (two cis double bonds, 1Z,7Z, set on the Kekulé bonds as design notes §7 advise),
+Molecules: [14]annulene (the configuration of pyrene's perimeter, four inner H; see annulene_14),
 [18]annulene (the [H]-anchored SMILES of design notes §6), 1,6-methano[10]annulene and porphine. The
 MMFF94 conformers come from ringshift's own conformer search (load_structure, default seed); the lowest
 ones (at most 5, within 3 kcal/mol) are re-optimised with GFN2-xTB (Bannwarth, Ehlert & Grimme,
@@ -33,9 +33,10 @@ import warnings
 
 import numpy as np
 from rdkit import Chem
+from rdkit.Chem import rdDistGeom
 
 from ringshift.geometry.circuits import find_circuits
-from ringshift.geometry.conformers import _generate
+from ringshift.geometry.conformers import _dihedral_deg, _generate
 from ringshift.geometry.xtb import INSTALL_HINT, gfn2_optimise
 from ringshift.io.structures import load_structure
 
@@ -45,20 +46,42 @@ PORPHINE = "C1=CC2=NC1=CC3=CC=C(N3)C=C4C=CC(=N4)C=C5C=CC(=C2)N5"
 
 
 def annulene_14() -> Chem.Mol:
-    """[14]annulene, Kekulé, double bonds 2k=2k+1, cis at k = 0 and 3 (1Z,7Z), trans elsewhere."""
-    n = 14
-    rw = Chem.RWMol()
-    for _ in range(n):
-        rw.AddAtom(Chem.Atom(6))
-    for i in range(n):
-        rw.AddBond(i, (i + 1) % n, Chem.BondType.DOUBLE if i % 2 == 0 else Chem.BondType.SINGLE)
+    """[14]annulene with the configuration of pyrene's perimeter (the parent of trans-15,16-dihydropyrene,
+    four inner H; common practice, no source): pyrene is embedded, its two inner carbons are replaced by four
+    inward-pointing H, one Kekulé structure of the 14-ring is fixed and each ring double bond gets the
+    cis/trans configuration of that flat geometry (marks on the Kekulé bonds, design notes §7)."""
+    pyrene = Chem.AddHs(Chem.MolFromSmiles("c1cc2ccc3cccc4ccc(c1)c2c34"))
+    rdDistGeom.EmbedMolecule(pyrene, randomSeed=1)
+    x = pyrene.GetConformer().GetPositions()
+    inner = [a.GetIdx() for a in pyrene.GetAtoms() if a.GetAtomicNum() == 6 and all(
+        n.GetAtomicNum() == 6 and n.GetTotalNumHs(includeNeighbors=True) == 0 for n in a.GetNeighbors())]
+    rw, pos = Chem.RWMol(pyrene), {i: x[i] for i in range(pyrene.GetNumAtoms())}
+    for c in inner:
+        for n in (n.GetIdx() for n in pyrene.GetAtomWithIdx(c).GetNeighbors() if n.GetIdx() not in inner):
+            h = rw.AddAtom(Chem.Atom(1))
+            rw.AddBond(n, h, Chem.BondType.SINGLE)
+            pos[h] = x[n] + 1.08 * (x[c] - x[n]) / np.linalg.norm(x[c] - x[n])
+    for c in sorted(inner, reverse=True):
+        rw.RemoveAtom(c)
+    order = [i for i in sorted(pos) if i not in inner]          # old index of each new atom
     mol = rw.GetMol()
+    for atom in mol.GetAtoms():
+        atom.SetIsAromatic(False)
+        atom.SetNoImplicit(True)
+    for bond in mol.GetBonds():
+        bond.SetIsAromatic(False)
+        bond.SetBondType(Chem.BondType.SINGLE)
+    ring = next(list(r) for r in Chem.GetSymmSSSR(mol) if len(r) == 14)
+    for k in range(0, 14, 2):
+        mol.GetBondBetweenAtoms(ring[k], ring[k + 1]).SetBondType(Chem.BondType.DOUBLE)
     Chem.SanitizeMol(mol, Chem.SanitizeFlags.SANITIZE_ALL ^ Chem.SanitizeFlags.SANITIZE_SETAROMATICITY)
-    mol = Chem.AddHs(mol)
-    for k in range(n // 2):
-        bond = mol.GetBondBetweenAtoms(2 * k, 2 * k + 1)
-        bond.SetStereoAtoms((2 * k - 1) % n, (2 * k + 2) % n)
-        bond.SetStereo(Chem.BondStereo.STEREOCIS if k in (0, 3) else Chem.BondStereo.STEREOTRANS)
+    flat = np.array([pos[i] for i in order])
+    for k in range(0, 14, 2):
+        a, i, j, d = ring[k - 1], ring[k], ring[k + 1], ring[(k + 2) % 14]
+        bond = mol.GetBondBetweenAtoms(i, j)
+        bond.SetStereoAtoms(a, d)
+        cis = abs(_dihedral_deg(flat[a], flat[i], flat[j], flat[d])) < 90.0
+        bond.SetStereo(Chem.BondStereo.STEREOCIS if cis else Chem.BondStereo.STEREOTRANS)
     return mol
 
 
@@ -106,23 +129,24 @@ def main() -> None:
         print(f"tblite is not installed: {INSTALL_HINT}")
         return
     print(f"load average {os.getloadavg()[0]:.1f} on {os.cpu_count()} cores (timings grow with load); "
+          "cpu s = CPU time of this process; "
           "BLA = max - min of the circuit's bonds, |dr| = mean difference of neighbouring bonds, Å")
-    cases = [("[14]annulene (1Z,7Z)", None), ("[18]annulene", ANNULENE_18),
+    cases = [("[14]annulene", None), ("[18]annulene", ANNULENE_18),
              ("1,6-methano[10]annulene", METHANO_10), ("porphine", PORPHINE)]
-    print(f"{'molecule':26s} {'atoms':>5s} {'conf':>4s} {'kept':>4s} {'s total':>8s} {'s/conf':>7s} {'grads':>14s}"
-          f"  {'BLA MMFF':>8s} {'BLA GFN2':>8s}  {'|dr| MMFF':>9s} {'|dr| GFN2':>9s}")
+    print(f"{'molecule':26s} {'atoms':>5s} {'conf':>4s} {'kept':>4s} {'s total':>8s} {'cpu s':>6s} {'s/conf':>7s} "
+          f"{'grads':>14s}  {'BLA MMFF':>8s} {'BLA GFN2':>8s}  {'|dr| MMFF':>9s} {'|dr| GFN2':>9s}")
     for name, spec in cases:
         with warnings.catch_warnings():
             warnings.simplefilter("ignore")
             mol, coords, energies, charge = force_field(name, spec)
-        t = time.perf_counter()
+        t, cpu = time.perf_counter(), time.process_time()
         xo, e, info = gfn2_optimise(mol, coords, charge=charge, energies_kcal_mol=energies, source=name, threads=1)
-        seconds = time.perf_counter() - t
+        seconds, cpu = time.perf_counter() - t, time.process_time() - cpu
         ring = perimeter(mol)
         before, after = bonds_along(coords[0], ring), bonds_along(xo[0], ring)
         grads = "/".join(str(g) for g in info["gradient_calls"])
         print(f"{name:26s} {mol.GetNumAtoms():5d} {info['conformers_optimised']:4d} {info['conformers_kept']:4d} "
-              f"{seconds:8.2f} {seconds / info['conformers_optimised']:7.2f} {grads:>14s}  "
+              f"{seconds:8.2f} {cpu:6.2f} {seconds / info['conformers_optimised']:7.2f} {grads:>14s}  "
               f"{np.ptp(before):8.3f} {np.ptp(after):8.3f}  {alternation(before):9.3f} {alternation(after):9.3f}")
         print(f"{'':26s} circuit of {len(ring)} atoms; C–C along it MMFF94 {before.min():.3f}–{before.max():.3f} Å, "
               f"GFN2 {after.min():.3f}–{after.max():.3f} Å; GFN2 energies (kcal/mol) {np.round(e, 2).tolist()}; "
