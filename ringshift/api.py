@@ -2,9 +2,9 @@
 
 :func:`load_structure` → :func:`predict` → (:func:`read_peaks`) → :func:`compare` → :func:`report`, the
 same pipeline as the ``predict``, ``compare`` and ``report`` commands, with the library's option names
-(``model``, ``currents``, ``beta_model``, ``charge``, ``conformers``, ``seed``, ``claim``, ``solvent``,
-``noise_ppm``, ...). Every function takes what the previous one returns, or the raw input: a SMILES,
-a path to a .mol/.sdf/.xyz file, or a loaded :class:`~ringshift.io.structures.Structure`.
+(``model``, ``currents``, ``beta_model``, ``charge``, ``conformers``, ``seed``, ``exchange``, ``geometry``,
+``claim``, ``solvent``, ``noise_ppm``, ...). Every function takes what the previous one returns, or the raw
+input: a SMILES, a path to a .mol/.sdf/.xyz file, or a loaded :class:`~ringshift.io.structures.Structure`.
 
 Errors. Bad input raises :class:`ringshift.errors.InputError` naming the argument (``model``,
 ``peaks``, ...); an option that cannot apply (``conformers`` with a Structure already loaded, ``model``

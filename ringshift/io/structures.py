@@ -242,7 +242,7 @@ def _refine_gfn2(mol: Chem.Mol, coords: np.ndarray, energies_ff: np.ndarray | No
     electrons (RDKit radical electrons) are passed on: without them tblite computes the neutral closed shell.
     """
     try:
-        from ringshift.geometry.xtb import gfn2_optimise  # type: ignore[import-not-found,unused-ignore]
+        from ringshift.geometry.xtb import gfn2_optimise
     except ModuleNotFoundError as exc:
         if exc.name != "ringshift.geometry.xtb":
             raise
