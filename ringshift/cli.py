@@ -99,12 +99,10 @@ structure_options = [
     click.option("--temperature", type=click.FloatRange(1.0, 2000.0), default=298.15, show_default=True,
                  help="Temperature (K) for Boltzmann weights."),
     click.option("--exchange", type=click.Choice(EXCHANGE_CHOICES), default="slow", show_default=True,
-                 help="Equivalent protons: 'slow', the symmetry of the lowest-energy conformer (low-temperature "
-                      "spectrum); 'fast', also average protons that conformational and bond-shift processes "
-                      "interchange (high-temperature limit, e.g. annulene inner/outer H)."),
+                 help="Equivalent H. slow: symmetry of the best conformer (low-temperature spectrum); fast: also H "
+                      "that conformational and bond-shift processes interchange (e.g. annulene inner/outer)."),
     click.option("--geometry", type=click.Choice(GEOMETRY_CHOICES), default="force-field", show_default=True,
-                 help="Conformers from MMFF94 (or the input file), or re-optimised with GFN2-xTB "
-                      "(needs pip install 'ringshift[xtb]')."),
+                 help="MMFF94 (or input) conformers, or re-optimised by GFN2-xTB (pip install 'ringshift[xtb]')."),
 ]
 
 model_options = [
