@@ -8,8 +8,11 @@ process may run on, embeds and minimises on one thread; OpenMP/OpenBLAS/MKL are 
 other benchmarks. Target (issue 12): load + predict of octaethylporphyrin (C36H46N4, 40 heavy atoms) within
 10 s on one core.
 
-Columns: seconds = median over seeds of load + predict; kept = conformers kept; best E = absolute MMFF94
-energy of the best conformer (kcal/mol, MMFF94 of RDKit); spread = highest kept minus best, kcal/mol;
+Columns: CPU s = process CPU time of load + predict (median and maximum over seeds): with the process pinned
+to one core and RDKit on one thread this is the one-core cost even when other work shares the machine, which
+the wall-clock seconds (next column) are not; the 10 s target is checked on the CPU maximum; kept = conformers
+kept; best E = absolute MMFF94 energy of the best conformer (kcal/mol, MMFF94 of RDKit); spread = highest kept
+minus best, kcal/mol;
 planarity = RMS distance of the conjugated ring atoms from their plane in the best conformer, Å; lowest =
 seeds whose best conformer reaches the lowest energy found over all seeds (within 0.05 kcal/mol).
 
@@ -63,22 +66,25 @@ def mmff_energy(structure) -> float:
 def run(name: str, smiles: str, seeds: list[int]) -> dict:
     rows = []
     for seed in seeds:
-        t0 = time.perf_counter()
+        t0, c0 = time.perf_counter(), time.process_time()
         with warnings.catch_warnings():
             warnings.simplefilter("ignore")
             s = load_structure(smiles, seed=seed)
             t1 = time.perf_counter()
             predict(s)
-        t2 = time.perf_counter()
+        t2, c2 = time.perf_counter(), time.process_time()
         p = s.provenance
-        rows.append({"load": t1 - t0, "predict": t2 - t1, "kept": int(s.coords.shape[0]), "E": mmff_energy(s),
+        rows.append({"load": t1 - t0, "predict": t2 - t1, "cpu": c2 - c0, "kept": int(s.coords.shape[0]),
+                     "E": mmff_energy(s),
                      "spread": p.get("energy_spread_kcal_mol", 0.0), "planarity": p.get("planarity_rms_A", 0.0),
                      "origin": p.get("best_conformer_origin", "?"), "formula": rdMolDescriptors.CalcMolFormula(s.mol),
                      "heavy": s.mol.GetNumHeavyAtoms()})
     e_low = min(r["E"] for r in rows)
     total = [r["load"] + r["predict"] for r in rows]
+    cpu = [r["cpu"] for r in rows]
     return {"name": name, "formula": rows[0]["formula"], "heavy": rows[0]["heavy"],
             "seconds": statistics.median(total), "max_s": max(total),
+            "cpu": statistics.median(cpu), "max_cpu": max(cpu),
             "load": statistics.median(r["load"] for r in rows),
             "predict": statistics.median(r["predict"] for r in rows),
             "kept": statistics.median(r["kept"] for r in rows), "E": e_low,
@@ -96,17 +102,18 @@ def main() -> None:
     seeds = [0, 42] if args.quick else args.seeds
     cores = len(os.sched_getaffinity(0)) if hasattr(os, "sched_getaffinity") else "?"
     print(f"cores in use: {cores}; load average at start: {os.getloadavg()[0]:.2f}; seeds: {seeds}")
-    print("| molecule | formula | heavy | load+predict / s (median, max) | load / s | predict / s | kept | "
+    print("| molecule | formula | heavy | CPU s (median, max) | wall s (median, max) | load / s | predict / s | kept | "
           "best E / kcal/mol | spread / kcal/mol | planarity / Å (min–max) | seeds at lowest E | best from |")
-    print("| --- | --- | --- | --- | --- | --- | --- | --- | --- | --- | --- | --- |")
+    print("| --- | --- | --- | --- | --- | --- | --- | --- | --- | --- | --- | --- | --- |")
     slow = []
     for name, smiles in MOLECULES:
         r = run(name, smiles, seeds)
-        print(f"| {r['name']} | {r['formula']} | {r['heavy']} | {r['seconds']:.2f}, {r['max_s']:.2f} | "
+        print(f"| {r['name']} | {r['formula']} | {r['heavy']} | {r['cpu']:.2f}, {r['max_cpu']:.2f} | "
+              f"{r['seconds']:.2f}, {r['max_s']:.2f} | "
               f"{r['load']:.2f} | {r['predict']:.2f} | {r['kept']:g} | {r['E']:.2f} | {r['spread']:.1f} | "
               f"{r['planarity']:.3f}–{r['planarity_max']:.3f} | {r['lowest']}/{r['n']} | {', '.join(r['origins'])} |",
               flush=True)
-        if r["heavy"] >= 40 and r["max_s"] > TARGET_S:
+        if r["heavy"] >= 40 and r["max_cpu"] > TARGET_S:
             slow.append(r["name"])
     verdict = "met" if not slow else f"NOT met for {', '.join(slow)}"
     print(f"target: load + predict of a 40-heavy-atom macrocycle within {TARGET_S:.0f} s on one core: {verdict}; "

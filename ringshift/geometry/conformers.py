@@ -18,6 +18,7 @@ from rdkit import Chem, rdBase
 from rdkit.Chem import rdDistGeom, rdForceFieldHelpers
 from rdkit.Geometry import Point3D
 
+from ringshift._numbers import rounded
 from ringshift.constants import KB_KCAL_PER_MOL_K
 from ringshift.errors import GeometryWarning, InputError
 from ringshift.geometry.macrocycle import (
@@ -312,7 +313,7 @@ def _generate(mol: Chem.Mol, n: int, seed: int, window: float, rmsd_A: float, so
             "candidates_perimeter": origin.count("perimeter"), **info,
             "kept_from_flat_starts": sum(origin[c] != "embedded" for c in kept),
             "best_conformer_origin": origin[kept[0]],
-            "energy_spread_kcal_mol": 0.0 if rel is None else float(rel.max()),
+            "energy_spread_kcal_mol": 0.0 if rel is None else rounded(float(rel.max()), 3),
             "planarity_atoms": len(planar_atoms),
-            "planarity_rms_A": planarity_rms_A(coords[kept[0]], planar_atoms)}
+            "planarity_rms_A": rounded(planarity_rms_A(coords[kept[0]], planar_atoms), 4)}
     return coords[kept], rel, info
