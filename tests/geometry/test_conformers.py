@@ -19,7 +19,7 @@ from ringshift.io.molecule_files import _mol_from_smiles
 
 ANNULENE_18 = "[H]/C1=C/C=C/C=C/C=C\\C=C\\C=C\\C=C/C=C/C=C1\\[H]"     # design notes §6
 # Lowest MMFF94 energy of [18]annulene (RDKit's MMFF94, absolute, kcal/mol) from a larger search: 8 seeds x 200
-# ETKDG embeddings, each minimised as embedded and after projection onto its plane (3200 minimisations, measured
+# ETKDG embeddings, each minimised as embedded and after projection onto its plane (3186 minimisations, measured
 # 2026-12-04); the planar D6h conformer with 6 inner H. Tolerance 0.05 kcal/mol: minimiser convergence.
 ANNULENE_18_LOWEST_KCAL_MOL = 107.43
 
