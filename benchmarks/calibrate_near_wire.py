@@ -1,6 +1,41 @@
-"""Calibrate the finite-width (band) ring current on GIAO-HF π shieldings: shape, not magnitude.
+"""Calibrate the finite-width (band) ring current on GIAO-HF π shieldings: its shape, not its magnitude.
 
-PLACEHOLDER HEADER (rewritten below once the fit is in place).
+What is fitted
+--------------
+The thin-wire double loop (two polygons through the ring atoms at ±0.64 Å, half the current each; Johnson &
+Bovey, J. Chem. Phys. 1958, 29, 1012) over-estimates protons 1.5–2.5 Å from the wire. ringshift.fields.band
+spreads the current over an in-plane offset (standard deviation ``width_A``) and two lobes at
+±``separation_A`` (standard deviation ``height_width_A``). This script fits those three lengths to quantum-
+chemical data:
+
+* GIAO-HF shielding tensors (Wolinski, Hinton & Pulay, J. Am. Chem. Soc. 1990, 112, 8251) through PySCF and
+  pyscf-properties, with the response workaround and the π/σ dissection by occupied orbital of
+  benchmarks/bench_qm.py; the π part of σ_zz (z = the normal) at the protons and at ghost points
+  (NICS-type probes: on the axis, in the plane inside and outside the ring, 1.5–2.5 Å above bonds and atoms;
+  Schleyer et al., J. Am. Chem. Soc. 1996, 118, 6317, for the probe idea, from memory). The out-of-plane
+  component as the seat of the π ring current follows Faglioni et al. (Org. Lett. 2005, 7, 3457, from memory).
+* Molecules: benzene (regular, C–C 1.396 Å, C–H 1.083 Å) for the fit and an idealised planar D6h
+  [18]annulene (equal 1.40 Å bonds, 128°/124° angles, 6 inner H) held aside; ethylene for local increments.
+  Geometries are built here; QM and model use the same coordinates, so only the shape of the field is tested.
+* σ_zz^π is not all ring current: near a bond it holds the bond's own (local) π response. Two treatments
+  are printed: WITHOUT local increments (protons referred to ethylene's H, as in bench_qm.py; ghost points
+  raw), and WITH them: σ_zz^π ≈ J·model + κ·Σ_bonds σ_zz^π(ethylene, point in that bond's frame), κ free
+  (≈ ½ expected: a benzene bond holds half an ethylene π pair). The calibrated constants come from the
+  treatment WITH local increments.
+* HF over- or under-estimates the current, so J (and κ) are free per molecule; the shared parameters are the
+  shape. Fits use points ≥ 1.0 Å from the ring polygon (the thin wire diverges nearer). Residuals are
+  tabulated by distance from the wire (< 1.5, 1.5–2.5, ≥ 2.5 Å) for the thin wire today, a thin wire with a
+  fitted separation, and the band.
+* Held-aside check: the shape from benzene is applied to [18]annulene with its J (and κ) fitted on its
+  points ≥ 2.5 Å from the wire only; its nearer points are predictions.
+* ``--dev``: mean absolute error after sorted matching on the DEV rows of
+  benchmarks/accuracy/published_shifts.csv (ring-current-dominated molecules; test rows are never used)
+  with default ``predict`` against the same with the band.
+
+QM results are cached as JSON (``--cache``, default in $TMPDIR) because GIAO on [18]annulene takes minutes.
+Needs ``pip install pyscf pyscf-properties``; without them the script says so and exits 0.
+
+Run:  .venv/bin/python benchmarks/calibrate_near_wire.py [--basis 6-31g*] [--cache PATH] [--dev]
 """
 
 from __future__ import annotations
