@@ -194,7 +194,8 @@ def load_structure(spec: str | os.PathLike[str], *, charge: int | None = None, c
                      exchange=exchange, geometry=geometry)
 
 
-def predict(structure: StructureLike, *, model: str = "polygon", currents: str = "huckel", beta_model: str = "scf",
+def predict(structure: StructureLike, *, model: str = "johnson-bovey", currents: str = "huckel",
+            beta_model: str = "scf",
             scale: Mapping[str, float] | None = None, set_current: Mapping[str, float] | None = None,
             user_circuits: Sequence[Sequence[int]] | None = None, separation_A: float | None = None,
             charge: int | None = None, conformers: int | None = None, seed: int | None = None,
@@ -207,7 +208,8 @@ def predict(structure: StructureLike, *, model: str = "polygon", currents: str =
     structure : str, path or Structure
         A SMILES, a .mol/.sdf/.xyz path (loaded with :func:`load_structure`) or a loaded Structure.
     model : {"polygon", "johnson-bovey", "haigh-mallion", "dipole", "network"}
-        Shielding model.
+        Shielding model; default ``"johnson-bovey"`` (:data:`ringshift.constants.DEFAULT_MODEL`, chosen on the
+        published development set of benchmarks/accuracy).
     currents : {"huckel", "benzene"}
         A priori current of each circuit: Hückel–London (relative to benzene × 12 nA/T), or
         12 nA/T on every ring RDKit calls aromatic.
@@ -234,7 +236,7 @@ def predict(structure: StructureLike, *, model: str = "polygon", currents: str =
     --------
     >>> pred = predict("c1ccccc1", conformers=1)
     >>> pred
-    <Prediction c1ccccc1 C6H6: 1 circuit (R1 6π +12.0 nA/T), 6 H in 1 group, model polygon, 1 conformer>
+    <Prediction c1ccccc1 C6H6: 1 circuit (R1 6π +12.0 nA/T), 6 H in 1 group, model johnson-bovey, 1 conformer>
     >>> [round(p.ring_current_ppm, 2) for p in pred.protons] == [round(pred.protons[0].ring_current_ppm, 2)] * 6
     True
     """

@@ -14,7 +14,7 @@ from collections.abc import Sequence
 
 import click
 
-from ringshift.constants import BETA_MODELS, CURRENT_SOURCES, MAP_MODELS, MODELS
+from ringshift.constants import BETA_MODELS, CURRENT_SOURCES, DEFAULT_MODEL, MAP_MODELS, MODELS
 from ringshift.errors import InputError, OutputError, RingshiftWarning
 
 EXIT_BAD_INPUT = 2
@@ -107,7 +107,7 @@ structure_options = [
 
 model_options = [
     click.option("--model", type=click.Choice(MODELS),
-                 default="polygon", show_default=True, help="Shielding model."),
+                 default=DEFAULT_MODEL, show_default=True, help="Shielding model."),
     click.option("--currents", type=click.Choice(CURRENT_SOURCES), default="huckel", show_default=True,
                  help="A priori current of each circuit: Hückel–London, or 12 nA/T on RDKit-aromatic rings."),
     click.option("--beta", "beta_model", type=click.Choice(BETA_MODELS), default="scf",
@@ -357,7 +357,7 @@ def map_cmd(structure, charge, conformers, seed, temperature, exchange, geometry
 @click.argument("frames", type=click.Path(dir_okay=False))
 @click.option("--charge", type=int, default=None, help="Net charge (XYZ frames of ions).")
 @click.option("--model", type=click.Choice([m for m in MODELS if m != "network"]),
-              default="polygon", show_default=True, help="Shielding model of the loops.")
+              default=DEFAULT_MODEL, show_default=True, help="Shielding model of the loops (polygon is the fastest).")
 @click.option("--currents", type=click.Choice(CURRENT_SOURCES + ("huckel-per-frame",)), default="huckel",
               show_default=True, help="Currents of the first frame held fixed, 12 nA/T, or Hückel–London per frame.")
 @click.option("--beta", "beta_model", type=click.Choice(BETA_MODELS), default="scf",
@@ -433,7 +433,7 @@ def trajectory_cmd(frames, charge, model, currents, beta_model, weights, tempera
 @click.option("--quiet", is_flag=True, help="No progress bar.")
 @_apply(structure_options)
 @click.option("--model", type=click.Choice(MODELS),
-              default="polygon", show_default=True, help="Shielding model (see `predict -h`).")
+              default=DEFAULT_MODEL, show_default=True, help="Shielding model (see `predict -h`).")
 @click.option("--currents", type=click.Choice(CURRENT_SOURCES), default="huckel", show_default=True,
               help="A priori currents: Hückel–London, or 12 nA/T per aromatic ring.")
 @click.option("--beta", "beta_model", type=click.Choice(BETA_MODELS), default="scf",

@@ -166,7 +166,7 @@ def test_prediction_repr_is_short_and_informative(benzene, fj14c):
     assert len(text) < 200 and "\n" not in text
     assert text.startswith("<Prediction ") and text.endswith(">")
     # benzene's Hueckel-London current is normalised to the benzene value, 12.0 nA/T, by definition
-    for part in ("C6H6", "1 circuit", "R1 6π +12.0 nA/T", "6 H in 1 group", "model polygon", "1 conformer"):
+    for part in ("C6H6", "1 circuit", "R1 6π +12.0 nA/T", "6 H in 1 group", "model johnson-bovey", "1 conformer"):
         assert part in text, (part, text)
     assert "C20H20" in repr(fj14c) and "M1 14π" in repr(fj14c)
     assert "Prediction(" not in str(benzene)  # the dataclass field dump is gone from str() too

@@ -27,7 +27,7 @@ import numpy as np
 
 from ringshift import fields
 from ringshift._display import TrajectoryDisplay
-from ringshift.constants import JB_SEPARATION_A, MODELS, TRAJECTORY_CURRENTS
+from ringshift.constants import DEFAULT_MODEL, JB_SEPARATION_A, MODELS, TRAJECTORY_CURRENTS
 from ringshift.errors import GeometryWarning, InputError
 from ringshift.fields.registry import geometric_factors
 from ringshift.geometry.circuits import (
@@ -186,7 +186,7 @@ def _check_options(template, model, currents, memory_MB, weights, temperature_K)
     return w
 
 
-def predict_trajectory(template: Structure | None, frames, *, model: str = "polygon", currents: str = "huckel",
+def predict_trajectory(template: Structure | None, frames, *, model: str = DEFAULT_MODEL, currents: str = "huckel",
                        memory_MB: float = 500.0, weights="uniform", temperature_K: float = 298.15, exchange=None,
                        energies_kcal_mol=None, beta_model: str = "scf", scale: Mapping[str, float] | None = None,
                        set_current: Mapping[str, float] | None = None,
@@ -202,8 +202,8 @@ def predict_trajectory(template: Structure | None, frames, *, model: str = "poly
     frames : FrameStream, iterable of Frame or of (n_atoms, 3) arrays, or ndarray (n_frames, n_atoms, 3)
         Coordinates in Å, atoms in the template's order.
     model : str
-        Shielding model (:data:`ringshift.shifts.prediction.MODELS`). "polygon" runs frame-batched over each block
-        (:func:`ringshift.fields.polygon.polygon_shielding` on the stack); the others call per-frame kernels.
+        Shielding model (:data:`ringshift.constants.MODELS`; default as for predict). "polygon" runs frame-batched over
+        each block (:func:`ringshift.fields.polygon.polygon_shielding` on the stack); the others call per-frame kernels.
     currents : {"huckel", "benzene", "huckel-per-frame"}
         "huckel" (default): the Hückel–London currents of the template prediction (the first frame when
         the template comes from the file), held fixed; "benzene": 12 nA/T on RDKit-aromatic circuits;

@@ -22,6 +22,7 @@ from ringshift.constants import (
     BENZENE_CURRENT_NA_PER_T,
     BETA_MODELS,
     CURRENT_SOURCES,
+    DEFAULT_MODEL,
     JB_SEPARATION_A,
     MODELS,
 )
@@ -150,7 +151,7 @@ def london_notes(london: Sequence[LondonCurrents], already: Sequence[str], label
     return out
 
 
-def predict(structure: Structure, *, model: str = "polygon", currents: str = "huckel", beta_model: str = "scf",
+def predict(structure: Structure, *, model: str = DEFAULT_MODEL, currents: str = "huckel", beta_model: str = "scf",
             scale: Mapping[str, float] | None = None, set_current: Mapping[str, float] | None = None,
             user_circuits: Sequence[Sequence[int]] | None = None,
             separation_A: float = JB_SEPARATION_A, reference_table=None, width_A: float | None = None,

@@ -44,8 +44,8 @@ def hexagon_file(tmp_module):
 
 @pytest.fixture(scope="package")
 def hexagon(hexagon_file):
-    """The regular-hexagon benzene with J = 12 nA/T set outright."""
-    return predict(load_structure(hexagon_file, charge=0), set_current={"R1": 12.0})
+    """The regular-hexagon benzene with J = 12 nA/T set outright, polygon loops (the maps draw polygons)."""
+    return predict(load_structure(hexagon_file, charge=0), model="polygon", set_current={"R1": 12.0})
 
 
 @pytest.fixture(scope="package")
