@@ -33,10 +33,12 @@ def exchange_groups(mol: Chem.Mol, exchange) -> tuple[tuple[int, ...], ...]:
     mol : rdkit.Chem.Mol
         Explicit-H molecule.
     exchange : None, "auto" or sequence of sequences of int
-        None: slow exchange (no groups). "auto": H atoms of equal topological rank,
-        ``Chem.CanonicalRankAtoms(mol, breakTies=False)`` (every motion that keeps the bonds is fast, e.g.
-        [18]annulene's inner/outer interconversion at room temperature, diastereotopic CH2). A list: the
-        given groups of H atom indices (disjoint).
+        None: slow exchange (no groups). "auto": the rule of ``--exchange fast`` of the structure commands,
+        :func:`ringshift.geometry.symmetry.fast_exchange_classes` on the molecule's first conformer (every
+        conformational and bond-shift motion is fast, e.g. [18]annulene's inner/outer interconversion at room
+        temperature; diastereotopic protons stay apart); without a conformer, H atoms of equal topological rank
+        (``Chem.CanonicalRankAtoms(mol, breakTies=False)``). A list: the given groups of H atom indices
+        (disjoint).
 
     Returns
     -------
@@ -49,11 +51,16 @@ def exchange_groups(mol: Chem.Mol, exchange) -> tuple[tuple[int, ...], ...]:
     if isinstance(exchange, str):
         if exchange != "auto":
             raise InputError(f"expected None, 'auto' or a list of H index groups, got {exchange!r}", source="exchange")
-        rank = list(Chem.CanonicalRankAtoms(mol, breakTies=False))
-        by: dict[int, list[int]] = {}
-        for h in sorted(hs):
-            by.setdefault(rank[h], []).append(h)
-        groups = [tuple(g) for g in by.values()]
+        if mol.GetNumConformers():      # the structure commands' fast-exchange rule (diastereotopic H kept apart)
+            from ringshift.geometry.symmetry import fast_exchange_classes
+
+            groups = [tuple(g) for g in fast_exchange_classes(mol, mol.GetConformer().GetPositions())]
+        else:                           # no geometry to read the configuration from: topological ranks
+            rank = list(Chem.CanonicalRankAtoms(mol, breakTies=False))
+            by: dict[int, list[int]] = {}
+            for h in sorted(hs):
+                by.setdefault(rank[h], []).append(h)
+            groups = [tuple(g) for g in by.values()]
     else:
         try:
             groups = [tuple(sorted(int(a) for a in g)) for g in exchange]

@@ -224,6 +224,18 @@ def test_auto_exchange_groups_follow_rdkit_ranks():
     assert exchange_groups(s.mol, None) == ()
 
 
+def test_auto_exchange_keeps_diastereotopic_protons_apart():
+    # (R)-butan-2-ol: the C3 methylene protons are diastereotopic (no motion exchanges them; Eliel & Wilen,
+    # Stereochemistry of Organic Compounds, Wiley 1994, ch. 8, from memory), although RDKit's canonical ranks
+    # lump them; "auto" follows the structure commands' fast-exchange rule and keeps them apart
+    s = load_structure("C[C@@H](O)CC", conformers=1)
+    ch2 = sorted(n.GetIdx() for n in s.mol.GetAtomWithIdx(3).GetNeighbors() if n.GetAtomicNum() == 1)
+    rank = list(Chem.CanonicalRankAtoms(s.mol, breakTies=False))
+    assert rank[ch2[0]] == rank[ch2[1]]                      # the ranks alone would merge them
+    assert not any(set(ch2) <= set(g) for g in exchange_groups(s.mol, "auto"))
+    assert any(len(g) == 3 for g in exchange_groups(s.mol, "auto"))   # the methyls still average
+
+
 @pytest.mark.parametrize("bad, msg", [([[0, 1]], "not hydrogens"), ([[10, 11], [11, 12]], "two exchange groups"),
                                       ("fast", "'auto'")], ids=["heavy-atom", "overlap", "word"])
 def test_bad_exchange_groups(naphthalene, bad, msg):
