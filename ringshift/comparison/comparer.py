@@ -50,7 +50,7 @@ import numpy as np
 
 from ringshift import _validation as _v
 from ringshift.comparison.assignment import slot_counts
-from ringshift.comparison.evidence import CLAIM_VERDICT, circuit_fits, claim_check
+from ringshift.comparison.evidence import CLAIM_VERDICT, circuit_fits, claim_check, claim_check_without_circuit
 from ringshift.comparison.records import (
     SIGN_PRIOR_SD_NA_PER_T,
     Alternative,
@@ -95,7 +95,7 @@ def _validate(groups, peaks, circuits) -> None:
                            ("circuits", circuits, CircuitPrior)):
         if isinstance(seq, (str, bytes)) or not isinstance(seq, Sequence):
             raise InputError(f"expected a sequence of {cls.__name__}, got {type(seq).__name__}", name)
-        if len(seq) == 0:
+        if len(seq) == 0 and name != "circuits":
             raise InputError(f"expected at least one {cls.__name__}, got none", name)
         for i, item in enumerate(seq):
             if not isinstance(item, cls):
@@ -240,6 +240,7 @@ def compare(
     missing_cost: float = MISSING_COST,
     alternative_max_delta: float = ALTERNATIVE_MAX_DELTA,
     max_iter: int = 25,
+    no_circuit_reason: str | None = None,
 ) -> Comparison:
     """Assign peaks to groups, fit the circuit currents and weigh the evidence for their sign.
 
@@ -249,6 +250,8 @@ def compare(
         Predictions per hydrogen group; each ``geometric_ppm_per_nA_T`` has shape (n_circuits,).
     peaks : sequence of ObservedPeak, length P
     circuits : sequence of CircuitPrior, length n_circuits
+        May be empty (no closed conjugated circuit): the peaks are then assigned by reference shifts and
+        class offsets alone and the verdict is "atropic", with ``no_circuit_reason`` as its reason.
     noise_ppm : float, "auto" or None, optional
         Model error σ (ppm); None → :data:`DEFAULT_NOISE_PPM`; "auto" → the value of
         :data:`NOISE_GRID_PPM` with the lowest cost (maximum evidence).
@@ -271,6 +274,8 @@ def compare(
         Cost window (2 ln B units) of reported alternatives.
     max_iter : int, optional
         Maximum assignment/fit cycles per start.
+    no_circuit_reason : str, optional
+        Why there is no circuit (one sentence); used only when ``circuits`` is empty.
 
     Returns
     -------
@@ -306,8 +311,14 @@ def compare(
     a, fit = state.assignment, state.fit
 
     circuit_fits = _circuit_results(problem, a, fit, circuits, width)
-    strongest = max(range(len(circuit_fits)), key=lambda c: (circuit_fits[c].evidence.two_ln_bf_margin, -c))
-    verdict = circuit_fits[strongest].verdict
+    if circuit_fits:
+        strongest = max(range(len(circuit_fits)), key=lambda c: (circuit_fits[c].evidence.two_ln_bf_margin, -c))
+        verdict, verdict_circuit = circuit_fits[strongest].verdict, circuit_fits[strongest].label
+        check = None if claim is None else claim_check(claim, circuit_fits[strongest], verdict)
+    else:       # no closed conjugated circuit: no ring current can flow, the peaks are assigned by reference shifts
+        why = no_circuit_reason or "the molecule has no closed conjugated circuit"
+        verdict, verdict_circuit = "atropic", None
+        check = None if claim is None else claim_check_without_circuit(claim, why)
 
     alternatives = _alternatives(problem, state, neigh, groups, peaks, circuits, width, n_alternatives,
                                  alternative_max_delta)
@@ -325,13 +336,13 @@ def compare(
     offsets = tuple(ClassOffset(k, float(fit.mean[j]), float(math.sqrt(fit.cov[j, j])), float(problem.prior_sd[j]))
                     for j, k in enumerate(classes))
     return Comparison(
-        verdict=verdict, verdict_circuit=circuit_fits[strongest].label, circuits=circuit_fits,
+        verdict=verdict, verdict_circuit=verdict_circuit, circuits=circuit_fits,
         assignment=group_results(problem, a, fit, groups, peaks, classes), peaks=peak_rows,
         unassigned_peaks=tuple(p for p in range(len(peaks)) if problem.active[p] and not held[p]),
         unassigned_groups=unassigned_groups,
         ignored_peaks=tuple(p for p in range(len(peaks)) if not problem.active[p]),
         alternatives=alternatives,
-        claim=None if claim is None else claim_check(claim, circuit_fits[strongest], verdict),
+        claim=check, verdict_reason=None if circuit_fits else why,
         class_offsets=offsets, noise_ppm=float(problem.noise), noise_estimated=isinstance(noise_ppm, str),
         integral_scale=scale, converged=bool(state.converged), iterations=int(state.iterations),
         start=state.start, cost=float(state.score), log10_evidence=float(fit.log_evidence / math.log(10.0)),

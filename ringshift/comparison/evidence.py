@@ -345,3 +345,15 @@ def claim_check(claim: str, fit: CircuitFit, verdict: str) -> ClaimCheck:
         outcome = "supported" if verdict == CLAIM_VERDICT[claim] else "contradicted"
         reason = f"The claim '{claim}' is {outcome}: {numbers}, so the spectrum says {verdict}."
     return ClaimCheck(claim, outcome, reason)
+
+
+def claim_check_without_circuit(claim: str, reason: str) -> ClaimCheck:
+    """Check an aromaticity claim for a molecule without a closed conjugated circuit.
+
+    No circuit means no ring current: the verdict is "atropic" by construction (not fitted), so the
+    claim 'nonaromatic' is supported and 'aromatic' or 'antiaromatic' contradicted. ``reason`` says
+    why there is no circuit (one sentence).
+    """
+    outcome = "supported" if CLAIM_VERDICT[claim] == "atropic" else "contradicted"
+    return ClaimCheck(claim, outcome, f"The claim '{claim}' is {outcome}: {reason.rstrip('.')}, so no ring current "
+                                      "can flow (atropic by structure, not fitted).")

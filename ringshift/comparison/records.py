@@ -125,14 +125,16 @@ class ClassOffset(ToDictMixin):
 class Comparison(ToDictMixin):
     """Result of :func:`compare`.
 
-    ``verdict`` is the verdict of the circuit with the largest evidence margin (``verdict_circuit``).
+    ``verdict`` is the verdict of the circuit with the largest evidence margin (``verdict_circuit``);
+    without any closed conjugated circuit it is "atropic", ``verdict_circuit`` is None and
+    ``verdict_reason`` says why.
     ``cost`` is the assignment cost (module docstring), ``log10_evidence`` the log10 marginal
     likelihood of the assigned shifts. ``start`` names the starting current of the winning search,
     ``iterations`` its assignment/fit cycles and ``converged`` whether it reached a fixed point.
     """
 
     verdict: str
-    verdict_circuit: str
+    verdict_circuit: str | None
     circuits: tuple[CircuitFit, ...]
     assignment: tuple[GroupAssignment, ...]
     peaks: tuple[PeakSummary, ...]
@@ -150,6 +152,7 @@ class Comparison(ToDictMixin):
     start: str
     cost: float
     log10_evidence: float
+    verdict_reason: str | None = None
 
     def to_dict(self) -> dict:
         """Plain JSON-able dict; unassigned peaks and groups are given with labels."""

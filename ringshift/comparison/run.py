@@ -8,7 +8,7 @@ of the result.
 
 from __future__ import annotations
 
-from dataclasses import dataclass
+from dataclasses import dataclass, replace
 from typing import TYPE_CHECKING
 
 import numpy as np
@@ -20,6 +20,7 @@ from ringshift.comparison.comparer import compare as _cmp_compare
 from ringshift.comparison.records import CircuitPrior, Comparison, GroupModel, ObservedPeak
 from ringshift.constants import BENZENE_CURRENT_NA_PER_T
 from ringshift.errors import InputError
+from ringshift.spectra.solvents import resolve_reference_lines
 
 if TYPE_CHECKING:
     from ringshift.shifts.records import Prediction
@@ -95,18 +96,57 @@ def observed_peaks(peaklist, pred) -> list[ObservedPeak]:
     return out
 
 
+def _resolved(peaklist, n_hydrogens: int):
+    """The peak list with its solvent/TMS candidates decided against the molecule's H count (a list read
+    with ``n_hydrogens`` is already decided; the decision is idempotent, so notes are added only on change)."""
+    peaks, notes = resolve_reference_lines(peaklist.peaks, n_hydrogens)
+    if [p.kind for p in peaks] == [p.kind for p in peaklist.peaks]:
+        return peaklist
+    return replace(peaklist, peaks=peaks, warnings=tuple(peaklist.warnings) + tuple(notes))
+
+
 def run_compare(pred, peaklist, *, claim: str | None = None, noise_ppm=None, seed: int = 0) -> CompareResult:
     """Assign, fit and weigh the evidence for one structure against one peak list."""
     if not pred.groups:
         raise InputError("the molecule has no hydrogens: there is nothing to compare with a 1H spectrum",
                          pred.structure.source)
+    peaklist = _resolved(peaklist, len(pred.protons))
     obs = observed_peaks(peaklist, pred)
     if not obs:
         raise InputError("no peaks found; expected at least one sample peak", peaklist.source)
     if not any(o.kind == "signal" for o in obs):
         raise InputError("no sample peaks (only solvent/TMS/impurity peaks)", peaklist.source)
-    if not pred.circuits:
-        raise InputError("the molecule has no conjugated circuit: there is no ring current to fit",
-                         pred.structure.source)
-    comp = _cmp_compare(group_models(pred), obs, circuit_priors(pred), noise_ppm=noise_ppm, claim=claim, seed=seed)
+    why = None if pred.circuits else no_circuit_reason(pred.structure.mol)
+    comp = _cmp_compare(group_models(pred), obs, circuit_priors(pred), noise_ppm=noise_ppm, claim=claim, seed=seed,
+                        no_circuit_reason=why)
     return CompareResult(pred, peaklist, comp, tuple(obs))
+
+
+def no_circuit_reason(mol) -> str:
+    """One sentence on why an RDKit molecule has no closed conjugated circuit: the sp³ (or otherwise
+    unconjugated) ring atoms that interrupt each ring, or that it has no ring."""
+    rings = [r for r in mol.GetRingInfo().AtomRings() if len(r) >= 3]
+    if not rings:
+        return "no closed conjugated circuit: the molecule has no ring"
+    parts = []
+    for ring in rings:
+        breaks = [i for i in ring if not _conjugated(mol.GetAtomWithIdx(i))]
+        if breaks:
+            names = ", ".join(f"{_hybrid(mol.GetAtomWithIdx(i))} {mol.GetAtomWithIdx(i).GetSymbol()}{i}"
+                              for i in breaks)
+            parts.append(f"{names} interrupt{'s' if len(breaks) == 1 else ''} the {len(ring)}-membered ring")
+    if not parts:
+        return "no closed conjugated circuit was found in the rings"
+    return "no closed conjugated circuit: " + "; ".join(parts)
+
+
+def _conjugated(atom) -> bool:
+    """An atom can carry a π circuit: aromatic, in a double/triple bond, or a charged/lone-pair ring atom."""
+    if atom.GetIsAromatic() or atom.GetFormalCharge() != 0:
+        return True
+    return any(b.GetBondTypeAsDouble() >= 2.0 for b in atom.GetBonds())
+
+
+def _hybrid(atom) -> str:
+    h = str(atom.GetHybridization())
+    return {"SP3": "sp³", "SP2": "sp²", "SP": "sp"}.get(h, h.lower())

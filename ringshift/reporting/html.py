@@ -198,7 +198,9 @@ def render_html(results: dict, pi: dict | None, figures: list[tuple[str, str, st
     if comp:
         claim = results.get("claim")
         box = (f'<div class="verdict"><div class="big">The spectrum says: {esc(results["verdict"])}</div>'
-               f"<div>decided by circuit {esc(str(results['verdict_circuit']))}</div>")
+               + (f"<div>decided by circuit {esc(str(results['verdict_circuit']))}</div>"
+                  if results.get("verdict_circuit") is not None else
+                  f"<div>{esc(str(results.get('verdict_reason') or 'no circuit'))}</div>"))
         if claim:
             box += (f"<p><b>Claim “{esc(claim['claim'])}”: {esc(claim['outcome'])}.</b> {esc(claim['reason'])}</p>")
         out.append(box + "</div>")

@@ -27,13 +27,15 @@ def comparison_text(res: CompareResult) -> str:
     """Readable summary: verdict, currents with intervals, assignment with residuals, warnings."""
     c = res.comparison
     lines = [f"{res.prediction.structure.name} against {res.peaks.source}",
-             f"verdict: {c.verdict} (decided by circuit {c.verdict_circuit})"]
+             f"verdict: {c.verdict} (decided by circuit {c.verdict_circuit})" if c.verdict_circuit is not None
+             else f"verdict: {c.verdict} ({c.verdict_reason})"]
     if c.claim is not None:
         d = c.claim.to_dict()
         lines.append(f"claim '{d['claim']}': {d['outcome']}. {d['reason']}")
     lines.append("")
-    lines.append("circuit  verdict       J fitted (nA/T)    95% interval     × benzene  a priori  "
-                 "log10 BF dia:none  para:none  evidence")
+    if c.circuits:
+        lines.append("circuit  verdict       J fitted (nA/T)    95% interval     × benzene  a priori  "
+                     "log10 BF dia:none  para:none  evidence")
     for cf in c.circuits:
         ev = cf.evidence
         ci = cf.ci95_nA_per_T

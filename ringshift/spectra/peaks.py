@@ -61,6 +61,11 @@ class Peak:
         1-based line of the source file.
     kind : {"sample", "solvent", "tms", "impurity"}
         Only "sample" peaks are assigned to the molecule; the others are reported.
+    flagged_as : str or None
+        Set by :func:`ringshift.spectra.solvents.flag_reference_peaks` when the peak lies at a solvent
+        residual or TMS line ("CDCl3 residual (7.26 ppm)", "TMS (0.00 ppm)"); such a peak is a candidate
+        for both readings and :func:`ringshift.spectra.solvents.resolve_reference_lines` decides by the
+        integrals. None for peaks whose kind the user gave (those are never changed).
     """
 
     shift_ppm: float
@@ -72,6 +77,7 @@ class Peak:
     line: int | None = None
     kind: str = "sample"
     height: float | None = None
+    flagged_as: str | None = None
 
     def __post_init__(self):
         shift = _v.optional_real(self.shift_ppm, "shift_ppm")
@@ -181,11 +187,13 @@ class PeakList:
 def _normalise(peaks, n_hydrogens):
     if isinstance(n_hydrogens, bool) or not isinstance(n_hydrogens, (int, np.integer)) or n_hydrogens < 1:
         raise InputError(f"n_hydrogens={n_hydrogens!r}; expected a positive integer", "n_hydrogens")
+    from ringshift.spectra.solvents import resolve_reference_lines
+
+    peaks, notes = resolve_reference_lines(peaks, int(n_hydrogens))
     sample = [p for p in peaks if p.kind == "sample"]
     known = [p.integral for p in sample if p.integral is not None]
-    notes = []
     if not known or sum(known) <= 0:
-        return tuple(peaks), ["no sample-peak integrals; integrals not scaled to the hydrogen count"]
+        return tuple(peaks), notes + ["no sample-peak integrals; integrals not scaled to the hydrogen count"]
     if len(known) < len(sample):
         notes.append(f"{len(sample) - len(known)} sample peak(s) without an integral; the others were scaled "
                      f"to {n_hydrogens} H")

@@ -1,25 +1,52 @@
-"""Solvent-residual and TMS lines of a peak list.
+"""Solvent-residual and TMS lines of a peak list: candidates, decided by the integrals.
 
 :data:`SOLVENT_RESIDUAL_PPM` holds the residual ¹H lines of common deuterated solvents (Fulmer et al.,
 Organometallics 2010, 29, 2176). :func:`flag_reference_peaks` marks a peak within
 :data:`REFERENCE_TOLERANCE_PPM` (0.03 ppm) of the chosen solvent's line as ``kind="solvent"`` and one
-within it of 0.00 ppm as ``kind="tms"``; peaks whose kind the user gave are left alone.
+within it of 0.00 ppm as ``kind="tms"``, and records why in ``Peak.flagged_as``; peaks whose kind the
+user gave are left alone.
+
+A flagged line may be a real line of the sample (the inner protons of [14]annulene near 0 ppm, the ring
+protons of 1,6-methano[10]annulene or benzene at 7.27 ppm in CDCl3), so the flag is a hypothesis.
+:func:`resolve_reference_lines` decides, once the molecule's hydrogen count N is known, with this rule:
+
+* every choice of flagged lines kept as sample lines is scored by how far the sample integrals, scaled
+  to N H, are from whole protons: Σ (x − max(1, round x))² over the sample lines (H²); a line of less
+  than one proton costs its shortfall, so a small residual line is a poor sample line;
+* each flagged line taken as solvent/reference adds :data:`REFERENCE_TIE_H2` (0.05 H², one line 0.22 H
+  off a whole number): when both readings give whole protons the line stays in the sample, because a
+  line holding several protons of the molecule is not a reference line;
+* the lowest total wins; without integrals a flagged line is a sample line only when no other sample
+  line is left.
+
+The user forces a reading with the peak list's ``kind`` column (``sample``, ``solvent``, ``tms``,
+``impurity``); such peaks are never changed.
 """
 
 from __future__ import annotations
 
+import itertools
+import math
 import re
 from dataclasses import replace
+
+import numpy as np
 
 from ringshift._numbers import text
 from ringshift.errors import InputError
 from ringshift.spectra.peaks import Peak
 
-__all__ = ['flag_reference_peaks']
+__all__ = ['flag_reference_peaks', 'resolve_reference_lines']
 
 
 #: Tolerance for flagging solvent-residual and TMS peaks, ppm.
 REFERENCE_TOLERANCE_PPM: float = 0.03
+
+#: Cost (H²) of taking a flagged line as solvent/reference rather than sample (module notes).
+REFERENCE_TIE_H2: float = 0.05
+
+#: At most this many flagged lines are decided jointly (2^n readings); beyond it each keeps its flag.
+MAX_JOINT_FLAGGED: int = 8
 
 #: Residual ¹H signals of deuterated solvents, ppm (Fulmer et al., Organometallics 2010, 29, 2176;
 #: from memory). Water signals are not flagged: they move with temperature and concentration.
@@ -34,6 +61,10 @@ _SOLVENT_ALIASES = {re.sub(r"[\s\-_()]", "", k).lower(): k for k in SOLVENT_RESI
     "methanold4": "CD3OD", "acetonitriled3": "CD3CN", "c7d8": "toluene-d8"}
 
 # ------------------------------------------------------------------------- flags and integrals
+def _where(p) -> str:
+    return f" (line {p.line})" if p.line else ""
+
+
 def _solvent_name(solvent: str) -> str:
     key = re.sub(r"[\s\-_()]", "", str(solvent)).lower()
     if key not in _SOLVENT_ALIASES:
@@ -51,10 +82,10 @@ def _flag(peaks, solvent, flag_tms, tolerance, eligible=None):
     for i, p in enumerate(peaks):
         hit = next((r for r in refs if abs(p.shift_ppm - r[0]) <= tolerance), None)
         if hit and p.kind == "sample" and (eligible is None or eligible[i]):
-            p = replace(p, kind=hit[1])
-            where = f" (line {p.line})" if p.line else ""
-            notes.append(f"peak at {text(p.shift_ppm, '.3f')} ppm{where} flagged as {hit[2]} ({hit[0]:.2f} ppm); "
-                         "not assigned")
+            name = f"{hit[2]} residual" if hit[1] == "solvent" else hit[2]
+            p = replace(p, kind=hit[1], flagged_as=f"{name} ({hit[0]:.2f} ppm)")
+            notes.append(f"peak at {text(p.shift_ppm, '.3f')} ppm{_where(p)} lies at the {p.flagged_as} line: a "
+                         "solvent/reference candidate, decided by the integrals against the molecule's H count")
         out.append(p)
     return tuple(out), notes
 
@@ -68,3 +99,81 @@ def flag_reference_peaks(peaks, *, solvent: str | None = None, flag_tms: bool = 
     ...). Returns a tuple of Peak.
     """
     return _flag(tuple(peaks), solvent, flag_tms, float(tolerance_ppm))[0]
+
+
+def _whole_proton_misfit(integrals, n_hydrogens) -> float:
+    """Σ (x − max(1, round x))², H², of ``integrals`` (k,) scaled to add up to ``n_hydrogens``."""
+    x = np.asarray(integrals, dtype=float)
+    x = x * (n_hydrogens / x.sum())
+    return float(np.sum((x - np.maximum(1.0, np.round(x))) ** 2))
+
+
+def resolve_reference_lines(peaks, n_hydrogens: int) -> tuple[tuple[Peak, ...], list[str]]:
+    """Decide each flagged line (``Peak.flagged_as``) between sample and solvent/reference by the
+    integrals against the molecule's ``n_hydrogens`` (rule in the module notes).
+
+    Returns the peaks (kinds set: "sample" for a flagged line kept in the sample, else "solvent"/"tms")
+    and one note per flagged line saying how it was taken and why, plus a note when integrals given in
+    whole protons do not add up to ``n_hydrogens``. Deterministic and idempotent.
+    """
+    peaks = tuple(peaks)
+    flagged = [i for i, p in enumerate(peaks) if p.flagged_as is not None]
+    fixed = [i for i, p in enumerate(peaks) if p.flagged_as is None and p.kind == "sample"]
+    ref_kind = {i: ("tms" if peaks[i].flagged_as.startswith("TMS") else "solvent") for i in flagged}
+    if not flagged or len(flagged) > MAX_JOINT_FLAGGED:
+        return peaks, _sum_note(peaks, n_hydrogens)
+    every_integral = all(peaks[i].integral is not None and peaks[i].integral > 0 for i in flagged + fixed)
+    best: tuple[float, int, tuple[int, ...]] | None = None
+    for keep in itertools.product((True, False), repeat=len(flagged)):
+        kept = [i for i, k in zip(flagged, keep) if k]
+        n_dropped = len(flagged) - len(kept)
+        if not kept and not fixed:
+            continue
+        if every_integral:
+            cost = _whole_proton_misfit([peaks[i].integral for i in fixed + kept], n_hydrogens)
+        else:
+            cost = 0.0 if n_dropped == (len(flagged) if fixed else 0) else math.inf
+        cost += REFERENCE_TIE_H2 * n_dropped
+        if best is None or cost < best[0] - 1e-12:
+            best = (cost, n_dropped, tuple(kept))
+    assert best is not None, "keeping every flagged line is always a candidate reading"
+    kept_set = set(best[2])
+    out = list(peaks)
+    notes = []
+    scale = None
+    if every_integral:
+        scale = n_hydrogens / sum(peaks[i].integral for i in fixed + sorted(kept_set))
+    for i in flagged:
+        p = peaks[i]
+        h = "" if scale is None else f" ({p.integral * scale:.2f} H with it)"
+        if i in kept_set:
+            out[i] = replace(p, kind="sample")
+            why = ("with it the integrals give whole protons for the molecule's "
+                   f"{n_hydrogens} H{h}" if every_integral else "it is the only line left for the molecule")
+            notes.append(f"peak at {text(p.shift_ppm, '.3f')} ppm{_where(p)} lies at the {p.flagged_as} line but "
+                         f"was taken as a sample line: {why}; give kind=solvent or kind=tms in the peak list to "
+                         "force the other reading")
+        else:
+            out[i] = replace(p, kind=ref_kind[i])
+            if every_integral:
+                x = p.integral * n_hydrogens / sum(peaks[j].integral for j in fixed + sorted(kept_set | {i}))
+                why = (f"as a sample line it would hold {x:.2f} H and the integrals fit the molecule's "
+                       f"{n_hydrogens} H in whole protons better without it")
+            else:
+                why = "without integrals a flagged line is kept only when no other sample line is left"
+            notes.append(f"peak at {text(p.shift_ppm, '.3f')} ppm{_where(p)} was taken as the {p.flagged_as} line "
+                         f"and not assigned: {why}; give kind=sample in the peak list to force it into the sample")
+    result = tuple(out)
+    return result, notes + _sum_note(result, n_hydrogens)
+
+
+def _sum_note(peaks, n_hydrogens) -> list[str]:
+    """A note when sample integrals written in whole protons do not add up to the molecule's H count."""
+    vals = [p.integral for p in peaks if p.kind == "sample"]
+    if not vals or any(v is None for v in vals):
+        return []
+    if all(v >= 0.75 and abs(v - round(v)) <= 0.25 for v in vals) and abs(sum(vals) - n_hydrogens) > 0.5:
+        return [f"the sample integrals add up to {sum(vals):g} H, but the molecule has {n_hydrogens} H: a line "
+                "missing, overlapping, exchanged or a solvent/impurity line counted? (scaled to "
+                f"{n_hydrogens} H)"]
+    return []

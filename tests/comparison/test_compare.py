@@ -575,7 +575,6 @@ def _bad_cases():
     return [
         ("no-peaks", (g, [], PRIOR), {}, "peaks"),
         ("no-groups", ([], p, PRIOR), {}, "groups"),
-        ("no-circuits", (g, p, ()), {}, "circuits"),
         ("nan-shift", (g, nan_peak, PRIOR), {}, "peaks[0].shift_ppm"),
         ("negative-integral", (g, neg, PRIOR), {}, "peaks[0].integral"),
         ("nan-g", (bad_g, p, PRIOR), {}, "groups[0].geometric_ppm_per_nA_T"),

@@ -31,7 +31,7 @@ from ringshift.io.peak_tables import (
 )
 from ringshift.spectra.peaks import Peak, PeakList, Spectrum, estimate_noise, normalise_integrals
 from ringshift.spectra.picking import pick_peaks, simulate_spectrum
-from ringshift.spectra.solvents import SOLVENT_RESIDUAL_PPM, flag_reference_peaks
+from ringshift.spectra.solvents import SOLVENT_RESIDUAL_PPM, flag_reference_peaks, resolve_reference_lines
 
 DATA = Path(__file__).resolve().parents[1] / "data" / "peaks"
 
@@ -332,6 +332,28 @@ def test_solvent_aliases_and_tms():
     assert [p.kind for p in flag_reference_peaks([Peak(0.01)], flag_tms=False)] == ["sample"]
     with pytest.raises(InputError, match="solvent 'CCl4' unknown"):
         flag_reference_peaks([Peak(1.0)], solvent="CCl4")
+
+
+def test_flagged_lines_decided_by_whole_protons():
+    # Rule of ringshift.spectra.solvents (common practice, no source): the reading whose integrals,
+    # scaled to the molecule's H count, are closest to whole protons wins; ties keep the line in the sample.
+    flagged = flag_reference_peaks([Peak(7.60, 10.0), Peak(0.0, 4.0), Peak(7.26, 0.4)], solvent="CDCl3")
+    assert [p.flagged_as for p in flagged] == [None, "TMS (0.00 ppm)", "CDCl3 residual (7.26 ppm)"]
+    out, notes = resolve_reference_lines(flagged, 14)
+    assert [p.kind for p in out] == ["sample", "sample", "solvent"]
+    assert len(notes) == 2
+    assert resolve_reference_lines(out, 14)[0] == out          # idempotent
+    # forced kinds (no flagged_as) are never changed, whatever the integrals say
+    forced = (Peak(7.60, 10.0), Peak(0.0, 4.0, kind="tms"))
+    assert resolve_reference_lines(forced, 14)[0] == forced
+
+
+def test_flagged_lines_without_integrals():
+    # Without integrals a flagged line is a sample line only when no other sample line is left.
+    alone = flag_reference_peaks([Peak(7.27)], solvent="CDCl3")
+    assert [p.kind for p in resolve_reference_lines(alone, 6)[0]] == ["sample"]
+    beside = flag_reference_peaks([Peak(7.27), Peak(6.95), Peak(0.0)], solvent="CDCl3")
+    assert [p.kind for p in resolve_reference_lines(beside, 10)[0]] == ["solvent", "sample", "tms"]
 
 
 def test_normalise_integrals_and_warning():
