@@ -65,9 +65,9 @@ def integer(value, param: str, *, minimum: int | None = None, maximum: int | Non
 
 
 def choice(value, choices: Iterable[str], param: str, what: str = "value") -> str:
-    """One of ``choices`` (exact match)."""
+    """One of ``choices`` (exact match; anything that is not a str, e.g. a list or an array, is refused too)."""
     options = tuple(choices)
-    if value not in options:
+    if not isinstance(value, str) or value not in options:
         raise InputError(f"unknown {what} {value!r}; expected one of {', '.join(options)}", param)
     return value
 

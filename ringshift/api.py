@@ -66,8 +66,6 @@ def _api_names() -> Iterator[None]:
 def _choice(value, choices: Sequence[str], name: str) -> None:
     from ringshift._validation import choice
 
-    if not isinstance(value, str):
-        raise InputError(f"expected one of {', '.join(choices)}, got {value!r}", name)
     choice(value, choices, name, name.replace("_", " "))
 
 

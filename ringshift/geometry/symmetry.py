@@ -216,8 +216,6 @@ def group_equivalent_hydrogens(mol: Chem.Mol, coords: np.ndarray, *, tol_A: floa
     """
     from ringshift._validation import choice
 
-    if not isinstance(exchange, str):
-        raise InputError(f"expected one of {', '.join(EXCHANGE_RULES)}, got {exchange!r}", source="exchange")
     choice(exchange, EXCHANGE_RULES, "exchange", "exchange rule")
     x = np.asarray(coords, dtype=np.float64)
     x, n = (x[0] if x.ndim == 3 else x), mol.GetNumAtoms()
