@@ -70,8 +70,11 @@ from ringshift.pi.perception import (
     _p_axes,
 )
 
-__all__ = ['HuckelResult', 'huckel', 'beta_distance_factor', 'huckel_matrix', 'occupy', 'solve_fragments',
-           'density_matrix', 'bond_polarizability']
+#: Opening words of the warning of a self-consistent step that found no stable solution (read by predict).
+SCF_NO_SOLUTION_NOTE = "scf bond lengths: no stable closed-shell self-consistent solution"
+
+__all__ = ['SCF_NO_SOLUTION_NOTE', 'HuckelResult', 'huckel', 'beta_distance_factor', 'huckel_matrix', 'occupy',
+           'solve_fragments', 'density_matrix', 'bond_polarizability']
 
 
 
@@ -208,7 +211,7 @@ def huckel(pi: PiSystem, mol, coords=None, *, beta_model: str = "distance",
         return _assemble(pi, lb, hd, frags, f_elec, res, np.where(is_cc, r, lengths), beta_model, params,
                          notes=notes, scf_energy_eV=energy, **extra)
 
-    notes = [f"scf bond lengths: no stable closed-shell self-consistent solution for fragment {n} "
+    notes = [f"{SCF_NO_SOLUTION_NOTE} for fragment {n} "
              f"({len(frags[n])} atoms) from {s.n_starts} starts; the lowest-energy point found is used "
              f"(largest Jacobian eigenvalue {s.chosen.max_jacobian:.3g}, residual {s.chosen.residual_A:.1e} Å)"
              for n, s in enumerate(searches) if not s.converged]

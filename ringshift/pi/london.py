@@ -50,9 +50,14 @@ from ringshift.pi.parameters import (
 from ringshift.pi.perception import _PLANAR_TOL_A, PiSystem, _check_circuit, _frozen
 from ringshift.pi.scf_lengths import bond_length_alternation, scf_cc_lengths
 
-__all__ = ['LondonCurrents', 'AlternativeCurrents', 'london_currents', 'circuit_normals', 'london_bond_response',
-           'kirchhoff_decomposition', 'regular_polygon', 'benzene_reference_response', 'absolute_current_nA_per_T',
-           'pi_charge_shift_ppm']
+#: Fixed words of two warnings (read by predict): a circuit's non-planarity, and two self-consistent
+#: solutions too close in energy to choose between.
+NON_PLANAR_NOTE = "is non-planar: largest deviation"
+CLOSE_SOLUTIONS_NOTE = "two self-consistent bond-length solutions within"
+
+__all__ = ['NON_PLANAR_NOTE', 'CLOSE_SOLUTIONS_NOTE', 'LondonCurrents', 'AlternativeCurrents', 'london_currents',
+           'circuit_normals', 'london_bond_response', 'kirchhoff_decomposition', 'regular_polygon',
+           'benzene_reference_response', 'absolute_current_nA_per_T', 'pi_charge_shift_ppm']
 
 
 @dataclass(frozen=True, eq=False)
@@ -168,7 +173,7 @@ def london_currents(pi: PiSystem, mol, coords, circuits: Sequence[Sequence[int]]
     g_bz = benzene_reference_response(beta_model)
     bz_abs = float(absolute_current_nA_per_T(g_bz, beta0_eV))
     notes = list(pi.warnings) + list(hr.warnings) + [
-        f"circuit {n} ({len(c)} atoms) is non-planar: largest deviation {d:.2f} Å from its plane; the current "
+        f"circuit {n} ({len(c)} atoms) {NON_PLANAR_NOTE} {d:.2f} Å from its plane; the current "
         "is its response to a field along its mean normal"
         for n, (c, d) in enumerate(zip(oriented, devs)) if d > _PLANAR_TOL_A]
     # the result without numbers; the other outcomes replace its status and numbers
@@ -253,7 +258,7 @@ def _close_note(rel, bla, alt: AlternativeCurrents, circuits) -> str:
         k = 0
         cur = tuple("no finite current (open shell)" if x is None else f"{x[0]:.2f}x benzene" for x in (rel, a))
     bl = tuple("" if x is None else f", BLA {x:.3f} A" for x in (bla, alt.bla_A))
-    return (f"two self-consistent bond-length solutions within {SCF_CLOSE_KCAL_PER_MOL:.2f} kcal/mol (RT at 298 K) "
+    return (f"{CLOSE_SOLUTIONS_NOTE} {SCF_CLOSE_KCAL_PER_MOL:.2f} kcal/mol (RT at 298 K) "
             f"give circuits[{k}] ({len(circuits[k])} atoms) {cur[0]} (chosen: lower model energy{bl[0]}) and "
             f"{cur[1]} (+{alt.energy_above_kcal_per_mol:.2f} kcal/mol{bl[1]}); the model cannot decide between them")
 

@@ -30,8 +30,15 @@ from ringshift.errors import GeometryWarning, InputError
 from ringshift.fields.registry import BAND_MODELS, MODEL_DESCRIPTIONS, geometric_factors
 from ringshift.geometry.circuits import Circuit, CircuitGeometry, circuit_geometry, find_circuits
 from ringshift.io.structures import Structure
+from ringshift.pi.huckel import SCF_NO_SOLUTION_NOTE
 from ringshift.pi.huckel import huckel as _pisystem_huckel
-from ringshift.pi.london import LondonCurrents, london_currents, pi_charge_shift_ppm
+from ringshift.pi.london import (
+    CLOSE_SOLUTIONS_NOTE,
+    NON_PLANAR_NOTE,
+    LondonCurrents,
+    london_currents,
+    pi_charge_shift_ppm,
+)
 from ringshift.pi.parameters import PI_CHARGE_PPM_PER_E
 from ringshift.pi.perception import circuit_electrons, orbital_axes, perceive_pi
 from ringshift.pi.perception import huckel_class as _pisystem_huckel_class
@@ -122,32 +129,26 @@ def london_notes(london: Sequence[LondonCurrents], already: Sequence[str], label
         return _CIRCUIT_REF.sub(lambda m: f"circuit {labels[int(m.group(1))]}" if int(m.group(1)) < len(labels)
                                 else m.group(0), msg)
 
+    def shown(msg: str) -> bool:
+        return msg not in skip and NON_PLANAR_NOTE not in msg
+
     skip = set(already)
-    out: list[str] = []
-    if not london:
-        return out
-    for msg in london[best].warnings:
-        if msg not in skip and "is non-planar" not in msg:
-            out.append(clean(msg))
-    others: dict[str, int] = {}
-    for k, lc in enumerate(london):
-        if k == best:
-            continue
+    out = [clean(msg) for msg in london[best].warnings if shown(msg)] if london else []
+    others = [lc for k, lc in enumerate(london) if k != best]
+    n_failed = sum(1 for lc in others if not lc.huckel.converged)
+    n_close = sum(1 for lc in others if any(m.startswith(CLOSE_SOLUTIONS_NOTE) for m in lc.warnings))
+    if n_failed:
+        out.append(f"scf bond lengths found no stable solution in {n_failed} other conformer(s); the lowest-energy "
+                   "point found is used there")
+    if n_close:
+        out.append(f"{n_close} other conformer(s) have two self-consistent bond-length solutions close in energy "
+                   "with different currents")
+    counts: dict[str, int] = {}
+    for lc in others:
         for msg in dict.fromkeys(lc.warnings):
-            if msg in skip or "is non-planar" in msg:
-                continue
-            kind = "no converged" if "no stable" in msg else ("two self-consistent" if "self-consistent bond-length"
-                                                             in msg else clean(msg))
-            others[kind] = others.get(kind, 0) + 1
-    for kind, n in others.items():
-        if kind == "no converged":
-            out.append(f"scf bond lengths did not converge in {n} other conformer(s); their currents are the last "
-                       "iterate")
-        elif kind == "two self-consistent":
-            out.append(f"{n} other conformer(s) have two self-consistent bond-length solutions close in energy "
-                       "with different currents")
-        elif kind not in out:
-            out.append(f"{kind} (in {n} other conformer(s))")
+            if shown(msg) and not msg.startswith((SCF_NO_SOLUTION_NOTE, CLOSE_SOLUTIONS_NOTE)):
+                counts[clean(msg)] = counts.get(clean(msg), 0) + 1
+    out += [f"{msg} (in {n} other conformer(s))" for msg, n in counts.items() if msg not in out]
     return out
 
 

@@ -90,6 +90,26 @@ def test_non_convergence_is_reported(monkeypatch):
     assert any(w.startswith("scf bond lengths: no stable") for w in lc.warnings)
 
 
+def test_predict_notes_name_the_best_conformer_and_count_the_others(monkeypatch):
+    # What predict forwards (issue 12: no silent non-convergence): the most populated conformer's own warning
+    # in full, another conformer's as a count; the non-planarity lines are left to predict's labelled note.
+    from ringshift.pi.huckel import SCF_NO_SOLUTION_NOTE
+    from ringshift.shifts.prediction import london_notes
+
+    m, xyz, cyc = _buckled18(0.1)
+    pi = perceive_pi(m, xyz)
+    fine = london_currents(pi, m, xyz, [cyc], beta_model="scf")
+    monkeypatch.setattr(scf_mod, "scf_fixed_points", functools.partial(scf_fixed_points, max_iter=1, max_restarts=0))
+    starved = london_currents(pi, m, xyz, [cyc], beta_model="scf")
+    assert fine.huckel.converged and not starved.huckel.converged
+    first = london_notes([starved, fine], pi.warnings, ["M1"], 0)
+    assert sum(n.startswith(SCF_NO_SOLUTION_NOTE) for n in first) == 1
+    assert not any("non-planar" in n for n in first)
+    other = london_notes([fine, starved], pi.warnings, ["M1"], 0)
+    assert not any(n.startswith(SCF_NO_SOLUTION_NOTE) for n in other)
+    assert "found no stable solution in 1 other conformer(s)" in " ".join(other)
+
+
 def test_energy_is_stationary_at_the_fixed_points_and_the_lowest_is_chosen():
     # ∇E = K f (r − F(r)) (module notes): at a fixed point the finite-difference gradient of E vanishes
     # (central differences, step 1e-5 Å; tolerance 1e-5 eV/Å, truncation). The chosen solution has the lowest
