@@ -26,6 +26,7 @@ from ringshift.geometry.conformers import boltzmann_weights, ez_stereo_check
 from ringshift.geometry.symmetry import group_equivalent_hydrogens, kabsch_rmsd
 from ringshift.io.molecule_files import read_mol_records
 from ringshift.io.structures import Structure, load_structure
+from tests.geometry.test_symmetry import annulene18_d6h_xyz  # the one D6h [18]annulene builder of the tests
 
 #: (1Z,3E,5E,7Z,9E,11E,13Z,15E,17E)-[18]annulene; heavy atom k is ring locant k+1.
 ANNULENE18 = r"[H]/C1=C/C=C/C=C/C=C\C=C\C=C\C=C/C=C/C=C1\[H]"
@@ -131,32 +132,8 @@ def test_explicit_h_atoms_go_after_heavy_atoms(annulene):
     assert [a.GetAtomicNum() for a in annulene.mol.GetAtoms()] == [6] * 18 + [1] * 18
 
 
-def _annulene18_d6h_xyz(bond_A: float = 1.40, ch_A: float = 1.08) -> tuple[str, set[int]]:
-    """D6h [18]annulene as the perimeter of coronene (hexagonal lattice, 120 deg angles), H on bisectors."""
-    centres = [np.zeros(2)] + [np.sqrt(3) * bond_A * np.array([np.cos(t), np.sin(t)])
-                               for t in np.radians(30 + 60 * np.arange(6))]
-    verts = []
-    for c in centres:
-        for t in np.radians(60 * np.arange(6)):
-            v = c + bond_A * np.array([np.cos(t), np.sin(t)])
-            if np.linalg.norm(v) > bond_A + 1e-6 and not any(np.linalg.norm(v - w) < 1e-6 for w in verts):
-                verts.append(v)
-    c3 = np.c_[np.array(verts), np.zeros(len(verts))]
-    c3 = c3[np.argsort(np.arctan2(c3[:, 1], c3[:, 0]))]
-    lines, inner = [], set()
-    for k in range(18):
-        nb = [j for j in range(18) if j != k and abs(np.linalg.norm(c3[j] - c3[k]) - bond_A) < 1e-6]
-        u = 2 * c3[k] - c3[nb[0]] - c3[nb[1]]
-        h = c3[k] + ch_A * u / np.linalg.norm(u)
-        if np.linalg.norm(h) < np.linalg.norm(c3[k]):
-            inner.add(18 + k)
-        lines.append(h)
-    body = [f"C {p[0]:.6f} {p[1]:.6f} {p[2]:.6f}" for p in c3] + [f"H {p[0]:.6f} {p[1]:.6f} {p[2]:.6f}" for p in lines]
-    return "36\nD6h [18]annulene\n" + "\n".join(body) + "\n", inner
-
-
 def test_d6h_annulene_xyz_gives_twelve_outer_and_six_inner(tmp_path):
-    text, inner = _annulene18_d6h_xyz()
+    text, inner = annulene18_d6h_xyz()
     s = load_structure(_write(tmp_path, "annulene18.xyz", text))
     # D6h orbits: 12 outer H and 6 inner H, two 1H signals (Jackman et al. 1962, from memory)
     assert len(inner) == 6
@@ -510,7 +487,7 @@ def _xyz_coords(text: str) -> np.ndarray:
 
 
 def test_gfn2_route_takes_conformers_energies_and_groups_from_the_refinement(tmp_path, monkeypatch):
-    text, inner = _annulene18_d6h_xyz()
+    text, inner = annulene18_d6h_xyz()
     ideal = _xyz_coords(text)
     squashed = ideal * np.array([1.15, 0.95, 1.0])          # invented D2h distortion, ring atoms move up to 0.7 Å
     body = "\n".join(f"{'C' if k < 18 else 'H'} {x:.6f} {y:.6f} {z:.6f}" for k, (x, y, z) in enumerate(squashed))
