@@ -164,11 +164,11 @@ def _run_predict(structure, charge, conformers, seed, temperature, exchange, geo
                    user_circuits=_index_lists(circuit))
 
 
-def _emit(text: str, output, force: bool):
+def _emit(text: str, output, force: bool, inputs=()):
     from ringshift.io.writing import atomic_write
 
     if output:
-        atomic_write(output, text, force=force)
+        atomic_write(output, text, force=force, inputs=inputs)
         click.echo(f"wrote {output}", err=True)
     else:
         click.echo(text, nl=False)
@@ -196,7 +196,7 @@ def predict_cmd(structure, charge, conformers, seed, temperature, exchange, geom
         text = prediction_csv(pred)
     else:
         text = prediction_table(pred)
-    _emit(text, output, force)
+    _emit(text, output, force, (structure,))
 
 
 @cli.command("compare")
@@ -229,7 +229,7 @@ def compare_cmd(structure, peaks, charge, conformers, seed, temperature, exchang
         text = to_json(comparison_to_dict(res))
     else:
         text = comparison_text(res)
-    _emit(text, output, force)
+    _emit(text, output, force, (structure, peaks))
 
 
 def _noise(value):
@@ -421,7 +421,7 @@ def trajectory_cmd(frames, charge, model, currents, beta_model, weights, tempera
                         f"{num(g.spread_ppm, '6.2f')}  {pred}")
         rows += [f"note: {w}" for w in tp.warnings] + ["", f"Caution: {CAUTION}"]
         text = "\n".join(rows) + "\n"
-    _emit(text, output, force)
+    _emit(text, output, force, (frames,))
 
 
 @cli.command("batch")

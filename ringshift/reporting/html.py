@@ -12,6 +12,7 @@ or ``pi``) and ``data-path`` (a JSON pointer, RFC 6901) naming the value it show
 from __future__ import annotations
 
 import html
+import json
 import os
 import re
 import shutil
@@ -381,6 +382,19 @@ def _fail(out: Path, exc: OSError) -> OutputError:
     return OutputError(f"{out}: cannot write the report there ({reason})")
 
 
+def is_report_folder(path) -> bool:
+    """Whether ``path`` is a folder that :func:`write_report` wrote: a real folder (not a link) whose
+    ``results.json`` names itself a ringshift result (``ringshift_result``). Files added to such a folder
+    later go with it when it is replaced."""
+    folder = Path(path)
+    if not folder.is_dir() or folder.is_symlink():
+        return False
+    try:
+        return "ringshift_result" in json.loads((folder / REPORT_FILES["results"]).read_text(encoding="utf-8"))
+    except (OSError, ValueError, TypeError):
+        return False
+
+
 def write_report(out_dir, prediction, *, compare_result=None, pi_summary=None, force: bool = False) -> dict:
     """Write a report folder: report.html, results.json, pi.json, structure.sdf and figures/.
 
@@ -420,6 +434,8 @@ def write_report(out_dir, prediction, *, compare_result=None, pi_summary=None, f
         raise OutputError(f"{out}: exists and is not a folder")
     if out.exists() and not force:
         raise OutputError(f"{out}: already exists; use force to replace the report folder")
+    if out.exists() and not is_report_folder(out):
+        raise OutputError(f"{out}: is not a ringshift report folder; ringshift replaces only folders it wrote")
     parent = out.parent if str(out.parent) else Path(".")
     if not parent.is_dir():
         raise OutputError(f"{out}: parent folder {parent} does not exist")

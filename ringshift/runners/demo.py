@@ -30,6 +30,15 @@ def demo_data_dir() -> Path:
     return here
 
 
+def _is_demo_folder(path: Path) -> bool:
+    """A folder :func:`run_demo` wrote: only the demo's report folders, each one a report folder."""
+    from ringshift.reporting.html import is_report_folder
+
+    names = {name for name, *_ in DEMO_CASES}
+    entries = list(path.iterdir()) if path.is_dir() and not path.is_symlink() else None
+    return entries is not None and all(p.name in names and is_report_folder(p) for p in entries)
+
+
 def run_demo(out_dir: str | Path, *, force: bool = False, progress=None) -> str:
     """Run the demo and write one report folder per compound into ``out_dir``.
 
@@ -48,6 +57,8 @@ def run_demo(out_dir: str | Path, *, force: bool = False, progress=None) -> str:
     out = Path(out_dir)
     if out.exists() and not force:
         raise OutputError(f"{out}: already exists; use force to replace it")
+    if out.exists() and not _is_demo_folder(out):
+        raise OutputError(f"{out}: is not a ringshift demo folder; ringshift replaces only folders it wrote")
     parent = out.resolve().parent
     if not parent.is_dir():
         raise OutputError(f"{out}: folder {parent} does not exist")
