@@ -31,6 +31,7 @@ _MARK_ISOTOPE = 99
 H_SYMMETRY_TOLERANCE_A: float = 0.4
 
 _MAX_AUTOMORPHISMS = 1000
+_PERM_CHUNK = 64              # automorphisms fitted per batch (memory ~ chunk x n_H x 9 floats)
 
 
 def kabsch_rmsd(a: np.ndarray, b: np.ndarray) -> np.ndarray:
@@ -71,15 +72,6 @@ def prune_conformers(heavy_xyz: np.ndarray, perms: np.ndarray, threshold_A: floa
         if kabsch_rmsd(heavy_xyz[c][perms][:, None], heavy_xyz[keep][None]).min() > threshold_A:
             keep.append(c)
     return keep
-
-
-def _fit(p: np.ndarray, q: np.ndarray, improper: bool) -> tuple[np.ndarray, np.ndarray]:
-    """Least-squares rotation R (det +1, or -1 if ``improper``) and t with p @ R.T + t ~ q (Kabsch 1976)."""
-    pc, qc = p.mean(axis=0), q.mean(axis=0)
-    u, _, vt = np.linalg.svd((p - pc).T @ (q - qc))
-    d = 1.0 if np.linalg.det(vt.T @ u.T) >= 0 else -1.0
-    rot = vt.T @ np.diag([1.0, 1.0, -d if improper else d]) @ u.T
-    return rot, qc - pc @ rot.T
 
 
 def symmetry_graph(mol: Chem.Mol, nodes, tags: dict | None = None) -> Chem.Mol:
@@ -156,6 +148,10 @@ def _ring_flips(mol: Chem.Mol, x: np.ndarray, rank: list[int], anchor: np.ndarra
     """(atoms, images) of 180 deg flips that carry a group onto itself within ``tol_A``: the group beyond
     a free single bond Y-Z, Y sp2 with two other neighbours of one class (phenyl on an sp3 carbon)."""
     for y, z, subs in _free_single_bonds(mol, rank, Chem.HybridizationType.SP2, lambda k: k == 2):
+        if mol.GetAtomWithIdx(z).GetDegree() < 2:
+            # a flip about the bond to a terminal atom (an aryl C-H, C-Cl) moves the whole rest of the
+            # molecule rigidly: a point-group operation, tested by the automorphism pass already
+            continue
         side, stack = {y}, list(subs)
         while stack:
             k = stack.pop()
@@ -337,28 +333,64 @@ def fast_exchange_classes(mol: Chem.Mol, coords: np.ndarray) -> tuple[tuple[int,
     return tuple(sorted(tuple(sorted(c)) for c in classes))
 
 
+def _batch_fit(p: np.ndarray, q: np.ndarray, improper: bool) -> tuple[np.ndarray, np.ndarray]:
+    """Least-squares rotations R (det +1, or -1 if ``improper``) and shifts t with p @ R.T + t ~ q for a
+    stack of targets (Kabsch, Acta Cryst. A 1976, 32, 922): p (m, 3), q (k, m, 3) Å -> R (k, 3, 3), t (k, 3)."""
+    pc, qc = p.mean(axis=0), q.mean(axis=1)
+    u, _, vt = np.linalg.svd(np.einsum("mi,kmj->kij", p - pc, q - qc[:, None]))
+    v, ut = np.swapaxes(vt, 1, 2), np.swapaxes(u, 1, 2)
+    d = np.where(np.linalg.det(v @ ut) >= 0, 1.0, -1.0)
+    diag = np.ones((len(q), 3))
+    diag[:, 2] = -d if improper else d
+    rot = (v * diag[:, None, :]) @ ut
+    return rot, qc - np.einsum("i,kji->kj", pc, rot)
+
+
+def _realised_pairs(x, frame, perms, follow, rigid, parents, slots, tol_A) -> list[np.ndarray]:
+    """Equivalent-atom pairs (k, 2) from the automorphisms ``perms`` (k_aut, m) of the frame that a
+    rotation or rotation-reflection of the geometry realises within ``tol_A`` (Å); rigid H follow their
+    parents to the nearest free image, one-to-one, or the operation does not count."""
+    out: list[np.ndarray] = []
+    p, q = x[frame], x[frame[perms]]
+    not_identity = ~np.all(perms == np.arange(perms.shape[1]), axis=1)
+    for improper in (False, True):
+        rot, t = _batch_fit(p, q, improper)
+        dev = np.linalg.norm(np.einsum("mi,kji->kmj", p, rot) + t[:, None] - q, axis=2).max(axis=1)
+        ok = (dev <= tol_A) & (not_identity | improper)
+        if not ok.any():
+            continue
+        pk, rk, tk = perms[ok], rot[ok], t[ok]
+        if rigid.size:
+            image = np.broadcast_to(np.arange(len(x)), (len(pk), len(x))).copy()
+            image[:, frame] = frame[pk]
+            cand = slots[image[:, parents]]                                   # (k, r, 3)
+            moved = np.einsum("ri,kji->krj", x[rigid], rk) + tk[:, None]      # (k, r, 3)
+            d = np.linalg.norm(moved[:, :, None] - x[cand], axis=3)
+            d[cand < 0] = np.inf
+            best = np.take_along_axis(cand, np.argmin(d, axis=2)[..., None], axis=2)[..., 0]   # (k, r)
+            srt = np.sort(best, axis=1)
+            one_to_one = np.all(srt[:, 1:] != srt[:, :-1], axis=1)
+            pk, best = pk[one_to_one], best[one_to_one]
+            out.append(np.stack([np.broadcast_to(rigid, best.shape), best], axis=2).reshape(-1, 2))
+        out.append(np.stack([np.broadcast_to(frame[follow], (len(pk), follow.size)),
+                             frame[pk[:, follow]]], axis=2).reshape(-1, 2))
+    return out
+
+
 def _static_groups(mol: Chem.Mol, x: np.ndarray, hs: list[int], tol_A: float) -> tuple[tuple[int, ...], ...]:
     """Slow-exchange groups of the protons ``hs`` from the geometry ``x`` (n_atoms, 3), Å; see
     :func:`group_equivalent_hydrogens`."""
+    from scipy.sparse import coo_matrix
+    from scipy.sparse.csgraph import connected_components
+
     n = mol.GetNumAtoms()
     isotopes = {at.GetIdx(): at.GetIsotope() for at in mol.GetAtoms()}
     rank = list(Chem.CanonicalRankAtoms(symmetry_graph(mol, range(n), isotopes), breakTies=False,
                                         includeChirality=False))
     anchor, beyond, tags = _rotor_sites(mol, rank)
-    uf = list(range(n))
-
-    def union(a: int, b: int) -> None:
-        roots = []
-        for k in (int(a), int(b)):
-            while uf[k] != k:
-                uf[k] = uf[uf[k]]
-                k = uf[k]
-            roots.append(k)
-        uf[roots[0]] = roots[1]
-
-    for h in hs:
-        if anchor[h] >= 0:
-            union(h, anchor[h])
+    pairs: list[np.ndarray] = []                  # (k, 2) atom pairs that are equivalent; joined at the end
+    rotor_h = np.array([h for h in hs if anchor[h] >= 0], dtype=int)
+    pairs.append(np.stack([rotor_h, anchor[rotor_h]], axis=1))
     anchors = {int(a) for a in anchor if a >= 0}
     # rigid H follow their one heavy parent; a bare H (H+, an H with no bond) or an H bonded only to H
     # (H2) has none and joins the frame, where it is matched like an atom of the skeleton
@@ -374,36 +406,18 @@ def _static_groups(mol: Chem.Mol, x: np.ndarray, hs: list[int], tol_A: float) ->
     parents = np.array([mol.GetAtomWithIdx(int(h)).GetNeighbors()[0].GetIdx() for h in rigid], dtype=int)
     for h, p in zip(rigid, parents):
         slots[p, int(np.argmax(slots[p] < 0))] = h
-    follow = [k for k, a in enumerate(frame) if int(a) in anchors or mol.GetAtomWithIdx(int(a)).GetAtomicNum() == 1]
-    image = np.arange(n)
-    for perm in automorphisms(symmetry_graph(mol, frame, tags)):
-        p, q = x[frame], x[frame[perm]]
-        image[frame] = frame[perm]
-        for improper in (False, True):
-            if not improper and np.array_equal(perm, np.arange(perm.size)):
-                continue
-            rot, t = _fit(p, q, improper)
-            if np.max(np.linalg.norm(p @ rot.T + t - q, axis=1)) > tol_A:
-                continue
-            if rigid.size:
-                cand = slots[image[parents]]
-                d = np.linalg.norm((x[rigid] @ rot.T + t)[:, None] - x[cand], axis=2)
-                d[cand < 0] = np.inf
-                best = cand[np.arange(rigid.size), np.argmin(d, axis=1)]
-                if np.unique(best).size != best.size:
-                    continue
-                for h, g in zip(rigid, best):
-                    union(h, g)
-            for k in follow:
-                union(frame[k], frame[perm[k]])
+    follow = np.array([k for k, a in enumerate(frame)
+                       if int(a) in anchors or mol.GetAtomWithIdx(int(a)).GetAtomicNum() == 1], dtype=int)
+    perms = automorphisms(symmetry_graph(mol, frame, tags))
+    for lo in range(0, len(perms), _PERM_CHUNK):
+        pairs.extend(_realised_pairs(x, frame, perms[lo:lo + _PERM_CHUNK], follow, rigid, parents, slots, tol_A))
     for atoms, images in _ring_flips(mol, x, rank, anchor, beyond, tol_A):
-        for a, b in zip(atoms, images):
-            if int(a) in anchors or mol.GetAtomWithIdx(int(a)).GetAtomicNum() == 1:
-                union(a, b)
+        keep = [k for k, a in enumerate(atoms) if int(a) in anchors or mol.GetAtomWithIdx(int(a)).GetAtomicNum() == 1]
+        pairs.append(np.stack([atoms[keep], images[keep]], axis=1).reshape(-1, 2))
+    edges = np.concatenate([p.reshape(-1, 2) for p in pairs]) if pairs else np.zeros((0, 2), dtype=int)
+    graph = coo_matrix((np.ones(len(edges)), (edges[:, 0], edges[:, 1])), shape=(n, n))
+    _, label = connected_components(graph, directed=False)
     groups: dict[int, list[int]] = {}
     for h in hs:
-        k = h
-        while uf[k] != k:
-            k = uf[k]
-        groups.setdefault(k, []).append(h)
+        groups.setdefault(int(label[h]), []).append(h)
     return tuple(sorted(tuple(sorted(g)) for g in groups.values()))

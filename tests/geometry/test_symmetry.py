@@ -251,3 +251,42 @@ def test_bad_exchange_rule_is_one_line_input_error(bad):
     with pytest.raises(InputError) as err:
         group_equivalent_hydrogens(mol, x, exchange=bad)
     assert err.value.source == "exchange" and "slow, fast" in str(err.value) and "\n" not in str(err.value)
+
+
+def test_batch_fit_matches_scipy_alignment():
+    # outside reference: scipy.spatial.transform.Rotation.align_vectors (Kabsch/Wahba least squares)
+    from scipy.spatial.transform import Rotation
+
+    from ringshift.geometry.symmetry import _batch_fit
+
+    rng = np.random.default_rng(7)
+    p = rng.normal(size=(9, 3))
+    rots = Rotation.random(5, random_state=3)
+    q = np.stack([r.apply(p) + rng.normal(size=3) for r in rots]) + rng.normal(scale=0.01, size=(5, 9, 3))
+    rot, t = _batch_fit(p, q, improper=False)
+    for k in range(5):
+        ref, _ = Rotation.align_vectors(q[k] - q[k].mean(axis=0), p - p.mean(axis=0))
+        assert np.allclose(rot[k], ref.as_matrix(), atol=1e-8)              # same optimum, rounding only
+        assert np.allclose(p.mean(axis=0) @ rot[k].T + t[k], q[k].mean(axis=0), atol=1e-12)
+    mirror, _ = _batch_fit(p, q, improper=True)
+    assert np.allclose(np.linalg.det(mirror), -1.0)                          # a rotation-reflection
+
+
+def test_regular_large_annulene_is_one_group():
+    # every C-H of a regular planar [N]annulene is equivalent by its D_Nh symmetry (common practice, no
+    # source); the C-H bonds are not tried as ring-flip axes (a flip about a terminal bond is a point-group
+    # operation), which kept this O(N^3)
+    n = 60
+    ang = 2 * np.pi * np.arange(n) / n
+    r = 1.40 / (2 * np.sin(np.pi / n))
+    u = np.stack([np.cos(ang), np.sin(ang), np.zeros(n)], axis=1)
+    rw = Chem.RWMol()
+    for z in (6,) * n + (1,) * n:
+        rw.AddAtom(Chem.Atom(z))
+    for k in range(n):
+        rw.AddBond(k, (k + 1) % n, Chem.BondType.DOUBLE if k % 2 == 0 else Chem.BondType.SINGLE)
+        rw.AddBond(k, n + k, Chem.BondType.SINGLE)
+    mol = rw.GetMol()
+    Chem.SanitizeMol(mol)
+    x = np.concatenate([r * u, (r + 1.08) * u])
+    assert group_equivalent_hydrogens(mol, x) == (tuple(range(n, 2 * n)),)
