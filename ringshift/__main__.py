@@ -1,6 +1,6 @@
-"""``python -m ringshift`` runs the command-line interface."""
+"""``python -m ringshift`` runs the command-line interface (thread pools pinned as for the command)."""
 
-from ringshift.cli import main
+from ringshift._entry import main
 
 if __name__ == "__main__":  # pragma: no cover
     main()

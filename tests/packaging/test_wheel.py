@@ -158,7 +158,7 @@ def test_wheel_name_and_files(wheel):
     for f in DEMO_FILES:
         assert len(contents[f"ringshift/data/demo/{f}"]) > 100, f"demo file {f} is (nearly) empty"
 
-    assert re.search(r"^ringshift\s*=\s*ringshift\.cli:main\s*$", entry_points, re.MULTILINE), entry_points
+    assert re.search(r"^ringshift\s*=\s*ringshift\._entry:main\s*$", entry_points, re.MULTILINE), entry_points
 
 
 def test_installed_wheel_runs_the_demo(site, tmp_path):
