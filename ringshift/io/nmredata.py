@@ -57,7 +57,7 @@ from ringshift.io.writing import atomic_write
 if TYPE_CHECKING:
     from ringshift.comparison.run import CompareResult
 
-__all__ = ["NMReDataAssignment", "NMReDataSignal", "NMReDataRecord", "nmredata_text", "write_nmredata",
+__all__ = ["NMReDataAssignment", "NMReDataSignal", "NMReDataRecord", "nmredata_text", "write_nmredata", "larmor_mhz_of",
            "read_nmredata", "parse_nmredata", "NMREDATA_VERSION", "ESTIMATE_COMMENT"]
 
 #: Format version written (NMReDATA tag format 1.1).
@@ -169,6 +169,19 @@ def _tag(name: str, lines) -> str:
     return f">  <{name}>\n" + "".join(f"{line}\\\n" for line in lines) + "\n"
 
 
+def larmor_mhz_of(peaks, larmor_mhz: float | None = None) -> float:
+    """The ¹H frequency (MHz) for NMREDATA_1D_1H's mandatory ``Larmor=``: ``larmor_mhz`` if given, else the
+    peak list's ``observe_mhz``; InputError naming the peak list when neither is known."""
+    mhz = larmor_mhz if larmor_mhz is not None else peaks.observe_mhz
+    if mhz is None:
+        raise InputError("the spectrometer's 1H frequency is unknown and NMReDATA requires it (Larmor=): add a line "
+                         "'# observe_mhz = 400' (your frequency, MHz) to the peak table; JCAMP-DX files give it as "
+                         "##.OBSERVE FREQUENCY", peaks.source, parameter="larmor_mhz")
+    if not (isinstance(mhz, (int, float)) and not isinstance(mhz, bool) and math.isfinite(mhz) and mhz > 0):
+        raise InputError(f"larmor_mhz={mhz!r}; expected a positive number of MHz", "larmor_mhz")
+    return float(mhz)
+
+
 def nmredata_text(result: CompareResult, *, solvent: str | None = None, larmor_mhz: float | None = None) -> str:
     """The NMReDATA SD record (text) of a comparison's assignment (module notes: what is written and why).
 
@@ -188,13 +201,7 @@ def nmredata_text(result: CompareResult, *, solvent: str | None = None, larmor_m
         One SD record ending in ``$$$$``.
     """
     pred, comp, pl = result.prediction, result.comparison, result.peaks
-    mhz = larmor_mhz if larmor_mhz is not None else pl.observe_mhz
-    if mhz is None:
-        raise InputError("the spectrometer's 1H frequency is unknown and NMReDATA requires it (Larmor=): add a line "
-                         "'# observe_mhz = 400' (your frequency, MHz) to the peak table; JCAMP-DX files give it as "
-                         "##.OBSERVE FREQUENCY", pl.source, parameter="larmor_mhz")
-    if not (isinstance(mhz, (int, float)) and not isinstance(mhz, bool) and math.isfinite(mhz) and mhz > 0):
-        raise InputError(f"larmor_mhz={mhz!r}; expected a positive number of MHz", "larmor_mhz")
+    mhz = larmor_mhz_of(pl, larmor_mhz)
     mol = _molecule(pred.structure)
     scale = float(comp.integral_scale)
     groups = comp.assignment
