@@ -48,7 +48,7 @@ from pathlib import Path
 from typing import TYPE_CHECKING
 
 import numpy as np
-from rdkit import Chem
+from rdkit import Chem, rdBase
 from rdkit.Chem import rdMolDescriptors
 
 from ringshift.errors import InputError
@@ -381,8 +381,9 @@ def _signal(item: str, labels: set[str], at: str) -> NMReDataSignal:
 def parse_nmredata(text: str, source: str = "<string>") -> NMReDataRecord:
     """Read the first record of NMReDATA SD text (see :func:`read_nmredata`)."""
     supplier = Chem.SDMolSupplier()
-    supplier.SetData(text, removeHs=False)
-    mol = next(iter(supplier), None) if len(supplier) else None
+    with rdBase.BlockLogs():  # RDKit's own parse messages would repeat the error below on stderr
+        supplier.SetData(text, removeHs=False)
+        mol = next(iter(supplier), None) if len(supplier) else None
     if mol is None:
         raise InputError("no readable molecule record; expected an SD file (molecule block, then tags)", source)
     tags = {name: mol.GetProp(name) for name in mol.GetPropNames() if name.startswith("NMREDATA_")}
