@@ -32,6 +32,8 @@ def reference_lines_html(page, results: dict) -> str:
             "that the peak list marks as solvent, reference or impurity. A line at such a position may also be a "
             "line of the sample, so each was decided by the integrals against the molecule's hydrogen count: "
             "“sample” lines were assigned like any other; solvent, tms and impurity lines were not assigned. "
+            "Integrals are in protons, scaled so that the sample lines add up to the molecule's hydrogens; "
+            "“why” gives the share a line would hold if it were counted with them. "
             "A kind column in the peak list (sample, solvent, tms, impurity) forces the reading.</p>"
             + page.table("results", ("reference_lines",), REFERENCE_LINE_COLUMNS))
 
