@@ -352,8 +352,8 @@ def _signal(item: str, labels: set[str], at: str) -> NMReDataSignal:
     m = _SHIFT.match(fields[0].replace(" ", ""))
     if not m:
         raise InputError(f"{fields[0]!r}; expected a shift (ppm) or a range 'a-b' first", at)
-    lo = float(m.group(1))
-    rng = None if m.group(2) is None else (lo, float(m.group(2)))
+    lo = _float(m.group(1), "shift", at)
+    rng = None if m.group(2) is None else (lo, _float(m.group(2), "shift", at))
     attrs: dict[str, list[str]] = {}
     key = None
     for f in fields[1:]:
@@ -404,7 +404,7 @@ def parse_nmredata(text: str, source: str = "<string>") -> NMReDataRecord:
     temperature = None
     if temp is not None:
         m = re.fullmatch(rf"({_NUMBER})\s*K", temp)
-        if not m or float(m.group(1)) <= 0:
+        if not m or not 0 < float(m.group(1)) < math.inf:
             raise InputError(f"{temp!r}; expected a temperature in kelvin such as '298.0 K'",
                              f"{source}: <NMREDATA_TEMPERATURE>")
         temperature = float(m.group(1))

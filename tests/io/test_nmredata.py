@@ -11,10 +11,13 @@ group's heavy atoms in RDKit's reading of the file. All peak lists are invented 
 
 from __future__ import annotations
 
+import math
 import re
 import warnings
 
 import pytest
+from hypothesis import HealthCheck, given, settings
+from hypothesis import strategies as st
 from rdkit import Chem
 
 from ringshift.api import compare, write_nmredata
@@ -196,12 +199,14 @@ def test_good_minimal_file(tmp_path):
     (_sd(**{**GOOD, "NMREDATA_1D_1H": "0.2300, L=a\\"}), "<NMREDATA_1D_1H>"),
     (_sd(**{**GOOD, "NMREDATA_1D_1H": "Larmor=-400\\\n0.2300, L=a\\"}), "<NMREDATA_1D_1H>"),
     (_sd(**{**GOOD, "NMREDATA_1D_1H": "Larmor=400\\\nabout 0.2, L=a\\"}), "<NMREDATA_1D_1H>"),
+    (_sd(**{**GOOD, "NMREDATA_1D_1H": "Larmor=400\\\n1e400, L=a\\"}), "<NMREDATA_1D_1H>"),
     (_sd(**{**GOOD, "NMREDATA_1D_1H": "Larmor=400\\\n0.2300, L=b\\"}), "<NMREDATA_1D_1H>"),
     (_sd(**{**GOOD, "NMREDATA_1D_1H": "Larmor=400\\\n0.2300, N=four, L=a\\"}), "<NMREDATA_1D_1H>"),
     (_sd(**{**GOOD, "NMREDATA_1D_1H": "Larmor=400\\\n0.2300, E=lots\\"}), "<NMREDATA_1D_1H>"),
 ], ids=["empty", "not-sd", "no-version", "bad-version", "bad-level", "temperature-not-kelvin",
         "shift-not-number", "atom-out-of-range", "no-atoms", "unclosed-quoted-label", "implicit-h-on-hydrogen",
-        "no-larmor", "negative-larmor", "signal-shift-not-number", "undefined-label", "n-not-integer",
+        "no-larmor", "negative-larmor", "signal-shift-not-number", "signal-shift-infinite", "undefined-label",
+        "n-not-integer",
         "integral-not-number"])
 def test_bad_files_one_line_errors(tmp_path, text, tag):
     path = tmp_path / "bad.nmredata.sdf"
@@ -212,3 +217,33 @@ def test_bad_files_one_line_errors(tmp_path, text, tag):
     assert "\n" not in message and str(path) in message
     if tag != "file":
         assert tag in message
+
+
+# ------------------------------------------------------------------------------- property-based reading
+_NMR_CHUNKS = ["\\", "\n", ", ", ",", ";", "=", "<\"", "\">", "L=", "S=", "N=", "E=", "Larmor=", "H", "-", "7.2600",
+               "0", "99", "nan", "inf", "1e400", "$$$$", ">  <NMREDATA_1D_1H>", ">  <NMREDATA_ASSIGNMENT>",
+               "Interchangeable=", "\x00", "δ"]
+
+
+@settings(max_examples=120, deadline=None, suppress_health_check=[HealthCheck.too_slow])
+@given(st.data())
+def test_reader_fails_only_with_input_error(data):
+    # random edits of a valid invented file: the reader returns a record or raises InputError, nothing else
+    text = _sd(**GOOD)
+    start = text.index(">  <")
+    for _ in range(data.draw(st.integers(1, 5), label="n_edits")):
+        i = data.draw(st.integers(start, len(text)), label="at")
+        j = data.draw(st.integers(i, min(len(text), i + 12)), label="to")
+        ins = data.draw(st.sampled_from(_NMR_CHUNKS) | st.text(max_size=4), label="ins")
+        text = text[:i] + ins + text[j:]
+    try:
+        record = parse_nmredata(text, "fuzz.nmredata.sdf")
+    except InputError as exc:
+        assert "\n" not in str(exc)
+        return
+    for a in record.assignments:
+        assert all(0 <= h < record.mol.GetNumAtoms() for h in a.atoms)
+    for s in record.signals:
+        assert math.isfinite(s.shift_ppm) and (s.integral is None or math.isfinite(s.integral))
+    assert record.temperature_K is None or math.isfinite(record.temperature_K)
+    assert record.larmor_mhz is None or math.isfinite(record.larmor_mhz)
