@@ -165,8 +165,24 @@ def _solvent(peaks, solvent: str | None) -> str:
     return "unknown"
 
 
+#: Longest physical line of a tag's text (the SD data-line limit of the CTfile formats, from memory); longer
+#: items are broken with a bare line end, which a version-1.1 reader drops (NMReDATA "End-of-line" page).
+MAX_LINE = 200
+
+
+def _wrap(line: str) -> str:
+    out = []
+    while len(line) > MAX_LINE:
+        cut = MAX_LINE
+        while line[cut] in ">$ " and cut > 1:  # a physical line must not start like an SD tag or record end
+            cut -= 1
+        out.append(line[:cut])
+        line = line[cut:]
+    return "\n".join([*out, line])
+
+
 def _tag(name: str, lines) -> str:
-    return f">  <{name}>\n" + "".join(f"{line}\\\n" for line in lines) + "\n"
+    return f">  <{name}>\n" + "".join(f"{_wrap(line)}\\\n" for line in lines) + "\n"
 
 
 def larmor_mhz_of(peaks, larmor_mhz: float | None = None) -> float:
@@ -206,7 +222,7 @@ def nmredata_text(result: CompareResult, *, solvent: str | None = None, larmor_m
     scale = float(comp.integral_scale)
     groups = comp.assignment
     assigned = [g for g in groups if g.peak_index is not None and g.observed_ppm is not None]
-    missing = [g for g in groups if g not in assigned]
+    missing = [g for g in groups if g.peak_index is None or g.observed_ppm is None]
     left_out = [(k, p) for k, p in enumerate(pl.peaks) if p.kind != "sample"]
 
     ident = [f"Title={_value(pred.structure.name)}", f"Comment={ESTIMATE_COMMENT}"]
@@ -229,7 +245,7 @@ def nmredata_text(result: CompareResult, *, solvent: str | None = None, larmor_m
     out.append(">  <NMREDATA_LEVEL>\n0\n\n")
     out.append(_tag("NMREDATA_ID", ident))
     out.append(f">  <NMREDATA_FORMULA>\n{rdMolDescriptors.CalcMolFormula(mol)}\n\n")
-    out.append(f">  <NMREDATA_SMILES>\n{Chem.MolToSmiles(mol)}\n\n")
+    out.append(f">  <NMREDATA_SMILES>\n{_wrap(Chem.MolToSmiles(mol))}\n\n")
     out.append(f">  <NMREDATA_SOLVENT>\n{_solvent(pl, solvent)}\n\n")
     temp = pred.provenance.get("structure", {}).get("temperature_K") if isinstance(
         pred.provenance.get("structure"), dict) else None

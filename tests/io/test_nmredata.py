@@ -107,6 +107,7 @@ def test_tags_follow_the_format(toluene):
     _, _, path = toluene
     text = path.read_text()
     tags = re.findall(r"^>\s+<([^>]*)>", text, flags=re.M)
+    assert max(len(line) for line in text.splitlines()) <= 200         # SD data-line limit (from memory)
     for name in ("NMREDATA_VERSION", "NMREDATA_LEVEL", "NMREDATA_ID", "NMREDATA_SOLVENT", "NMREDATA_TEMPERATURE",
                  "NMREDATA_ASSIGNMENT", "NMREDATA_1D_1H", "NMREDATA_SMILES", "NMREDATA_FORMULA"):
         assert name in tags
@@ -267,3 +268,15 @@ def test_round_trip_18_annulene_inner_protons(tmp_path):
     inner = np.linalg.norm(pos[list(by_shift[0].atoms)] - centre, axis=1)
     outer = np.linalg.norm(pos[list(by_shift[1].atoms)] - centre, axis=1)
     assert inner.max() < ring_radius < outer.min()
+
+
+def test_long_items_are_wrapped_and_rejoined():
+    # a version-1.1 reader drops bare line ends inside a tag (NMReDATA "End-of-line" page), so a long item
+    # broken into physical lines of at most 200 characters reads back whole
+    from ringshift.io.nmredata import _tag
+
+    comment = "Comment=" + " ".join(f"word{i}" for i in range(120))
+    text = _sd(**GOOD).replace("$$$$\n", _tag("NMREDATA_ID", [comment, "Title=x"]) + "$$$$\n")
+    assert max(len(line) for line in text.splitlines()) <= 200
+    record = parse_nmredata(text, "long")
+    assert "Comment=" + record.comments["Comment"] == comment and record.comments["Title"] == "x"
