@@ -7,7 +7,8 @@ Public API (kept small; see :mod:`ringshift.api`)::
     res = r.compare("mol.sdf", "peaks.csv", claim="aromatic")
     r.report(res, out_dir="mol_report")
 
-:func:`load_structure`, :func:`predict`, :func:`read_peaks`, :func:`compare`, :func:`report`.
+:func:`load_structure`, :func:`predict`, :func:`read_peaks`, :func:`compare`, :func:`report`, and
+:func:`write_nmredata` (the assignment of a comparison in the open NMReDATA format).
 
 The stages are subpackages (``io``, ``geometry``, ``pi``, ``fields``, ``shifts``, ``spectra``,
 ``comparison``, ``reporting``, ``runners``); their names differ from the functions ``compare`` and
@@ -17,8 +18,8 @@ module.
 ``import ringshift`` loads no RDKit, NumPy or SciPy; they load on the first call.
 """
 
-from ringshift.api import compare, load_structure, predict, read_peaks, report
+from ringshift.api import compare, load_structure, predict, read_peaks, report, write_nmredata
 
 __version__ = "0.1.0"
 
-__all__ = ["load_structure", "predict", "read_peaks", "compare", "report"]
+__all__ = ["load_structure", "predict", "read_peaks", "compare", "report", "write_nmredata"]

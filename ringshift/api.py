@@ -40,7 +40,7 @@ if TYPE_CHECKING:
     #: What the structure argument of :func:`predict` and :func:`compare` accepts.
     StructureLike: TypeAlias = "str | os.PathLike[str] | Structure"
 
-__all__ = ["load_structure", "predict", "read_peaks", "compare", "report"]
+__all__ = ["load_structure", "predict", "read_peaks", "compare", "report", "write_nmredata"]
 
 #: Seed used for conformers and for the comparer's random starts when none is given (as the CLI).
 DEFAULT_SEED = 42
@@ -466,3 +466,56 @@ def report(structure: StructureLike | Prediction | CompareResult,
         paths = write_report(out, pred, compare_result=result,
                              pi_summary=pi_summary(pred.structure, beta_model=beta, prediction=pred), force=force)
     return {k: Path(v) for k, v in paths.items()}
+
+
+def write_nmredata(result: CompareResult, path: str | os.PathLike[str], *, force: bool = False,
+                   larmor_mhz: float | None = None) -> Path:
+    """Write a comparison's assignment as an NMReDATA file (SD file; name it ``*.nmredata.sdf``).
+
+    The structure with explicit hydrogens, the assigned ¹H shifts, integrals and multiplicities in the open
+    NMReDATA format 1.1 (Pupier et al., Magn. Reson. Chem. 2018, 56, 703–715); what is written is listed in
+    :mod:`ringshift.io.nmredata`, whose :func:`~ringshift.io.nmredata.read_nmredata` reads it back.
+
+    Parameters
+    ----------
+    result : CompareResult
+        What :func:`compare` returned.
+    path : str or path
+        The file to write (atomically); an existing file only with ``force=True``, never an input of the
+        comparison (its structure or peak file).
+    force : bool
+        Overwrite an existing file.
+    larmor_mhz : float, optional
+        ¹H frequency of the spectrometer, MHz, which the format requires; default: the peak list's
+        (``# observe_mhz = ...`` in a CSV table, ``##.OBSERVE FREQUENCY`` in JCAMP-DX).
+
+    Returns
+    -------
+    pathlib.Path
+
+    Examples
+    --------
+    >>> import tempfile
+    >>> from importlib.resources import files
+    >>> from ringshift.io.nmredata import read_nmredata
+    >>> demo = files("ringshift") / "data" / "demo"
+    >>> res = compare(demo / "fj14c.sdf", demo / "fj14c_1H.jdx")
+    >>> with tempfile.TemporaryDirectory() as tmp:
+    ...     path = write_nmredata(res, f"{tmp}/fj14c.nmredata.sdf")
+    ...     record = read_nmredata(path)
+    >>> record.version, record.larmor_mhz, len(record.assignments)
+    ('1.1', 500.0, 4)
+    """
+    from ringshift.comparison.run import CompareResult
+    from ringshift.io.nmredata import write_nmredata as _write
+
+    if not isinstance(result, CompareResult):
+        raise InputError(f"expected the CompareResult of compare(), got {type(result).__name__}", "result")
+    out = _path(path)
+    if out is None:
+        raise InputError(f"expected a file path, got {type(path).__name__}", "path")
+    if not isinstance(force, bool):
+        raise InputError(f"expected True or False, got {force!r}", "force")
+    inputs = [p for p in (result.prediction.structure.source, result.peaks.source) if isinstance(p, str)]
+    with _api_names():
+        return _write(out, result, force=force, inputs=inputs, larmor_mhz=larmor_mhz)

@@ -212,9 +212,12 @@ def predict_cmd(structure, charge, conformers, seed, temperature, exchange, geom
 @click.option("--format", "fmt", type=_Format("text", "json"), default="text", show_default=True,
               help="Readable text or JSON.")
 @click.option("-o", "--output", type=click.Path(dir_okay=False), default=None, help="Write to FILE (atomically).")
+@click.option("--nmredata", type=click.Path(dir_okay=False), default=None, metavar="FILE",
+              help="Also write the assignment as NMReDATA (SD file, e.g. name.nmredata.sdf; needs the spectrometer "
+                   "frequency: '# observe_mhz = 400' in a CSV peak table, or a JCAMP-DX file).")
 @click.option("--force", is_flag=True, help="Overwrite an existing output file.")
 def compare_cmd(structure, peaks, charge, conformers, seed, temperature, exchange, geometry, model, currents,
-                beta_model, scale, set_current, circuit, solvent, claim, noise, fmt, output, force):
+                beta_model, scale, set_current, circuit, solvent, claim, noise, fmt, output, nmredata, force):
     """Assign the observed PEAKS (CSV/TSV or JCAMP-DX) to STRUCTURE, fit its ring currents, give a verdict."""
     from ringshift.comparison.run import run_compare
     from ringshift.io.peak_tables import read_peaks
@@ -224,12 +227,29 @@ def compare_cmd(structure, peaks, charge, conformers, seed, temperature, exchang
     pred = _run_predict(structure, charge, conformers, seed, temperature, exchange, geometry, model, currents,
                         beta_model, scale, set_current, circuit)
     pl = read_peaks(peaks, n_hydrogens=len(pred.protons), solvent=solvent)
+    if nmredata:  # refuse before the fit: a file in the way, the same file as -o, or no spectrometer frequency
+        from os.path import abspath, exists, isfile, samefile
+
+        from ringshift.io.nmredata import larmor_mhz_of
+
+        if output and abspath(output) == abspath(nmredata):
+            raise InputError("names the same file as -o; give the NMReDATA file a name of its own", "--nmredata")
+        if exists(nmredata) and any(isfile(src) and samefile(nmredata, src) for src in (structure, peaks)):
+            raise OutputError(f"{nmredata}: is an input of this run; choose another output path")
+        if exists(nmredata) and not force:
+            raise OutputError(f"{nmredata}: already exists; use --force to overwrite it")
+        larmor_mhz_of(pl)
     res = run_compare(pred, pl, claim=claim, noise_ppm=_noise(noise), seed=seed)
     if fmt == "json":
         text = to_json(comparison_to_dict(res))
     else:
         text = comparison_text(res)
     _emit(text, output, force, (structure, peaks))
+    if nmredata:
+        from ringshift.io.nmredata import write_nmredata
+
+        write_nmredata(nmredata, res, force=force, inputs=(structure, peaks))
+        click.echo(f"wrote {nmredata}", err=True)
 
 
 def _noise(value):

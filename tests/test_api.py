@@ -27,7 +27,7 @@ ROOT = Path(__file__).resolve().parent.parent
 DEMO = files("ringshift") / "data" / "demo"
 SDF = DEMO / "fj14c.sdf"
 PEAKS = DEMO / "fj14c_peaks.csv"
-API_NAMES = ["load_structure", "predict", "read_peaks", "compare", "report"]
+API_NAMES = ["load_structure", "predict", "read_peaks", "compare", "report", "write_nmredata"]
 
 
 # --------------------------------------------------------------------------------------- fixtures

@@ -313,4 +313,5 @@ def read_peaks(path: str | os.PathLike, *, n_hydrogens: int | None = None, solve
         if n_sample > n_hydrogens:
             notes.append(f"{n_sample} sample peaks but only {n_hydrogens} H: a line list? merge multiplet lines")
         notes += more
-    return replace(peak_list, peaks=peaks, warnings=tuple(notes))
+    return replace(peak_list, peaks=peaks, warnings=tuple(notes),
+                   solvent=None if solvent is None else _solvent_name(solvent))

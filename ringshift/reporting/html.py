@@ -24,6 +24,7 @@ from pathlib import Path
 
 from ringshift.errors import InputError, OutputError
 from ringshift.geometry.circuits import MISALIGNMENT_LIMIT_DEG, PLANARITY_LIMIT_A
+from ringshift.reporting.html_peaks import nmredata_html, reference_lines_html, write_nmredata_file
 from ringshift.reporting.html_text import (
     CSS,
     file_name,
@@ -151,7 +152,7 @@ def _circuit_columns(with_model=True):
 
 def render_html(results: dict, pi: dict | None, figures: list[tuple[str, str, str, str]], *,
                 structure_svg: str | None = None, skipped: Sequence[tuple[str, str]] = (),
-                files: Sequence[str] = ()) -> str:
+                files: Sequence[str] = (), nmredata_note: str | None = None) -> str:
     """The report page.
 
     Parameters
@@ -167,6 +168,8 @@ def render_html(results: dict, pi: dict | None, figures: list[tuple[str, str, st
         Figures that could not be drawn.
     files : list of str
         Other files of the report folder, listed at the end.
+    nmredata_note : str, optional
+        Why the NMReDATA export was not written (shown in place of its link).
 
     Returns
     -------
@@ -301,7 +304,7 @@ def render_html(results: dict, pi: dict | None, figures: list[tuple[str, str, st
         body += "<h3>Observed peaks</h3>" + pg.table("results", ("peaks",), [
             ("peak", ("label",), None), ("δ (ppm)", ("shift_ppm",), ".3f"), ("integral", ("integral",), ".3f"),
             ("kind", ("kind",), None), ("slots (H)", ("slots",), None), ("assigned H", ("assigned_h",), None),
-            ("groups (index)", ("groups",), None)])
+            ("groups (index)", ("groups",), None)]) + reference_lines_html(pg, results)
         if results["unassigned_peaks"]:
             body += "<h3>Unassigned peaks</h3>" + pg.table("results", ("unassigned_peaks",), [
                 ("peak", ("label",), None), ("δ (ppm)", ("shift_ppm",), ".3f"), ("index", ("index",), None)])
@@ -313,7 +316,7 @@ def render_html(results: dict, pi: dict | None, figures: list[tuple[str, str, st
                 ("Δ cost (2 ln B)", ("delta_cost",), "+.2f"), ("moves (group, from, to)", ("changes",), None),
                 ("currents (nA/T)", ("currents_nA_per_T",), "+.2f"),
                 ("verdicts", ("verdicts",), None)])
-        out.append(_section("assignment", "Assignment and residuals", body))
+        out.append(_section("assignment", "Assignment and residuals", body + nmredata_html(files, nmredata_note)))
 
     cols = [("group", ("label",), None), ("index", ("group",), None), ("nH", ("n_h",), None),
             ("H atoms (index)", ("atoms",), None),
@@ -396,7 +399,9 @@ def is_report_folder(path) -> bool:
 
 
 def write_report(out_dir, prediction, *, compare_result=None, pi_summary=None, force: bool = False) -> dict:
-    """Write a report folder: report.html, results.json, pi.json, structure.sdf and figures/.
+    """Write a report folder: report.html, results.json, pi.json, structure.sdf, figures/ and, with a comparison,
+    assignment.nmredata.sdf (:mod:`ringshift.io.nmredata`; not written, and the page says why, when the
+    spectrometer frequency is unknown).
 
     Parameters
     ----------
@@ -413,7 +418,7 @@ def write_report(out_dir, prediction, *, compare_result=None, pi_summary=None, f
     Returns
     -------
     dict
-        Name → written path: ``html``, ``results``, ``pi``, ``sdf``, ``structure_svg``,
+        Name → written path: ``html``, ``results``, ``pi``, ``sdf``, ``nmredata`` (when written), ``structure_svg``,
         ``structure_png`` and ``<figure>_svg`` / ``<figure>_png`` for every figure drawn.
 
     Raises
@@ -452,6 +457,8 @@ def write_report(out_dir, prediction, *, compare_result=None, pi_summary=None, f
         (tmp / REPORT_FILES["pi"]).write_text(to_json(pi), encoding="utf-8")
         (tmp / REPORT_FILES["sdf"]).write_text(S.structure_sdf(prediction, compare_result=compare_result),
                                                encoding="utf-8")
+        nmr_file, nmr_note = write_nmredata_file(tmp, compare_result)
+        written.update({"nmredata": nmr_file} if nmr_file else {})
         (tmp / "figures").mkdir()
         svg_struct = S.structure_figure(prediction, compare_result=compare_result, fmt="svg")
         (tmp / "figures" / "structure.svg").write_text(svg_struct, encoding="utf-8")
@@ -472,7 +479,8 @@ def write_report(out_dir, prediction, *, compare_result=None, pi_summary=None, f
             written[f"{key}_png"] = f"figures/{key}.png"
             figs.append((key, title, caption, svg.decode("utf-8")))
         files = [REPORT_FILES["html"], *written.values()]
-        page = render_html(results, pi, figs, structure_svg=svg_struct, skipped=skipped, files=files)
+        page = render_html(results, pi, figs, structure_svg=svg_struct, skipped=skipped, files=files,
+                           nmredata_note=nmr_note)
         (tmp / REPORT_FILES["html"]).write_text(page, encoding="utf-8")
         written["html"] = REPORT_FILES["html"]
         os.chmod(tmp, 0o755)  # mkdtemp made it private; a report folder is an ordinary folder

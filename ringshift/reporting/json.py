@@ -36,8 +36,24 @@ def comparison_to_dict(res: CompareResult) -> dict:
     }
     out.update(comp)
     out["peak_warnings"] = list(res.peaks.warnings)
+    out["reference_lines"] = reference_lines(res)
     out["prediction"] = prediction_to_dict(res.prediction)
     out["caution"] = CAUTION
+    return out
+
+def reference_lines(res: CompareResult) -> list[dict]:
+    """The peak-list lines at a solvent-residual or TMS position, or given a non-sample kind: how each was
+    taken (``taken_as``: sample, solvent, tms, impurity) and why (``reason``), from
+    :func:`ringshift.spectra.solvents.reference_line_reasons`. ``index`` is the peak's index in ``peaks``."""
+    from ringshift.spectra.solvents import reference_line_reasons
+
+    reasons = reference_line_reasons(res.peaks.peaks, len(res.prediction.protons))
+    out = []
+    for i, (kind, why) in reasons.items():
+        p = res.peaks.peaks[i]
+        out.append({"index": i, "label": res.comparison.peaks[i].label, "shift_ppm": _r(p.shift_ppm),
+                    "integral": None if p.integral is None else _r(p.integral), "at_line": p.flagged_as,
+                    "taken_as": kind, "reason": why})
     return out
 
 #: Version of the JSON layout written by every command (``schema_version`` in each object). The layout is

@@ -148,13 +148,15 @@ class Spectrum:
 class PeakList:
     """Peaks read from one file: ``peaks`` (file order; picked peaks by decreasing shift), ``source``,
     ``spectrum`` (the one picked from, or that came with a JCAMP peak table), ``warnings``,
-    ``observe_mhz`` (MHz or None)."""
+    ``observe_mhz`` (MHz or None), ``solvent`` (the deuterated solvent the list was read with, by its
+    name in :data:`ringshift.spectra.solvents.SOLVENT_RESIDUAL_PPM`, or None)."""
 
     peaks: tuple[Peak, ...]
     source: str
     spectrum: Spectrum | None = None
     warnings: tuple[str, ...] = ()
     observe_mhz: float | None = None
+    solvent: str | None = None
 
     def __post_init__(self):
         object.__setattr__(self, "peaks", tuple(self.peaks))
@@ -177,7 +179,8 @@ class PeakList:
     def to_dict(self) -> dict:
         """Plain JSON-able dict; the spectrum is summarised (points, ppm range, noise σ), not copied."""
         spec = self.spectrum
-        return {"source": self.source, "observe_mhz": self.observe_mhz, "warnings": list(self.warnings),
+        return {"source": self.source, "observe_mhz": self.observe_mhz, "solvent": self.solvent,
+                "warnings": list(self.warnings),
                 "peaks": [{**asdict(p), "fixed_atoms": list(p.fixed_atoms or []) or None} for p in self.peaks],
                 "spectrum": None if spec is None else {
                     "source": spec.source, "points": int(spec.ppm.size), "noise_sigma": spec.noise_sigma,

@@ -36,7 +36,7 @@ from ringshift._numbers import text
 from ringshift.errors import InputError
 from ringshift.spectra.peaks import Peak
 
-__all__ = ['flag_reference_peaks', 'resolve_reference_lines']
+__all__ = ['flag_reference_peaks', 'resolve_reference_lines', 'reference_line_reasons']
 
 
 #: Tolerance for flagging solvent-residual and TMS peaks, ppm.
@@ -116,12 +116,42 @@ def resolve_reference_lines(peaks, n_hydrogens: int) -> tuple[tuple[Peak, ...], 
     and one note per flagged line saying how it was taken and why, plus a note when integrals given in
     whole protons do not add up to ``n_hydrogens``. Deterministic and idempotent.
     """
+    result, decisions = _decide(tuple(peaks), n_hydrogens)
+    return result, [d[3] for d in decisions if d[3]] + _sum_note(result, n_hydrogens)
+
+
+def reference_line_reasons(peaks, n_hydrogens: int) -> dict[int, tuple[str, str]]:
+    """Why each line at a solvent/reference position, or of a non-sample kind, was taken as it was.
+
+    Returns
+    -------
+    dict
+        peak index (0-based, in ``peaks``) → (kind taken, reason), for every flagged line
+        (``Peak.flagged_as``; the reason is the one :func:`resolve_reference_lines` gives in its note)
+        and every line whose kind the peak list gave as solvent, tms or impurity. Sample lines at no
+        reference position are absent. The decision is idempotent, so a resolved list gives the reasons
+        of the decision that resolved it.
+    """
     peaks = tuple(peaks)
+    _, decisions = _decide(peaks, n_hydrogens)
+    out = {i: (kind, why) for i, kind, why, _ in decisions}
+    for i, p in enumerate(peaks):
+        if i not in out and p.kind != "sample":
+            out[i] = (p.kind, f"kind {p.kind!r} given in the peak list")
+    return dict(sorted(out.items()))
+
+
+def _decide(peaks, n_hydrogens):
+    """The decision of :func:`resolve_reference_lines` on ``peaks`` (tuple of Peak): the peaks with their kinds
+    decided (tuple of Peak) and, per flagged line, (index, kind taken, reason, note) (list of tuples)."""
     flagged = [i for i, p in enumerate(peaks) if p.flagged_as is not None]
     fixed = [i for i, p in enumerate(peaks) if p.flagged_as is None and p.kind == "sample"]
     ref_kind = {i: ("tms" if peaks[i].flagged_as.startswith("TMS") else "solvent") for i in flagged}
-    if not flagged or len(flagged) > MAX_JOINT_FLAGGED:
-        return peaks, _sum_note(peaks, n_hydrogens)
+    if len(flagged) > MAX_JOINT_FLAGGED:  # too many to decide jointly: each keeps its flag, without a note
+        why = f"more than {MAX_JOINT_FLAGGED} lines lie at solvent/reference positions, so each keeps its flag"
+        return peaks, [(i, peaks[i].kind, why, "") for i in flagged]
+    if not flagged:
+        return peaks, []
     every_integral = all(peaks[i].integral is not None and peaks[i].integral > 0 for i in flagged + fixed)
     best: tuple[float, int, tuple[int, ...]] | None = None
     for keep in itertools.product((True, False), repeat=len(flagged)):
@@ -139,7 +169,7 @@ def resolve_reference_lines(peaks, n_hydrogens: int) -> tuple[tuple[Peak, ...], 
     assert best is not None, "keeping every flagged line is always a candidate reading"
     kept_set = set(best[2])
     out = list(peaks)
-    notes = []
+    decisions = []
     scale = None
     if every_integral:
         scale = n_hydrogens / sum(peaks[i].integral for i in fixed + sorted(kept_set))
@@ -150,9 +180,10 @@ def resolve_reference_lines(peaks, n_hydrogens: int) -> tuple[tuple[Peak, ...], 
             out[i] = replace(p, kind="sample")
             why = ("with it the integrals give whole protons for the molecule's "
                    f"{n_hydrogens} H{h}" if every_integral else "it is the only line left for the molecule")
-            notes.append(f"peak at {text(p.shift_ppm, '.3f')} ppm{_where(p)} lies at the {p.flagged_as} line but "
-                         f"was taken as a sample line: {why}; give kind=solvent or kind=tms in the peak list to "
-                         "force the other reading")
+            note = (f"peak at {text(p.shift_ppm, '.3f')} ppm{_where(p)} lies at the {p.flagged_as} line but "
+                    f"was taken as a sample line: {why}; give kind=solvent or kind=tms in the peak list to "
+                    "force the other reading")
+            decisions.append((i, "sample", why, note))
         else:
             out[i] = replace(p, kind=ref_kind[i])
             if every_integral:
@@ -161,10 +192,10 @@ def resolve_reference_lines(peaks, n_hydrogens: int) -> tuple[tuple[Peak, ...], 
                        f"{n_hydrogens} H in whole protons better without it")
             else:
                 why = "without integrals a flagged line is kept only when no other sample line is left"
-            notes.append(f"peak at {text(p.shift_ppm, '.3f')} ppm{_where(p)} was taken as the {p.flagged_as} line "
-                         f"and not assigned: {why}; give kind=sample in the peak list to force it into the sample")
-    result = tuple(out)
-    return result, notes + _sum_note(result, n_hydrogens)
+            note = (f"peak at {text(p.shift_ppm, '.3f')} ppm{_where(p)} was taken as the {p.flagged_as} line "
+                    f"and not assigned: {why}; give kind=sample in the peak list to force it into the sample")
+            decisions.append((i, ref_kind[i], why, note))
+    return tuple(out), decisions
 
 
 def _sum_note(peaks, n_hydrogens) -> list[str]:
