@@ -54,7 +54,7 @@ def pattern_weights(prior_nA_per_T: np.ndarray) -> tuple[np.ndarray, int, str]:
     """
     p = np.asarray(prior_nA_per_T, dtype=np.float64).reshape(-1)
     top = float(np.max(np.abs(p)))
-    lead = int(np.flatnonzero(np.abs(p) >= top * (1.0 - 1e-9))[0])   # the first of circuits equal by symmetry
+    lead = int(np.flatnonzero(np.abs(p) >= top * (1.0 - 1e-3))[0])   # the first of circuits equal by symmetry
     if top < _NO_CURRENT_NA_PER_T:
         return np.ones_like(p), 0, "common current"
     return p / p[lead], lead, "a priori pattern"

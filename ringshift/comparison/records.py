@@ -178,7 +178,7 @@ class Comparison(ToDictMixin):
 class CandidateScore(ToDictMixin):
     """Rank of one candidate structure by :func:`rank_candidates`.
 
-    ``cost`` = the comparison cost + ``unassigned_peak_cost`` × unassigned signal peaks;
+    ``cost`` = the comparison cost + ``unassigned_peak_cost`` × unassigned sample peaks;
     ``log10_bf_vs_best`` = −(cost − best cost) / (2 ln 10); ``probability`` ∝ exp(−cost/2) with
     equal prior probabilities of the candidates.
     """
