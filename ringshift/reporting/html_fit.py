@@ -43,9 +43,9 @@ def fit_section_body(pg, results: dict) -> str:
             ("× benzene", ("current_rel_benzene",), "+.3f"), ("a priori (nA/T)", ("prior_nA_per_T",), "+.2f"),
             ("prior sd (nA/T)", ("prior_sd_nA_per_T",), ".1f")]
     body = pg.table("results", ("circuits",), cols)
-    body += ('<p class="def">A circuit is separately identified when its posterior sd is at most half its prior sd. '
-             "For one that is not, the spectrum does not fix its share of the current: read its 95 % interval, not "
-             "the fitted point.</p>")
+    body += ('<p class="def">Separately identified: the posterior sd of the circuit\'s current is at most half its '
+             "prior sd. Where it is not, the spectrum does not fix that circuit's share of the current: read its 95 % "
+             "interval, not the fitted point.</p>")
     comb = results.get("combined")
     if comb:
         body += "<h3>Combined current (the one the data determine)</h3>" + pg.kv("results", [
