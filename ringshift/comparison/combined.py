@@ -124,7 +124,8 @@ def combined_current(X, y, prior_mean, prior_sd, noise_sd: float, n_classes: int
     how = ("all circuits scaled together with the a priori pattern" if basis == "a priori pattern"
            else "one common current in every circuit")
     note = (f"the spectrum does not separate the currents of {_listed(loose)} (posterior sd above half the prior "
-            f"sd), so the verdict rests on the one current it determines: {how}"
+            f"sd), so the verdict rests on the one current it determines: {how}" if loose else
+            f"every circuit is identified; the combined current ({how}) is given for comparison"
             + (f"; the pattern has currents of both signs, so the verdict is the sign of circuit {labels[lead]}"
                if mixed else ""))
     return CombinedCurrent(
