@@ -258,9 +258,8 @@ def predict(structure: StructureLike, *, model: str = "johnson-bovey", currents:
     >>> [round(p.ring_current_ppm, 2) for p in pred.protons] == [round(pred.protons[0].ring_current_ppm, 2)] * 6
     True
     """
-    from ringshift.shifts.prediction import predict as _predict
-
     from ringshift._validation import compound_name
+    from ringshift.shifts.prediction import predict as _predict
 
     opts = _model_options(model, currents, beta_model, scale, set_current, user_circuits, separation_A)
     label = compound_name(name)

@@ -258,7 +258,8 @@ def render_html(results: dict, pi: dict | None, figures: list[tuple[str, str, st
     if comp:
         body = fit_section_body(pg, results)
         out.append(_section("fit", "Fitted currents with 95 % intervals", body))
-        cols = [("group", ("label",), None), ("index", ("index",), None), ("nH", ("n_h",), None),
+        cols: list[tuple[str, tuple, str | None]] = [
+            ("group", ("label",), None), ("index", ("index",), None), ("nH", ("n_h",), None),
                 ("class", ("proton_class",), None), ("peak", ("peak_label",), None),
                 ("observed", ("observed_ppm",), ".2f"), ("predicted", ("predicted_ppm",), ".2f"),
                 ("± sd", ("predicted_sd_ppm",), ".2f"), ("residual", ("residual_ppm",), "+.2f"),

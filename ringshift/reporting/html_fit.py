@@ -49,7 +49,8 @@ def fit_section_body(pg, results: dict) -> str:
     comb = results.get("combined")
     if comb:
         body += "<h3>Combined current (the one the data determine)</h3>" + pg.kv("results", [
-            ("basis", ("combined", "basis"), None), ("lead circuit (J is its current)", ("combined", "lead_circuit"), None),
+            ("basis", ("combined", "basis"), None),
+            ("lead circuit (J is its current)", ("combined", "lead_circuit"), None),
             ("verdict", ("combined", "verdict"), None), ("J (nA/T)", ("combined", "current_nA_per_T"), "+.2f"),
             ("± s.e. (nA/T)", ("combined", "stderr_nA_per_T"), ".2f"),
             ("95 % interval (nA/T)", ("combined", "ci95_nA_per_T"), "+.2f"),

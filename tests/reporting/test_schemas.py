@@ -22,8 +22,8 @@ from rdkit.Chem import AllChem
 from referencing import Registry, Resource
 
 from ringshift.cli import main
-from ringshift.comparison.evidence import CLAIM_VERDICT, HYPOTHESIS_VERDICT, KASS_RAFTERY_2LNB
 from ringshift.comparison.comparer import KIND_ALIASES
+from ringshift.comparison.evidence import CLAIM_VERDICT, HYPOTHESIS_VERDICT, KASS_RAFTERY_2LNB
 from ringshift.constants import BETA_MODELS, MODELS, TRAJECTORY_CURRENTS
 from ringshift.io.structures import load_structure
 from ringshift.reporting import schemas
