@@ -298,12 +298,16 @@ class ComparisonDisplay(_Display):
         comp, pred = r.comparison, r.prediction
         source = os.path.basename(str(r.peaks.source)) or str(r.peaks.source)
         fit = next((c for c in comp.circuits if c.label == comp.verdict_circuit), None)
-        why = "" if fit is None else (f" ({fit.label} {fit.current_nA_per_T:+.1f} ± "
-                                      f"{fit.stderr_nA_per_T:.1f} nA/T)")
+        if comp.verdict_basis == "combined" and comp.combined is not None:
+            fit = comp.combined
+            why = f" (combined {fit.current_nA_per_T:+.1f} ± {fit.stderr_nA_per_T:.1f} nA/T)"
+        else:
+            why = "" if fit is None else (f" ({fit.label} {fit.current_nA_per_T:+.1f} ± "
+                                          f"{fit.stderr_nA_per_T:.1f} nA/T)")
         n_groups = len(comp.assignment)
         assigned = n_groups - len(comp.unassigned_groups)
-        signals = sum(1 for p in comp.peaks if p.kind == "signal")
-        parts = [f"{comp.verdict}{why}", f"{assigned}/{n_groups} groups on {_plural(signals, 'peak')}"]
+        samples = sum(1 for p in comp.peaks if p.kind == "sample")
+        parts = [f"{comp.verdict}{why}", f"{assigned}/{n_groups} groups on {_plural(samples, 'sample peak')}"]
         if comp.unassigned_peaks:
             parts.append(f"{len(comp.unassigned_peaks)} unassigned")
         if comp.claim is not None:
@@ -311,14 +315,23 @@ class ComparisonDisplay(_Display):
         return f"{_short(pred.structure.name, 20)} vs {_short(source, 24)}: " + ", ".join(parts)
 
     def _html_tables(self, data: dict) -> list[str]:
+        comb = data.get("combined")
+        source = ("the combined current" if data.get("verdict_basis") == "combined"
+                  else f"circuit {data['verdict_circuit']}")
+        rows = [[c["label"], c["verdict"] if c.get("identified", True) else f"{c['verdict']} (split not identified)",
+                 _signed(c["current_nA_per_T"], 1) if c.get("identified", True) else "–",
+                 f"{c['stderr_nA_per_T']:.1f}" if c.get("identified", True) else "–",
+                 f"{c['ci95_nA_per_T'][0]:+.1f} … {c['ci95_nA_per_T'][1]:+.1f}", _signed(c["current_rel_benzene"]),
+                 _signed(c["prior_nA_per_T"], 1), _lead(c["evidence"])] for c in data["circuits"]]
+        if comb:
+            rows.append([f"combined ({comb['lead_circuit']})", comb["verdict"], _signed(comb["current_nA_per_T"], 1),
+                         f"{comb['stderr_nA_per_T']:.1f}",
+                         f"{comb['ci95_nA_per_T'][0]:+.1f} … {comb['ci95_nA_per_T'][1]:+.1f}",
+                         _signed(comb["current_rel_benzene"]), _signed(comb["prior_nA_per_T"], 1),
+                         _lead(comb["evidence"])])
         circ = _html_table(
-            f"Fitted currents (verdict {data['verdict']}, from circuit {data['verdict_circuit']})",
-            ["circuit", "verdict", "J (nA/T)", "± sd", "95% interval", "× benzene", "a priori", "evidence"],
-            [[c["label"], c["verdict"], _signed(c["current_nA_per_T"], 1), f"{c['stderr_nA_per_T']:.1f}",
-              f"{c['ci95_nA_per_T'][0]:+.1f} … {c['ci95_nA_per_T'][1]:+.1f}", _signed(c["current_rel_benzene"]),
-              _signed(c["prior_nA_per_T"], 1),
-              f"{c['evidence']['best']} over {c['evidence']['runner_up']}: {c['evidence']['kass_raftery']}"]
-             for c in data["circuits"]])
+            f"Fitted currents (verdict {data['verdict']}, from {source}; evidence as log10 Bayes factors)",
+            ["circuit", "verdict", "J (nA/T)", "± sd", "95% interval", "× benzene", "a priori", "evidence"], rows)
         assign = _html_table(
             "Assignment (ppm)",
             ["group", "nH", "class", "peak", "observed", "predicted", "residual", "ring current"],
@@ -332,6 +345,10 @@ class ComparisonDisplay(_Display):
             listed = ", ".join(f"{p['label']} ({p['shift_ppm']:.2f} ppm)" for p in data["unassigned_peaks"])
             out.append(f"<p>Unassigned peaks: {html.escape(listed)}</p>")
         return out
+
+
+def _lead(ev: dict) -> str:
+    return f"{ev['best']} over {ev['runner_up']}: log10 B {ev.get('log10_bf_margin', 0.0):.2f}, {ev['kass_raftery']}"
 
 
 # -------------------------------------------------------------------------------------- trajectory

@@ -72,6 +72,23 @@ def choice(value, choices: Iterable[str], param: str, what: str = "value") -> st
     return value
 
 
+#: Longest compound name accepted for titles (characters).
+MAX_NAME_CHARS = 200
+
+
+def compound_name(value, param: str = "name") -> str | None:
+    """A compound's display name for titles: None, or one line of 1–200 printable characters (stripped)."""
+    if value is None:
+        return None
+    if not isinstance(value, str):
+        raise InputError(f"expected a text (the compound's name), got {type(value).__name__}", param)
+    text = value.strip()
+    if not text or len(text) > MAX_NAME_CHARS or not text.isprintable():
+        raise InputError(f"expected one line of 1 to {MAX_NAME_CHARS} printable characters, got {value[:40]!r}"
+                         f"{'...' if len(value) > 40 else ''}", param)
+    return text
+
+
 def label_numbers(value, param: str) -> dict[str, float] | None:
     """None, or a mapping of circuit label (str) to a finite number, as a new dict of floats."""
     from collections.abc import Mapping

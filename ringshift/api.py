@@ -137,6 +137,23 @@ def _structure(structure, load: Mapping[str, object]) -> Structure:
     return load_structure(spec, **{k: v for k, v in load.items() if v is not None})  # type: ignore[arg-type]
 
 
+def _named(result, name: str | None):
+    """``result`` (a Structure, Prediction or CompareResult) with the compound's name ``name`` in its structure:
+    ``Structure.name`` (what every title shows) and ``Structure.label`` (the given name, for the JSON)."""
+    from dataclasses import replace
+
+    from ringshift.comparison.run import CompareResult
+    from ringshift.shifts.records import Prediction
+
+    if name is None or result is None:
+        return result
+    if isinstance(result, CompareResult):
+        return replace(result, prediction=_named(result.prediction, name))
+    if isinstance(result, Prediction):
+        return replace(result, structure=_named(result.structure, name))
+    return replace(result, name=name, label=name)
+
+
 # ------------------------------------------------------------------------------------ functions
 def load_structure(spec: str | os.PathLike[str], *, charge: int | None = None, conformers: int | None = None,
                    seed: int = DEFAULT_SEED, temperature_K: float = 298.15, energy_window_kcal_mol: float = 10.0,
@@ -198,7 +215,7 @@ def predict(structure: StructureLike, *, model: str = "johnson-bovey", currents:
             user_circuits: Sequence[Sequence[int]] | None = None, separation_A: float | None = None,
             charge: int | None = None, conformers: int | None = None, seed: int | None = None,
             temperature_K: float | None = None, fmt: str | None = None, exchange: str | None = None,
-            geometry: str | None = None) -> Prediction:
+            geometry: str | None = None, name: str | None = None) -> Prediction:
     """Ring-current ¹H shift of every hydrogen of a structure.
 
     Parameters
@@ -224,6 +241,9 @@ def predict(structure: StructureLike, *, model: str = "johnson-bovey", currents:
     charge, conformers, seed, temperature_K, fmt, exchange, geometry : optional
         Passed to :func:`load_structure` when ``structure`` is a SMILES or a path (defaults as there);
         an error with a loaded Structure.
+    name : str, optional
+        The compound's name for titles (text header, figures, HTML) instead of the SMILES or file name; it is
+        also the JSON's ``name`` and ``compound_name``. One line, at most 200 characters.
 
     Returns
     -------
@@ -238,14 +258,16 @@ def predict(structure: StructureLike, *, model: str = "johnson-bovey", currents:
     >>> [round(p.ring_current_ppm, 2) for p in pred.protons] == [round(pred.protons[0].ring_current_ppm, 2)] * 6
     True
     """
+    from ringshift._validation import compound_name
     from ringshift.shifts.prediction import predict as _predict
 
     opts = _model_options(model, currents, beta_model, scale, set_current, user_circuits, separation_A)
+    label = compound_name(name)
     s = _structure(structure, {"charge": charge, "conformers": conformers, "seed": seed,
                                "temperature_K": temperature_K, "fmt": fmt, "exchange": exchange,
                                "geometry": geometry})
     with _api_names():
-        return _predict(s, **opts)
+        return _predict(_named(s, label), **opts)
 
 
 def read_peaks(path: str | os.PathLike[str], *, n_hydrogens: int | None = None, solvent: str | None = None,
@@ -298,7 +320,7 @@ def compare(structure: StructureLike | Prediction, peaks: str | os.PathLike[str]
             set_current: Mapping[str, float] | None = None, user_circuits: Sequence[Sequence[int]] | None = None,
             separation_A: float | None = None, charge: int | None = None, conformers: int | None = None,
             temperature_K: float | None = None, fmt: str | None = None, exchange: str | None = None,
-            geometry: str | None = None) -> CompareResult:
+            geometry: str | None = None, name: str | None = None) -> CompareResult:
     """Assign observed peaks to a structure's protons, fit its ring currents and give a verdict.
 
     Parameters
@@ -312,8 +334,8 @@ def compare(structure: StructureLike | Prediction, peaks: str | os.PathLike[str]
     claim : {"aromatic", "antiaromatic", "nonaromatic"}, optional
         An aromaticity claim to check against the spectrum.
     solvent : str, optional
-        Deuterated solvent whose residual peak is not assigned (with a peak file; a PeakList was
-        flagged when it was read).
+        Deuterated solvent (with a peak file): a line at its residual position or at 0 ppm (TMS) is a
+        candidate, kept in the sample or set aside by the integrals (a PeakList was decided when it was read).
     noise_ppm : float or "auto", optional
         Model error of a predicted shift, ppm (default 0.3), or "auto" (maximum evidence).
     seed : int, optional
@@ -322,6 +344,8 @@ def compare(structure: StructureLike | Prediction, peaks: str | os.PathLike[str]
         As in :func:`predict` (its defaults); an error with a Prediction.
     charge, conformers, temperature_K, fmt, exchange, geometry : optional
         As in :func:`load_structure`; only with a SMILES or a path.
+    name : str, optional
+        The compound's name for titles, as in :func:`predict` (also for a Prediction given here).
 
     Returns
     -------
@@ -339,22 +363,25 @@ def compare(structure: StructureLike | Prediction, peaks: str | os.PathLike[str]
     >>> sorted(a.peak_label for a in res.comparison.assignment)
     ['p1', 'p2', 'p3', 'p4']
     """
+    from ringshift._validation import compound_name
     from ringshift.comparison.run import run_compare
     from ringshift.spectra.peaks import PeakList
 
     _compare_options(claim, noise_ppm, solvent)
+    label = compound_name(name)
     peak_path = _path(peaks)
     if peak_path is None and not isinstance(peaks, PeakList):
         raise InputError(f"expected a path to a peak table or JCAMP-DX file, or a PeakList, got "
                          f"{type(peaks).__name__}", "peaks")
     if isinstance(peaks, PeakList) and solvent is not None:
-        raise InputError("solvent goes with a peak file; a PeakList was flagged when it was read "
+        raise InputError("solvent goes with a peak file; a PeakList's solvent lines were decided when it was read "
                          "(read_peaks(path, solvent=...))", "solvent")
     loads_here = _path(structure) is not None  # the seed also seeds the conformers
     pred = _prediction(structure, seed=seed if loads_here else None, model=model, currents=currents,
                        beta_model=beta_model, scale=scale, set_current=set_current, user_circuits=user_circuits,
                        separation_A=separation_A, charge=charge, conformers=conformers,
                        temperature_K=temperature_K, fmt=fmt, exchange=exchange, geometry=geometry)
+    pred = _named(pred, label)
     if peak_path is not None:
         peak_list = read_peaks(peak_path, n_hydrogens=len(pred.protons), solvent=solvent)
     else:
@@ -388,7 +415,8 @@ def report(structure: StructureLike | Prediction | CompareResult,
            scale: Mapping[str, float] | None = None, set_current: Mapping[str, float] | None = None,
            user_circuits: Sequence[Sequence[int]] | None = None, separation_A: float | None = None,
            charge: int | None = None, conformers: int | None = None, temperature_K: float | None = None,
-           fmt: str | None = None, exchange: str | None = None, geometry: str | None = None) -> dict[str, Path]:
+           fmt: str | None = None, exchange: str | None = None, geometry: str | None = None,
+           name: str | None = None) -> dict[str, Path]:
     """Write a self-contained report folder (HTML page, figures, JSON, SDF) and return its files.
 
     Parameters
@@ -408,6 +436,9 @@ def report(structure: StructureLike | Prediction | CompareResult,
         As in :func:`compare`.
     charge, conformers, temperature_K, fmt, exchange, geometry : optional
         As in :func:`compare`.
+    name : str, optional
+        The compound's name for the page title, headings and figure titles, as in :func:`predict` (also for
+        a Prediction or CompareResult given here).
 
     Returns
     -------
@@ -425,9 +456,12 @@ def report(structure: StructureLike | Prediction | CompareResult,
     report.html True results.json
     """
 
+    from ringshift._validation import compound_name
     from ringshift.comparison.run import CompareResult
     from ringshift.reporting import write_report
     from ringshift.reporting.pi_summary import pi_summary
+
+    label = compound_name(name)
 
     out = _path(out_dir)
     if out is None:
@@ -454,6 +488,7 @@ def report(structure: StructureLike | Prediction | CompareResult,
     else:
         _not_given(compare_opts, "comparison options need observed peaks (give peaks)")
         result = None
+    result = _named(result, label)
     if result is not None:
         pred = result.prediction
     else:
@@ -461,6 +496,7 @@ def report(structure: StructureLike | Prediction | CompareResult,
                            set_current=set_current, user_circuits=user_circuits, separation_A=separation_A,
                            charge=charge, conformers=conformers, temperature_K=temperature_K, fmt=fmt,
                            exchange=exchange, geometry=geometry)
+        pred = _named(pred, label)
     beta = pred.provenance.get("beta_model", "scf")
     with _api_names():
         paths = write_report(out, pred, compare_result=result,

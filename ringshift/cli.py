@@ -27,7 +27,7 @@ OPTION_OF_PARAMETER = {
     "seed": "--seed", "temperature_K": "--temperature", "noise_ppm": "--noise", "claim": "--claim",
     "solvent": "--solvent", "weights": "--weights", "energy_unit": "--energy-unit", "memory_MB": "--memory",
     "jobs": "--jobs", "scheduler": "--scheduler", "contour_max_ppm": "--contour-max",
-    "circuit": "--for-circuit", "exchange": "--exchange", "geometry": "--geometry",
+    "circuit": "--for-circuit", "exchange": "--exchange", "geometry": "--geometry", "name": "--name",
 }
 
 #: Choices of --exchange and --geometry: ringshift.geometry.symmetry.EXCHANGE_RULES and
@@ -154,11 +154,20 @@ def _load(structure, charge, conformers, seed, temperature, exchange="slow", geo
                           exchange=exchange, geometry=geometry)
 
 
+#: --name of predict, compare and report: the compound's name in every title.
+name_option = click.option("--name", "name", default=None, metavar="TEXT",
+                           help="Compound name for titles (text header, HTML, figures) instead of the SMILES or "
+                                "file name; also 'compound_name' in the JSON.")
+
+
 def _run_predict(structure, charge, conformers, seed, temperature, exchange, geometry, model, currents, beta_model,
-                 scale, set_current, circuit):
+                 scale, set_current, circuit, name=None):
+    from ringshift._validation import compound_name
+    from ringshift.api import _named
     from ringshift.shifts.prediction import predict
 
-    s = _load(structure, charge, conformers, seed, temperature, exchange, geometry)
+    label = compound_name(name)
+    s = _named(_load(structure, charge, conformers, seed, temperature, exchange, geometry), label)
     return predict(s, model=model, currents=currents, beta_model=beta_model, scale=parse_assignments(scale, "--scale"),
                    set_current=parse_assignments(set_current, "--set-current"),
                    user_circuits=_index_lists(circuit))
@@ -178,18 +187,19 @@ def _emit(text: str, output, force: bool, inputs=()):
 @click.argument("structure")
 @_apply(structure_options)
 @_apply(model_options)
+@name_option
 @click.option("--format", "fmt", type=_Format("text", "json", "csv"), default="text", show_default=True,
               help="Readable table, JSON, or one CSV row per hydrogen.")
 @click.option("-o", "--output", type=click.Path(dir_okay=False), default=None, help="Write to FILE (atomically).")
 @click.option("--force", is_flag=True, help="Overwrite an existing output file.")
 def predict_cmd(structure, charge, conformers, seed, temperature, exchange, geometry, model, currents, beta_model,
-                scale, set_current, circuit, fmt, output, force):
+                scale, set_current, circuit, name, fmt, output, force):
     """Ring-current shift of every hydrogen of STRUCTURE."""
     from ringshift.reporting.json import prediction_to_dict, to_json
     from ringshift.reporting.text import prediction_csv, prediction_table
 
     pred = _run_predict(structure, charge, conformers, seed, temperature, exchange, geometry, model, currents,
-                        beta_model, scale, set_current, circuit)
+                        beta_model, scale, set_current, circuit, name)
     if fmt == "json":
         text = to_json(prediction_to_dict(pred))
     elif fmt == "csv":
@@ -204,7 +214,10 @@ def predict_cmd(structure, charge, conformers, seed, temperature, exchange, geom
 @click.argument("peaks", type=click.Path(dir_okay=False))
 @_apply(structure_options)
 @_apply(model_options)
-@click.option("--solvent", default=None, help="Deuterated solvent whose residual peak is flagged (e.g. CDCl3).")
+@click.option("--solvent", default=None,
+              help="Deuterated solvent (e.g. CDCl3); a line at its residual position (or at 0 ppm, TMS) is kept in the "
+                   "sample or set aside as solvent/tms by the integrals.")
+@name_option
 @click.option("--claim", type=click.Choice(["aromatic", "antiaromatic", "nonaromatic"]), default=None,
               help="Check an aromaticity claim against the spectrum.")
 @click.option("--noise", default=None, metavar="PPM|auto",
@@ -217,7 +230,7 @@ def predict_cmd(structure, charge, conformers, seed, temperature, exchange, geom
                    "frequency: '# observe_mhz = 400' in a CSV peak table, or a JCAMP-DX file).")
 @click.option("--force", is_flag=True, help="Overwrite an existing output file.")
 def compare_cmd(structure, peaks, charge, conformers, seed, temperature, exchange, geometry, model, currents,
-                beta_model, scale, set_current, circuit, solvent, claim, noise, fmt, output, nmredata, force):
+                beta_model, scale, set_current, circuit, solvent, name, claim, noise, fmt, output, nmredata, force):
     """Assign the observed PEAKS (CSV/TSV or JCAMP-DX) to STRUCTURE, fit its ring currents, give a verdict."""
     from ringshift.comparison.run import run_compare
     from ringshift.io.peak_tables import read_peaks
@@ -225,7 +238,7 @@ def compare_cmd(structure, peaks, charge, conformers, seed, temperature, exchang
     from ringshift.reporting.text import comparison_text
 
     pred = _run_predict(structure, charge, conformers, seed, temperature, exchange, geometry, model, currents,
-                        beta_model, scale, set_current, circuit)
+                        beta_model, scale, set_current, circuit, name)
     pl = read_peaks(peaks, n_hydrogens=len(pred.protons), solvent=solvent)
     if nmredata:  # refuse before the fit: a file in the way, the same file as -o, or no spectrometer frequency
         from os.path import abspath, exists, isfile, samefile
@@ -295,7 +308,10 @@ def pi_cmd(structure, charge, conformers, seed, temperature, exchange, geometry,
 @click.argument("peaks", required=False, type=click.Path(dir_okay=False))
 @_apply(structure_options)
 @_apply(model_options)
-@click.option("--solvent", default=None, help="Deuterated solvent whose residual peak is flagged (e.g. CDCl3).")
+@click.option("--solvent", default=None,
+              help="Deuterated solvent (e.g. CDCl3); a line at its residual position (or at 0 ppm, TMS) is kept in the "
+                   "sample or set aside as solvent/tms by the integrals.")
+@name_option
 @click.option("--claim", type=click.Choice(["aromatic", "antiaromatic", "nonaromatic"]), default=None,
               help="The aromaticity claim to check against the fitted currents (needs PEAKS).")
 @click.option("--noise", default=None, metavar="PPM|auto", help="Model error of a predicted shift (ppm) or 'auto'.")
@@ -304,7 +320,7 @@ def pi_cmd(structure, charge, conformers, seed, temperature, exchange, geometry,
 @click.option("--force", is_flag=True, help="Replace an existing report folder.")
 @click.option("--quiet", is_flag=True, help="No progress messages.")
 def report_cmd(structure, peaks, charge, conformers, seed, temperature, exchange, geometry, model, currents,
-               beta_model, scale, set_current, circuit, solvent, claim, noise, out_dir, force, quiet):
+               beta_model, scale, set_current, circuit, solvent, name, claim, noise, out_dir, force, quiet):
     """Write a self-contained HTML report (with figures, JSON and SDF) for STRUCTURE [and PEAKS]."""
     from pathlib import Path
 
@@ -323,7 +339,7 @@ def report_cmd(structure, peaks, charge, conformers, seed, temperature, exchange
         raise InputError(f"{' and '.join(given)} {'needs' if len(given) == 1 else 'need'} observed peaks: give "
                          "PEAKS after STRUCTURE, or leave the option out")
     pred = _run_predict(structure, charge, conformers, seed, temperature, exchange, geometry, model, currents,
-                        beta_model, scale, set_current, circuit)
+                        beta_model, scale, set_current, circuit, name)
     res = None
     if peaks:
         say("assignment and fit")

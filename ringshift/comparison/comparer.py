@@ -34,9 +34,15 @@ re-solves with one used pair forbidden. The best assignment is the one of lowest
 so cost differences are on the 2 ln B scale; alternatives within ``alternative_max_delta`` are
 reported. Evidence per circuit: see :mod:`ringshift.comparison.evidence` (sign hypotheses from a symmetric prior
 N(0, w²), w = 1.5 × benzene by default, the other circuits keeping their priors). A circuit's
-verdict is the hypothesis with the largest evidence if it leads the runner-up by 2 ln B ≥ 2 (the
-"positive" boundary of Kass & Raftery, JASA 1995, 90, 773), else "inconclusive"; the overall
-verdict is that of the circuit with the largest lead.
+verdict is the hypothesis with the largest evidence if it leads the runner-up by log10 B ≥ 0.43 (2 ln B ≥ 2,
+the "positive" boundary of Kass & Raftery, JASA 1995, 90, 773), else "inconclusive".
+
+The overall verdict: when every circuit is identified (posterior sd ≤ half the prior sd,
+:data:`~ringshift.comparison.evidence.IDENTIFIED_SD_RATIO`) or there is only one, it is that of the circuit
+with the largest lead. When two or more circuits are present and some are not identified, the combined current
+of :mod:`ringshift.comparison.combined` (the a priori pattern scaled as a whole) is fitted too; the verdict is
+that of the identified circuit with the largest lead if that one is decisive, else that of the combined
+current (``verdict_basis`` "combined").
 """
 
 from __future__ import annotations
@@ -44,13 +50,21 @@ from __future__ import annotations
 import math
 import warnings
 from collections.abc import Sequence
+from dataclasses import replace
 from numbers import Integral
 
 import numpy as np
 
 from ringshift import _validation as _v
 from ringshift.comparison.assignment import slot_counts
-from ringshift.comparison.evidence import CLAIM_VERDICT, circuit_fits, claim_check, claim_check_without_circuit
+from ringshift.comparison.combined import combined_current, combined_subject
+from ringshift.comparison.evidence import (
+    CLAIM_VERDICT,
+    circuit_fits,
+    circuit_subject,
+    claim_check,
+    claim_check_without_circuit,
+)
 from ringshift.comparison.records import (
     SIGN_PRIOR_SD_NA_PER_T,
     Alternative,
@@ -85,8 +99,16 @@ MISSING_COST: float = 25.0
 #: Alternatives are reported when their cost exceeds the best by less than this (2 ln B units).
 ALTERNATIVE_MAX_DELTA: float = 2.0
 
-#: Peak kinds never assigned to groups.
-IGNORED_KINDS: frozenset[str] = frozenset({"solvent", "impurity", "reference"})
+#: Peak kinds never assigned to groups (the peak-list names; see :data:`KIND_ALIASES` for older ones).
+IGNORED_KINDS: frozenset[str] = frozenset({"solvent", "impurity", "tms"})
+
+#: Earlier names of peak kinds, still accepted and read as the peak-list names.
+KIND_ALIASES: dict[str, str] = {"signal": "sample", "reference": "tms"}
+
+
+def peak_kind(kind: str) -> str:
+    """The peak-list name of a kind ("signal" → "sample", "reference" → "tms"; others unchanged)."""
+    return KIND_ALIASES.get(kind, kind)
 
 
 def _validate(groups, peaks, circuits) -> None:
@@ -137,10 +159,10 @@ def _validate(groups, peaks, circuits) -> None:
             if int(j) in owner and owner[int(j)] != i:
                 raise InputError(f"group {j} is already fixed to peaks[{owner[int(j)]}]", f"{src}.fixed_groups")
             owner[int(j)] = i
-        if p.fixed_groups and p.kind in IGNORED_KINDS:
+        if p.fixed_groups and peak_kind(p.kind) in IGNORED_KINDS:
             raise InputError(f"a {p.kind!r} peak cannot hold fixed groups", f"{src}.fixed_groups")
-    if all(p.kind in IGNORED_KINDS for p in peaks):
-        raise InputError("every peak is a solvent/impurity/reference peak; expected at least one signal", "peaks")
+    if all(peak_kind(p.kind) in IGNORED_KINDS for p in peaks):
+        raise InputError("every peak is a solvent/tms/impurity peak; expected at least one sample peak", "peaks")
 
 
 def _check_options(noise_ppm, claim, n_alternatives, n_random_starts, integral_scale) -> None:
@@ -211,6 +233,7 @@ def _alternatives(problem, state, neigh, groups, peaks, circuits, width, n_max, 
             delta_cost=float(sc - state.score), changes=changes,
             currents_nA_per_T=tuple(float(cf.current_nA_per_T) for cf in alt_circuits),
             verdicts=tuple(cf.verdict for cf in alt_circuits),
+            delta_cost_log10=float(sc - state.score) / (2.0 * math.log(10.0)),
         ))
     return tuple(out)
 
@@ -291,7 +314,8 @@ def compare(
     _check_options(noise_ppm, claim, n_alternatives, n_random_starts, integral_scale)
     _check_search_options(sign_prior_sd_nA_per_T, overflow_cost_per_h, missing_cost, alternative_max_delta,
                           max_iter)
-    groups, peaks, circuits = tuple(groups), tuple(peaks), tuple(circuits)
+    groups, circuits = tuple(groups), tuple(circuits)
+    peaks = tuple(replace(p, kind=peak_kind(p.kind)) if p.kind in KIND_ALIASES else p for p in peaks)
     width = float(sign_prior_sd_nA_per_T)
     if noise_ppm == "auto":
         grid = NOISE_GRID_PPM
@@ -311,13 +335,28 @@ def compare(
     a, fit = state.assignment, state.fit
 
     circuit_fits = _circuit_results(problem, a, fit, circuits, width)
+    combined = None
+    if len(circuit_fits) >= 2 and not all(cf.identified for cf in circuit_fits):
+        X, y = problem.data(a)
+        combined = combined_current(X, y, problem.prior_mean, problem.prior_sd, problem.noise, problem.n_classes,
+                                    circuit_fits, width)
+    why: str | None = None
+    basis = "circuit"
     if circuit_fits:
-        strongest = max(range(len(circuit_fits)), key=lambda c: (circuit_fits[c].evidence.two_ln_bf_margin, -c))
-        verdict, verdict_circuit = circuit_fits[strongest].verdict, circuit_fits[strongest].label
-        check = None if claim is None else claim_check(claim, circuit_fits[strongest], verdict)
+        pool = [c for c in range(len(circuit_fits)) if combined is None or circuit_fits[c].identified]
+        strongest = max(pool, key=lambda c: (circuit_fits[c].evidence.two_ln_bf_margin, -c), default=None)
+        if combined is not None and (strongest is None or circuit_fits[strongest].verdict == "inconclusive"):
+            basis, verdict, verdict_circuit, why = "combined", combined.verdict, None, combined.note
+            check = None if claim is None else claim_check(claim, combined_subject(combined), combined.evidence,
+                                                           verdict)
+        else:
+            assert strongest is not None, "without a combined current every circuit is in the pool"
+            best = circuit_fits[strongest]
+            verdict, verdict_circuit = best.verdict, best.label
+            check = None if claim is None else claim_check(claim, circuit_subject(best), best.evidence, verdict)
     else:       # no closed conjugated circuit: no ring current can flow, the peaks are assigned by reference shifts
         why = no_circuit_reason or "the molecule has no closed conjugated circuit"
-        verdict, verdict_circuit = "atropic", None
+        basis, verdict, verdict_circuit = "structure", "atropic", None
         check = None if claim is None else claim_check_without_circuit(claim, why)
 
     alternatives = _alternatives(problem, state, neigh, groups, peaks, circuits, width, n_alternatives,
@@ -342,7 +381,7 @@ def compare(
         unassigned_groups=unassigned_groups,
         ignored_peaks=tuple(p for p in range(len(peaks)) if not problem.active[p]),
         alternatives=alternatives,
-        claim=check, verdict_reason=None if circuit_fits else why,
+        claim=check, verdict_reason=why, combined=combined, verdict_basis=basis,
         class_offsets=offsets, noise_ppm=float(problem.noise), noise_estimated=isinstance(noise_ppm, str),
         integral_scale=scale, converged=bool(state.converged), iterations=int(state.iterations),
         start=state.start, cost=float(state.score), log10_evidence=float(fit.log_evidence / math.log(10.0)),

@@ -26,8 +26,12 @@ because p(y | J, φ) p(φ) N(J; 0, w²) = Z_full p(J, φ | y, full) (Bayes' theo
 marginal of J is Gaussian, N(μ_c, Σ_cc), so P(J > 0 | y) = Φ(μ_c / √Σ_cc). Likewise
 Z_para = 2 Z_full Φ(−μ_c / √Σ_cc). The no-current hypothesis fixes J = 0, i.e. drops column c.
 
-Bayes factors are read on the scale of Kass & Raftery (J. Am. Stat. Assoc. 1995, 90, 773, §3.2):
-2 ln B in 0–2 "not worth more than a bare mention", 2–6 "positive", 6–10 "strong", > 10 "very strong".
+Bayes factors are reported on one scale, log10 B (the scale of the tables), and read with the categories of
+Kass & Raftery (J. Am. Stat. Assoc. 1995, 90, 773, §3.2). Their 2 ln B boundaries 2, 6 and 10 are converted
+exactly, log10 B = 2 ln B / (2 ln 10): log10 B in 0–0.43 "not worth more than a bare mention", 0.43–1.30
+"positive", 1.30–2.17 "strong", ≥ 2.17 "very strong". The verdict threshold stays the "positive" boundary
+(2 ln B = 2, log10 B = 0.434), so the verdicts are those of the 2 ln B reading; ``two_ln_bf_margin`` is kept
+in the records for readers of the earlier JSON.
 """
 
 from __future__ import annotations
@@ -54,11 +58,25 @@ KASS_RAFTERY_2LNB: tuple[tuple[float, str], ...] = (
 #: Minimum lead on the 2 ln B scale for a verdict: the "positive" boundary of Kass & Raftery.
 DECISIVE_2LNB: float = 2.0
 
+#: The same categories on the log10 B scale (log10 B = 2 ln B / (2 ln 10)): (lower bound, name).
+KASS_RAFTERY_LOG10: tuple[tuple[float, str], ...] = tuple(
+    (lower / (2.0 * math.log(10.0)), name) for lower, name in KASS_RAFTERY_2LNB)
+
+#: Minimum lead on the log10 B scale for a verdict (DECISIVE_2LNB converted: 2 / (2 ln 10) = 0.434).
+DECISIVE_LOG10: float = DECISIVE_2LNB / (2.0 * math.log(10.0))
+
 #: Hypothesis names and the verdict each one gives.
 HYPOTHESIS_VERDICT = {"dia": "diatropic", "para": "paratropic", "none": "atropic"}
 
 #: Claims and the verdict that supports each.
 CLAIM_VERDICT: dict[str, str] = {"aromatic": "diatropic", "antiaromatic": "paratropic", "nonaromatic": "atropic"}
+
+#: Identifiability rule: a circuit's current is identified by the data when its posterior sd is at most this
+#: fraction of its prior sd. At 0.5 the data carry at least three times the prior's information (precision
+#: 1/sd² grows at least fourfold), and with the default prior sd of one benzene current (12 nA/T) the posterior
+#: sd is then at most 6 nA/T, so a benzene-sized current stands two sd from zero on its own (common practice,
+#: no source). Above it the prior still sets much of the circuit's number and its sign test cannot be decisive.
+IDENTIFIED_SD_RATIO: float = 0.5
 
 #: Two-sided 95 % quantile of the standard normal distribution.
 Z95: float = 1.959963984540054
@@ -274,8 +292,23 @@ def hypothesis_verdict(
     return HypothesisVerdict(verdict, order[0], order[1], float(margin))
 
 
+def evidence_record(ev: SignEvidence, width: float) -> tuple[str, CircuitEvidence]:
+    """The verdict and the evidence record of one sign test (log10 Bayes factors and their category)."""
+    hv = hypothesis_verdict(ev.ln_z_dia, ev.ln_z_para, ev.ln_z_none)
+    ln10 = math.log(10.0)
+    return hv.verdict, CircuitEvidence(
+        log10_bf_dia_vs_none=(ev.ln_z_dia - ev.ln_z_none) / ln10,
+        log10_bf_para_vs_none=(ev.ln_z_para - ev.ln_z_none) / ln10,
+        log10_bf_dia_vs_para=(ev.ln_z_dia - ev.ln_z_para) / ln10,
+        best=HYPOTHESIS_VERDICT[hv.best], runner_up=HYPOTHESIS_VERDICT[hv.runner_up],
+        two_ln_bf_margin=hv.two_ln_b_margin, kass_raftery=kass_raftery_category(hv.two_ln_b_margin),
+        p_diatropic=float(ndtr(ev.mean_nA_per_T / ev.sd_nA_per_T)), sign_prior_sd_nA_per_T=float(width),
+        log10_bf_margin=hv.two_ln_b_margin / (2.0 * ln10),
+    )
+
+
 def circuit_fits(X, y, prior_mean, prior_sd, noise_sd, n_classes, fit, circuits, width) -> tuple[CircuitFit, ...]:
-    """Fitted current and sign evidence of every circuit.
+    """Fitted current, sign evidence and identifiability of every circuit.
 
     Parameters
     ----------
@@ -292,59 +325,74 @@ def circuit_fits(X, y, prior_mean, prior_sd, noise_sd, n_classes, fit, circuits,
     Returns
     -------
     tuple of CircuitFit
+        ``identified`` is :func:`is_identified` of the posterior sd over the prior sd (``sd_ratio``).
     """
     K = n_classes
-    ln10 = math.log(10.0)
     out = []
     for c, circ in enumerate(circuits):
         ev = sign_evidence(X, y, prior_mean, prior_sd, noise_sd, K + c, width)
-        hv = hypothesis_verdict(ev.ln_z_dia, ev.ln_z_para, ev.ln_z_none)
-        evidence = CircuitEvidence(
-            log10_bf_dia_vs_none=(ev.ln_z_dia - ev.ln_z_none) / ln10,
-            log10_bf_para_vs_none=(ev.ln_z_para - ev.ln_z_none) / ln10,
-            log10_bf_dia_vs_para=(ev.ln_z_dia - ev.ln_z_para) / ln10,
-            best=HYPOTHESIS_VERDICT[hv.best], runner_up=HYPOTHESIS_VERDICT[hv.runner_up],
-            two_ln_bf_margin=hv.two_ln_b_margin, kass_raftery=kass_raftery_category(hv.two_ln_b_margin),
-            p_diatropic=float(ndtr(ev.mean_nA_per_T / ev.sd_nA_per_T)), sign_prior_sd_nA_per_T=float(width),
-        )
+        verdict, evidence = evidence_record(ev, width)
         J = float(fit.mean[K + c])
         se = float(math.sqrt(fit.cov[K + c, K + c]))
+        ratio = se / float(circ.prior_sd_nA_per_T)
         out.append(CircuitFit(
-            label=circ.label, verdict=hv.verdict, current_nA_per_T=J,
+            label=circ.label, verdict=verdict, current_nA_per_T=J,
             current_rel_benzene=J / BENZENE_CURRENT_NA_PER_T, stderr_nA_per_T=se,
             ci95_nA_per_T=(J - Z95 * se, J + Z95 * se), prior_nA_per_T=float(circ.prior_nA_per_T),
             prior_sd_nA_per_T=float(circ.prior_sd_nA_per_T), evidence=evidence,
+            identified=is_identified(ratio), sd_ratio=ratio,
         ))
     return tuple(out)
 
 
-def claim_check(claim: str, fit: CircuitFit, verdict: str) -> ClaimCheck:
-    """Check an aromaticity claim against a verdict; the reason is one sentence with the numbers.
+def is_identified(sd_ratio: float) -> bool:
+    """True when the data identify a circuit's current on its own: posterior sd / prior sd ≤
+    :data:`IDENTIFIED_SD_RATIO` (0.5). See the constant for the reason of the threshold."""
+    return bool(sd_ratio <= IDENTIFIED_SD_RATIO)
+
+
+def evidence_phrase(ev: CircuitEvidence) -> str:
+    """"the diatropic hypothesis leads the atropic one by log10 B = 3.2 (very strong)": the lead on the one
+    scale of the reports (log10 Bayes factor) with its Kass & Raftery category."""
+    return (f"the {ev.best} hypothesis leads the {ev.runner_up} one by log10 B = {ev.log10_bf_margin:.2f} "
+            f"({ev.kass_raftery})")
+
+
+def claim_check(claim: str, subject: str, ev: CircuitEvidence, verdict: str) -> ClaimCheck:
+    """Check an aromaticity claim against a verdict; the reason is one sentence that says everything once.
 
     Parameters
     ----------
     claim : {"aromatic", "antiaromatic", "nonaromatic"}
-    fit : CircuitFit
-        The circuit the verdict comes from.
+    subject : str
+        What the verdict rests on, with its numbers, e.g. "circuit 'R1' has J = +14.0 ± 0.5 nA/T
+        (+1.17 × benzene)".
+    ev : CircuitEvidence
+        The evidence behind the verdict.
     verdict : str
         "diatropic", "paratropic", "atropic" or "inconclusive".
 
     Returns
     -------
     ClaimCheck
+        ``reason`` names the claim and the outcome once: "The claim 'aromatic' is supported: <subject> and
+        <evidence>, so the spectrum says diatropic."
     """
-    ev = fit.evidence
-    numbers = (f"circuit '{fit.label}' has J = {fit.current_nA_per_T:+.1f} ± {fit.stderr_nA_per_T:.1f} nA/T "
-               f"({fit.current_rel_benzene:+.2f} × benzene) and the {ev.best} hypothesis leads the "
-               f"{ev.runner_up} one by 2 ln B = {ev.two_ln_bf_margin:.1f} ({ev.kass_raftery})")
+    numbers = f"{subject} and {evidence_phrase(ev)}"
     if verdict == "inconclusive":
         outcome = "inconclusive"
         reason = (f"The claim '{claim}' is neither supported nor contradicted: {numbers}, "
-                  f"short of the {DECISIVE_2LNB:g} needed for a verdict.")
+                  f"short of the {DECISIVE_LOG10:.2f} needed for a verdict.")
     else:
         outcome = "supported" if verdict == CLAIM_VERDICT[claim] else "contradicted"
         reason = f"The claim '{claim}' is {outcome}: {numbers}, so the spectrum says {verdict}."
     return ClaimCheck(claim, outcome, reason)
+
+
+def circuit_subject(fit: CircuitFit) -> str:
+    """The subject of a claim check that rests on one circuit: its label and fitted current."""
+    return (f"circuit '{fit.label}' has J = {fit.current_nA_per_T:+.1f} ± {fit.stderr_nA_per_T:.1f} nA/T "
+            f"({fit.current_rel_benzene:+.2f} × benzene)")
 
 
 def claim_check_without_circuit(claim: str, reason: str) -> ClaimCheck:

@@ -39,15 +39,17 @@ class ObservedPeak:
     label : str
         Name used in reports (default: the shift).
     kind : str
-        "signal" (default); kinds in :data:`IGNORED_KINDS` ("solvent", "impurity", "reference") are
-        never assigned.
+        The peak-list kinds: "sample" (default, a line of the molecule), "solvent", "tms" or "impurity";
+        kinds in :data:`~ringshift.comparison.comparer.IGNORED_KINDS` (solvent, tms, impurity) are never
+        assigned. The earlier names "signal" (= sample) and "reference" (= tms) are still accepted and read
+        as the new ones.
     """
 
     shift_ppm: float
     integral: float | None = None
     fixed_groups: tuple[int, ...] | None = None
     label: str = ""
-    kind: str = "signal"
+    kind: str = "sample"
 
 
 @dataclass(frozen=True, eq=False)
@@ -125,9 +127,12 @@ class ClassOffset(ToDictMixin):
 class Comparison(ToDictMixin):
     """Result of :func:`compare`.
 
-    ``verdict`` is the verdict of the circuit with the largest evidence margin (``verdict_circuit``);
-    without any closed conjugated circuit it is "atropic", ``verdict_circuit`` is None and
-    ``verdict_reason`` says why.
+    ``verdict_basis`` says what the verdict rests on: "circuit" (the identified circuit with the largest
+    evidence margin, ``verdict_circuit``), "combined" (the circuits are not separately identified, so the
+    verdict is that of ``combined``, the one current the data do determine; ``verdict_circuit`` is None and
+    ``verdict_reason`` says so) or "structure" (no closed conjugated circuit: "atropic", ``verdict_circuit``
+    None and ``verdict_reason`` says why). ``combined`` is given whenever some circuit of two or more is not
+    identified (see :func:`ringshift.comparison.combined.combined_current`), else None.
     ``cost`` is the assignment cost (module docstring), ``log10_evidence`` the log10 marginal
     likelihood of the assigned shifts. ``start`` names the starting current of the winning search,
     ``iterations`` its assignment/fit cycles and ``converged`` whether it reached a fixed point.
@@ -153,6 +158,8 @@ class Comparison(ToDictMixin):
     cost: float
     log10_evidence: float
     verdict_reason: str | None = None
+    combined: CombinedCurrent | None = None
+    verdict_basis: str = "circuit"
 
     def to_dict(self) -> dict:
         """Plain JSON-able dict; unassigned peaks and groups are given with labels."""
@@ -171,7 +178,7 @@ class Comparison(ToDictMixin):
 class CandidateScore(ToDictMixin):
     """Rank of one candidate structure by :func:`rank_candidates`.
 
-    ``cost`` = the comparison cost + ``unassigned_peak_cost`` × unassigned signal peaks;
+    ``cost`` = the comparison cost + ``unassigned_peak_cost`` × unassigned sample peaks;
     ``log10_bf_vs_best`` = −(cost − best cost) / (2 ln 10); ``probability`` ∝ exp(−cost/2) with
     equal prior probabilities of the candidates.
     """
@@ -236,22 +243,25 @@ class PeakSummary(ToDictMixin):
 
 @dataclass(frozen=True)
 class Alternative(ToDictMixin):
-    """An assignment nearly as good as the best: its extra cost (2 ln B units), what moved
-    (group label, from peak, to peak; None = unassigned) and the currents and verdicts it implies."""
+    """An assignment nearly as good as the best: its extra cost (2 ln B units, ``delta_cost``; the same as
+    ``delta_cost_log10`` on the log10 scale of the reports), what moved (group label, from peak, to
+    peak; None = unassigned) and the currents and verdicts it implies (empty without a circuit)."""
 
     delta_cost: float
     changes: tuple[tuple[str, str | None, str | None], ...]
     currents_nA_per_T: tuple[float, ...]
     verdicts: tuple[str, ...]
+    delta_cost_log10: float = 0.0
 
 
 @dataclass(frozen=True)
 class CircuitEvidence(ToDictMixin):
     """Evidence for the sign of one circuit's current.
 
-    ``log10_bf_*`` are log10 Bayes factors; ``two_ln_bf_margin`` is 2 ln B of the best hypothesis
-    over the runner-up, read on the Kass & Raftery scale (``kass_raftery``); ``p_diatropic`` is
-    P(J > 0 | data) under the symmetric prior of width ``sign_prior_sd_nA_per_T``.
+    ``log10_bf_*`` are log10 Bayes factors; ``log10_bf_margin`` is log10 B of the best hypothesis over the
+    runner-up (``two_ln_bf_margin`` the same on the 2 ln B scale, kept for earlier readers), read with the
+    categories of Kass & Raftery (``kass_raftery``); ``p_diatropic`` is P(J > 0 | data) under the symmetric
+    prior of width ``sign_prior_sd_nA_per_T``.
     """
 
     log10_bf_dia_vs_none: float
@@ -263,11 +273,18 @@ class CircuitEvidence(ToDictMixin):
     kass_raftery: str
     p_diatropic: float
     sign_prior_sd_nA_per_T: float
+    log10_bf_margin: float
 
 
 @dataclass(frozen=True)
 class CircuitFit(ToDictMixin):
-    """Fitted current of one circuit (posterior under its :class:`CircuitPrior`) and its verdict."""
+    """Fitted current of one circuit (posterior under its :class:`CircuitPrior`) and its verdict.
+
+    ``sd_ratio`` is the posterior sd over the prior sd of the current; ``identified`` is True when it is at
+    most :data:`ringshift.comparison.evidence.IDENTIFIED_SD_RATIO` (the data determine this circuit on
+    its own). For a circuit that is not identified only the interval ``ci95_nA_per_T`` is meaningful: the
+    split of the current between the circuits is set by the prior, not the spectrum.
+    """
 
     label: str
     verdict: str
@@ -278,6 +295,40 @@ class CircuitFit(ToDictMixin):
     prior_nA_per_T: float
     prior_sd_nA_per_T: float
     evidence: CircuitEvidence
+    identified: bool = True
+    sd_ratio: float | None = None
+
+
+@dataclass(frozen=True)
+class CombinedCurrent(ToDictMixin):
+    """The one current the data determine when the circuits are not separately identified.
+
+    Every circuit carries ``weights[c]`` × J (``weights`` in the order of ``circuits``, the labels): with
+    ``basis`` "a priori pattern" the weights are the a priori currents over that of ``lead_circuit`` (the
+    circuit with the largest |a priori current|), so J is the lead circuit's current and the others keep the
+    a priori proportions; ``scale_vs_a_priori`` = J / (a priori current of the lead circuit) is the common
+    scale s of the a priori pattern (1 = as computed, 0 = no current). With ``basis`` "common current" (no a
+    priori current) every weight is 1 and ``scale_vs_a_priori`` is None. J, its sd and 95 % interval
+    (nA/T), the verdict and its evidence come from the same closed-form fit and sign test as a circuit's.
+    ``unidentified`` lists the circuits the data do not separate; ``note`` says so in one sentence.
+    """
+
+    basis: str
+    lead_circuit: str
+    circuits: tuple[str, ...]
+    weights: tuple[float, ...]
+    verdict: str
+    current_nA_per_T: float
+    current_rel_benzene: float
+    stderr_nA_per_T: float
+    ci95_nA_per_T: tuple[float, float]
+    scale_vs_a_priori: float | None
+    scale_ci95: tuple[float, float] | None
+    prior_nA_per_T: float
+    prior_sd_nA_per_T: float
+    evidence: CircuitEvidence
+    unidentified: tuple[str, ...]
+    note: str
 
 
 @dataclass(frozen=True)

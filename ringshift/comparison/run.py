@@ -15,7 +15,7 @@ import numpy as np
 
 from ringshift._display import ComparisonDisplay
 from ringshift._numbers import text
-from ringshift.comparison.comparer import IGNORED_KINDS
+from ringshift.comparison.comparer import IGNORED_KINDS, peak_kind
 from ringshift.comparison.comparer import compare as _cmp_compare
 from ringshift.comparison.records import CircuitPrior, Comparison, GroupModel, ObservedPeak
 from ringshift.constants import BENZENE_CURRENT_NA_PER_T
@@ -33,8 +33,6 @@ __all__ = ['run_compare', 'group_models', 'circuit_priors', 'observed_peaks', 'C
 #: current either way lets the data move the current freely while keeping an ill-determined circuit
 #: near theory (common practice, no source).
 PRIOR_SD_NA_PER_T = BENZENE_CURRENT_NA_PER_T
-
-_KIND = {"sample": "signal", "tms": "reference", "solvent": "solvent", "impurity": "impurity"}
 
 
 @dataclass(frozen=True)
@@ -80,9 +78,9 @@ def observed_peaks(peaklist, pred) -> list[ObservedPeak]:
                 raise InputError(f"peak at {shift} ppm is fixed to atoms {sorted(want)}, which are "
                                  "neither hydrogens nor heavy atoms carrying hydrogens (0-based indices, as in the "
                                  "prediction's JSON)", where)
-            if _KIND.get(p.kind, p.kind) in IGNORED_KINDS:
+            if peak_kind(p.kind) in IGNORED_KINDS:
                 raise InputError(f"peak at {shift} ppm is marked {p.kind!r} and also fixed to atoms "
-                                 f"{sorted(want)}; a solvent, reference or impurity line holds no protons of the "
+                                 f"{sorted(want)}; a solvent, tms or impurity line holds no protons of the "
                                  "molecule (drop its atoms, or its kind)", where)
             for gi in fixed:
                 if gi in owner and owner[gi][0] != k:
@@ -92,7 +90,7 @@ def observed_peaks(peaklist, pred) -> list[ObservedPeak]:
                                      f"peak at {owner[gi][1]} ppm; equivalent protons share one peak", where)
                 owner[gi] = (k, shift)
         out.append(ObservedPeak(shift_ppm=float(p.shift_ppm), integral=p.integral, fixed_groups=fixed,
-                                    label=p.label or text(p.shift_ppm, ".2f"), kind=_KIND.get(p.kind, p.kind)))
+                                    label=p.label or text(p.shift_ppm, ".2f"), kind=peak_kind(p.kind)))
     return out
 
 
@@ -114,7 +112,7 @@ def run_compare(pred, peaklist, *, claim: str | None = None, noise_ppm=None, see
     obs = observed_peaks(peaklist, pred)
     if not obs:
         raise InputError("no peaks found; expected at least one sample peak", peaklist.source)
-    if not any(o.kind == "signal" for o in obs):
+    if not any(o.kind == "sample" for o in obs):
         raise InputError("no sample peaks (only solvent/TMS/impurity peaks)", peaklist.source)
     why = None if pred.circuits else no_circuit_reason(pred.structure.mol)
     comp = _cmp_compare(group_models(pred), obs, circuit_priors(pred), noise_ppm=noise_ppm, claim=claim, seed=seed,

@@ -76,6 +76,9 @@ class Structure:
     provenance : dict
         Format, coordinate method, counts, seed, temperature and thresholds, the geometry route
         (``geometry``, with ``geometry_refinement`` for GFN2-xTB) and the exchange rule (``exchange``).
+    label : str or None
+        The compound's name given by the user (``name=`` of the API, ``--name`` of the CLI); it is then also
+        ``name``, so every title shows it. None when not given.
     """
 
     name: str
@@ -87,6 +90,7 @@ class Structure:
     charge: int
     h_groups: tuple[tuple[int, ...], ...]
     provenance: dict
+    label: str | None = None
 
     def __repr__(self) -> str:
         """One line: name, formula, atoms, conformers and charge (the arrays stay out of the text)."""

@@ -7,7 +7,7 @@ canvases) and writes atomically. SVG text stays text (``svg.fonttype = 'none'``)
 Visual language (chosen to survive greyscale printing): observed data in near-black solid lines and
 filled diamonds; fitted predictions as filled circles and solid bars; a priori (Hückel–London)
 predictions hollow with hatching; reference shifts as hollow squares; unassigned peaks as crosses;
-solvent and reference peaks as grey down-triangles. Every ppm axis runs downfield-left (decreasing to
+solvent, TMS and impurity peaks as grey down-triangles. Every ppm axis runs downfield-left (decreasing to
 the right), as on a spectrum. Shielding maps and the normal scan are in :mod:`ringshift.reporting.maps`,
 the RDKit structure drawing in :mod:`ringshift.reporting.sdf`.
 """
@@ -178,15 +178,15 @@ def spectrum_figure(source, peaklist=None, *, width_in: float = 8.0) -> Figure:
             rows.append((ga.label, ga.predicted_ppm, ga.prior_predicted_ppm, ga.observed_ppm, ga.n_h))
     else:
         rows = [(g.label, None, g.predicted_ppm, None, g.n_h) for g in pred.groups if g.predicted_ppm is not None]
-    peaks = []  # (shift, kind, tag) kind in signal/unassigned/other
+    peaks = []  # (shift, kind, tag) kind in sample/unassigned/other
     if comp is not None:
         unassigned = set(comp.unassigned_peaks)
         for pk in comp.peaks:
-            kind = "unassigned" if pk.index in unassigned else ("signal" if pk.kind == "signal" else "other")
+            kind = "unassigned" if pk.index in unassigned else ("sample" if pk.kind == "sample" else "other")
             peaks.append((pk.shift_ppm, kind, _PEAK_TAG.get(pk.kind, pk.kind)))
     elif peaklist is not None:
         for pk in peaklist.peaks:
-            peaks.append((pk.shift_ppm, "signal" if pk.kind == "sample" else "other", _PEAK_TAG.get(pk.kind, pk.kind)))
+            peaks.append((pk.shift_ppm, "sample" if pk.kind == "sample" else "other", _PEAK_TAG.get(pk.kind, pk.kind)))
     xs = [v for r in rows for v in r[1:4] if v is not None] + [p[0] for p in peaks]
     if not xs:
         raise InputError("nothing to draw: the molecule has no hydrogens and no peaks were given", "source")
@@ -215,7 +215,7 @@ def spectrum_figure(source, peaklist=None, *, width_in: float = 8.0) -> Figure:
             top = np.array([_height_at(ppm, y, s) if peaklist is not None else 0.0 for s in shifts])
             lab_x = spread_positions(-shifts, gap) * -1
             for (s, kind, tag), h, lx in zip(peaks, top, lab_x):
-                if kind == "signal":
+                if kind == "sample":
                     text, col = _ppm2(s), INK
                 elif kind == "unassigned":
                     text, col = f"{_ppm2(s)} unassigned", UNASSIGNED

@@ -24,6 +24,7 @@ from pathlib import Path
 
 from ringshift.errors import InputError, OutputError
 from ringshift.geometry.circuits import MISALIGNMENT_LIMIT_DEG, PLANARITY_LIMIT_A
+from ringshift.reporting.html_fit import fit_section_body, verdict_box
 from ringshift.reporting.html_peaks import nmredata_html, reference_lines_html, write_nmredata_file
 from ringshift.reporting.html_text import (
     CSS,
@@ -200,14 +201,7 @@ def render_html(results: dict, pi: dict | None, figures: list[tuple[str, str, st
                f"shielding model {esc(str(pred['model']))}{peaks}</p></header>")
     # verdict and caution first: they are what a reader must not miss
     if comp:
-        claim = results.get("claim")
-        box = (f'<div class="verdict"><div class="big">The spectrum says: {esc(results["verdict"])}</div>'
-               + (f"<div>decided by circuit {esc(str(results['verdict_circuit']))}</div>"
-                  if results.get("verdict_circuit") is not None else
-                  f"<div>{esc(str(results.get('verdict_reason') or 'no circuit'))}</div>"))
-        if claim:
-            box += (f"<p><b>Claim “{esc(claim['claim'])}”: {esc(claim['outcome'])}.</b> {esc(claim['reason'])}</p>")
-        out.append(box + "</div>")
+        out.append(verdict_box(results))
     else:
         out.append('<div class="verdict"><div class="big">A priori prediction</div>'
                    "<div>No spectrum was compared: the shifts below rest on the model currents alone.</div></div>")
@@ -265,30 +259,10 @@ def render_html(results: dict, pi: dict | None, figures: list[tuple[str, str, st
     out.append(_section("circuits", "Circuits and a priori currents", body))
 
     if comp:
-        cols = [("circuit", ("label",), None), ("verdict", ("verdict",), None),
-                ("J fitted (nA/T)", ("current_nA_per_T",), "+.2f"), ("± s.e.", ("stderr_nA_per_T",), ".2f"),
-                ("95 % low", ("ci95_nA_per_T", 0), "+.2f"), ("95 % high", ("ci95_nA_per_T", 1), "+.2f"),
-                ("× benzene", ("current_rel_benzene",), "+.3f"), ("a priori (nA/T)", ("prior_nA_per_T",), "+.2f"),
-                ("prior sd (nA/T)", ("prior_sd_nA_per_T",), ".1f")]
-        body = pg.table("results", ("circuits",), cols)
-        body += "<h3>Evidence for the sign of each current</h3>" + pg.table("results", ("circuits",), [
-            ("circuit", ("label",), None), ("log₁₀ BF diatropic : none", ("evidence", "log10_bf_dia_vs_none"), "+.2f"),
-            ("log₁₀ BF paratropic : none", ("evidence", "log10_bf_para_vs_none"), "+.2f"),
-            ("best", ("evidence", "best"), None), ("runner-up", ("evidence", "runner_up"), None),
-            ("2 ln B margin", ("evidence", "two_ln_bf_margin"), ".2f"),
-            ("strength (Kass–Raftery)", ("evidence", "kass_raftery"), None),
-            ("P(J > 0)", ("evidence", "p_diatropic"), ".4f")])
-        body += "<h3>Fit settings</h3>" + pg.kv("results", [
-            ("model error σ (ppm)", ("noise_ppm",), ".3f"),
-            ("σ chosen by maximum evidence", ("noise_estimated",), None),
-            ("integral scale", ("integral_scale",), ".4f"), ("converged", ("converged",), None),
-            ("iterations", ("iterations",), None), ("winning start", ("start",), None),
-            ("assignment cost (2 ln B units)", ("cost",), ".3f"), ("log10 evidence", ("log10_evidence",), ".3f")])
-        body += "<h3>Class offsets</h3>" + pg.table("results", ("class_offsets",), [
-            ("proton class", ("proton_class",), None), ("offset (ppm)", ("offset_ppm",), "+.3f"),
-            ("sd (ppm)", ("sd_ppm",), ".3f"), ("prior sd (ppm)", ("prior_sd_ppm",), ".3f")])
+        body = fit_section_body(pg, results)
         out.append(_section("fit", "Fitted currents with 95 % intervals", body))
-        cols = [("group", ("label",), None), ("index", ("index",), None), ("nH", ("n_h",), None),
+        cols: list[tuple[str, tuple, str | None]] = [
+            ("group", ("label",), None), ("index", ("index",), None), ("nH", ("n_h",), None),
                 ("class", ("proton_class",), None), ("peak", ("peak_label",), None),
                 ("observed", ("observed_ppm",), ".2f"), ("predicted", ("predicted_ppm",), ".2f"),
                 ("± sd", ("predicted_sd_ppm",), ".2f"), ("residual", ("residual_ppm",), "+.2f"),
@@ -313,7 +287,7 @@ def render_html(results: dict, pi: dict | None, figures: list[tuple[str, str, st
                 ("group", ("label",), None), ("index", ("index",), None)])
         if results["alternatives"]:
             body += "<h3>Alternative assignments</h3>" + pg.table("results", ("alternatives",), [
-                ("Δ cost (2 ln B)", ("delta_cost",), "+.2f"), ("moves (group, from, to)", ("changes",), None),
+                ("log₁₀ BF best : this", ("delta_cost_log10",), ".2f"), ("moves (group, from, to)", ("changes",), None),
                 ("currents (nA/T)", ("currents_nA_per_T",), "+.2f"),
                 ("verdicts", ("verdicts",), None)])
         out.append(_section("assignment", "Assignment and residuals", body + nmredata_html(files, nmredata_note)))

@@ -13,6 +13,7 @@ from typing import TYPE_CHECKING
 
 from ringshift._numbers import rounded as _r
 from ringshift._numbers import text
+from ringshift.comparison.evidence import DECISIVE_LOG10, KASS_RAFTERY_LOG10
 from ringshift.reporting.json import CAUTION
 from ringshift.reporting.pi_summary import circuit_verdict
 
@@ -26,23 +27,26 @@ __all__ = ['comparison_text']
 def comparison_text(res: CompareResult) -> str:
     """Readable summary: verdict, currents with intervals, assignment with residuals, warnings."""
     c = res.comparison
-    lines = [f"{res.prediction.structure.name} against {res.peaks.source}",
-             f"verdict: {c.verdict} (decided by circuit {c.verdict_circuit})" if c.verdict_circuit is not None
-             else f"verdict: {c.verdict} ({c.verdict_reason})"]
+    lines = [f"{res.prediction.structure.name} against {res.peaks.source}", "verdict: " + verdict_phrase(c)]
     if c.claim is not None:
-        d = c.claim.to_dict()
-        lines.append(f"claim '{d['claim']}': {d['outcome']}. {d['reason']}")
+        lines.append(c.claim.reason)        # one sentence that names the claim, the outcome and the numbers
     lines.append("")
     if c.circuits:
         lines.append("circuit  verdict       J fitted (nA/T)    95% interval     × benzene  a priori  "
-                     "log10 BF dia:none  para:none  evidence")
+                     "log10 BF dia:none  para:none  lead")
     for cf in c.circuits:
         ev = cf.evidence
         ci = cf.ci95_nA_per_T
-        lines.append(f"{cf.label:<8} {cf.verdict:<13} {cf.current_nA_per_T:+8.2f}  ±  {cf.stderr_nA_per_T:<5.2f} "
-                     f"[{ci[0]:+6.1f}, {ci[1]:+6.1f}]   {cf.current_rel_benzene:+7.2f}   {cf.prior_nA_per_T:+7.1f}  "
-                     f"{ev.log10_bf_dia_vs_none:+17.1f}  {ev.log10_bf_para_vs_none:+9.1f}  "
-                     f"{ev.best} over {ev.runner_up}: {ev.kass_raftery}")
+        point = (f"{cf.current_nA_per_T:+8.2f}  ±  {cf.stderr_nA_per_T:<5.2f}" if cf.identified
+                 else f"{'not identified':<19}")
+        rel = f"{cf.current_rel_benzene:+7.2f}" if cf.identified else " " * 7
+        lines.append(f"{cf.label:<8} {cf.verdict:<13} {point} "
+                     f"[{ci[0]:+6.1f}, {ci[1]:+6.1f}]   {rel}   {cf.prior_nA_per_T:+7.1f}  "
+                     f"{ev.log10_bf_dia_vs_none:+17.1f}  {ev.log10_bf_para_vs_none:+9.1f}  {lead_phrase(ev)}")
+    if c.combined is not None:
+        lines.extend(combined_lines(c.combined))
+    if c.circuits:
+        lines.append(EVIDENCE_SCALE)
     lines.append("")
     lines.append("group  nH  class                     peak     observed  predicted  residual  ring current  "
                  "ref. needed without current")
@@ -57,17 +61,59 @@ def comparison_text(res: CompareResult) -> str:
     if c.unassigned_groups:
         lines.append("unassigned groups: " + ", ".join(c.assignment[i].label for i in c.unassigned_groups))
     if c.ignored_peaks:
-        lines.append("not assigned (solvent/reference): " +
-                     ", ".join(text(c.peaks[i].shift_ppm, ".2f") for i in c.ignored_peaks))
+        lines.append("not assigned (solvent, tms or impurity lines): " +
+                     ", ".join(f"{text(c.peaks[i].shift_ppm, '.2f')} ({c.peaks[i].kind})" for i in c.ignored_peaks))
     for a in c.alternatives:
-        moves = "; ".join(f"{g} {src or '-'} -> {dst or '-'}" for g, src, dst in a.changes)
-        lines.append(f"alternative assignment (+{a.delta_cost:.2f} in 2 ln B): {moves}; "
-                     f"verdicts {', '.join(a.verdicts)}")
+        lines.append(alternative_line(a))
     for wmsg in list(res.peaks.warnings) + list(res.prediction.warnings):
         lines.append(f"note: {wmsg}")
     lines.append("")
     lines.append(f"Caution: {CAUTION}")
     return "\n".join(lines) + "\n"
+
+
+#: How the reports read Bayes factors (one scale everywhere: log10 B).
+EVIDENCE_SCALE = (f"Evidence as log10 Bayes factors (B > 1 favours the first hypothesis). Categories of Kass & Raftery "
+                  f"(JASA 1995, 90, 773), their 2 ln B bounds 2, 6, 10 converted to log10 B: below "
+                  f"{KASS_RAFTERY_LOG10[1][0]:.2f} {KASS_RAFTERY_LOG10[0][1]}, from {KASS_RAFTERY_LOG10[1][0]:.2f} "
+                  f"{KASS_RAFTERY_LOG10[1][1]}, from {KASS_RAFTERY_LOG10[2][0]:.2f} {KASS_RAFTERY_LOG10[2][1]}, from "
+                  f"{KASS_RAFTERY_LOG10[3][0]:.2f} {KASS_RAFTERY_LOG10[3][1]}; a verdict needs a lead of "
+                  f"{DECISIVE_LOG10:.2f}.")
+
+
+def verdict_phrase(c) -> str:
+    """"diatropic (decided by circuit M1)": the overall verdict and what it rests on."""
+    if c.verdict_basis == "combined":
+        return f"{c.verdict} (decided by the combined current of the circuits, whose split the data do not identify)"
+    if c.verdict_circuit is not None:
+        return f"{c.verdict} (decided by circuit {c.verdict_circuit})"
+    return f"{c.verdict} ({c.verdict_reason})"
+
+
+def lead_phrase(ev) -> str:
+    """"diatropic over atropic: log10 B 3.21, very strong": the favoured hypothesis and its lead."""
+    return f"{ev.best} over {ev.runner_up}: log10 B {ev.log10_bf_margin:.2f}, {ev.kass_raftery}"
+
+
+def combined_lines(cb) -> list[str]:
+    """The combined current in two lines: its value with interval and evidence, and what is not identified."""
+    how = ("all circuits scaled together with the a priori pattern" if cb.basis == "a priori pattern"
+           else "one common current in every circuit")
+    ci = cb.ci95_nA_per_T
+    scale = ("" if cb.scale_vs_a_priori is None else
+             f", {cb.scale_vs_a_priori:.2f} × the a priori pattern [{cb.scale_ci95[0]:.2f}, {cb.scale_ci95[1]:.2f}]")
+    return [f"combined current ({how}; J of lead circuit {cb.lead_circuit}): {cb.verdict}, "
+            f"J = {cb.current_nA_per_T:+.2f} ± {cb.stderr_nA_per_T:.2f} nA/T [{ci[0]:+.1f}, {ci[1]:+.1f}], "
+            f"{cb.current_rel_benzene:+.2f} × benzene{scale}; {lead_phrase(cb.evidence)}",
+            f"split between circuits not identified by the data: {', '.join(cb.unidentified)} (posterior sd above "
+            "half the prior sd); their rows give the 95 % interval only"]
+
+
+def alternative_line(a) -> str:
+    """One alternative assignment: how much worse (log10 B), what moved and, with circuits, their verdicts."""
+    moves = "; ".join(f"{g} {src or '-'} -> {dst or '-'}" for g, src, dst in a.changes)
+    tail = f"; verdicts {', '.join(a.verdicts)}" if a.verdicts else ""
+    return f"alternative assignment (log10 B {a.delta_cost_log10:.2f} below the best): {moves}{tail}"
 
 
 def _fmt_cell(x, spec="8.2f"):

@@ -127,3 +127,31 @@ def test_trajectory_bad_weights_and_groups(tmp_path, capsys, extra, text, msg):
     code, _, err = run(argv, capsys)
     assert code == 2 and msg in err and len(err.strip().splitlines()) == 1, err
     assert not out_file.exists()
+
+
+def test_name_labels_titles_and_json(tmp_path, capsys):
+    # --name replaces the SMILES in every title and goes into the JSON as compound_name (additive field);
+    # without it compound_name is null. A name that is not one printable line is refused with one line.
+    code, out, err = run(["predict", "c1ccccc1", "--conformers", "1", "--name", "benzene (ref.)"], capsys)
+    assert code == 0, err
+    assert out.startswith("benzene (ref.): 6 H")
+    code, out, err = run(["predict", "c1ccccc1", "--conformers", "1", "--format", "json"], capsys)
+    assert code == 0 and json.loads(out)["compound_name"] is None
+    peaks = tmp_path / "p.csv"
+    peaks.write_text("shift_ppm,integral,kind\n7.36,6,\n0.00,0.2,tms\n", encoding="utf-8")
+    code, out, err = run(["compare", "c1ccccc1", str(peaks), "--conformers", "1", "--name", "Benzene"], capsys)
+    assert code == 0, err
+    assert out.splitlines()[0].startswith("Benzene against ")
+    assert "0.00 (tms)" in out and "signal" not in out and "reference)" not in out
+    assert "log10 Bayes factors" in out and "2 ln B =" not in out
+    out_dir = tmp_path / "rep"
+    code, _, err = run(["report", "c1ccccc1", str(peaks), "-o", str(out_dir), "--quiet", "--conformers", "1",
+                        "--name", "Benzene"], capsys)
+    assert code == 0, err
+    page = (out_dir / "report.html").read_text(encoding="utf-8")
+    assert "<title>ringshift report: Benzene</title>" in page
+    data = json.loads((out_dir / "results.json").read_text())
+    assert data["name"] == data["compound_name"] == "Benzene"
+    assert data["prediction"]["compound_name"] == "Benzene"
+    code, _, err = run(["predict", "c1ccccc1", "--name", "two\nlines"], capsys)
+    assert code == 2 and "--name" in err and len(err.strip().splitlines()) == 1

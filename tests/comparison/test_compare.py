@@ -473,7 +473,10 @@ def test_claim_check_wording(J, claim, outcome):
     assert check.claim == claim and check.outcome == outcome
     fit = result.circuits[0]
     assert f"J = {fit.current_nA_per_T:+.1f} ± {fit.stderr_nA_per_T:.1f} nA/T" in check.reason
-    assert f"2 ln B = {fit.evidence.two_ln_bf_margin:.1f}" in check.reason
+    # one evidence scale in the words: log10 B, the Kass & Raftery (JASA 1995, 90, 773) 2 ln B divided by 2 ln 10
+    assert f"log10 B = {fit.evidence.log10_bf_margin:.2f}" in check.reason and "2 ln B" not in check.reason
+    assert_allclose(fit.evidence.log10_bf_margin, fit.evidence.two_ln_bf_margin / (2 * math.log(10)), rtol=1e-12)
+    assert check.reason.count(f"'{claim}'") == 1 and check.reason.count(outcome) == 1  # said once
     assert f"is {outcome}" in check.reason
     assert check.reason.endswith(".") and ". " not in check.reason and "\n" not in check.reason
 
@@ -488,7 +491,7 @@ def test_claim_check_inconclusive():
     result = compare(groups, peaks, PRIOR, claim="aromatic")
     assert result.verdict == "inconclusive"
     assert result.claim.outcome == "inconclusive"
-    assert "neither supported nor contradicted" in result.claim.reason and "2 ln B = " in result.claim.reason
+    assert "neither supported nor contradicted" in result.claim.reason and "log10 B = " in result.claim.reason
 
 
 def test_rank_candidates_picks_generating_structure():

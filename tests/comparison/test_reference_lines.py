@@ -43,7 +43,7 @@ def test_annulene14_inner_protons_at_zero_are_not_tms(tmp_path):
     res = _run(tmp_path, ANNULENE14, [(7.60, 10), (0.00, 4)], claim="aromatic")
     comp = res.comparison
     inner = _peak(res, 0.0)
-    assert inner.kind == "signal" and inner.assigned_h == 4
+    assert inner.kind == "sample" and inner.assigned_h == 4
     # the embedding puts exactly those 4 H inside: their ring-current shift is upfield, the others' downfield
     held = [comp.assignment[i] for i in inner.groups]
     assert all(g.ring_current_ppm < 0 for g in held)
@@ -59,7 +59,7 @@ def test_methano10annulene_ring_line_at_cdcl3_keeps_its_protons(tmp_path):
     res = _run(tmp_path, "C1=CC=C2CC(=C1)C=CC=C2", [(7.27, 4), (6.95, 4), (-0.52, 2)], solvent="CDCl3")
     comp = res.comparison
     assert [(_peak(res, s).kind, _peak(res, s).assigned_h) for s in (7.27, 6.95, -0.52)] == [
-        ("signal", 4), ("signal", 4), ("signal", 2)]
+        ("sample", 4), ("sample", 4), ("sample", 2)]
     assert comp.verdict == "diatropic" and not comp.ignored_peaks
     assert "taken as a sample line" in comparison_text(res)
 
@@ -77,7 +77,7 @@ def test_benzene_on_the_cdcl3_line_works(tmp_path):
     # Benzene is a singlet near 7.3 ppm in CDCl3 (7.36, Fulmer et al. 2010; 7.27 as typed in issue 13;
     # common practice that the two coincide within the residual tolerance).
     res = _run(tmp_path, "c1ccccc1", [(7.27, 6)], solvent="CDCl3", claim="aromatic")
-    assert _peak(res, 7.27).kind == "signal" and _peak(res, 7.27).assigned_h == 6
+    assert _peak(res, 7.27).kind == "sample" and _peak(res, 7.27).assigned_h == 6
     assert res.comparison.verdict == "diatropic"
 
 
@@ -85,7 +85,7 @@ def test_small_residual_and_tms_lines_are_taken_as_reference(tmp_path):
     # Benzene 7.36 (6 H) with a small CDCl3 residual (0.3 of a proton) and TMS (0.2) (Fulmer et al.
     # 2010): a line of a fraction of a proton is not a line of the molecule.
     res = _run(tmp_path, "c1ccccc1", [(7.36, 6), (7.26, 0.3), (0.0, 0.2)], solvent="CDCl3")
-    assert (_peak(res, 7.26).kind, _peak(res, 0.0).kind) == ("solvent", "reference")
+    assert (_peak(res, 7.26).kind, _peak(res, 0.0).kind) == ("solvent", "tms")
     assert _peak(res, 7.36).assigned_h == 6
     notes = " ".join(res.peaks.warnings)
     assert "taken as the CDCl3 residual (7.26 ppm) line" in notes and "taken as the TMS (0.00 ppm) line" in notes

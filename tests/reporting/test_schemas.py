@@ -22,8 +22,8 @@ from rdkit.Chem import AllChem
 from referencing import Registry, Resource
 
 from ringshift.cli import main
+from ringshift.comparison.comparer import KIND_ALIASES
 from ringshift.comparison.evidence import CLAIM_VERDICT, HYPOTHESIS_VERDICT, KASS_RAFTERY_2LNB
-from ringshift.comparison.run import _KIND as PEAK_KIND_IN_JSON
 from ringshift.constants import BETA_MODELS, MODELS, TRAJECTORY_CURRENTS
 from ringshift.io.structures import load_structure
 from ringshift.reporting import schemas
@@ -115,7 +115,8 @@ def test_vocabularies_match_the_code():
     assert set(defs["evidence"]["properties"]["best"]["enum"]) == set(HYPOTHESIS_VERDICT.values())
     assert set(comp["properties"]["verdict"]["enum"]) == set(HYPOTHESIS_VERDICT.values()) | {"inconclusive"}
     assert set(defs["claim"]["properties"]["claim"]["enum"]) == set(CLAIM_VERDICT)
-    assert set(defs["peak"]["properties"]["kind"]["enum"]) == {PEAK_KIND_IN_JSON.get(k, k) for k in PEAK_KINDS}
+    # one name per peak kind: the JSON writes the peak-list kinds and still accepts the earlier names
+    assert set(defs["peak"]["properties"]["kind"]["enum"]) == set(PEAK_KINDS) | set(KIND_ALIASES)
 
 
 # ------------------------------------------------------------------------------------- real outputs valid
@@ -207,7 +208,7 @@ def outputs(tmp_path_factory):
 def test_demo_comparisons_validate(outputs):
     table, jcamp = outputs["comparison_table"], outputs["comparison_jcamp"]
     assert table["claim"]["outcome"] == "supported" and jcamp["claim"] is None
-    assert jcamp["unassigned_peaks"] and "reference" in {p["kind"] for p in jcamp["peaks"]}
+    assert jcamp["unassigned_peaks"] and "tms" in {p["kind"] for p in jcamp["peaks"]}
     assert all(p["assigned_h"] >= 0 for p in table["peaks"]) and table["verdict"] == "diatropic"
     assert_valid("comparison", table)
     assert_valid("comparison", jcamp)
