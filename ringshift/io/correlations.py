@@ -28,15 +28,12 @@ import re
 from dataclasses import dataclass
 
 from ringshift import limits as _limits
+from ringshift.comparison.couplings import CORRELATION_KINDS
 from ringshift.errors import InputError
 
 __all__ = ["Correlation", "CorrelationList", "MatchedCorrelation", "CORRELATION_KINDS", "parse_correlations",
            "read_correlations", "match_correlations"]
 
-#: Kinds of cross peak and the H–H bond counts (through bonds) that may give each.
-CORRELATION_KINDS: dict[str, tuple[int, ...]] = {
-    "cosy": (3, 4), "vicinal": (3,), "long-range": (4,), "geminal": (2,),
-}
 
 #: Default matching tolerance between a cross-peak coordinate and a 1D peak, ppm. The F1 axis of a routine
 #: COSY has a digital resolution of a few hundredths of a ppm (common practice, no source).
