@@ -356,7 +356,8 @@ def compare(
         starts = starting_points(plain.prior_mean, plain.prior_sd, plain.n_classes, int(n_random_starts), width,
                                  int(seed))
         one_d, _ = polish(plain, _assign_search(plain, starts, int(max_iter)), int(max_iter))
-        corr_check = correlation_check(correlations, problem, a, one_d.assignment, one_d.score, groups, peaks, peak_label)
+        corr_check = correlation_check(correlations, problem, a, one_d.assignment, one_d.score, groups, peaks,
+                                       peak_label)
 
     circuit_fits = _circuit_results(problem, a, fit, circuits, width)
     if circuit_fits:

@@ -230,15 +230,15 @@ def correlation_check(evidence: CouplingEvidence, problem, a: np.ndarray, a_1d: 
     for c, (pa, pb, ok) in zip(evidence.pairs, problem.links):
         kind_mask = sum(1 << k for k in CORRELATION_KINDS[c.kind])
 
-        def status(x, pa=pa, pb=pb, ok=ok):
+        def pair_status(x, pa=pa, pb=pb, ok=ok):
             return "confirmed" if ok[np.ix_(x == pa, x == pb)].any() else "violated"
-        st = status(a)
+        st = pair_status(a)
         bonds = _bonds(evidence.group_masks, np.flatnonzero(a == pa), np.flatnonzero(a == pb), kind_mask)
         pair_rows.append(PairCheck(
             where=c.where, kind=c.kind, strength=c.strength, peak_a=pa, peak_b=pb,
             peak_a_label=peak_label(peaks[pa]), peak_b_label=peak_label(peaks[pb]),
             groups_a=_labels(a, pa, groups), groups_b=_labels(a, pb, groups), status=st,
-            bonds=bonds if st == "confirmed" else None, status_1d=status(a_1d)))
+            bonds=bonds if st == "confirmed" else None, status_1d=pair_status(a_1d)))
     forbidden, reasons = coupling_forbidden(evidence.partners, evidence.peak_j, problem.active)
     labels = [g.label for g in groups]
     j_rows = []

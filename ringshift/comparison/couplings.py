@@ -36,8 +36,8 @@ from dataclasses import dataclass
 
 import numpy as np
 
-__all__ = ["CORRELATION_KINDS", "J_RANGES_HZ", "Partner", "bond_distances", "mol_bond_distances", "group_bond_masks", "karplus_hz",
-           "dihedral_deg", "vicinal_partners", "couplings_consistent", "categories_of_coupling",
+__all__ = ["CORRELATION_KINDS", "J_RANGES_HZ", "Partner", "bond_distances", "mol_bond_distances", "group_bond_masks",
+           "karplus_hz", "dihedral_deg", "vicinal_partners", "couplings_consistent", "categories_of_coupling",
            "MAX_BONDS_TRACKED", "partner_text", "bonds_mask"]
 
 #: Kinds of cross peak (the ``kind`` column of a correlation list) and the H–H bond counts through bonds that may

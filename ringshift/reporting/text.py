@@ -13,6 +13,7 @@ from typing import TYPE_CHECKING
 
 from ringshift._numbers import rounded as _r
 from ringshift._numbers import text
+from ringshift.reporting.correlations import correlation_lines
 from ringshift.reporting.json import CAUTION
 from ringshift.reporting.pi_summary import circuit_verdict
 
@@ -63,6 +64,7 @@ def comparison_text(res: CompareResult) -> str:
         moves = "; ".join(f"{g} {src or '-'} -> {dst or '-'}" for g, src, dst in a.changes)
         lines.append(f"alternative assignment (+{a.delta_cost:.2f} in 2 ln B): {moves}; "
                      f"verdicts {', '.join(a.verdicts)}")
+    lines += correlation_lines(c.correlations)
     for wmsg in list(res.peaks.warnings) + list(res.prediction.warnings):
         lines.append(f"note: {wmsg}")
     lines.append("")
