@@ -11,10 +11,11 @@ vicinal partners of every group, from :mod:`ringshift.comparison.couplings`). Ho
 * **Correlations are pairwise** (two peaks must hold a 3- or 4-bond neighbour pair of groups; with overlapping
   groups at a peak any of them may supply it), so no (group, peak) pair can be forbidden on their account
   without excluding valid overlaps. Each unmet cross peak adds ``correlation_cost`` (2 ln B units) to the
-  assignment cost (:func:`violated`); :func:`repair` then searches, for every unmet cross peak, every
-  neighbour pair (g at one end, h at the other), holding g and h there and re-running the matching/fit
-  alternation (exact for the remaining groups) for the others, and keeps the cheapest result while the cost
-  falls. The pair swaps and forbidden-pair re-solves of ``search.polish`` then run on the penalised cost.
+  assignment cost (:func:`violated`); :func:`repair` then runs a beam search over *witnesses*: for an unmet
+  cross peak it holds a neighbour pair (g at one end, h at the other) in place, re-runs the matching/fit
+  alternation for the other groups (exactly optimal matching for them), and goes on with the next unmet cross
+  peak while keeping the witnesses chosen so far; the cheapest assignment seen wins. The pair swaps and
+  forbidden-pair re-solves of ``search.polish`` then run on the penalised cost.
 """
 
 from __future__ import annotations
@@ -175,36 +176,50 @@ def violated(links, a: np.ndarray) -> int:
     return sum(1 for pa, pb, ok in links if not ok[np.ix_(a == pa, a == pb)].any())
 
 
-def repair(problem, best, max_iter: int, rounds: int = 10):
-    """Local search over unmet cross peaks (module notes); returns the cheapest ``SearchState`` found."""
+def repair(problem, best, max_iter: int, beam: int = 6):
+    """Beam search over witnesses of the unmet cross peaks (module notes); returns the cheapest ``SearchState``.
+
+    A node holds some groups at chosen peaks (the witnesses picked so far) and the assignment the matching/fit
+    alternation gives the others. A node is expanded on its first unmet cross peak (a ← b in file order): one child
+    per neighbour pair (g, h) allowed there and compatible with the node's held groups. Every unmet cross peak must
+    get some witness, so branching on one of them loses no solution; the ``beam`` cheapest children of each depth
+    are kept, for at most one depth per cross peak.
+    """
     from ringshift.comparison.search import SearchState, search
 
-    forbidden = problem.forbidden if problem.forbidden is not None else np.zeros(
-        (problem.X.shape[0], problem.peak_ppm.shape[0]), dtype=bool)
-    for _ in range(rounds):
-        a = best.assignment
-        unmet = [(pa, pb, ok) for pa, pb, ok in problem.links if not ok[np.ix_(a == pa, a == pb)].any()]
-        found = None
-        tried: set[tuple[int, int, int, int]] = set()
-        for pa, pb, ok in unmet:
+    n, n_peaks = problem.X.shape[0], problem.peak_ppm.shape[0]
+    forbidden = problem.forbidden if problem.forbidden is not None else np.zeros((n, n_peaks), dtype=bool)
+
+    def unmet(a):
+        return [(pa, pb, ok) for pa, pb, ok in problem.links if not ok[np.ix_(a == pa, a == pb)].any()]
+
+    level = [(problem.fixed, best)] if unmet(best.assignment) else []
+    seen = {tuple(int(v) for v in best.assignment)}
+    for _ in range(len(problem.links)):
+        children = []
+        for held_at, state in level:
+            pa, pb, ok = unmet(state.assignment)[0]
             for g, h in zip(*np.nonzero(ok)):
                 g, h = int(g), int(h)
-                if (g, pa, h, pb) in tried or forbidden[g, pa] or forbidden[h, pb]:
+                if forbidden[g, pa] or forbidden[h, pb] or held_at[g] not in (-1, pa) or held_at[h] not in (-1, pb):
                     continue
-                tried.add((g, pa, h, pb))
-                if problem.fixed[g] not in (-1, pa) or problem.fixed[h] not in (-1, pb):
-                    continue
-                fixed = problem.fixed.copy()
+                fixed = held_at.copy()
                 fixed[g], fixed[h] = pa, pb
-                held = dataclasses.replace(problem, fixed=fixed)
-                st = search(held, [(best.start, best.fit.mean, best.fit.cov)], max_iter)
-                score = problem.score(st.assignment, st.fit)
-                if found is None or score < found.score - 1e-9:
-                    found = SearchState(st.assignment, st.fit, score, best.iterations + st.iterations, st.converged,
-                                        best.start)
-        if found is None or found.score >= best.score - 1e-9:
-            return best
-        best = found
+                st = search(dataclasses.replace(problem, fixed=fixed), [(best.start, state.fit.mean, state.fit.cov)],
+                            max_iter)
+                key = tuple(int(v) for v in st.assignment)
+                if key in seen:
+                    continue
+                seen.add(key)
+                child = SearchState(st.assignment, st.fit, problem.score(st.assignment, st.fit),
+                                    best.iterations + st.iterations, st.converged, best.start)
+                if child.score < best.score - 1e-9:
+                    best = child
+                if unmet(child.assignment):
+                    children.append((fixed, child))
+        if not children:
+            break
+        level = sorted(children, key=lambda c: (c[1].score, tuple(int(v) for v in c[1].assignment)))[:beam]
     return best
 
 
