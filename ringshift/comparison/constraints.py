@@ -180,10 +180,10 @@ def repair(problem, best, max_iter: int, beam: int = 6):
     """Beam search over witnesses of the unmet cross peaks (module notes); returns the cheapest ``SearchState``.
 
     A node holds some groups at chosen peaks (the witnesses picked so far) and the assignment the matching/fit
-    alternation gives the others. A node is expanded on its first unmet cross peak (a ← b in file order): one child
-    per neighbour pair (g, h) allowed there and compatible with the node's held groups. Every unmet cross peak must
-    get some witness, so branching on one of them loses no solution; the ``beam`` cheapest children of each depth
-    are kept, for at most one depth per cross peak.
+    alternation gives the others. A node is expanded on its first unmet cross peak (in file order): one child per
+    neighbour pair (g, h) allowed there and compatible with the node's held groups. Every unmet cross peak must get
+    some witness, so branching on one of them alone would lose no solution of the full tree; the search keeps only
+    the ``beam`` cheapest children of each depth (a heuristic cut), for at most one depth per cross peak.
     """
     from ringshift.comparison.search import SearchState, search
 

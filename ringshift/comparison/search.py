@@ -17,6 +17,7 @@ import numpy as np
 
 from ringshift._numbers import text
 from ringshift.comparison.assignment import overflow_protons, pair_swaps, solve_assignment, standardized_cost
+from ringshift.comparison.constraints import violated
 from ringshift.comparison.evidence import LinearGaussianFit, linear_gaussian_fit
 from ringshift.comparison.records import GroupAssignment
 
@@ -66,7 +67,7 @@ class SearchProblem:
     def score(self, a: np.ndarray, fit: LinearGaussianFit) -> float:
         """Cost −2 ln Z + overflow, missing and unmet-correlation penalties (2 ln B units)."""
         over = overflow_protons(a, self.n_h, self.slots, self.has_integral)
-        unmet = sum(1 for pa, pb, ok in self.links if not ok[np.ix_(a == pa, a == pb)].any())
+        unmet = violated(self.links, a) if self.links else 0
         return (-2.0 * fit.log_evidence + self.overflow_cost * over + self.missing_cost * int(np.sum(a < 0))
                 + self.correlation_cost * unmet)
 

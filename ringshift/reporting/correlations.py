@@ -61,14 +61,16 @@ def correlation_section(pg, results: dict) -> str:
     check = results.get("correlations")
     if not check:
         return ""
-    body = ('<p class="sub">A cross peak is confirmed when its two peaks hold groups whose protons are 3 or 4 bonds '
-            "apart (H–C–C–H, H–C–C–C–H; any member of a group of equivalent protons counts). “1D alone” is the "
-            "assignment found without correlations and couplings.</p>")
-    body += pg.table("results", ("correlations", "pairs"), [
-        ("row", ("where",), None), ("kind", ("kind",), None), ("strength", ("strength",), None),
-        ("peak a", ("peak_a_label",), None), ("peak b", ("peak_b_label",), None),
-        ("groups at a", ("groups_a",), None), ("groups at b", ("groups_b",), None),
-        ("H–H bonds", ("bonds",), None), ("final", ("status",), None), ("1D alone", ("status_1d",), None)])
+    body = ('<p class="sub">“1D alone” is the assignment found from the shifts and integrals without correlations '
+            "and couplings.</p>")
+    if check["source"] is not None:
+        body += ('<p class="sub">A cross peak is confirmed when its two peaks hold groups whose protons are 3 or 4 '
+                 "bonds apart (H–C–C–H, H–C–C–C–H; any member of a group of equivalent protons counts).</p>")
+        body += pg.table("results", ("correlations", "pairs"), [
+            ("row", ("where",), None), ("kind", ("kind",), None), ("strength", ("strength",), None),
+            ("peak a", ("peak_a_label",), None), ("peak b", ("peak_b_label",), None),
+            ("groups at a", ("groups_a",), None), ("groups at b", ("groups_b",), None),
+            ("H–H bonds", ("bonds",), None), ("final", ("status",), None), ("1D alone", ("status_1d",), None)])
     if check["couplings"]:
         body += "<h3>Couplings (³J, Hz)</h3>" + pg.table("results", ("correlations", "couplings"), [
             ("peak", ("peak_label",), None), ("J (Hz)", ("j_hz",), ".1f"), ("groups", ("groups",), None),
