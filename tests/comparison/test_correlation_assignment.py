@@ -107,6 +107,33 @@ def test_couplings_forbid_pairs_in_the_matching():
     assert {c.by for c in comp.correlations.changes} == {"couplings"}
 
 
+def test_couplings_that_fit_no_group_forbid_nothing_and_are_reported():
+    # invented: p1 lists J = 16 Hz but no group has a trans partner; the assignment is then the 1D one
+    partners = ((Partner(2, "cis", 6.0, 12.0, 0.0),), (Partner(2, "cis", 6.0, 12.0, 0.0),), ())
+    ev = _evidence(peak_j=((16.0,), None, None), partners=partners)
+    plain = compare(_groups(), PEAKS, PRIOR)
+    comp = compare(_groups(), PEAKS, PRIOR, correlations=ev)
+    assert _peaks_of(comp) == _peaks_of(plain)
+    (row,) = comp.correlations.couplings
+    assert row.status == "inconsistent" and row.ruled_out_groups == () and "16" in row.reason
+
+
+@pytest.mark.filterwarnings("ignore::ringshift.errors.AssignmentWarning")   # contradictory invented data
+@pytest.mark.parametrize("seed", [0, 1, 2], ids=["seed0", "seed1", "seed2"])
+def test_forbidden_pairs_are_never_used(seed):
+    # invented: random couplings on random peaks; whatever the search does, no group sits where its couplings
+    # forbid it (unless every group is forbidden there, when nothing is)
+    rng = np.random.default_rng(seed)
+    partners = ((Partner(2, "trans", 12.0, 18.0, 180.0),), (Partner(2, "cis", 6.0, 12.0, 0.0),), ())
+    peak_j = tuple((float(rng.uniform(6.5, 17.5)),) if rng.random() < 0.7 else None for _ in PEAKS)
+    from ringshift.comparison.constraints import coupling_forbidden
+
+    forbidden, _ = coupling_forbidden(partners, peak_j, np.ones(len(PEAKS), dtype=bool))
+    comp = compare(_groups(), PEAKS, PRIOR, correlations=_evidence(peak_j=peak_j, partners=partners), seed=seed)
+    for i, g in enumerate(comp.assignment):
+        assert g.peak_index is None or not forbidden[i, g.peak_index]
+
+
 def test_malformed_evidence_is_refused():
     with pytest.raises(InputError, match="expected two different peak indices"):
         compare(_groups(), PEAKS, PRIOR, correlations=_evidence([MatchedCorrelation(0, 7, "cosy", None, "x:2")]))
