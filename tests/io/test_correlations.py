@@ -7,6 +7,8 @@ one-line errors, not chemistry.
 from __future__ import annotations
 
 import pytest
+from hypothesis import HealthCheck, given, settings
+from hypothesis import strategies as st
 
 from ringshift.errors import InputError
 from ringshift.io.correlations import (
@@ -155,3 +157,25 @@ def test_peak_record_validates_j():
         Peak(6.0, j_hz=(45.0,))
     with pytest.raises(InputError, match="sequence of coupling constants"):
         Peak(6.0, j_hz="7.5")
+
+
+# -------------------------------------------------------------------------------------- properties
+_CHUNKS = ["\n", ",", ";", "\t", " ", "#", "shift_a_ppm", "shift_b_ppm", "kind", "strength", "cosy", "geminal",
+           "7.10", "2.35", "-0", "nan", "inf", "1e400", "pA", "\ufeff", "\u2212", "# tolerance_ppm = ", "0.02", '"']
+
+
+@settings(max_examples=150, deadline=None, suppress_health_check=[HealthCheck.too_slow])
+@given(st.lists(st.sampled_from(_CHUNKS), max_size=40))
+def test_random_text_gives_a_list_or_an_input_error(chunks):
+    # common practice, no source: a reader fails only with its one-line error type
+    text = "".join(chunks)
+    try:
+        clist = parse_correlations(text, source="fuzz.csv")
+    except InputError as exc:
+        assert "\n" not in str(exc)
+        return
+    assert 0 < clist.tolerance_ppm <= 1
+    try:
+        match_correlations(clist, PEAKS)
+    except InputError as exc:
+        assert "\n" not in str(exc)
