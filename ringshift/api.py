@@ -33,6 +33,7 @@ if TYPE_CHECKING:
     from typing import TypeAlias
 
     from ringshift.comparison.run import CompareResult
+    from ringshift.io.correlations import CorrelationList
     from ringshift.io.structures import Structure
     from ringshift.shifts.records import Prediction
     from ringshift.spectra.peaks import PeakList
@@ -320,7 +321,8 @@ def compare(structure: StructureLike | Prediction, peaks: str | os.PathLike[str]
             set_current: Mapping[str, float] | None = None, user_circuits: Sequence[Sequence[int]] | None = None,
             separation_A: float | None = None, charge: int | None = None, conformers: int | None = None,
             temperature_K: float | None = None, fmt: str | None = None, exchange: str | None = None,
-            geometry: str | None = None, name: str | None = None) -> CompareResult:
+            geometry: str | None = None, name: str | None = None,
+            correlations: str | os.PathLike[str] | CorrelationList | None = None) -> CompareResult:
     """Assign observed peaks to a structure's protons, fit its ring currents and give a verdict.
 
     Parameters
@@ -346,6 +348,11 @@ def compare(structure: StructureLike | Prediction, peaks: str | os.PathLike[str]
         As in :func:`load_structure`; only with a SMILES or a path.
     name : str, optional
         The compound's name for titles, as in :func:`predict` (also for a Prediction given here).
+    correlations : str, path or CorrelationList, optional
+        H–H correlations (COSY cross peaks): a correlation CSV (``shift_a_ppm``, ``shift_b_ppm``, optional
+        ``kind`` and ``strength``; :mod:`ringshift.io.correlations`) or a list already read. Correlated peaks must
+        hold groups whose protons are 3 or 4 bonds apart; couplings in the peak list's ``j_hz`` column are used
+        with or without it. ``comparison.correlations`` reports what they confirmed and ruled out.
 
     Returns
     -------
@@ -365,10 +372,18 @@ def compare(structure: StructureLike | Prediction, peaks: str | os.PathLike[str]
     """
     from ringshift._validation import compound_name
     from ringshift.comparison.run import run_compare
+    from ringshift.io.correlations import CorrelationList, read_correlations
     from ringshift.spectra.peaks import PeakList
 
     _compare_options(claim, noise_ppm, solvent)
     label = compound_name(name)
+    cross: CorrelationList | None = correlations if isinstance(correlations, CorrelationList) else None
+    if correlations is not None and not isinstance(correlations, CorrelationList):
+        corr_path = _path(correlations)
+        if corr_path is None:
+            raise InputError(f"expected a path to a correlation CSV or a CorrelationList, got "
+                             f"{type(correlations).__name__}", "correlations")
+        cross = read_correlations(corr_path)
     peak_path = _path(peaks)
     if peak_path is None and not isinstance(peaks, PeakList):
         raise InputError(f"expected a path to a peak table or JCAMP-DX file, or a PeakList, got "
@@ -388,7 +403,7 @@ def compare(structure: StructureLike | Prediction, peaks: str | os.PathLike[str]
         peak_list = peaks  # type: ignore[assignment]
     with _api_names():
         return run_compare(pred, peak_list, claim=claim, noise_ppm=noise_ppm,
-                           seed=DEFAULT_SEED if seed is None else seed)
+                           seed=DEFAULT_SEED if seed is None else seed, correlations=cross)
 
 
 def _prediction(structure, *, seed, model, currents, beta_model, scale, set_current, user_circuits, separation_A,
@@ -416,7 +431,8 @@ def report(structure: StructureLike | Prediction | CompareResult,
            user_circuits: Sequence[Sequence[int]] | None = None, separation_A: float | None = None,
            charge: int | None = None, conformers: int | None = None, temperature_K: float | None = None,
            fmt: str | None = None, exchange: str | None = None, geometry: str | None = None,
-           name: str | None = None) -> dict[str, Path]:
+           name: str | None = None,
+           correlations: str | os.PathLike[str] | CorrelationList | None = None) -> dict[str, Path]:
     """Write a self-contained report folder (HTML page, figures, JSON, SDF) and return its files.
 
     Parameters
@@ -430,7 +446,7 @@ def report(structure: StructureLike | Prediction | CompareResult,
         The folder to create; it must not exist unless ``force=True`` (then it is replaced).
     force : bool
         Replace an existing folder.
-    claim, solvent, noise_ppm : optional
+    claim, solvent, noise_ppm, correlations : optional
         As in :func:`compare`; they need ``peaks``.
     seed, model, currents, beta_model, scale, set_current, user_circuits, separation_A : optional
         As in :func:`compare`.
@@ -470,7 +486,7 @@ def report(structure: StructureLike | Prediction | CompareResult,
         raise InputError(f"expected True or False, got {force!r}", "force")
     if Path(out).exists() and not force:  # refuse before any work is done
         raise OutputError(f"{out}: already exists; pass force=True to replace it")
-    compare_opts = {"claim": claim, "solvent": solvent, "noise_ppm": noise_ppm}
+    compare_opts = {"claim": claim, "solvent": solvent, "noise_ppm": noise_ppm, "correlations": correlations}
     model_opts = {"seed": seed, "model": model, "currents": currents, "beta_model": beta_model, "scale": scale,
                   "set_current": set_current, "user_circuits": user_circuits, "separation_A": separation_A,
                   "charge": charge, "conformers": conformers, "temperature_K": temperature_K, "fmt": fmt,
@@ -484,7 +500,7 @@ def report(structure: StructureLike | Prediction | CompareResult,
                          currents=currents, beta_model=beta_model, scale=scale, set_current=set_current,
                          user_circuits=user_circuits, separation_A=separation_A, charge=charge,
                          conformers=conformers, temperature_K=temperature_K, fmt=fmt, exchange=exchange,
-                         geometry=geometry)
+                         geometry=geometry, correlations=correlations)
     else:
         _not_given(compare_opts, "comparison options need observed peaks (give peaks)")
         result = None

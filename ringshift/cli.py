@@ -28,6 +28,7 @@ OPTION_OF_PARAMETER = {
     "solvent": "--solvent", "weights": "--weights", "energy_unit": "--energy-unit", "memory_MB": "--memory",
     "jobs": "--jobs", "scheduler": "--scheduler", "contour_max_ppm": "--contour-max",
     "circuit": "--for-circuit", "exchange": "--exchange", "geometry": "--geometry", "name": "--name",
+    "correlations": "--correlations",
 }
 
 #: Choices of --exchange and --geometry: ringshift.geometry.symmetry.EXCHANGE_RULES and
@@ -222,6 +223,9 @@ def predict_cmd(structure, charge, conformers, seed, temperature, exchange, geom
               help="Check an aromaticity claim against the spectrum.")
 @click.option("--noise", default=None, metavar="PPM|auto",
               help="Model error of a predicted shift in ppm [default: 0.3], or 'auto' (maximum evidence).")
+@click.option("--correlations", type=click.Path(dir_okay=False), default=None, metavar="FILE",
+              help="H-H correlation list (COSY cross peaks, CSV: shift_a_ppm,shift_b_ppm[,kind,strength]) used as "
+                   "evidence in the assignment.")
 @click.option("--format", "fmt", type=_Format("text", "json"), default="text", show_default=True,
               help="Readable text or JSON.")
 @click.option("-o", "--output", type=click.Path(dir_okay=False), default=None, help="Write to FILE (atomically).")
@@ -230,13 +234,15 @@ def predict_cmd(structure, charge, conformers, seed, temperature, exchange, geom
                    "frequency: '# observe_mhz = 400' in a CSV peak table, or a JCAMP-DX file).")
 @click.option("--force", is_flag=True, help="Overwrite an existing output file.")
 def compare_cmd(structure, peaks, charge, conformers, seed, temperature, exchange, geometry, model, currents,
-                beta_model, scale, set_current, circuit, solvent, name, claim, noise, fmt, output, nmredata, force):
+                beta_model, scale, set_current, circuit, solvent, name, claim, noise, correlations, fmt, output,
+                nmredata, force):
     """Assign the observed PEAKS (CSV/TSV or JCAMP-DX) to STRUCTURE, fit its ring currents, give a verdict."""
     from ringshift.comparison.run import run_compare
     from ringshift.io.peak_tables import read_peaks
     from ringshift.reporting.json import comparison_to_dict, to_json
     from ringshift.reporting.text import comparison_text
 
+    cross = _correlations(correlations)  # read first: a bad file fails before the prediction is computed
     pred = _run_predict(structure, charge, conformers, seed, temperature, exchange, geometry, model, currents,
                         beta_model, scale, set_current, circuit, name)
     pl = read_peaks(peaks, n_hydrogens=len(pred.protons), solvent=solvent)
@@ -252,17 +258,25 @@ def compare_cmd(structure, peaks, charge, conformers, seed, temperature, exchang
         if exists(nmredata) and not force:
             raise OutputError(f"{nmredata}: already exists; use --force to overwrite it")
         larmor_mhz_of(pl)
-    res = run_compare(pred, pl, claim=claim, noise_ppm=_noise(noise), seed=seed)
+    res = run_compare(pred, pl, claim=claim, noise_ppm=_noise(noise), seed=seed, correlations=cross)
     if fmt == "json":
         text = to_json(comparison_to_dict(res))
     else:
         text = comparison_text(res)
-    _emit(text, output, force, (structure, peaks))
+    _emit(text, output, force, (structure, peaks) + ((correlations,) if correlations else ()))
     if nmredata:
         from ringshift.io.nmredata import write_nmredata
 
         write_nmredata(nmredata, res, force=force, inputs=(structure, peaks))
         click.echo(f"wrote {nmredata}", err=True)
+
+
+def _correlations(path):
+    if path is None:
+        return None
+    from ringshift.io.correlations import read_correlations
+
+    return read_correlations(path)
 
 
 def _noise(value):
@@ -315,12 +329,16 @@ def pi_cmd(structure, charge, conformers, seed, temperature, exchange, geometry,
 @click.option("--claim", type=click.Choice(["aromatic", "antiaromatic", "nonaromatic"]), default=None,
               help="The aromaticity claim to check against the fitted currents (needs PEAKS).")
 @click.option("--noise", default=None, metavar="PPM|auto", help="Model error of a predicted shift (ppm) or 'auto'.")
+@click.option("--correlations", type=click.Path(dir_okay=False), default=None, metavar="FILE",
+              help="H-H correlation list (COSY cross peaks, CSV: shift_a_ppm,shift_b_ppm[,kind,strength]) used as "
+                   "evidence in the assignment.")
 @click.option("-o", "--output", "out_dir", type=click.Path(file_okay=False), required=True,
               help="New folder for the report (HTML, figures, JSON, SDF).")
 @click.option("--force", is_flag=True, help="Replace an existing report folder.")
 @click.option("--quiet", is_flag=True, help="No progress messages.")
 def report_cmd(structure, peaks, charge, conformers, seed, temperature, exchange, geometry, model, currents,
-               beta_model, scale, set_current, circuit, solvent, name, claim, noise, out_dir, force, quiet):
+               beta_model, scale, set_current, circuit, solvent, name, claim, noise, correlations, out_dir, force,
+               quiet):
     """Write a self-contained HTML report (with figures, JSON and SDF) for STRUCTURE [and PEAKS]."""
     from pathlib import Path
 
@@ -334,17 +352,19 @@ def report_cmd(structure, peaks, charge, conformers, seed, temperature, exchange
         raise OutputError(f"{out_dir}: already exists; use --force to replace it")
     say = (lambda m: None) if quiet else (lambda m: click.echo(f"... {m}", err=True))
     say("structure, pi system and ring currents")
-    if not peaks and (claim or noise is not None or solvent):
-        given = [o for o, v in (("--claim", claim), ("--noise", noise), ("--solvent", solvent)) if v]
+    if not peaks and (claim or noise is not None or solvent or correlations):
+        given = [o for o, v in (("--claim", claim), ("--noise", noise), ("--solvent", solvent),
+                                ("--correlations", correlations)) if v]
         raise InputError(f"{' and '.join(given)} {'needs' if len(given) == 1 else 'need'} observed peaks: give "
                          "PEAKS after STRUCTURE, or leave the option out")
+    cross = _correlations(correlations)
     pred = _run_predict(structure, charge, conformers, seed, temperature, exchange, geometry, model, currents,
                         beta_model, scale, set_current, circuit, name)
     res = None
     if peaks:
         say("assignment and fit")
         pl = read_peaks(peaks, n_hydrogens=len(pred.protons), solvent=solvent)
-        res = run_compare(pred, pl, claim=claim, noise_ppm=_noise(noise), seed=seed)
+        res = run_compare(pred, pl, claim=claim, noise_ppm=_noise(noise), seed=seed, correlations=cross)
     say("figures and report")
     paths = write_report(out_dir, pred, compare_result=res,
                          pi_summary=pi_summary(pred.structure, beta_model=beta_model, prediction=pred), force=force)

@@ -47,6 +47,7 @@ current (``verdict_basis`` "combined").
 
 from __future__ import annotations
 
+import dataclasses
 import math
 import warnings
 from collections.abc import Sequence
@@ -58,6 +59,14 @@ import numpy as np
 from ringshift import _validation as _v
 from ringshift.comparison.assignment import slot_counts
 from ringshift.comparison.combined import combined_current, combined_subject
+from ringshift.comparison.constraints import (
+    CORRELATION_COST,
+    CouplingEvidence,
+    correlation_check,
+    coupling_forbidden,
+    pair_links,
+    repair,
+)
 from ringshift.comparison.evidence import (
     CLAIM_VERDICT,
     circuit_fits,
@@ -177,7 +186,24 @@ def _check_options(noise_ppm, claim, n_alternatives, n_random_starts, integral_s
         _v.real(integral_scale, "integral_scale", positive=True)
 
 
-def _build_problem(groups, peaks, circuits, noise, integral_scale, overflow_cost, missing_cost):
+def _check_evidence(ev, n: int, n_peaks: int) -> None:
+    """Shapes and indices of the 2D/multiplet evidence against the groups (n) and peaks (P)."""
+    from ringshift.comparison.couplings import CORRELATION_KINDS
+
+    if not isinstance(ev, CouplingEvidence):
+        raise InputError(f"expected a CouplingEvidence or None, got {type(ev).__name__}", "correlations")
+    masks = np.asarray(ev.group_masks)
+    if masks.shape != (n, n) or len(ev.partners) != n or len(ev.peak_j) != n_peaks:
+        raise InputError(f"group masks {masks.shape}, {len(ev.partners)} partner lists and {len(ev.peak_j)} "
+                         f"coupling lists; expected ({n}, {n}), {n} and {n_peaks}", "correlations")
+    for c in ev.pairs:
+        ok = all(isinstance(v, (Integral, np.integer)) and 0 <= int(v) < n_peaks for v in (c.peak_a, c.peak_b))
+        if not ok or c.peak_a == c.peak_b or c.kind not in CORRELATION_KINDS:
+            raise InputError(f"cross peak {c.peak_a}-{c.peak_b} ({c.kind!r}); expected two different peak indices "
+                             f"0..{n_peaks - 1} and a kind among {sorted(CORRELATION_KINDS)}", c.where)
+
+
+def _build_problem(groups, peaks, circuits, noise, integral_scale, overflow_cost, missing_cost, evidence=None):
     classes = list(dict.fromkeys(g.proton_class for g in groups))
     n, K, C = len(groups), len(classes), len(circuits)
     X = np.zeros((n, K + C))
@@ -207,6 +233,11 @@ def _build_problem(groups, peaks, circuits, noise, integral_scale, overflow_cost
         prior_mean=prior_mean, prior_sd=prior_sd, n_classes=K, noise=float(noise),
         overflow_cost=float(overflow_cost), missing_cost=float(missing_cost),
     )
+    if evidence is not None:
+        forbidden, _ = coupling_forbidden(evidence.partners, evidence.peak_j, active)
+        problem = dataclasses.replace(problem, forbidden=forbidden if forbidden.any() else None,
+                                      links=pair_links(evidence.pairs, evidence.group_masks),
+                                      correlation_cost=CORRELATION_COST)
     return problem, classes, float(integral_scale)
 
 
@@ -264,6 +295,7 @@ def compare(
     alternative_max_delta: float = ALTERNATIVE_MAX_DELTA,
     max_iter: int = 25,
     no_circuit_reason: str | None = None,
+    correlations: CouplingEvidence | None = None,
 ) -> Comparison:
     """Assign peaks to groups, fit the circuit currents and weigh the evidence for their sign.
 
@@ -299,6 +331,10 @@ def compare(
         Maximum assignment/fit cycles per start.
     no_circuit_reason : str, optional
         Why there is no circuit (one sentence); used only when ``circuits`` is empty.
+    correlations : CouplingEvidence, optional
+        2D cross peaks and ³J couplings (:mod:`ringshift.comparison.constraints`): couplings forbid (group, peak)
+        pairs, each unmet cross peak costs :data:`~ringshift.comparison.constraints.CORRELATION_COST`; the
+        result's ``correlations`` reports what they confirmed and ruled out against the 1D evidence alone.
 
     Returns
     -------
@@ -316,6 +352,8 @@ def compare(
                           max_iter)
     groups, circuits = tuple(groups), tuple(circuits)
     peaks = tuple(replace(p, kind=peak_kind(p.kind)) if p.kind in KIND_ALIASES else p for p in peaks)
+    if correlations is not None:
+        _check_evidence(correlations, len(groups), len(peaks))
     width = float(sign_prior_sd_nA_per_T)
     if noise_ppm == "auto":
         grid = NOISE_GRID_PPM
@@ -324,15 +362,26 @@ def compare(
     run = None
     for noise in grid:
         problem, classes, scale = _build_problem(groups, peaks, circuits, noise, integral_scale,
-                                                 overflow_cost_per_h, missing_cost)
+                                                 overflow_cost_per_h, missing_cost, correlations)
         starts = starting_points(problem.prior_mean, problem.prior_sd, problem.n_classes,
                                          int(n_random_starts), width, int(seed))
-        state, neigh = polish(problem, _assign_search(problem, starts, int(max_iter)), int(max_iter))
+        state = _assign_search(problem, starts, int(max_iter))
+        if problem.links:
+            state = repair(problem, state, int(max_iter))
+        state, neigh = polish(problem, state, int(max_iter))
         if run is None or state.score < run[1].score - 1e-9:
             run = (problem, state, neigh, classes, scale)
     assert run is not None, "the noise grid holds at least one level"
     problem, state, neigh, classes, scale = run
     a, fit = state.assignment, state.fit
+    corr_check = None
+    if correlations is not None:      # the same search on the 1D evidence alone, for the report of what changed
+        plain = dataclasses.replace(problem, forbidden=None, links=(), correlation_cost=0.0)
+        starts = starting_points(plain.prior_mean, plain.prior_sd, plain.n_classes, int(n_random_starts), width,
+                                 int(seed))
+        one_d, _ = polish(plain, _assign_search(plain, starts, int(max_iter)), int(max_iter))
+        corr_check = correlation_check(correlations, problem, a, one_d.assignment, one_d.score, groups, peaks,
+                                       peak_label)
 
     circuit_fits = _circuit_results(problem, a, fit, circuits, width)
     combined = None
@@ -385,4 +434,5 @@ def compare(
         class_offsets=offsets, noise_ppm=float(problem.noise), noise_estimated=isinstance(noise_ppm, str),
         integral_scale=scale, converged=bool(state.converged), iterations=int(state.iterations),
         start=state.start, cost=float(state.score), log10_evidence=float(fit.log_evidence / math.log(10.0)),
+        correlations=corr_check,
     )

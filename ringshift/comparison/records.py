@@ -10,11 +10,15 @@ assignments (:class:`Alternative`), class offsets (:class:`ClassOffset`) and can
 from __future__ import annotations
 
 from dataclasses import dataclass
+from typing import TYPE_CHECKING
 
 import numpy as np
 
 from ringshift._records import ToDictMixin, fields_to_plain
 from ringshift.constants import BENZENE_CURRENT_NA_PER_T
+
+if TYPE_CHECKING:
+    from ringshift.comparison.constraints import CorrelationCheck
 
 #: Width w (nA/T) of the symmetric prior whose halves are the sign hypotheses: 1.5 × benzene.
 SIGN_PRIOR_SD_NA_PER_T: float = 1.5 * BENZENE_CURRENT_NA_PER_T
@@ -160,6 +164,7 @@ class Comparison(ToDictMixin):
     verdict_reason: str | None = None
     combined: CombinedCurrent | None = None
     verdict_basis: str = "circuit"
+    correlations: CorrelationCheck | None = None
 
     def to_dict(self) -> dict:
         """Plain JSON-able dict; unassigned peaks and groups are given with labels."""

@@ -23,10 +23,11 @@ from ringshift.errors import InputError
 from ringshift.spectra.solvents import resolve_reference_lines
 
 if TYPE_CHECKING:
+    from ringshift.io.correlations import CorrelationList
     from ringshift.shifts.records import Prediction
     from ringshift.spectra.peaks import PeakList
 
-__all__ = ['run_compare', 'group_models', 'circuit_priors', 'observed_peaks', 'CompareResult']
+__all__ = ['run_compare', 'group_models', 'circuit_priors', 'observed_peaks', 'CompareResult', 'coupling_evidence']
 
 
 #: Width of the a priori current prior, nA/T: "weakly around the Hückel–London value". One benzene
@@ -103,8 +104,35 @@ def _resolved(peaklist, n_hydrogens: int):
     return replace(peaklist, peaks=peaks, warnings=tuple(peaklist.warnings) + tuple(notes))
 
 
-def run_compare(pred, peaklist, *, claim: str | None = None, noise_ppm=None, seed: int = 0) -> CompareResult:
-    """Assign, fit and weigh the evidence for one structure against one peak list."""
+def coupling_evidence(pred, peaklist, correlations: CorrelationList | None):
+    """The 2D/multiplet evidence of a comparison (:class:`ringshift.comparison.constraints.CouplingEvidence`): the
+    cross peaks of ``correlations`` matched to the peaks of ``peaklist``, the bond-count masks and vicinal partners of
+    the prediction's groups (from its molecule and conformers) and each peak's ``j_hz``; None when there is neither a
+    correlation list nor any coupling."""
+    from ringshift.comparison.constraints import CouplingEvidence
+    from ringshift.comparison.couplings import group_bond_masks, mol_bond_distances, vicinal_partners
+    from ringshift.io.correlations import CorrelationList, match_correlations
+
+    peak_j = tuple(p.j_hz for p in peaklist.peaks)
+    if correlations is None and not any(peak_j):
+        return None
+    if correlations is not None and not isinstance(correlations, CorrelationList):
+        raise InputError(f"expected a CorrelationList (read_correlations) or None, got {type(correlations).__name__}",
+                         "correlations")
+    s = pred.structure
+    atoms = [tuple(g.atoms) for g in pred.groups]
+    pairs = () if correlations is None else match_correlations(correlations, peaklist.peaks)
+    return CouplingEvidence(
+        pairs=pairs, group_masks=group_bond_masks(mol_bond_distances(s.mol), atoms),
+        partners=vicinal_partners(s.mol, s.coords, s.weights, atoms), peak_j=peak_j,
+        source=None if correlations is None else correlations.source,
+        tolerance_ppm=None if correlations is None else correlations.tolerance_ppm)
+
+
+def run_compare(pred, peaklist, *, claim: str | None = None, noise_ppm=None, seed: int = 0,
+                correlations: CorrelationList | None = None) -> CompareResult:
+    """Assign, fit and weigh the evidence for one structure against one peak list (and, optionally, a list of 2D
+    H–H correlations; couplings listed in the peak list are used too)."""
     if not pred.groups:
         raise InputError("the molecule has no hydrogens: there is nothing to compare with a 1H spectrum",
                          pred.structure.source)
@@ -115,8 +143,9 @@ def run_compare(pred, peaklist, *, claim: str | None = None, noise_ppm=None, see
     if not any(o.kind == "sample" for o in obs):
         raise InputError("no sample peaks (only solvent/TMS/impurity peaks)", peaklist.source)
     why = None if pred.circuits else no_circuit_reason(pred.structure.mol)
+    evidence = coupling_evidence(pred, peaklist, correlations)
     comp = _cmp_compare(group_models(pred), obs, circuit_priors(pred), noise_ppm=noise_ppm, claim=claim, seed=seed,
-                        no_circuit_reason=why)
+                        no_circuit_reason=why, correlations=evidence)
     return CompareResult(pred, peaklist, comp, tuple(obs))
 
 

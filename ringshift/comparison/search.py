@@ -17,6 +17,7 @@ import numpy as np
 
 from ringshift._numbers import text
 from ringshift.comparison.assignment import overflow_protons, pair_swaps, solve_assignment, standardized_cost
+from ringshift.comparison.constraints import violated
 from ringshift.comparison.evidence import LinearGaussianFit, linear_gaussian_fit
 from ringshift.comparison.records import GroupAssignment
 
@@ -30,7 +31,9 @@ class SearchProblem:
     (P,) bool; ``base`` (n,) reference + charge shift, ppm; ``X`` (n, K + C) design (class
     indicators, then g in ppm per nA/T); ``n_h`` (n,) int; ``fixed`` (n,) int (−1 free);
     ``prior_mean``, ``prior_sd`` (K + C,); ``n_classes`` K; ``noise`` σ (ppm); ``overflow_cost``
-    per proton; ``missing_cost`` per unassigned group.
+    per proton; ``missing_cost`` per unassigned group; ``forbidden`` (n, P) bool pairs ruled out by couplings
+    (or None); ``links`` the cross peaks as (peak a, peak b, allowed (n, n) bool) and ``correlation_cost`` the
+    cost of each unmet one (:mod:`ringshift.comparison.constraints`).
     """
 
     peak_ppm: np.ndarray
@@ -47,6 +50,9 @@ class SearchProblem:
     noise: float
     overflow_cost: float
     missing_cost: float
+    forbidden: np.ndarray | None = None
+    links: tuple = ()
+    correlation_cost: float = 0.0
 
     def data(self, a: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
         """Design rows (m, K + C) and data y = δ_obs − base (m,) of the assigned groups."""
@@ -59,15 +65,26 @@ class SearchProblem:
         return linear_gaussian_fit(X, y, self.prior_mean, self.prior_sd, self.noise)
 
     def score(self, a: np.ndarray, fit: LinearGaussianFit) -> float:
-        """Cost −2 ln Z + overflow and missing penalties (2 ln B units)."""
+        """Cost −2 ln Z + overflow, missing and unmet-correlation penalties (2 ln B units)."""
         over = overflow_protons(a, self.n_h, self.slots, self.has_integral)
-        return -2.0 * fit.log_evidence + self.overflow_cost * over + self.missing_cost * int(np.sum(a < 0))
+        unmet = violated(self.links, a) if self.links else 0
+        return (-2.0 * fit.log_evidence + self.overflow_cost * over + self.missing_cost * int(np.sum(a < 0))
+                + self.correlation_cost * unmet)
+
+    def allowed(self, a: np.ndarray) -> bool:
+        """Whether assignment ``a`` (n,) uses no forbidden (group, peak) pair."""
+        if self.forbidden is None:
+            return True
+        ok = (a >= 0) & (self.fixed < 0)
+        return not bool(np.any(self.forbidden[np.flatnonzero(ok), a[ok]]))
 
     def solve(self, mean: np.ndarray, cov: np.ndarray, forbidden: np.ndarray | None = None) -> np.ndarray:
         """Optimal assignment (n,) under the parameter distribution N(mean, cov)."""
         mu = self.base + self.X @ mean
         var = self.noise**2 + np.einsum("ij,jk,ik->i", self.X, cov, self.X)
         z2 = standardized_cost(self.peak_ppm, mu, var)
+        if self.forbidden is not None:
+            forbidden = self.forbidden if forbidden is None else (forbidden | self.forbidden)
         return solve_assignment(z2, self.slots, self.has_integral, self.active, self.n_h, self.fixed,
                                 overflow_cost_per_h=self.overflow_cost, missing_cost=self.missing_cost,
                                 forbidden=forbidden)
@@ -149,6 +166,8 @@ def neighbours(problem: SearchProblem, best: SearchState) -> dict:
     """
     out: dict[tuple[int, ...], tuple[float, np.ndarray, LinearGaussianFit]] = {}
     for a in pair_swaps(best.assignment, problem.fixed):
+        if not problem.allowed(a):
+            continue
         fit = problem.fit(a)
         out.setdefault(_key(a), (problem.score(a, fit), a, fit))
     n, n_peaks = problem.X.shape[0], problem.peak_ppm.shape[0]

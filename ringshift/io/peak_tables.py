@@ -5,7 +5,8 @@ peak table; the codec is :mod:`ringshift.io.jcampdx`), picks and integrates a sp
 (:mod:`ringshift.spectra.picking`), flags solvent-residual and TMS peaks
 (:mod:`ringshift.spectra.solvents`), and scales the integrals to the molecule's hydrogen count.
 CSV columns: a shift column (``shift_ppm``/``ppm``/``shift``/``delta``), an integral column
-(``integral``/``nH``/``H``), optional ``width_hz``, ``multiplicity``, ``label``, ``atoms`` and ``kind``.
+(``integral``/``nH``/``H``), optional ``width_hz``, ``multiplicity``, ``label``, ``atoms``, ``kind`` and
+``j_hz`` (coupling constants in Hz, several separated by ``/`` or spaces: ``15.2/7.8``).
 """
 
 from __future__ import annotations
@@ -28,6 +29,7 @@ from ringshift.spectra.peaks import (
     Spectrum,
     _check_shift,
     _normalise,
+    check_couplings,
 )
 from ringshift.spectra.picking import MERGE_HZ, _pick
 from ringshift.spectra.solvents import REFERENCE_TOLERANCE_PPM, _flag, _solvent_name
@@ -49,6 +51,7 @@ _COLUMNS = {
     "atoms": ("atoms", "assign", "fixed_atoms", "atom_indices"),
     "kind": ("kind", "type"),
     "height": ("height", "intensity"),
+    "j": ("j_hz", "j", "couplings_hz", "couplings", "coupling_hz", "coupling"),
 }
 
 _HEADER_TO_FIELD = {name: field for field, names in _COLUMNS.items() for name in names}
@@ -85,6 +88,18 @@ def _parse_number(cell: str, column: str, where: str, decimal_comma: bool) -> fl
     if not math.isfinite(value):
         raise InputError(f"{column} cell {cell.strip()!r} is not finite", where)
     return value
+
+
+_J_SPLIT = re.compile(r"[\s/]+")
+
+
+def _parse_couplings(cell: str, where: str, decimal_comma: bool) -> tuple[float, ...] | None:
+    """A ``j_hz`` cell: couplings in Hz separated by ``/`` or spaces ("15.2/7.8", "15.2 7.8 Hz")."""
+    text = re.sub(r"\s*hz\s*$", "", cell.strip(), flags=re.I)
+    if not text:
+        return None
+    values = [_parse_number(v, "j_hz", where, decimal_comma) for v in _J_SPLIT.split(text) if v]
+    return check_couplings(values, where)
 
 
 def parse_peak_table_csv(text: str, *, source: str = "<string>") -> PeakList:
@@ -156,7 +171,7 @@ def _parse_csv(text: str, source: str) -> tuple[PeakList, tuple[bool, ...]]:
                              f"{source}:{lineno}")
         cells += [""] * (len(names) - len(cells))
         table.append((lineno, {f: cells[i].strip() for f, i in fields.items()}))
-    numeric = [(ln, c[f]) for ln, c in table for f in _NUMERIC if f in c]
+    numeric = [(ln, c[f]) for ln, c in table for f in (*_NUMERIC, "j") if f in c]
     commas = [ln for ln, c in numeric if "," in c]
     if commas and any("." in c for _, c in numeric):
         raise InputError("numbers mix decimal commas and points; use one decimal mark", f"{source}:{commas[0]}")
@@ -180,8 +195,9 @@ def _parse_csv(text: str, source: str) -> tuple[PeakList, tuple[bool, ...]]:
         if kind not in PEAK_KINDS:
             raise InputError(f"kind {kind!r}; expected one of {', '.join(PEAK_KINDS)}", where)
         explicit.append(bool(get.get("kind")))
+        couplings = _parse_couplings(get.get("j", ""), where, bool(commas))
         peaks.append(Peak(shift, integral, width, get.get("multiplicity") or None, get.get("label") or None,
-                          tuple(map(int, items)) or None, lineno, kind, val.get("height")))
+                          tuple(map(int, items)) or None, lineno, kind, val.get("height"), j_hz=couplings))
     return PeakList(tuple(peaks), source, None, tuple(notes), observe), tuple(explicit)
 
 
@@ -193,7 +209,8 @@ def read_peak_table_csv(path: str | os.PathLike) -> PeakList:
     brackets ignored): shift (``shift_ppm``, ``ppm``, ``shift``, ``delta``, ``δ``; a range "7.30–7.25"
     gives its midpoint), integral (``integral``, ``nH``, ``H``, ``int``), ``width_hz``,
     ``multiplicity``, ``label``, ``atoms``/``assign`` (indices "12 13" or "12;13"), ``kind``,
-    ``height``. UTF-8 BOM, Windows line ends, blank lines and ``#`` comment lines are accepted;
+    ``height``, ``j_hz`` (coupling constants in Hz, several separated by ``/`` or spaces, each
+    0 < J < 30 Hz). UTF-8 BOM, Windows line ends, blank lines and ``#`` comment lines are accepted;
     ``# observe_mhz = 400`` sets the spectrometer frequency. Bad input raises InputError naming file
     and line: empty or header-less file, no shift column, non-numeric cells, shifts outside −20…40
     ppm, negative integrals, bad atom indices.
@@ -218,10 +235,11 @@ def write_peak_table_csv(path: str | os.PathLike, peaks) -> None:
             if observe is not None:
                 handle.write(f"# observe_mhz = {observe!r}\n")
             writer = csv.writer(handle, lineterminator="\n")
-            writer.writerow("shift_ppm integral width_hz multiplicity label atoms kind height".split())
+            writer.writerow("shift_ppm integral width_hz multiplicity label atoms kind height j_hz".split())
             for p in items:
                 writer.writerow([num(p.shift_ppm), num(p.integral), num(p.width_hz), p.multiplicity or "",
-                                 p.label or "", " ".join(map(str, p.fixed_atoms or ())), p.kind, num(p.height)])
+                                 p.label or "", " ".join(map(str, p.fixed_atoms or ())), p.kind, num(p.height),
+                                 "/".join(repr(j) for j in p.j_hz or ())])
     except OSError as exc:
         raise OutputError(f"{os.fspath(path)}: cannot be written ({exc.strerror or exc})") from None
 

@@ -24,6 +24,7 @@ from pathlib import Path
 
 from ringshift.errors import InputError, OutputError
 from ringshift.geometry.circuits import MISALIGNMENT_LIMIT_DEG, PLANARITY_LIMIT_A
+from ringshift.reporting.correlations import correlation_section
 from ringshift.reporting.html_fit import fit_section_body, verdict_box
 from ringshift.reporting.html_peaks import nmredata_html, reference_lines_html, write_nmredata_file
 from ringshift.reporting.html_text import (
@@ -291,6 +292,7 @@ def render_html(results: dict, pi: dict | None, figures: list[tuple[str, str, st
                 ("currents (nA/T)", ("currents_nA_per_T",), "+.2f"),
                 ("verdicts", ("verdicts",), None)])
         out.append(_section("assignment", "Assignment and residuals", body + nmredata_html(files, nmredata_note)))
+        out.append(correlation_section(pg, results))
 
     cols = [("group", ("label",), None), ("index", ("group",), None), ("nH", ("n_h",), None),
             ("H atoms (index)", ("atoms",), None),

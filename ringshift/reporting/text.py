@@ -14,6 +14,7 @@ from typing import TYPE_CHECKING
 from ringshift._numbers import rounded as _r
 from ringshift._numbers import text
 from ringshift.comparison.evidence import DECISIVE_LOG10, KASS_RAFTERY_LOG10
+from ringshift.reporting.correlations import correlation_lines
 from ringshift.reporting.json import CAUTION
 from ringshift.reporting.pi_summary import circuit_verdict
 
@@ -65,6 +66,7 @@ def comparison_text(res: CompareResult) -> str:
                      ", ".join(f"{text(c.peaks[i].shift_ppm, '.2f')} ({c.peaks[i].kind})" for i in c.ignored_peaks))
     for a in c.alternatives:
         lines.append(alternative_line(a))
+    lines += correlation_lines(c.correlations)
     for wmsg in list(res.peaks.warnings) + list(res.prediction.warnings):
         lines.append(f"note: {wmsg}")
     lines.append("")

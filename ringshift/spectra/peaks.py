@@ -23,13 +23,18 @@ import numpy as np
 from ringshift import _validation as _v
 from ringshift.errors import AssignmentWarning, InputError
 
-__all__ = ['Peak', 'PeakList', 'Spectrum', 'normalise_integrals']
+__all__ = ['Peak', 'PeakList', 'Spectrum', 'normalise_integrals', 'check_couplings']
 
 
 #: Accepted chemical-shift range, ppm (wide enough for strongly paratropic inner protons).
 SHIFT_RANGE_PPM: tuple[float, float] = (-20.0, 40.0)
 
 PEAK_KINDS: tuple[str, ...] = ("sample", "solvent", "tms", "impurity")
+
+#: Largest accepted H–H coupling constant, Hz (exclusive): ²J of sp² CH2 and ³J trans across C=C stay below
+#: about 20 Hz (Pretsch, Bühlmann & Badertscher, Structure Determination of Organic Compounds, Springer
+#: 2009, ¹H section; from memory), so 30 Hz leaves room and catches values typed in ppm·1000 or Hz·10.
+MAX_J_HZ: float = 30.0
 
 #: More sample peaks than this many per hydrogen is an error (see module notes).
 MAX_LINES_PER_H: int = 16
@@ -38,6 +43,27 @@ MAX_LINES_PER_H: int = 16
 def _check_shift(shift: float, where: str) -> None:
     if not SHIFT_RANGE_PPM[0] <= shift <= SHIFT_RANGE_PPM[1]:
         raise InputError(f"shift {shift:g} ppm outside {SHIFT_RANGE_PPM[0]:g}…{SHIFT_RANGE_PPM[1]:g} ppm", where)
+
+
+def check_couplings(values, where: str) -> tuple[float, ...] | None:
+    """Coupling constants as a tuple of floats (Hz), each finite, > 0 and < :data:`MAX_J_HZ`; None or an
+    empty sequence gives None. Raises InputError naming ``where``."""
+    if values is None:
+        return None
+    if isinstance(values, (str, bytes)) or not hasattr(values, "__iter__"):
+        raise InputError(f"j_hz={values!r}; expected a sequence of coupling constants in Hz", where)
+    out = []
+    for v in values:
+        if isinstance(v, bool):
+            raise InputError(f"j_hz value {v!r}; expected a number of Hz", where)
+        try:
+            j = float(v)
+        except (TypeError, ValueError):
+            raise InputError(f"j_hz value {v!r}; expected a number of Hz", where) from None
+        if not (math.isfinite(j) and 0.0 < j < MAX_J_HZ):
+            raise InputError(f"coupling {v!r} Hz; expected 0 < J < {MAX_J_HZ:g} Hz", where)
+        out.append(j)
+    return tuple(out) or None
 
 
 @dataclass(frozen=True)
@@ -66,6 +92,9 @@ class Peak:
         residual or TMS line ("CDCl3 residual (7.26 ppm)", "TMS (0.00 ppm)"); such a peak is a candidate
         for both readings and :func:`ringshift.spectra.solvents.resolve_reference_lines` decides by the
         integrals. None for peaks whose kind the user gave (those are never changed).
+    j_hz : tuple of float or None
+        Coupling constants J read from the peak's multiplet, Hz (each > 0 and < :data:`MAX_J_HZ`), in the
+        order written; used as ³J evidence in the assignment (:mod:`ringshift.comparison.couplings`).
     """
 
     shift_ppm: float
@@ -78,6 +107,7 @@ class Peak:
     kind: str = "sample"
     height: float | None = None
     flagged_as: str | None = None
+    j_hz: tuple[float, ...] | None = None
 
     def __post_init__(self):
         shift = _v.optional_real(self.shift_ppm, "shift_ppm")
@@ -98,6 +128,8 @@ class Peak:
             if not atoms or atoms[0] < 0:
                 raise InputError(f"fixed_atoms={self.fixed_atoms!r}; expected non-negative integers", "Peak")
             object.__setattr__(self, "fixed_atoms", atoms)
+        if self.j_hz is not None:
+            object.__setattr__(self, "j_hz", check_couplings(self.j_hz, "Peak.j_hz"))
         for name in ("multiplicity", "label"):
             value = getattr(self, name)
             object.__setattr__(self, name, (" ".join(str(value).split()) or None) if value is not None else None)
@@ -181,7 +213,8 @@ class PeakList:
         spec = self.spectrum
         return {"source": self.source, "observe_mhz": self.observe_mhz, "solvent": self.solvent,
                 "warnings": list(self.warnings),
-                "peaks": [{**asdict(p), "fixed_atoms": list(p.fixed_atoms or []) or None} for p in self.peaks],
+                "peaks": [{**asdict(p), "fixed_atoms": list(p.fixed_atoms or []) or None,
+                           "j_hz": list(p.j_hz) if p.j_hz else None} for p in self.peaks],
                 "spectrum": None if spec is None else {
                     "source": spec.source, "points": int(spec.ppm.size), "noise_sigma": spec.noise_sigma,
                     "ppm_range": [float(spec.ppm.min()), float(spec.ppm.max())]}}
