@@ -282,7 +282,7 @@ def _generate(mol: Chem.Mol, n: int, seed: int, window: float, rmsd_A: float, so
     if search and energies is not None and len(planar_atoms) >= 3:
         ok = sorted((c for c in range(len(coords)) if not _ez_problems(refs, coords[c])),
                     key=lambda c: (energies[c], c))
-        distinct = [ok[k] for k in prune_conformers(coords[ok][:, heavy], autos, rmsd_A)]
+        distinct = [ok[k] for k in prune_conformers(coords[ok][:, heavy], autos, rmsd_A)] if ok else []
         bent = [c for c in distinct if planarity_rms_A(coords[c], planar_atoms) > _FLAT_RMS_A][:_PROJECTED]
         projected = [project_onto_plane(mol, coords[c], planar_atoms) for c in bent]
         keep = [_noisy(x, rng) for x in projected if not _ez_problems(refs, x)]
