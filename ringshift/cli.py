@@ -28,11 +28,14 @@ OPTION_OF_PARAMETER = {
     "solvent": "--solvent", "weights": "--weights", "energy_unit": "--energy-unit", "memory_MB": "--memory",
     "jobs": "--jobs", "scheduler": "--scheduler", "contour_max_ppm": "--contour-max",
     "circuit": "--for-circuit", "exchange": "--exchange", "geometry": "--geometry",
+    "configurations": "--configurations",
 }
 
 #: Choices of --exchange and --geometry: ringshift.geometry.symmetry.EXCHANGE_RULES and
 #: ringshift.io.structures.GEOMETRY_ROUTES (spelt out here so that importing the CLI stays light; a test checks them).
 EXCHANGE_CHOICES = ("slow", "fast")
+#: Choices of --configurations: ringshift.geometry.configurations.CONFIGURATION_MODES (a test checks them).
+CONFIGURATION_CHOICES = ("given", "open", "all")
 GEOMETRY_CHOICES = ("force-field", "gfn2-xtb")
 
 
@@ -209,27 +212,51 @@ def predict_cmd(structure, charge, conformers, seed, temperature, exchange, geom
               help="Check an aromaticity claim against the spectrum.")
 @click.option("--noise", default=None, metavar="PPM|auto",
               help="Model error of a predicted shift in ppm [default: 0.3], or 'auto' (maximum evidence).")
+@click.option("--configurations", "configurations", type=click.Choice(CONFIGURATION_CHOICES), default=None,
+              help="Ring E/Z: given (as the input says), open (rank every configuration of the ring double bonds the "
+                   "SMILES leaves open), all (every ring double bond) [default: open when the SMILES leaves ring "
+                   "E/Z open, else given].")
 @click.option("--format", "fmt", type=_Format("text", "json"), default="text", show_default=True,
               help="Readable text or JSON.")
 @click.option("-o", "--output", type=click.Path(dir_okay=False), default=None, help="Write to FILE (atomically).")
 @click.option("--force", is_flag=True, help="Overwrite an existing output file.")
 def compare_cmd(structure, peaks, charge, conformers, seed, temperature, exchange, geometry, model, currents,
-                beta_model, scale, set_current, circuit, solvent, claim, noise, fmt, output, force):
+                beta_model, scale, set_current, circuit, solvent, claim, noise, configurations, fmt, output, force):
     """Assign the observed PEAKS (CSV/TSV or JCAMP-DX) to STRUCTURE, fit its ring currents, give a verdict."""
     from ringshift.comparison.run import run_compare
     from ringshift.io.peak_tables import read_peaks
     from ringshift.reporting.json import comparison_to_dict, to_json
     from ringshift.reporting.text import comparison_text
+    from ringshift.runners.configurations import compare_configurations, configurations_text, resolve_mode
 
-    pred = _run_predict(structure, charge, conformers, seed, temperature, exchange, geometry, model, currents,
-                        beta_model, scale, set_current, circuit)
-    pl = read_peaks(peaks, n_hydrogens=len(pred.protons), solvent=solvent)
-    res = run_compare(pred, pl, claim=claim, noise_ppm=_noise(noise), seed=seed)
+    mode, reason, base = resolve_mode(structure, configurations)
+    if mode == "given":
+        pred = _run_predict(structure, charge, conformers, seed, temperature, exchange, geometry, model, currents,
+                            beta_model, scale, set_current, circuit)
+        pl = read_peaks(peaks, n_hydrogens=len(pred.protons), solvent=solvent)
+        res = run_compare(pred, pl, claim=claim, noise_ppm=_noise(noise), seed=seed)
+    else:
+        if charge is not None and base is not None and charge != _formal_charge(base):
+            raise InputError(f"contradicts the net formal charge {_formal_charge(base)} of the SMILES", "--charge")
+        res = compare_configurations(
+            structure, base, mode, reason, peaks, seed=seed, solvent=solvent, claim=claim, noise_ppm=_noise(noise),
+            load={"conformers": conformers, "temperature_K": temperature, "exchange": exchange, "geometry": geometry},
+            model={"model": model, "currents": currents, "beta_model": beta_model,
+                   "scale": parse_assignments(scale, "--scale"),
+                   "set_current": parse_assignments(set_current, "--set-current"), "user_circuits": _index_lists(circuit)})
     if fmt == "json":
         text = to_json(comparison_to_dict(res))
     else:
         text = comparison_text(res)
+        if res.configurations is not None:
+            text = configurations_text(res.configurations) + text
     _emit(text, output, force, (structure, peaks))
+
+
+def _formal_charge(mol) -> int:
+    from rdkit import Chem
+
+    return int(Chem.GetFormalCharge(mol))
 
 
 def _noise(value):

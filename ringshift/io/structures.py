@@ -17,6 +17,7 @@ Equivalent protons: :func:`ringshift.geometry.symmetry.group_equivalent_hydrogen
 from __future__ import annotations
 
 import math
+import warnings
 from dataclasses import dataclass
 from pathlib import Path
 
@@ -24,11 +25,12 @@ import numpy as np
 from rdkit import Chem
 
 from ringshift import limits as _limits
-from ringshift.errors import InputError
+from ringshift.errors import GeometryWarning, InputError
 from ringshift.geometry.conformers import (
     _generate,
     boltzmann_weights,
     default_conformer_count,
+    ez_stereo_check,
 )
 from ringshift.geometry.symmetry import EXCHANGE_RULES, group_equivalent_hydrogens
 from ringshift.io.molecule_files import (
@@ -40,7 +42,7 @@ from ringshift.io.molecule_files import (
     _short,
 )
 
-__all__ = ['Structure', 'load_structure', 'GEOMETRY_ROUTES', 'EXCHANGE_RULES']
+__all__ = ['Structure', 'load_structure', 'structure_from_molecule', 'GEOMETRY_ROUTES', 'EXCHANGE_RULES']
 
 #: Geometry routes of :func:`load_structure`: MMFF94 conformers (or the input coordinates) as they are, or
 #: re-optimised with GFN2-xTB (Bannwarth, Ehlert & Grimme, J. Chem. Theory Comput. 2019, 15, 1652).
@@ -186,6 +188,28 @@ def load_structure(spec: str, *, charge: int | None = None, conformers: int | No
     else:
         base, coords, energies, name, extra = _mol_from_molfile(Path(spec))
         prov.update(extra)
+    return _complete(base, coords, energies, name, spec, prov, charge=charge, conformers=conformers, seed=seed,
+                     temperature_K=temperature_K, energy_window_kcal_mol=energy_window_kcal_mol,
+                     rmsd_prune_A=rmsd_prune_A, exchange=exchange, geometry=geometry)
+
+
+def structure_from_molecule(mol: Chem.Mol, name: str, source: str, *, conformers: int | None = None,
+                            seed: int = 42, temperature_K: float = 298.15, energy_window_kcal_mol: float = 10.0,
+                            rmsd_prune_A: float = 0.3, exchange: str = "slow",
+                            geometry: str = "force-field", provenance: dict | None = None) -> Structure:
+    """A :class:`Structure` from an explicit-H Kekulé molecule without coordinates (a configurational isomer of
+    :mod:`ringshift.geometry.configurations`), through the same conformer search, checks and grouping as
+    :func:`load_structure` of a SMILES. ``provenance`` entries are added to the record's provenance."""
+    _check_options(None, conformers, seed, temperature_K, energy_window_kcal_mol, rmsd_prune_A, exchange, geometry)
+    prov = {"format": "smiles", **(provenance or {})}
+    return _complete(Chem.Mol(mol), None, None, name, source, prov, charge=None, conformers=conformers, seed=seed,
+                     temperature_K=temperature_K, energy_window_kcal_mol=energy_window_kcal_mol,
+                     rmsd_prune_A=rmsd_prune_A, exchange=exchange, geometry=geometry)
+
+
+def _complete(base: Chem.Mol, coords, energies, name: str, spec: str, prov: dict, *, charge, conformers, seed,
+              temperature_K, energy_window_kcal_mol, rmsd_prune_A, exchange, geometry) -> Structure:
+    """Checks, conformers (when ``coords`` is None), the optional GFN2-xTB step, aromaticity and H groups."""
     _limits.check_count(base.GetNumAtoms(), _limits.MAX_ATOMS, "atoms (hydrogens included)", _short(spec))
     _check_chemistry(base, _short(spec))
     net = Chem.GetFormalCharge(base)
@@ -205,6 +229,7 @@ def load_structure(spec: str, *, charge: int | None = None, conformers: int | No
     prov["temperature_K"] = float(temperature_K)
     prov["exchange"] = exchange
     coords = np.ascontiguousarray(coords, dtype=np.float64)
+    _check_ez(base, coords, spec, generated=prov.get("coordinates") != "input")
     mol = Chem.Mol(base)
     mol.RemoveAllConformers()
     for c in range(coords.shape[0]):
@@ -228,6 +253,23 @@ def load_structure(spec: str, *, charge: int | None = None, conformers: int | No
             arr.setflags(write=False)
     return Structure(name=name, source=spec, mol=mol, coords=coords, weights=weights, energies_kcal_mol=energies,
                      charge=int(net), h_groups=h_groups, provenance=prov)
+
+
+def _check_ez(mol: Chem.Mol, coords: np.ndarray, spec: str, *, generated: bool) -> None:
+    """The last E/Z check of every route: each conformer (n_conf, n_atoms, 3) Å against the molecule's stereo.
+
+    Generated and GFN2-xTB conformers were checked on the way (a contradiction here is an error); the records of a
+    file ensemble take their stereo from the first record, so a later record with another configuration gets a
+    warning that names the bond and the record."""
+    for c in range(coords.shape[0]):
+        problems = ez_stereo_check(mol, coords[c])
+        if not problems:
+            continue
+        if generated:
+            raise InputError(f"conformer {c}: {problems[0]}; check the stereo marks or supply 3D coordinates",
+                             source=spec)
+        warnings.warn(GeometryWarning(f"{_short(spec)}: conformer {c} (0-based) has another E/Z configuration than "
+                                      f"the first: {problems[0]}"), stacklevel=4)
 
 
 def _refine_gfn2(mol: Chem.Mol, coords: np.ndarray, energies_ff: np.ndarray | None, charge: int, spec: str,
