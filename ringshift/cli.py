@@ -243,7 +243,8 @@ def compare_cmd(structure, peaks, charge, conformers, seed, temperature, exchang
             load={"conformers": conformers, "temperature_K": temperature, "exchange": exchange, "geometry": geometry},
             model={"model": model, "currents": currents, "beta_model": beta_model,
                    "scale": parse_assignments(scale, "--scale"),
-                   "set_current": parse_assignments(set_current, "--set-current"), "user_circuits": _index_lists(circuit)})
+                   "set_current": parse_assignments(set_current, "--set-current"),
+                   "user_circuits": _index_lists(circuit)})
     if fmt == "json":
         text = to_json(comparison_to_dict(res))
     else:

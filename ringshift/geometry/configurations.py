@@ -262,7 +262,7 @@ def screen_configurations(mol: Chem.Mol, mode: str = "open", *, seed: int = 42, 
     """
     bonds, assignments, isomers = enumerate_configurations(mol, mode, source=source)
     ring = _ring_of(mol, bonds)
-    rows = []
+    rows: list[tuple[tuple[int, ...], Chem.Mol, float | None, int, float, str]] = []
     for states, m in isomers:
         try:
             coords, energies, _ = _generate(m, int(embeddings), int(seed), math.inf, 0.3, source, threads=1)
@@ -274,7 +274,7 @@ def screen_configurations(mol: Chem.Mol, mode: str = "open", *, seed: int = 42, 
             energy = float(_absolute_energy(m, coords[0]))
         inner = len(inner_hydrogens(m, coords[0], ring))
         rows.append((states, m, energy, inner, planarity_rms_A(coords[0], ring), ""))
-    found = [r[2] for r in rows if r[2] is not None]
+    found = [float(r[2]) for r in rows if r[2] is not None]
     lowest = min(found) if found else 0.0
     order = sorted(range(len(rows)), key=lambda k: (rows[k][2] is None, rows[k][2] or 0.0, k))
     out, kept = [], 0

@@ -108,18 +108,19 @@ def compare_configurations(spec: str, base, mode: str, reason: str, peaks, *, lo
     by_name = {sc.name: sc for sc in scores}
     best = int(scores[0].name[1:]) - 1
     res = run_compare(preds[best], peak_list, claim=claim, noise_ppm=noise_ppm, seed=seed)
-    rows = []
+    ranked: list[tuple[int, dict]] = []
     for k, (cand, pred) in enumerate(zip(kept, preds)):
         s = pred.structure
         sc = by_name[f"c{k + 1}"]
-        rows.append({"rank": sc.rank, "smiles": cand.smiles, "status": "ranked",
-                     "log10_bf_vs_best": rounded(sc.log10_bf_vs_best, 2), "probability": rounded(sc.probability, 4),
-                     "screen_energy_kcal_mol": rounded(cand.energy_kcal_mol, 2),
-                     "inner_h": len(inner_hydrogens(s.mol, s.coords[0], screen.ring)),
-                     "planarity_rms_A": rounded(planarity_rms_A(s.coords[0], list(screen.ring)), 3),
-                     "planar": None, "cis_trans": _states_text(cand.states)})
-        rows[-1]["planar"] = bool(rows[-1]["planarity_rms_A"] <= _planar_limit())
-    rows.sort(key=lambda r: r["rank"])
+        rms = planarity_rms_A(s.coords[0], list(screen.ring))
+        ranked.append((sc.rank, {
+            "rank": sc.rank, "smiles": cand.smiles, "status": "ranked",
+            "log10_bf_vs_best": rounded(sc.log10_bf_vs_best, 2), "probability": rounded(sc.probability, 4),
+            "screen_energy_kcal_mol": rounded(cand.energy_kcal_mol, 2),
+            "inner_h": len(inner_hydrogens(s.mol, s.coords[0], screen.ring)),
+            "planarity_rms_A": rounded(rms, 3), "planar": bool(rms <= _planar_limit()),
+            "cis_trans": _states_text(cand.states)}))
+    rows = [row for _, row in sorted(ranked, key=lambda t: t[0])]
     for cand in screen.candidates:
         if cand.status != "kept":
             rows.append({"rank": None, "smiles": cand.smiles, "status": cand.status, "log10_bf_vs_best": None,
