@@ -210,6 +210,7 @@ def structure_from_molecule(mol: Chem.Mol, name: str, source: str, *, conformers
 def _complete(base: Chem.Mol, coords, energies, name: str, spec: str, prov: dict, *, charge, conformers, seed,
               temperature_K, energy_window_kcal_mol, rmsd_prune_A, exchange, geometry) -> Structure:
     """Checks, conformers (when ``coords`` is None), the optional GFN2-xTB step, aromaticity and H groups."""
+    generated = coords is None
     _limits.check_count(base.GetNumAtoms(), _limits.MAX_ATOMS, "atoms (hydrogens included)", _short(spec))
     _check_chemistry(base, _short(spec))
     net = Chem.GetFormalCharge(base)
@@ -229,7 +230,7 @@ def _complete(base: Chem.Mol, coords, energies, name: str, spec: str, prov: dict
     prov["temperature_K"] = float(temperature_K)
     prov["exchange"] = exchange
     coords = np.ascontiguousarray(coords, dtype=np.float64)
-    _check_ez(base, coords, spec, generated=prov.get("coordinates") != "input")
+    _check_ez(base, coords, spec, generated=generated)
     mol = Chem.Mol(base)
     mol.RemoveAllConformers()
     for c in range(coords.shape[0]):
@@ -256,20 +257,46 @@ def _complete(base: Chem.Mol, coords, energies, name: str, spec: str, prov: dict
 
 
 def _check_ez(mol: Chem.Mol, coords: np.ndarray, spec: str, *, generated: bool) -> None:
-    """The last E/Z check of every route: each conformer (n_conf, n_atoms, 3) Å against the molecule's stereo.
+    """The last E/Z check of every route, on the conformers (n_conf, n_atoms, 3) Å.
 
-    Generated and GFN2-xTB conformers were checked on the way (a contradiction here is an error); the records of a
-    file ensemble take their stereo from the first record, so a later record with another configuration gets a
-    warning that names the bond and the record."""
-    for c in range(coords.shape[0]):
-        problems = ez_stereo_check(mol, coords[c])
-        if not problems:
+    Generated (and GFN2-xTB re-optimised) conformers were checked against the input's stereo on the way; a
+    contradiction left here is an error. File coordinates define the stereo themselves (RDKit reads it from the
+    first record), so each later record of an ensemble is compared with the first, bond by bond, and another
+    configuration is a warning that names the bond and the record."""
+    if generated:
+        for c in range(coords.shape[0]):
+            problems = ez_stereo_check(mol, coords[c])
+            if problems:
+                raise InputError(f"conformer {c}: {problems[0]}; check the stereo marks or supply 3D coordinates",
+                                 source=spec)
+        return
+    for c in range(1, coords.shape[0]):
+        changed = _configuration_changes(mol, coords[0], coords[c])
+        if changed:
+            warnings.warn(GeometryWarning(f"{_short(spec)}: record {c + 1} (conformer {c}, 0-based) has another E/Z "
+                                          f"configuration than the first: {changed[0]}"), stacklevel=4)
+
+
+def _configuration_changes(mol: Chem.Mol, first: np.ndarray, other: np.ndarray) -> list[str]:
+    """Double bonds (with a neighbour besides the partner at both ends) whose reference dihedral is cis in one
+    geometry (n_atoms, 3) Å and trans in the other (|dihedral| < 90 deg is cis; common practice, no source)."""
+    from ringshift.geometry.conformers import _dihedral_deg
+
+    out = []
+    for b in mol.GetBonds():
+        if b.GetBondType() != Chem.BondType.DOUBLE:
             continue
-        if generated:
-            raise InputError(f"conformer {c}: {problems[0]}; check the stereo marks or supply 3D coordinates",
-                             source=spec)
-        warnings.warn(GeometryWarning(f"{_short(spec)}: conformer {c} (0-based) has another E/Z configuration than "
-                                      f"the first: {problems[0]}"), stacklevel=4)
+        i, j = b.GetBeginAtomIdx(), b.GetEndAtomIdx()
+        ni = sorted(n.GetIdx() for n in mol.GetAtomWithIdx(i).GetNeighbors() if n.GetIdx() != j)
+        nj = sorted(n.GetIdx() for n in mol.GetAtomWithIdx(j).GetNeighbors() if n.GetIdx() != i)
+        if not ni or not nj:
+            continue
+        d0 = _dihedral_deg(first[ni[0]], first[i], first[j], first[nj[0]])
+        d1 = _dihedral_deg(other[ni[0]], other[i], other[j], other[nj[0]])
+        if (abs(d0) < 90.0) != (abs(d1) < 90.0):
+            out.append(f"bond {i}-{j}: dihedral {ni[0]}-{i}-{j}-{nj[0]} is {d0:.0f} deg in the first record but "
+                       f"{d1:.0f} deg here")
+    return out
 
 
 def _refine_gfn2(mol: Chem.Mol, coords: np.ndarray, energies_ff: np.ndarray | None, charge: int, spec: str,
