@@ -203,9 +203,20 @@ def _atom_text(mol: Chem.Mol, a: int, written: set[int]) -> str:
 
 
 def _marks(mol: Chem.Mol, refs, parent) -> dict[tuple[int, int], int] | None:
-    """Direction (+1 '/', -1 '\\') of chosen tree bonds (parent, child) meeting every configuration; None if the
-    choice cannot meet them all. side(x, i) = the mark read as written x-then-i."""
+    """Directions (+1 '/', -1 '\\') of marked tree bonds (parent, child) that meet every configuration; None if
+    none were found.
+
+    A mark on a bond is read by every stereo double bond that bond touches, so each new mark brings all its
+    constraints with the marks already placed: against the marks at the far end of each such double bond (equal
+    sides for cis, opposite for trans, about the written references) and against a mark at the same end
+    (opposite sides). side(x, i) is the mark read as written x-then-i. Double bonds are served in order, each
+    end by the first candidate that keeps the system consistent: a heavy-atom tree bond, else a hydrogen branch
+    (as ``[H]/C1=C/...``; design notes §6). Parity is solved by union-find."""
     link: dict[tuple[int, int], tuple[tuple[int, int], int]] = {}
+    stereo: dict[int, list] = {}         # end atom -> [(partner, ref at end, ref at partner, cis)]
+    for a, i, j, d, cis, _ in refs:
+        stereo.setdefault(i, []).append((j, a, d, bool(cis)))
+        stereo.setdefault(j, []).append((i, d, a, bool(cis)))
 
     def find(e):
         flip = 0
@@ -214,40 +225,65 @@ def _marks(mol: Chem.Mol, refs, parent) -> dict[tuple[int, int], int] | None:
             flip ^= f
         return e, flip
 
-    def side_edge(x: int, i: int):
-        """(tree edge, 0 if its written direction is x->i else 1), or None for a ring closure."""
+    def edge(x: int, i: int):
+        """(tree edge, 0 if written x->i else 1) or None for a ring closure or an absent bond."""
         if parent.get(i) == x:
             return (x, i), 0
         if parent.get(x) == i:
             return (i, x), 1
         return None
 
-    def pick(i: int, partner: int, ref: int):
-        options = [n.GetIdx() for n in mol.GetAtomWithIdx(i).GetNeighbors() if n.GetIdx() != partner]
-        options.sort(key=lambda n: (mol.GetAtomWithIdx(n).GetAtomicNum() != 1, n != ref, n))
-        for n in options:
-            e = side_edge(n, i)
-            if e is not None:
-                return n, e
-        return None
+    marked: dict[int, list[tuple[int, tuple[int, int], int]]] = {}   # end atom -> [(neighbour, edge, flip)]
 
-    used: set[tuple[int, int]] = set()
-    for a, i, j, d, cis, _ in refs:
-        end_i, end_j = pick(i, j, a), pick(j, i, d)
-        if end_i is None or end_j is None:
-            return None
-        (x, (ei, fi)), (y, (ej, fj)) = end_i, end_j
-        flips = (x != a) + (y != d)
-        # cis <=> side(x, i) == side(y, j); side = mark of edge, flipped when written the other way
-        diff = (0 if (bool(cis) ^ (flips % 2 == 1)) else 1) ^ fi ^ fj
-        used.update((ei, ej))
-        (ri, pi), (rj, pj) = find(ei), find(ej)
-        if ri == rj:
-            if pi ^ pj != diff:
+    def relate(e1, f1, e2, f2, diff) -> bool:
+        """Require mark(e1)^f1 ^ mark(e2)^f2 == diff (as bits: 0 same side, 1 opposite)."""
+        (r1, p1), (r2, p2) = find(e1), find(e2)
+        want = diff ^ f1 ^ f2
+        if r1 == r2:
+            return (p1 ^ p2) == want
+        link[r1] = (r2, p1 ^ p2 ^ want)
+        return True
+
+    def place(x: int, i: int) -> bool:
+        """Mark the bond x-i (x a neighbour of the stereo end i); False (nothing changed) if inconsistent."""
+        found = edge(x, i)
+        if found is None:
+            return False
+        e, f = found
+        saved = dict(link)
+        ok = True
+        for end, nb in ((i, x), (x, i)):                 # the bond touches end i, and x if x is a stereo end too
+            if end not in stereo:
+                continue
+            ee, ff = edge(nb, end) or (e, f)
+            for nb2, e2, f2 in marked.get(end, []):
+                if nb2 != nb:
+                    ok = ok and relate(ee, ff, e2, f2, 1)      # two marks at one end: opposite sides
+            for partner, ref_end, ref_partner, cis in stereo[end]:
+                for nb2, e2, f2 in marked.get(partner, []):
+                    flips = (nb != ref_end) + (nb2 != ref_partner)
+                    same = cis ^ (flips % 2 == 1)
+                    ok = ok and relate(ee, ff, e2, f2, 0 if same else 1)
+        if not ok:
+            link.clear()
+            link.update(saved)
+            return False
+        for end, nb in ((i, x), (x, i)):
+            if end in stereo:
+                ee, ff = edge(nb, end) or (e, f)
+                marked.setdefault(end, []).append((nb, ee, ff))
+        return True
+
+    for _, i, j, _, _, _ in refs:
+        for end, partner in ((i, j), (j, i)):
+            if marked.get(end):
+                continue
+            options = sorted((n.GetIdx() for n in mol.GetAtomWithIdx(end).GetNeighbors() if n.GetIdx() != partner),
+                             key=lambda n: (mol.GetAtomWithIdx(n).GetAtomicNum() == 1, n))
+            if not any(place(n, end) for n in options):
                 return None
-        else:
-            link[ri] = (rj, pi ^ pj ^ diff)
-    return {e: (1 if find(e)[1] == 0 else -1) for e in used}
+    edges = {e for lst in marked.values() for _, e, _ in lst}
+    return {e: (1 if find(e)[1] == 0 else -1) for e in edges}
 
 
 def _write(mol: Chem.Mol, written: set[int], start: int, children, closures, marks) -> str:
@@ -321,7 +357,9 @@ def isomeric_smiles(mol: Chem.Mol) -> str | None:
     """
     key = configuration_key(mol)
     with rdBase.BlockLogs():
-        plain = Chem.MolToSmiles(Chem.RemoveHs(mol, sanitize=False))
+        work = Chem.RemoveHs(mol, sanitize=False)
+        Chem.SetDoubleBondNeighborDirections(work)      # RDKit writes cis/trans set on bonds only with directions
+        plain = Chem.MolToSmiles(work)
     back = _parse(plain)
     if back is not None and configuration_key(back) == key:
         return plain
@@ -341,6 +379,10 @@ def isomeric_smiles(mol: Chem.Mol) -> str | None:
     marks = _marks(mol, refs, parent)
     if marks is None:
         return None
+    unmarked = {h for h in written if mol.GetAtomWithIdx(h).GetAtomicNum() == 1
+                and not any(h in e for e in marks)}           # hydrogen branches that carry no mark stay implicit
+    written -= unmarked
+    children = {a: [c for c in kids if c not in unmarked] for a, kids in children.items() if a not in unmarked}
     text = _write(mol, written, start, children, closures, marks)
     back = _parse(text)
     return text if back is not None and configuration_key(back) == key else None

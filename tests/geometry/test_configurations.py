@@ -162,3 +162,26 @@ def test_file_ensemble_with_another_configuration_warns(tmp_path):
             pytest.skip("the SD reader refuses records that differ in stereo")
     texts = [str(w.message) for w in caught if issubclass(w.category, GeometryWarning)]
     assert any("record 2" in t and "bond 1-2" in t for t in texts), texts
+
+
+def test_ctrl_c_in_the_screen_propagates(monkeypatch):
+    # a cancelled embedding raises KeyboardInterrupt (conformers._embed_confs); the screen must not swallow it
+    import ringshift.geometry.configurations as configurations
+    from ringshift.geometry.configurations import screen_configurations
+
+    def cancelled(*args, **kwargs):
+        raise KeyboardInterrupt("conformer embedding cancelled")
+
+    monkeypatch.setattr(configurations, "_generate", cancelled)
+    mol, _ = _mol_from_smiles(_annulene(4))
+    with pytest.raises(KeyboardInterrupt):
+        screen_configurations(mol, "open")
+
+
+def test_odd_cis_annulene18_smiles_is_written_and_read_back():
+    # the design-notes SMILES has three cis bonds (odd): RDKit's own writer cannot keep it (§6); ours must
+    mol, _ = _mol_from_smiles(ANNULENE18_FIXED)
+    smiles = isomeric_smiles(mol)
+    assert smiles is not None and "[H]" in smiles
+    back, _ = _mol_from_smiles(smiles)
+    assert configuration_key(back) == configuration_key(mol)
