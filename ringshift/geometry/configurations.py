@@ -112,9 +112,22 @@ class ConfigurationScreen:
         return sum(c.status == status for c in self.candidates)
 
 
+def _ring_degree(mol: Chem.Mol, atom: int) -> int:
+    return sum(1 for b in mol.GetAtomWithIdx(atom).GetBonds() if b.IsInRing())
+
+
 def ring_stereo_bonds(mol: Chem.Mol) -> list[int]:
-    """Indices of ring double bonds that can carry E/Z (RDKit; rings of 8 or more atoms)."""
-    return [b for b in stereo_double_bonds(mol) if mol.GetBondWithIdx(b).IsInRing()]
+    """Indices of the ring double bonds whose E/Z is a configuration of the ring: RDKit lets them carry E/Z (rings
+    of 8 or more atoms) and both atoms have exactly two ring bonds (annulene and bridged-annulene perimeters).
+    A double bond at a fusion atom (porphyrin α-carbon–meso bonds) is left out: its E/Z turns a fused ring
+    over, not the perimeter."""
+    out = []
+    for b in stereo_double_bonds(mol):
+        bond = mol.GetBondWithIdx(b)
+        if bond.IsInRing() and _ring_degree(mol, bond.GetBeginAtomIdx()) == 2 \
+                and _ring_degree(mol, bond.GetEndAtomIdx()) == 2:
+            out.append(b)
+    return out
 
 
 def open_ring_bonds(mol: Chem.Mol) -> list[int]:
