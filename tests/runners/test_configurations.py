@@ -76,3 +76,17 @@ def test_cli_open_with_a_file_is_a_one_line_error(tmp_path, capsys):
         main(["compare", str(xyz), str(peaks), "--configurations", "open"])
     err = capsys.readouterr().err
     assert exit_info.value.code == 2 and err.count("\n") == 1 and "--configurations" in err
+
+
+def test_api_refuses_configurations_for_a_loaded_structure(tmp_path):
+    from ringshift.api import load_structure
+    from ringshift.errors import InputError
+
+    peaks = tmp_path / "p.csv"
+    peaks.write_text("shift_ppm,integral\n7.3,6\n")
+    structure = load_structure("c1ccccc1", conformers=1)
+    with pytest.raises(InputError, match="configurations"):
+        compare(structure, peaks, configurations="open")
+    with pytest.raises(InputError, match="configuration mode"):
+        compare("c1ccccc1", peaks, configurations="sideways")
+    assert compare(structure, peaks, configurations="given").configurations is None
