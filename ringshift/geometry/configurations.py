@@ -31,7 +31,7 @@ from ringshift.geometry.stereo_smiles import ConfigurationSpace, isomeric_smiles
 
 __all__ = ['CONFIGURATION_MODES', 'MAX_OPEN_BONDS', 'MAX_KEPT', 'ENERGY_WINDOW_KCAL_MOL', 'SCREEN_EMBEDDINGS',
            'ConfigurationCandidate', 'ConfigurationScreen', 'ring_stereo_bonds', 'open_ring_bonds',
-           'enumerate_configurations', 'inner_hydrogens', 'screen_configurations']
+           'enumerate_configurations', 'inner_hydrogens', 'screen_configurations', 'mmff_energy']
 
 #: ``given``: the input's configuration as it is (open bonds are left to the embedding); ``open``: every ring
 #: double bond whose E/Z the input leaves open is enumerated; ``all``: every ring double bond is enumerated.
@@ -284,7 +284,7 @@ def screen_configurations(mol: Chem.Mol, mode: str = "open", *, seed: int = 42, 
             continue
         energy = None
         if energies is not None:
-            energy = float(_absolute_energy(m, coords[0]))
+            energy = float(mmff_energy(m, coords[0]))
         inner = len(inner_hydrogens(m, coords[0], ring))
         rows.append((states, m, energy, inner, planarity_rms_A(coords[0], ring), ""))
     found = [float(r[2]) for r in rows if r[2] is not None]
@@ -310,7 +310,7 @@ def screen_configurations(mol: Chem.Mol, mode: str = "open", *, seed: int = 42, 
                                candidates=tuple(out[k] for k in order2))
 
 
-def _absolute_energy(mol: Chem.Mol, coords: np.ndarray) -> float:
+def mmff_energy(mol: Chem.Mol, coords: np.ndarray) -> float:
     """MMFF94 energy (kcal/mol) of one geometry (n_atoms, 3) Å, on a copy (MMFF set-up perceives aromaticity in
     place); UFF when MMFF94 lacks parameters, as in the conformer search."""
     work = Chem.Mol(mol)

@@ -80,6 +80,7 @@ def compare_configurations(spec: str, base, mode: str, reason: str, peaks, *, lo
         ENERGY_WINDOW_KCAL_MOL,
         MAX_KEPT,
         inner_hydrogens,
+        mmff_energy,
         screen_configurations,
     )
     from ringshift.geometry.macrocycle import planarity_rms_A
@@ -109,13 +110,18 @@ def compare_configurations(spec: str, base, mode: str, reason: str, peaks, *, lo
     best = int(scores[0].name[1:]) - 1
     res = run_compare(preds[best], peak_list, claim=claim, noise_ppm=noise_ppm, seed=seed)
     ranked: list[tuple[int, dict]] = []
+    energies = [mmff_energy(p.structure.mol, p.structure.coords[0]) if _force_field(p.structure) else None
+                for p in preds]
+    known = [e for e in energies if e is not None]
     for k, (cand, pred) in enumerate(zip(kept, preds)):
         s = pred.structure
         sc = by_name[f"c{k + 1}"]
         rms = planarity_rms_A(s.coords[0], list(screen.ring))
+        energy = energies[k]
         ranked.append((sc.rank, {
             "rank": sc.rank, "smiles": cand.smiles, "status": "ranked",
             "log10_bf_vs_best": rounded(sc.log10_bf_vs_best, 2), "probability": rounded(sc.probability, 4),
+            "energy_kcal_mol": None if energy is None else rounded(energy - min(known), 2),
             "screen_energy_kcal_mol": rounded(cand.energy_kcal_mol, 2),
             "inner_h": len(inner_hydrogens(s.mol, s.coords[0], screen.ring)),
             "planarity_rms_A": rounded(rms, 3), "planar": bool(rms <= _planar_limit()),
@@ -124,7 +130,8 @@ def compare_configurations(spec: str, base, mode: str, reason: str, peaks, *, lo
     for cand in screen.candidates:
         if cand.status != "kept":
             rows.append({"rank": None, "smiles": cand.smiles, "status": cand.status, "log10_bf_vs_best": None,
-                         "probability": None, "screen_energy_kcal_mol": rounded(cand.energy_kcal_mol, 2),
+                         "probability": None, "energy_kcal_mol": None,
+                         "screen_energy_kcal_mol": rounded(cand.energy_kcal_mol, 2),
                          "inner_h": cand.inner_h if cand.energy_kcal_mol is not None else None,
                          "planarity_rms_A": rounded(cand.planarity_rms_A, 3) if cand.energy_kcal_mol is not None
                          else None, "planar": cand.planar if cand.energy_kcal_mol is not None else None,
@@ -136,6 +143,11 @@ def compare_configurations(spec: str, base, mode: str, reason: str, peaks, *, lo
                "ranked": len(kept), "energy_window_kcal_mol": ENERGY_WINDOW_KCAL_MOL, "max_ranked": MAX_KEPT,
                "best_smiles": kept[best].smiles, "candidates": rows}
     return replace(res, configurations=summary)
+
+
+def _force_field(structure) -> bool:
+    """True when the conformers are MMFF94 minima of the search (not GFN2-xTB or UFF geometries)."""
+    return structure.provenance.get("coordinates") == "etkdg-v3+mmff94"
 
 
 def _planar_limit() -> float:
@@ -158,15 +170,18 @@ def configurations_text(summary: dict) -> str:
              f"than {num(summary['energy_window_kcal_mol'], '.0f')} kcal/mol above the lowest, "
              f"{summary['beyond_cap']} beyond the cap of {summary['max_ranked']}; {summary['ranked']} ranked "
              "against the peaks",
+             "  E: MMFF94 energy of the ranked isomers after the full conformer search, relative to the lowest; "
+             "screen E: after the screen; inner H: H inside the ring polygon",
              "",
-             "rank  log10 BF vs best  inner H  planar  screen E (kcal/mol)  cis/trans  SMILES"]
+             "rank            log10 BF vs best  inner H  planar  E (kcal/mol)  screen E  cis/trans  SMILES"]
     for r in summary["candidates"]:
         rank = str(r["rank"]) if r["rank"] is not None else r["status"]
         bf = num(r["log10_bf_vs_best"], "+.2f") if r["log10_bf_vs_best"] is not None else "-"
         inner = str(r["inner_h"]) if r["inner_h"] is not None else "-"
         planar = "-" if r["planar"] is None else ("yes" if r["planar"] else "no")
-        energy = num(r["screen_energy_kcal_mol"], ".1f") if r["screen_energy_kcal_mol"] is not None else "-"
-        lines.append(f"{rank:<14}  {bf:>8}  {inner:>7}  {planar:>6}  {energy:>19}  {r['cis_trans']:<9}  "
-                     f"{r['smiles'] or '(no SMILES)'}")
+        screen = num(r["screen_energy_kcal_mol"], ".1f", "-")
+        energy = num(r["energy_kcal_mol"], ".1f", "-")
+        lines.append(f"{rank:<14}  {bf:>18}  {inner:>7}  {planar:>6}  {energy:>12}  {screen:>8}  "
+                     f"{r['cis_trans']:<9}  {r['smiles'] or '(no SMILES)'}")
     lines += ["", f"best configuration: {summary['best_smiles']}; its full comparison follows.", "", ""]
     return "\n".join(lines)
