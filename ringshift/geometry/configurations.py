@@ -77,6 +77,8 @@ class ConfigurationCandidate:
         "kept", "outside-window", "beyond-cap" or "not-embedded".
     note : str
         Why an isomer was not embedded ("" otherwise).
+    coords : numpy.ndarray, shape (n_atoms, 3), or None
+        The screen's lowest geometry, Å (a start for the full search); None when not embedded.
     """
 
     smiles: str | None
@@ -87,6 +89,7 @@ class ConfigurationCandidate:
     planarity_rms_A: float
     status: str
     note: str = ""
+    coords: np.ndarray | None = field(default=None, repr=False)
 
     @property
     def planar(self) -> bool:
@@ -275,24 +278,24 @@ def screen_configurations(mol: Chem.Mol, mode: str = "open", *, seed: int = 42, 
     """
     bonds, assignments, isomers = enumerate_configurations(mol, mode, source=source)
     ring = _ring_of(mol, bonds)
-    rows: list[tuple[tuple[int, ...], Chem.Mol, float | None, int, float, str]] = []
+    rows: list[tuple[tuple[int, ...], Chem.Mol, float | None, int, float, str, np.ndarray | None]] = []
     for states, m in isomers:
         try:
             coords, energies, _ = _generate(m, int(embeddings), int(seed), math.inf, 0.3, source, threads=1)
         except InputError as exc:
-            rows.append((states, m, None, 0, 0.0, " ".join(exc.bare_message.split()[:12])))
+            rows.append((states, m, None, 0, 0.0, " ".join(exc.bare_message.split()[:12]), None))
             continue
         energy = None
         if energies is not None:
             energy = float(mmff_energy(m, coords[0]))
         inner = len(inner_hydrogens(m, coords[0], ring))
-        rows.append((states, m, energy, inner, planarity_rms_A(coords[0], ring), ""))
+        rows.append((states, m, energy, inner, planarity_rms_A(coords[0], ring), "", coords[0]))
     found = [float(r[2]) for r in rows if r[2] is not None]
     lowest = min(found) if found else 0.0
     order = sorted(range(len(rows)), key=lambda k: (rows[k][2] is None, rows[k][2] or 0.0, k))
     out, kept = [], 0
     for k in order:
-        states, m, energy, inner, rms, note = rows[k]
+        states, m, energy, inner, rms, note, best = rows[k]
         rel = None if energy is None else energy - lowest
         if rel is None:
             status = "not-embedded"
@@ -303,7 +306,8 @@ def screen_configurations(mol: Chem.Mol, mode: str = "open", *, seed: int = 42, 
         else:
             status, kept = "kept", kept + 1
         out.append(ConfigurationCandidate(smiles=isomeric_smiles(m), states=states, mol=m, energy_kcal_mol=rel,
-                                          inner_h=inner, planarity_rms_A=float(rms), status=status, note=note))
+                                          inner_h=inner, planarity_rms_A=float(rms), status=status, note=note,
+                                          coords=best))
     order2 = sorted(range(len(out)), key=lambda k: ({"kept": 0, "beyond-cap": 1, "outside-window": 1}.get(
         out[k].status, 2), k))
     return ConfigurationScreen(mode=mode, bonds=tuple(bonds), ring=tuple(ring), assignments=assignments,

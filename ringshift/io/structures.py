@@ -196,19 +196,22 @@ def load_structure(spec: str, *, charge: int | None = None, conformers: int | No
 def structure_from_molecule(mol: Chem.Mol, name: str, source: str, *, conformers: int | None = None,
                             seed: int = 42, temperature_K: float = 298.15, energy_window_kcal_mol: float = 10.0,
                             rmsd_prune_A: float = 0.3, exchange: str = "slow",
-                            geometry: str = "force-field", provenance: dict | None = None) -> Structure:
+                            geometry: str = "force-field", provenance: dict | None = None,
+                            extra_starts: list[np.ndarray] | None = None) -> Structure:
     """A :class:`Structure` from an explicit-H Kekulé molecule without coordinates (a configurational isomer of
     :mod:`ringshift.geometry.configurations`), through the same conformer search, checks and grouping as
-    :func:`load_structure` of a SMILES. ``provenance`` entries are added to the record's provenance."""
+    :func:`load_structure` of a SMILES. ``provenance`` entries are added to the record's provenance;
+    ``extra_starts`` (each (n_atoms, 3) Å) join the search's starting geometries."""
     _check_options(None, conformers, seed, temperature_K, energy_window_kcal_mol, rmsd_prune_A, exchange, geometry)
     prov = {"format": "smiles", **(provenance or {})}
     return _complete(Chem.Mol(mol), None, None, name, source, prov, charge=None, conformers=conformers, seed=seed,
                      temperature_K=temperature_K, energy_window_kcal_mol=energy_window_kcal_mol,
-                     rmsd_prune_A=rmsd_prune_A, exchange=exchange, geometry=geometry)
+                     rmsd_prune_A=rmsd_prune_A, exchange=exchange, geometry=geometry, extra_starts=extra_starts)
 
 
 def _complete(base: Chem.Mol, coords, energies, name: str, spec: str, prov: dict, *, charge, conformers, seed,
-              temperature_K, energy_window_kcal_mol, rmsd_prune_A, exchange, geometry) -> Structure:
+              temperature_K, energy_window_kcal_mol, rmsd_prune_A, exchange, geometry,
+              extra_starts=None) -> Structure:
     """Checks, conformers (when ``coords`` is None), the optional GFN2-xTB step, aromaticity and H groups."""
     generated = coords is None
     _limits.check_count(base.GetNumAtoms(), _limits.MAX_ATOMS, "atoms (hydrogens included)", _short(spec))
@@ -219,7 +222,7 @@ def _complete(base: Chem.Mol, coords, energies, name: str, spec: str, prov: dict
     if coords is None:
         n = conformers if conformers is not None else default_conformer_count(base)
         coords, energies, info = _generate(base, int(n), seed, float(energy_window_kcal_mol),
-                                           float(rmsd_prune_A), spec)
+                                           float(rmsd_prune_A), spec, extra_starts=extra_starts)
         prov.update(info, seed=int(seed), rmsd_prune_A=float(rmsd_prune_A),
                     energy_window_kcal_mol=float(energy_window_kcal_mol))
     else:

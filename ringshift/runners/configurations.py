@@ -97,8 +97,8 @@ def compare_configurations(spec: str, base, mode: str, reason: str, peaks, *, lo
     preds = []
     for k, cand in enumerate(kept):
         name = cand.smiles or f"{spec} (configuration {k + 1})"
-        s = structure_from_molecule(cand.mol, name, spec, seed=seed,
-                                    provenance={"configuration_smiles": cand.smiles}, **opts)
+        s = structure_from_molecule(cand.mol, name, spec, seed=seed, provenance={"configuration_smiles": cand.smiles},
+                                    extra_starts=None if cand.coords is None else [cand.coords], **opts)
         preds.append(predict(s, **model))
     n_h = len(preds[0].protons)
     peak_list = read_peaks(peaks, n_hydrogens=n_h, solvent=solvent) if isinstance(peaks, str) else peaks
@@ -110,8 +110,9 @@ def compare_configurations(spec: str, base, mode: str, reason: str, peaks, *, lo
     best = int(scores[0].name[1:]) - 1
     res = run_compare(preds[best], peak_list, claim=claim, noise_ppm=noise_ppm, seed=seed)
     ranked: list[tuple[int, dict]] = []
-    energies = [mmff_energy(p.structure.mol, p.structure.coords[0]) if _force_field(p.structure) else None
-                for p in preds]
+    # on the Kekulé molecule of the screen, so that MMFF94 types the atoms as it did there
+    energies = [mmff_energy(c.mol, p.structure.coords[0]) if _force_field(p.structure) else None
+                for c, p in zip(kept, preds)]
     known = [e for e in energies if e is not None]
     for k, (cand, pred) in enumerate(zip(kept, preds)):
         s = pred.structure
