@@ -322,7 +322,8 @@ def compare(structure: StructureLike | Prediction, peaks: str | os.PathLike[str]
             separation_A: float | None = None, charge: int | None = None, conformers: int | None = None,
             temperature_K: float | None = None, fmt: str | None = None, exchange: str | None = None,
             geometry: str | None = None, name: str | None = None,
-            correlations: str | os.PathLike[str] | CorrelationList | None = None) -> CompareResult:
+            correlations: str | os.PathLike[str] | CorrelationList | None = None,
+            configurations: str | None = None) -> CompareResult:
     """Assign observed peaks to a structure's protons, fit its ring currents and give a verdict.
 
     Parameters
@@ -353,12 +354,18 @@ def compare(structure: StructureLike | Prediction, peaks: str | os.PathLike[str]
         ``kind`` and ``strength``; :mod:`ringshift.io.correlations`) or a list already read. Correlated peaks must
         hold groups whose protons are 3 or 4 bonds apart; couplings in the peak list's ``j_hz`` column are used
         with or without it. ``comparison.correlations`` reports what they confirmed and ruled out.
+    configurations : {"given", "open", "all"}, optional
+        Ring E/Z of a SMILES: "given" uses it as written; "open" ranks every configuration of the ring double
+        bonds it leaves open against the peaks, "all" of every ring double bond
+        (:mod:`ringshift.runners.configurations`); the result is the best configuration's comparison with a
+        ``configurations`` summary. Default: "open" when a SMILES leaves ring E/Z open, else "given".
 
     Returns
     -------
     CompareResult
-        ``comparison`` (verdict, fitted ``circuits``, ``assignment``, ``peaks``, ``claim``), ``prediction``
-        and ``peaks``; ``to_frame()`` gives one row per peak.
+        ``comparison`` (verdict, fitted ``circuits``, ``assignment``, ``peaks``, ``claim``), ``prediction``,
+        ``peaks`` and ``configurations`` (None unless configurations were ranked); ``to_frame()`` gives one row
+        per peak.
 
     Examples
     --------
@@ -392,6 +399,26 @@ def compare(structure: StructureLike | Prediction, peaks: str | os.PathLike[str]
         raise InputError("solvent goes with a peak file; a PeakList's solvent lines were decided when it was read "
                          "(read_peaks(path, solvent=...))", "solvent")
     loads_here = _path(structure) is not None  # the seed also seeds the conformers
+    if not loads_here or configurations == "given":
+        _not_given({"configurations": None if configurations == "given" else configurations},
+                   "configurations are enumerated from a SMILES; a loaded structure has its configuration")
+    else:
+        from ringshift.runners.configurations import compare_configurations, resolve_mode
+
+        mode, reason, base = resolve_mode(_path(structure) or "", configurations, fmt=fmt)
+        if mode != "given":
+            from rdkit import Chem
+
+            if charge is not None and charge != Chem.GetFormalCharge(base):
+                raise InputError(f"contradicts the net formal charge {Chem.GetFormalCharge(base)} of the SMILES",
+                                 "charge")
+            model_opts = _model_options(model, currents, beta_model, scale, set_current, user_circuits, separation_A)
+            with _api_names():
+                return _named(compare_configurations(
+                    _path(structure) or "", base, mode, reason, peak_path if peak_path is not None else peaks,
+                    load={"conformers": conformers, "temperature_K": temperature_K, "exchange": exchange,
+                          "geometry": geometry}, model=model_opts, claim=claim, noise_ppm=noise_ppm,
+                    seed=DEFAULT_SEED if seed is None else seed, solvent=solvent, correlations=cross), label)
     pred = _prediction(structure, seed=seed if loads_here else None, model=model, currents=currents,
                        beta_model=beta_model, scale=scale, set_current=set_current, user_circuits=user_circuits,
                        separation_A=separation_A, charge=charge, conformers=conformers,

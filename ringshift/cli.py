@@ -28,12 +28,14 @@ OPTION_OF_PARAMETER = {
     "solvent": "--solvent", "weights": "--weights", "energy_unit": "--energy-unit", "memory_MB": "--memory",
     "jobs": "--jobs", "scheduler": "--scheduler", "contour_max_ppm": "--contour-max",
     "circuit": "--for-circuit", "exchange": "--exchange", "geometry": "--geometry", "name": "--name",
-    "correlations": "--correlations",
+    "correlations": "--correlations", "configurations": "--configurations",
 }
 
 #: Choices of --exchange and --geometry: ringshift.geometry.symmetry.EXCHANGE_RULES and
 #: ringshift.io.structures.GEOMETRY_ROUTES (spelt out here so that importing the CLI stays light; a test checks them).
 EXCHANGE_CHOICES = ("slow", "fast")
+#: Choices of --configurations: ringshift.geometry.configurations.CONFIGURATION_MODES (a test checks them).
+CONFIGURATION_CHOICES = ("given", "open", "all")
 GEOMETRY_CHOICES = ("force-field", "gfn2-xtb")
 
 
@@ -226,6 +228,10 @@ def predict_cmd(structure, charge, conformers, seed, temperature, exchange, geom
 @click.option("--correlations", type=click.Path(dir_okay=False), default=None, metavar="FILE",
               help="H-H correlation list (COSY cross peaks, CSV: shift_a_ppm,shift_b_ppm[,kind,strength]) used as "
                    "evidence in the assignment.")
+@click.option("--configurations", "configurations", type=click.Choice(CONFIGURATION_CHOICES), default=None,
+              help="Ring E/Z: given (as the input says), open (rank every configuration of the ring double bonds the "
+                   "SMILES leaves open), all (every ring double bond) [default: open when the SMILES leaves ring "
+                   "E/Z open, else given].")
 @click.option("--format", "fmt", type=_Format("text", "json"), default="text", show_default=True,
               help="Readable text or JSON.")
 @click.option("-o", "--output", type=click.Path(dir_okay=False), default=None, help="Write to FILE (atomically).")
@@ -234,35 +240,47 @@ def predict_cmd(structure, charge, conformers, seed, temperature, exchange, geom
                    "frequency: '# observe_mhz = 400' in a CSV peak table, or a JCAMP-DX file).")
 @click.option("--force", is_flag=True, help="Overwrite an existing output file.")
 def compare_cmd(structure, peaks, charge, conformers, seed, temperature, exchange, geometry, model, currents,
-                beta_model, scale, set_current, circuit, solvent, name, claim, noise, correlations, fmt, output,
-                nmredata, force):
+                beta_model, scale, set_current, circuit, solvent, name, claim, noise, correlations, configurations,
+                fmt, output, nmredata, force):
     """Assign the observed PEAKS (CSV/TSV or JCAMP-DX) to STRUCTURE, fit its ring currents, give a verdict."""
     from ringshift.comparison.run import run_compare
     from ringshift.io.peak_tables import read_peaks
     from ringshift.reporting.json import comparison_to_dict, to_json
     from ringshift.reporting.text import comparison_text
+    from ringshift.runners.configurations import compare_configurations, configurations_text, resolve_mode
 
     cross = _correlations(correlations)  # read first: a bad file fails before the prediction is computed
-    pred = _run_predict(structure, charge, conformers, seed, temperature, exchange, geometry, model, currents,
-                        beta_model, scale, set_current, circuit, name)
-    pl = read_peaks(peaks, n_hydrogens=len(pred.protons), solvent=solvent)
-    if nmredata:  # refuse before the fit: a file in the way, the same file as -o, or no spectrometer frequency
-        from os.path import abspath, exists, isfile, samefile
+    if nmredata:
+        _nmredata_precheck(nmredata, output, force, (structure, peaks))
+    mode, reason, base = resolve_mode(structure, configurations)
+    if mode == "given":
+        pred = _run_predict(structure, charge, conformers, seed, temperature, exchange, geometry, model, currents,
+                            beta_model, scale, set_current, circuit, name)
+        pl = read_peaks(peaks, n_hydrogens=len(pred.protons), solvent=solvent)
+        if nmredata:
+            from ringshift.io.nmredata import larmor_mhz_of
 
-        from ringshift.io.nmredata import larmor_mhz_of
+            larmor_mhz_of(pl)  # no spectrometer frequency: refuse before the fit
+        res = run_compare(pred, pl, claim=claim, noise_ppm=_noise(noise), seed=seed, correlations=cross)
+    else:
+        from ringshift._validation import compound_name
+        from ringshift.api import _named
 
-        if output and abspath(output) == abspath(nmredata):
-            raise InputError("names the same file as -o; give the NMReDATA file a name of its own", "--nmredata")
-        if exists(nmredata) and any(isfile(src) and samefile(nmredata, src) for src in (structure, peaks)):
-            raise OutputError(f"{nmredata}: is an input of this run; choose another output path")
-        if exists(nmredata) and not force:
-            raise OutputError(f"{nmredata}: already exists; use --force to overwrite it")
-        larmor_mhz_of(pl)
-    res = run_compare(pred, pl, claim=claim, noise_ppm=_noise(noise), seed=seed, correlations=cross)
+        if charge is not None and base is not None and charge != _formal_charge(base):
+            raise InputError(f"contradicts the net formal charge {_formal_charge(base)} of the SMILES", "--charge")
+        res = _named(compare_configurations(
+            structure, base, mode, reason, peaks, seed=seed, solvent=solvent, claim=claim, noise_ppm=_noise(noise),
+            load={"conformers": conformers, "temperature_K": temperature, "exchange": exchange, "geometry": geometry},
+            model={"model": model, "currents": currents, "beta_model": beta_model,
+                   "scale": parse_assignments(scale, "--scale"),
+                   "set_current": parse_assignments(set_current, "--set-current"),
+                   "user_circuits": _index_lists(circuit)}, correlations=cross), compound_name(name))
     if fmt == "json":
         text = to_json(comparison_to_dict(res))
     else:
         text = comparison_text(res)
+        if res.configurations is not None:
+            text = configurations_text(res.configurations) + text
     _emit(text, output, force, (structure, peaks) + ((correlations,) if correlations else ()))
     if nmredata:
         from ringshift.io.nmredata import write_nmredata
@@ -271,12 +289,30 @@ def compare_cmd(structure, peaks, charge, conformers, seed, temperature, exchang
         click.echo(f"wrote {nmredata}", err=True)
 
 
+def _nmredata_precheck(nmredata, output, force, inputs):
+    """Refuse --nmredata before the fit: the same file as -o, an input of the run, or a file in the way."""
+    from os.path import abspath, exists, isfile, samefile
+
+    if output and abspath(output) == abspath(nmredata):
+        raise InputError("names the same file as -o; give the NMReDATA file a name of its own", "--nmredata")
+    if exists(nmredata) and any(isfile(src) and samefile(nmredata, src) for src in inputs):
+        raise OutputError(f"{nmredata}: is an input of this run; choose another output path")
+    if exists(nmredata) and not force:
+        raise OutputError(f"{nmredata}: already exists; use --force to overwrite it")
+
+
 def _correlations(path):
     if path is None:
         return None
     from ringshift.io.correlations import read_correlations
 
     return read_correlations(path)
+
+
+def _formal_charge(mol) -> int:
+    from rdkit import Chem
+
+    return int(Chem.GetFormalCharge(mol))
 
 
 def _noise(value):

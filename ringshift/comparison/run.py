@@ -44,6 +44,9 @@ class CompareResult(ComparisonDisplay):
     peaks: PeakList
     comparison: Comparison
     observed: tuple[ObservedPeak, ...]
+    #: When the ring E/Z configurations were ranked: the summary of
+    #: :func:`ringshift.runners.configurations.compare_configurations` (JSON-ready); None otherwise.
+    configurations: dict | None = None
 
 
 def group_models(pred) -> list[GroupModel]:

@@ -238,7 +238,8 @@ def _noisy(x: np.ndarray, rng: np.random.Generator) -> np.ndarray:
     return x + rng.normal(0.0, FLAT_NOISE_A, size=x.shape)
 
 
-def _generate(mol: Chem.Mol, n: int, seed: int, window: float, rmsd_A: float, source: str, *, threads: int = 0):
+def _generate(mol: Chem.Mol, n: int, seed: int, window: float, rmsd_A: float, source: str, *, threads: int = 0,
+              extra_starts: list[np.ndarray] | None = None):
     """Embed, add flat starts, minimise, reject E/Z contradictions, apply the window, sort, prune.
 
     Small rigid molecules: ``n`` ETKDG v3 embeddings with ``seed`` (Wang, Witek, Landrum & Riniker, J. Chem.
@@ -253,6 +254,8 @@ def _generate(mol: Chem.Mol, n: int, seed: int, window: float, rmsd_A: float, so
     Returns coords (n_conf, n_atoms, 3) Å sorted by energy, energies (n_conf,) kcal/mol relative to the lowest
     (None without a force field) and the provenance dict. ``threads``: RDKit threads (0 = every core this
     process may run on, so a process pinned to one core, as in the benchmarks, embeds on one thread).
+    ``extra_starts``: further starting geometries (n_atoms, 3) Å, e.g. the minimum an earlier, shorter search
+    found (the configuration screen), E/Z-checked and minimised with the others (origin "given").
     """
     threads = threads or _available_cores()
     search = needs_search(mol)
@@ -270,6 +273,9 @@ def _generate(mol: Chem.Mol, n: int, seed: int, window: float, rmsd_A: float, so
         flat = [_noisy(x, rng) for x in perimeter if not _ez_problems(refs, x)]
         rejected += len(perimeter) - len(flat)
         starts, origin = starts + flat, origin + ["perimeter"] * len(flat)
+    if extra_starts:
+        given = [np.asarray(x, dtype=np.float64) for x in extra_starts if not _ez_problems(refs, x)]
+        starts, origin = starts + given, origin + ["given"] * len(given)
     if not starts:
         raise InputError(f"embedded geometry contradicts the E/Z stereo: {_ez_problems(refs, embedded[0])[0]} (all "
                          f"{len(embedded)} conformers); check the stereo marks or supply 3D coordinates",
@@ -282,7 +288,7 @@ def _generate(mol: Chem.Mol, n: int, seed: int, window: float, rmsd_A: float, so
     if search and energies is not None and len(planar_atoms) >= 3:
         ok = sorted((c for c in range(len(coords)) if not _ez_problems(refs, coords[c])),
                     key=lambda c: (energies[c], c))
-        distinct = [ok[k] for k in prune_conformers(coords[ok][:, heavy], autos, rmsd_A)]
+        distinct = [ok[k] for k in prune_conformers(coords[ok][:, heavy], autos, rmsd_A)] if ok else []
         bent = [c for c in distinct if planarity_rms_A(coords[c], planar_atoms) > _FLAT_RMS_A][:_PROJECTED]
         projected = [project_onto_plane(mol, coords[c], planar_atoms) for c in bent]
         keep = [_noisy(x, rng) for x in projected if not _ez_problems(refs, x)]

@@ -17,6 +17,7 @@ Equivalent protons: :func:`ringshift.geometry.symmetry.group_equivalent_hydrogen
 from __future__ import annotations
 
 import math
+import warnings
 from dataclasses import dataclass
 from pathlib import Path
 
@@ -24,11 +25,12 @@ import numpy as np
 from rdkit import Chem
 
 from ringshift import limits as _limits
-from ringshift.errors import InputError
+from ringshift.errors import GeometryWarning, InputError
 from ringshift.geometry.conformers import (
     _generate,
     boltzmann_weights,
     default_conformer_count,
+    ez_stereo_check,
 )
 from ringshift.geometry.symmetry import EXCHANGE_RULES, group_equivalent_hydrogens
 from ringshift.io.molecule_files import (
@@ -40,7 +42,7 @@ from ringshift.io.molecule_files import (
     _short,
 )
 
-__all__ = ['Structure', 'load_structure', 'GEOMETRY_ROUTES', 'EXCHANGE_RULES']
+__all__ = ['Structure', 'load_structure', 'structure_from_molecule', 'GEOMETRY_ROUTES', 'EXCHANGE_RULES']
 
 #: Geometry routes of :func:`load_structure`: MMFF94 conformers (or the input coordinates) as they are, or
 #: re-optimised with GFN2-xTB (Bannwarth, Ehlert & Grimme, J. Chem. Theory Comput. 2019, 15, 1652).
@@ -190,6 +192,32 @@ def load_structure(spec: str, *, charge: int | None = None, conformers: int | No
     else:
         base, coords, energies, name, extra = _mol_from_molfile(Path(spec))
         prov.update(extra)
+    return _complete(base, coords, energies, name, spec, prov, charge=charge, conformers=conformers, seed=seed,
+                     temperature_K=temperature_K, energy_window_kcal_mol=energy_window_kcal_mol,
+                     rmsd_prune_A=rmsd_prune_A, exchange=exchange, geometry=geometry)
+
+
+def structure_from_molecule(mol: Chem.Mol, name: str, source: str, *, conformers: int | None = None,
+                            seed: int = 42, temperature_K: float = 298.15, energy_window_kcal_mol: float = 10.0,
+                            rmsd_prune_A: float = 0.3, exchange: str = "slow",
+                            geometry: str = "force-field", provenance: dict | None = None,
+                            extra_starts: list[np.ndarray] | None = None) -> Structure:
+    """A :class:`Structure` from an explicit-H Kekulé molecule without coordinates (a configurational isomer of
+    :mod:`ringshift.geometry.configurations`), through the same conformer search, checks and grouping as
+    :func:`load_structure` of a SMILES. ``provenance`` entries are added to the record's provenance;
+    ``extra_starts`` (each (n_atoms, 3) Å) join the search's starting geometries."""
+    _check_options(None, conformers, seed, temperature_K, energy_window_kcal_mol, rmsd_prune_A, exchange, geometry)
+    prov = {"format": "smiles", **(provenance or {})}
+    return _complete(Chem.Mol(mol), None, None, name, source, prov, charge=None, conformers=conformers, seed=seed,
+                     temperature_K=temperature_K, energy_window_kcal_mol=energy_window_kcal_mol,
+                     rmsd_prune_A=rmsd_prune_A, exchange=exchange, geometry=geometry, extra_starts=extra_starts)
+
+
+def _complete(base: Chem.Mol, coords, energies, name: str, spec: str, prov: dict, *, charge, conformers, seed,
+              temperature_K, energy_window_kcal_mol, rmsd_prune_A, exchange, geometry,
+              extra_starts=None) -> Structure:
+    """Checks, conformers (when ``coords`` is None), the optional GFN2-xTB step, aromaticity and H groups."""
+    generated = coords is None
     _limits.check_count(base.GetNumAtoms(), _limits.MAX_ATOMS, "atoms (hydrogens included)", _short(spec))
     _check_chemistry(base, _short(spec))
     net = Chem.GetFormalCharge(base)
@@ -198,7 +226,7 @@ def load_structure(spec: str, *, charge: int | None = None, conformers: int | No
     if coords is None:
         n = conformers if conformers is not None else default_conformer_count(base)
         coords, energies, info = _generate(base, int(n), seed, float(energy_window_kcal_mol),
-                                           float(rmsd_prune_A), spec)
+                                           float(rmsd_prune_A), spec, extra_starts=extra_starts)
         prov.update(info, seed=int(seed), rmsd_prune_A=float(rmsd_prune_A),
                     energy_window_kcal_mol=float(energy_window_kcal_mol))
     else:
@@ -209,6 +237,7 @@ def load_structure(spec: str, *, charge: int | None = None, conformers: int | No
     prov["temperature_K"] = float(temperature_K)
     prov["exchange"] = exchange
     coords = np.ascontiguousarray(coords, dtype=np.float64)
+    _check_ez(base, coords, spec, generated=generated)
     mol = Chem.Mol(base)
     mol.RemoveAllConformers()
     for c in range(coords.shape[0]):
@@ -232,6 +261,49 @@ def load_structure(spec: str, *, charge: int | None = None, conformers: int | No
             arr.setflags(write=False)
     return Structure(name=name, source=spec, mol=mol, coords=coords, weights=weights, energies_kcal_mol=energies,
                      charge=int(net), h_groups=h_groups, provenance=prov)
+
+
+def _check_ez(mol: Chem.Mol, coords: np.ndarray, spec: str, *, generated: bool) -> None:
+    """The last E/Z check of every route, on the conformers (n_conf, n_atoms, 3) Å.
+
+    Generated (and GFN2-xTB re-optimised) conformers were checked against the input's stereo on the way; a
+    contradiction left here is an error. File coordinates define the stereo themselves (RDKit reads it from the
+    first record), so each later record of an ensemble is compared with the first, bond by bond, and another
+    configuration is a warning that names the bond and the record."""
+    if generated:
+        for c in range(coords.shape[0]):
+            problems = ez_stereo_check(mol, coords[c])
+            if problems:
+                raise InputError(f"conformer {c}: {problems[0]}; check the stereo marks or supply 3D coordinates",
+                                 source=spec)
+        return
+    for c in range(1, coords.shape[0]):
+        changed = _configuration_changes(mol, coords[0], coords[c])
+        if changed:
+            warnings.warn(GeometryWarning(f"{_short(spec)}: record {c + 1} (conformer {c}, 0-based) has another E/Z "
+                                          f"configuration than the first: {changed[0]}"), stacklevel=4)
+
+
+def _configuration_changes(mol: Chem.Mol, first: np.ndarray, other: np.ndarray) -> list[str]:
+    """Double bonds (with a neighbour besides the partner at both ends) whose reference dihedral is cis in one
+    geometry (n_atoms, 3) Å and trans in the other (|dihedral| < 90 deg is cis; common practice, no source)."""
+    from ringshift.geometry.conformers import _dihedral_deg
+
+    out = []
+    for b in mol.GetBonds():
+        if b.GetBondType() != Chem.BondType.DOUBLE:
+            continue
+        i, j = b.GetBeginAtomIdx(), b.GetEndAtomIdx()
+        ni = sorted(n.GetIdx() for n in mol.GetAtomWithIdx(i).GetNeighbors() if n.GetIdx() != j)
+        nj = sorted(n.GetIdx() for n in mol.GetAtomWithIdx(j).GetNeighbors() if n.GetIdx() != i)
+        if not ni or not nj:
+            continue
+        d0 = _dihedral_deg(first[ni[0]], first[i], first[j], first[nj[0]])
+        d1 = _dihedral_deg(other[ni[0]], other[i], other[j], other[nj[0]])
+        if (abs(d0) < 90.0) != (abs(d1) < 90.0):
+            out.append(f"bond {i}-{j}: dihedral {ni[0]}-{i}-{j}-{nj[0]} is {d0:.0f} deg in the first record but "
+                       f"{d1:.0f} deg here")
+    return out
 
 
 def _refine_gfn2(mol: Chem.Mol, coords: np.ndarray, energies_ff: np.ndarray | None, charge: int, spec: str,

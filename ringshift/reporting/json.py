@@ -38,6 +38,8 @@ def comparison_to_dict(res: CompareResult) -> dict:
     out.update(comp)
     out["peak_warnings"] = list(res.peaks.warnings)
     out["reference_lines"] = reference_lines(res)
+    if getattr(res, "configurations", None) is not None:
+        out["configurations"] = res.configurations
     out["prediction"] = prediction_to_dict(res.prediction)
     out["caution"] = CAUTION
     return out
