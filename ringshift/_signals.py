@@ -1,27 +1,31 @@
 """Stopping on Ctrl-C (SIGINT) and SIGTERM: promptly, with no partial output, exit code 128 + signal number.
 
-The command line installs :func:`stop_on_signals` around a command. The first SIGINT or SIGTERM raises
-:class:`Stopped` (a ``KeyboardInterrupt``) in the main thread, so every writer's cleanup runs (temporary
-files and folders are removed, locks released) and :mod:`ringshift.cli` exits 130 or 143 with one line.
-Later signals do not raise again, so a cleanup is never cut short.
+The command line runs each command inside :func:`stop_on_signals`. There SIGINT and SIGTERM are blocked in
+the main thread and taken by a watchdog thread (``signal.sigwait``), never by a handler that a library may
+have swapped in: RDKit catches SIGINT itself during embedding and substructure searches and carries on with
+a partial result, so a Ctrl-C that reached it would be lost or, worse, give a different answer. The watchdog
+passes the first signal to the main thread (``_thread.interrupt_main``), where it raises :class:`Stopped`
+(a ``KeyboardInterrupt``) at the next Python step: every writer's cleanup runs (temporary files and folders
+removed, locks released) and :mod:`ringshift.cli` exits 130 or 143 with one line. Later signals do not
+raise again, so a cleanup is never cut short.
 
-A Python signal handler only runs between bytecodes: a long call into compiled code (an RDKit force
-field, a large NumPy block) would delay it. A watchdog thread therefore hears every signal through
-``signal.set_wakeup_fd``; if the command has not finished :data:`GRACE_S` seconds after the first signal,
-it removes the temporary outputs registered with :func:`register_temporary` and ends the process with
-``os._exit`` (same exit code, same one-line message). Worker processes end with it (see
-:func:`ringshift.runners.batch.worker_init`).
+A long call into compiled code (an RDKit force field, a large NumPy block) delays that step. If the
+command has not ended :data:`GRACE_S` seconds after the first signal, the watchdog removes the temporary
+outputs registered with :func:`register_temporary` (and lock files) and ends the process with ``os._exit``
+(same exit code, same one-line message). Batch worker processes die with it
+(:func:`ringshift.runners.batch.worker_init`).
 
 A signal that is ignored when the command starts (e.g. SIGINT of a job started with ``&`` by a
-non-interactive shell) stays ignored.
+non-interactive shell) stays ignored. Outside the main thread, or without ``pthread_sigmask``, the ordinary
+Python handlers are used (Ctrl-C then reaches RDKit as before).
 """
 
 from __future__ import annotations
 
+import _thread
 import os
 import shutil
 import signal
-import socket
 import sys
 import threading
 from collections.abc import Iterator
@@ -36,7 +40,7 @@ STOP_SIGNALS = {signal.SIGINT: "Ctrl-C (SIGINT)", signal.SIGTERM: "SIGTERM"}
 # Process state (a signal is process-wide): the first stopping signal received, and the temporary outputs
 # in progress that a forced exit must remove. Guarded by _LOCK.
 _LOCK = threading.Lock()
-_STATE: dict[str, int | None] = {"signum": None}
+_STATE: dict[str, int | None] = {"signum": None, "raised": None}
 _TEMPORARIES: set[str] = set()
 
 
@@ -81,9 +85,11 @@ def stop_message(exc: BaseException | None = None) -> str:
 
 def _handler(signum, frame):  # noqa: ARG001
     with _LOCK:
-        first = _STATE["signum"] is None
+        first = _STATE["raised"] is None
         if first:
-            _STATE["signum"] = signum
+            _STATE["raised"] = signum
+            if _STATE["signum"] is None:
+                _STATE["signum"] = signum
     if first:
         raise Stopped(signum)
 
@@ -101,20 +107,23 @@ def _remove_temporaries() -> None:
             pass
 
 
-def _watchdog(sock: socket.socket, finished: threading.Event) -> None:
-    while True:
-        try:
-            data = sock.recv(64)
-        except OSError:
+#: Ends the watchdog's sigwait when the command is over (sent to the watchdog thread only).
+_WAKE: signal.Signals | None = getattr(signal, "SIGUSR2", None)
+
+
+def _watchdog(watched: set[int], finished: threading.Event) -> None:
+    first = None
+    while not finished.is_set():
+        signum = signal.sigwait(watched | {_WAKE} if _WAKE is not None else watched)
+        if finished.is_set():
             return
-        if not data or finished.is_set():
-            return
-        signums = [b for b in data if b in (int(signal.SIGINT), int(signal.SIGTERM))]
-        if not signums:
-            continue
+        if signum == _WAKE or first is not None:
+            continue                          # a second Ctrl-C changes nothing: the first is being handled
+        first = signum
         with _LOCK:
             if _STATE["signum"] is None:
-                _STATE["signum"] = signums[0]
+                _STATE["signum"] = signum
+        _thread.interrupt_main(signal.Signals(signum))
         if finished.wait(GRACE_S):
             return
         _remove_temporaries()
@@ -126,45 +135,49 @@ def _watchdog(sock: socket.socket, finished: threading.Event) -> None:
 
 @contextmanager
 def stop_on_signals() -> Iterator[None]:
-    """Within the block, SIGINT and SIGTERM raise :class:`Stopped` once and a watchdog forces the exit after
-    :data:`GRACE_S` s. Restores the previous handlers on exit. Outside the main thread it does nothing."""
+    """Within the block, the first SIGINT or SIGTERM raises :class:`Stopped` in the main thread, and the process
+    ends after :data:`GRACE_S` s if it has not by then (module notes). Restores handlers and mask on exit."""
     if threading.current_thread() is not threading.main_thread():
         yield
         return
-    _STATE["signum"] = None
-    previous = {}
-    for sig in STOP_SIGNALS:
-        old = signal.getsignal(sig)
-        if old is signal.SIG_IGN:
-            continue
-        previous[sig] = old
+    _STATE["signum"] = _STATE["raised"] = None
+    watched = {int(sig) for sig in STOP_SIGNALS if signal.getsignal(sig) is not signal.SIG_IGN}
+    previous = {sig: signal.getsignal(sig) for sig in watched}
+    for sig in watched:
         signal.signal(sig, _handler)
-    reader, writer = socket.socketpair()
-    reader.setblocking(True)
-    writer.setblocking(False)
+    if not watched or _WAKE is None or not hasattr(signal, "pthread_sigmask"):   # plain handlers only
+        try:
+            yield
+        finally:
+            for sig, old in previous.items():
+                signal.signal(sig, old)
+        return
+    old_mask = signal.pthread_sigmask(signal.SIG_BLOCK, watched | {_WAKE})
     finished = threading.Event()
-    old_fd = signal.set_wakeup_fd(writer.fileno(), warn_on_full_buffer=False)
-    thread = threading.Thread(target=_watchdog, args=(reader, finished), name="ringshift-stop-watchdog",
+    thread = threading.Thread(target=_watchdog, args=(watched, finished), name="ringshift-stop-watchdog",
                               daemon=True)
-    thread.start()
+    thread.start()                            # it inherits the blocked mask, as sigwait requires
     try:
         yield
     finally:
         finished.set()
-        signal.set_wakeup_fd(old_fd)
+        if thread.ident is not None and thread.is_alive():
+            try:
+                signal.pthread_kill(thread.ident, _WAKE)
+            except ProcessLookupError:         # it has just ended
+                pass
+        thread.join(GRACE_S + 1.0)
+        while signal.sigtimedwait(watched | {_WAKE}, 0) is not None:   # drop signals left pending
+            pass
+        signal.pthread_sigmask(signal.SIG_SETMASK, old_mask)
         for sig, old in previous.items():
             signal.signal(sig, old)
-        writer.close()          # ends the watchdog's recv
-        thread.join(1.0)
-        reader.close()
 
 
 def reset_in_child() -> None:
-    """In a forked worker: no wakeup descriptor shared with the parent, SIGTERM kills, SIGINT is left to the
-    parent (a terminal's Ctrl-C reaches the whole process group; the parent stops the workers)."""
-    try:
-        signal.set_wakeup_fd(-1)
-    except ValueError:           # not the main thread of the worker
-        pass
+    """In a forked worker: SIGTERM kills, SIGINT is left to the parent (a terminal's Ctrl-C reaches the whole
+    process group; the parent stops the workers), nothing blocked."""
     signal.signal(signal.SIGTERM, signal.SIG_DFL)
     signal.signal(signal.SIGINT, signal.SIG_IGN)
+    if hasattr(signal, "pthread_sigmask"):       # a fork inherits the parent's blocked mask
+        signal.pthread_sigmask(signal.SIG_UNBLOCK, set(STOP_SIGNALS) | ({_WAKE} if _WAKE else set()))

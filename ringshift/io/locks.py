@@ -18,6 +18,7 @@ from collections.abc import Iterator
 from contextlib import contextmanager
 from pathlib import Path
 
+from ringshift import _signals
 from ringshift.errors import OutputError
 
 try:
@@ -66,22 +67,29 @@ def output_lock(output: str | os.PathLike) -> Iterator[None]:
         yield
         return
     fd = _acquire(lock, output)
-    with _GUARD:
-        _HELD[key] = 1
     try:
+        with _GUARD:
+            _HELD[key] = 1
+        _signals.register_temporary(lock)       # a forced exit on a signal removes it too
         yield
     finally:
         with _GUARD:
-            del _HELD[key]
-        try:
-            os.unlink(lock)     # still ours: we hold the lock, and _acquire checked the path is this file
-        except OSError:
-            pass
-        os.close(fd)
+            _HELD.pop(key, None)
+        _release(lock, fd)
+
+
+def _release(lock: Path, fd: int) -> None:
+    try:
+        os.unlink(lock)     # still ours: we hold the lock, and _acquire checked the path is this file
+    except OSError:
+        pass
+    _signals.forget_temporary(lock)
+    os.close(fd)
 
 
 def _acquire(lock: Path, output) -> int:
     while True:
+        same = False
         try:
             fd = os.open(lock, os.O_RDWR | os.O_CREAT | os.O_CLOEXEC | os.O_NOFOLLOW, 0o666)
         except OSError as exc:
@@ -93,7 +101,10 @@ def _acquire(lock: Path, output) -> int:
             raise OutputError(f"{output}: cannot write in its folder ({reason})") from None
         try:
             fcntl.flock(fd, fcntl.LOCK_EX | fcntl.LOCK_NB)
-        except OSError as exc:
+        except BaseException as exc:
+            if not isinstance(exc, OSError):        # a signal: nothing is held
+                os.close(fd)
+                raise
             who = _holder(fd)
             os.close(fd)
             if exc.errno in (errno.EWOULDBLOCK, errno.EAGAIN, errno.EACCES):
@@ -101,11 +112,18 @@ def _acquire(lock: Path, output) -> int:
                                   "finished, or choose another output") from None
             raise OutputError(f"{output}: cannot lock it ({exc.strerror})") from None
         try:  # the holder before us may have removed the file after we opened it: lock the current file
-            same = os.path.samestat(os.fstat(fd), os.stat(lock, follow_symlinks=False))
-        except FileNotFoundError:
-            same = False
-        if same:
-            os.ftruncate(fd, 0)
-            os.pwrite(fd, f"{os.getpid()}\n".encode("ascii"), 0)
-            return fd
+            try:
+                same = os.path.samestat(os.fstat(fd), os.stat(lock, follow_symlinks=False))
+            except FileNotFoundError:
+                same = False
+            if same:
+                os.ftruncate(fd, 0)
+                os.pwrite(fd, f"{os.getpid()}\n".encode("ascii"), 0)
+                return fd
+        except BaseException:                       # a signal, a full disk: let go of what we hold
+            if same:
+                _release(lock, fd)
+            else:
+                os.close(fd)
+            raise
         os.close(fd)

@@ -53,6 +53,8 @@ from ringshift.runners.batch_output import read_batch_output, start_afresh, tidy
 
 __all__ = ['MAX_JOBS', 'BatchSummary', 'run_batch', 'usable_cores', 'work_item', 'worker_init']
 
+_POLL_S = 0.2   # s between checks for a stop signal while waiting for workers
+
 #: Hard upper bound of ``jobs`` (worker processes); ``jobs`` is also lowered to the usable cores.
 MAX_JOBS = 64
 
@@ -179,7 +181,10 @@ def _kill_workers(executor: ProcessPoolExecutor) -> None:
 def _isolated(item, load_kwargs, predict_kwargs) -> str:
     ex = _pool(1)
     try:
-        return ex.submit(work_item, item, load_kwargs, predict_kwargs).result()
+        fut = ex.submit(work_item, item, load_kwargs, predict_kwargs)
+        while not wait([fut], timeout=_POLL_S).done:    # a timeout keeps the main thread responsive to signals
+            pass
+        return fut.result()
     except BrokenProcessPool:
         return _record(item, ok=False, error="the worker process died on this molecule (crash or out of memory)")
     except BaseException:
@@ -350,8 +355,8 @@ def _parallel(items: Iterator[LibraryItem], emit, jobs, scheduler, load_kwargs, 
             if client is not None:
                 from dask.distributed import wait as dask_wait
                 finished = dask_wait(list(futures), return_when="FIRST_COMPLETED").done
-            else:
-                finished = wait(list(futures), return_when=FIRST_COMPLETED).done
+            else:   # a timeout keeps the main thread responsive to Ctrl-C and SIGTERM (ringshift._signals)
+                finished = wait(list(futures), timeout=_POLL_S, return_when=FIRST_COMPLETED).done
             broken = []
             for fut in finished:
                 item = futures.pop(fut)
