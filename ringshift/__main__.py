@@ -1,12 +1,20 @@
-"""``python -m ringshift`` runs the command-line interface."""
+"""``python -m ringshift`` (and the ``ringshift`` command, ``run``) runs the command-line interface.
 
-import sys
+SIGINT and SIGTERM are blocked before anything is imported, so that every thread a library starts (BLAS
+pools, RDKit) inherits the block and the signals reach ringshift's watchdog only (:mod:`ringshift._signals`).
+"""
 
-try:
+
+
+def run() -> None:
+    """Console entry point: block the stop signals, then run :func:`ringshift.cli.main`."""
+    from ringshift._signals import block_early
+
+    block_early()
     from ringshift.cli import main
-except KeyboardInterrupt:  # pragma: no cover - Ctrl-C while the interface is still being imported
-    print("ringshift: stopped by Ctrl-C (SIGINT); no partial output was left", file=sys.stderr)
-    sys.exit(130)
+
+    main()
+
 
 if __name__ == "__main__":  # pragma: no cover
-    main()
+    run()

@@ -174,6 +174,14 @@ def stop_on_signals() -> Iterator[None]:
             signal.signal(sig, old)
 
 
+def block_early() -> None:
+    """Block SIGINT and SIGTERM (those not ignored) in the main thread before heavy imports start threads, which
+    inherit the mask; :func:`stop_on_signals` then takes them with ``sigwait``. For the console entry only."""
+    if hasattr(signal, "pthread_sigmask") and threading.current_thread() is threading.main_thread():
+        watched = {int(sig) for sig in STOP_SIGNALS if signal.getsignal(sig) is not signal.SIG_IGN}
+        signal.pthread_sigmask(signal.SIG_BLOCK, watched)
+
+
 def reset_in_child() -> None:
     """In a forked worker: SIGTERM kills, SIGINT is left to the parent (a terminal's Ctrl-C reaches the whole
     process group; the parent stops the workers), nothing blocked."""
