@@ -10,6 +10,7 @@ from __future__ import annotations
 
 import math
 import os
+import re
 import sys
 import warnings
 from collections.abc import Sequence
@@ -49,8 +50,26 @@ class _Format(click.Choice):
         return super().convert("text" if value == "table" else value, param, ctx)
 
 
+#: Library argument paths (``peaks[1].fixed_groups``) as a command-line user knows them.
+_PEAK_FIELD = re.compile(r"peaks\[(\d+)\](?:\.(\w+))?")
+_FIELD_WORDS = {"fixed_groups": "fixed atoms", "shift_ppm": "shift", "integral": "integral", "kind": "kind",
+                "label": "label"}
+
+
+def _peak_words(m: re.Match) -> str:
+    field = f" ({_FIELD_WORDS.get(m.group(2), m.group(2).replace('_', ' '))})" if m.group(2) else ""
+    return f"peak {int(m.group(1)) + 1} of the peak list{field}"
+
+
 def _error_text(exc: InputError) -> str:
-    """One line for an InputError, with an API parameter name shown as the matching command-line option."""
+    """One line for an InputError, with an API parameter name shown as the matching command-line option and
+    no internal names (``n_hydrogens=0``, ``peaks[1].fixed_groups``) left in it."""
+    if exc.source == "n_hydrogens":
+        return ("the structure has no hydrogen atom, so there is no 1H spectrum to compare; expected a molecule "
+                "with hydrogens")
+    if exc.source and _PEAK_FIELD.fullmatch(exc.source):
+        return " ".join(f"{_PEAK_FIELD.sub(_peak_words, exc.source)}: "
+                        f"{_PEAK_FIELD.sub(_peak_words, exc.bare_message)}".split())
     if exc.source in OPTION_OF_PARAMETER:
         return " ".join(f"{OPTION_OF_PARAMETER[exc.source]}: {exc.bare_message}".split())
     if exc.parameter in OPTION_OF_PARAMETER:

@@ -149,3 +149,29 @@ def test_an_os_error_is_exit_2_naming_the_path(work, capsys, monkeypatch):
     code, _, err = run(["predict", "c1ccccc1", "--conformers", "1", "-o", "out.txt"], capsys)
     assert code == 2 and err.strip() == f"ringshift: error: {work / 'out.txt'}: No space left on device"
     assert snapshot(work) == before
+
+
+LEAKS = [
+    ("no-hydrogen-compare", "ClC1=C(Cl)C(Cl)=C(Cl)C(Cl)=C1Cl", "no hydrogen atom"),
+]
+
+
+@pytest.mark.parametrize("smiles, words", [c[1:] for c in LEAKS], ids=[c[0] for c in LEAKS])
+def test_messages_do_not_leak_internal_names(work, capsys, smiles, words):
+    (work / "p.csv").write_text("shift_ppm,integral\n7.3,1\n")
+    code, _, err = run(["compare", smiles, "p.csv", "--conformers", "1"], capsys)
+    assert code == 2 and words in err and len(err.strip().splitlines()) == 1
+    assert "n_hydrogens" not in err and "=0" not in err
+
+
+@pytest.mark.parametrize("source, message, want", [
+    ("peaks[1].fixed_groups", "group 3 is already fixed to peaks[0]",
+     "peak 2 of the peak list (fixed atoms): group 3 is already fixed to peak 1 of the peak list"),
+    ("peaks[0].shift_ppm", "expected a finite number, got nan", "peak 1 of the peak list (shift): expected a finite"),
+], ids=["fixed-groups", "shift"])
+def test_library_argument_paths_are_worded_for_the_command_line(source, message, want):
+    from ringshift.cli import _error_text
+    from ringshift.errors import InputError
+
+    text = _error_text(InputError(message, source))
+    assert text.startswith(want) and "peaks[" not in text and "fixed_groups" not in text
