@@ -158,7 +158,8 @@ def test_wheel_name_and_files(wheel):
     for f in DEMO_FILES:
         assert len(contents[f"ringshift/data/demo/{f}"]) > 100, f"demo file {f} is (nearly) empty"
 
-    assert re.search(r"^ringshift\s*=\s*ringshift\.cli:main\s*$", entry_points, re.MULTILINE), entry_points
+    # the console entry blocks SIGINT/SIGTERM before importing the CLI (ringshift._signals), then runs cli.main
+    assert re.search(r"^ringshift\s*=\s*ringshift\.__main__:run\s*$", entry_points, re.MULTILINE), entry_points
 
 
 def test_installed_wheel_runs_the_demo(site, tmp_path):
