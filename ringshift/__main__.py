@@ -1,4 +1,5 @@
-"""``python -m ringshift`` runs the command-line interface (thread pools pinned as for the command)."""
+"""``python -m ringshift`` runs the command-line interface through the command's own entry point
+(:func:`ringshift._entry.main`: thread pools pinned and stop signals blocked before anything is imported)."""
 
 from ringshift._entry import main
 

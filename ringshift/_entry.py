@@ -1,4 +1,4 @@
-"""Entry point of the ``ringshift`` command: pin the BLAS/OpenMP thread pools, then run the CLI.
+"""Entry point of the ``ringshift`` command: pin the BLAS/OpenMP thread pools, block the stop signals, run the CLI.
 
 ringshift's arrays are small (a few hundred atoms, a few thousand segments): a multi-threaded BLAS spends
 more time starting and synchronising its threads than computing. With the pools unpinned,
@@ -36,8 +36,13 @@ def pin_threads(environ: MutableMapping[str, str] = os.environ) -> Mapping[str, 
 
 
 def main(argv=None):
-    """Pin the thread pools, then hand over to :func:`ringshift.cli.main`."""
+    """Pin the thread pools and block SIGINT/SIGTERM (so that every thread a library starts inherits the block
+    and the signals reach ringshift's watchdog only, :mod:`ringshift._signals`), then hand over to
+    :func:`ringshift.cli.main`."""
     pin_threads()
+    from ringshift._signals import block_early
+
+    block_early()
     from ringshift.cli import main as cli_main
 
     return cli_main(argv)

@@ -1,13 +1,16 @@
 """Command-line interface (click). Thin: parse options, call the pipeline, format the output.
 
-Error contract: bad input prints one line ``ringshift: error: ...`` on stderr and exits 2; an
-internal error prints one line with a hint to rerun with ``--debug`` and exits 1; ``--debug``
-shows the traceback. Warnings are one line each on stderr.
+Error contract: bad input and any OS error print one line ``ringshift: error: ...`` (naming the input or
+the path) on stderr and exit 2; Ctrl-C and SIGTERM print one line and exit 130 and 143 (ringshift._signals);
+an internal error prints one line with a hint to rerun with ``--debug`` and exits 1; ``--debug`` shows the
+traceback. Warnings are one line each on stderr. Outputs follow one contract (ringshift.io.writing).
 """
 
 from __future__ import annotations
 
 import math
+import os
+import re
 import sys
 import warnings
 from collections.abc import Sequence
@@ -50,8 +53,26 @@ class _Format(click.Choice):
         return super().convert("text" if value == "table" else value, param, ctx)
 
 
+#: Library argument paths (``peaks[1].fixed_groups``) as a command-line user knows them.
+_PEAK_FIELD = re.compile(r"peaks\[(\d+)\](?:\.(\w+))?")
+_FIELD_WORDS = {"fixed_groups": "fixed atoms", "shift_ppm": "shift", "integral": "integral", "kind": "kind",
+                "label": "label"}
+
+
+def _peak_words(m: re.Match) -> str:
+    field = f" ({_FIELD_WORDS.get(m.group(2), m.group(2).replace('_', ' '))})" if m.group(2) else ""
+    return f"peak {int(m.group(1)) + 1} of the peak list{field}"
+
+
 def _error_text(exc: InputError) -> str:
-    """One line for an InputError, with an API parameter name shown as the matching command-line option."""
+    """One line for an InputError, with an API parameter name shown as the matching command-line option and
+    no internal names (``n_hydrogens=0``, ``peaks[1].fixed_groups``) left in it."""
+    if exc.source == "n_hydrogens":
+        return ("the structure has no hydrogen atom, so there is no 1H spectrum to compare; expected a molecule "
+                "with hydrogens")
+    if exc.source and _PEAK_FIELD.fullmatch(exc.source):
+        return " ".join(f"{_PEAK_FIELD.sub(_peak_words, exc.source)}: "
+                        f"{_PEAK_FIELD.sub(_peak_words, exc.bare_message)}".split())
     if exc.source in OPTION_OF_PARAMETER:
         return " ".join(f"{OPTION_OF_PARAMETER[exc.source]}: {exc.bare_message}".split())
     if exc.parameter in OPTION_OF_PARAMETER:
@@ -176,10 +197,34 @@ def _run_predict(structure, charge, conformers, seed, temperature, exchange, geo
                    user_circuits=_index_lists(circuit))
 
 
-def _emit(text: str, output, force: bool, inputs=()):
-    from ringshift.io.writing import atomic_write
+def _claim(output, force: bool, inputs=(), kind: str = "file") -> None:
+    """Before any work: refuse an output the contract forbids (ringshift.io.writing, .folders) and hold its lock
+    until the command ends, so a second run on the same output refuses at once. ``kind``: file, figure, folder."""
+    from ringshift.io.locks import output_lock
+    from ringshift.io.writing import STDOUT, check_not_empty, check_output_file
 
-    if output:
+    if output is None:
+        return
+    check_not_empty(output, "-o/--output")
+    if output == STDOUT and kind == "file":
+        return
+    if output == STDOUT and kind == "figure":
+        raise OutputError("-: a figure needs a file name ending in .png, .svg or .pdf (standard output takes text)")
+    if kind == "folder":
+        from ringshift.io.folders import check_output_folder
+
+        check_output_folder(output, force=force, kind="report")
+    else:
+        check_output_file(output, force=force, inputs=inputs)
+    click.get_current_context().with_resource(output_lock(output))
+
+
+def _emit(text: str, output, force: bool, inputs=()):
+    """Write a command's text to ``output`` by the output contract, or to standard output (None or ``-``)."""
+    from ringshift.io.writing import STDOUT, atomic_write, check_not_empty
+
+    check_not_empty(output, "-o/--output")
+    if output is not None and output != STDOUT:
         atomic_write(output, text, force=force, inputs=inputs)
         click.echo(f"wrote {output}", err=True)
     else:
@@ -193,7 +238,8 @@ def _emit(text: str, output, force: bool, inputs=()):
 @name_option
 @click.option("--format", "fmt", type=_Format("text", "json", "csv"), default="text", show_default=True,
               help="Readable table, JSON, or one CSV row per hydrogen.")
-@click.option("-o", "--output", type=click.Path(dir_okay=False), default=None, help="Write to FILE (atomically).")
+@click.option("-o", "--output", type=click.Path(dir_okay=False), default=None,
+              help="Write to FILE (atomically; - for standard output).")
 @click.option("--force", is_flag=True, help="Overwrite an existing output file.")
 def predict_cmd(structure, charge, conformers, seed, temperature, exchange, geometry, model, currents, beta_model,
                 scale, set_current, circuit, name, fmt, output, force):
@@ -201,6 +247,7 @@ def predict_cmd(structure, charge, conformers, seed, temperature, exchange, geom
     from ringshift.reporting.json import prediction_to_dict, to_json
     from ringshift.reporting.text import prediction_csv, prediction_table
 
+    _claim(output, force, (structure,))
     pred = _run_predict(structure, charge, conformers, seed, temperature, exchange, geometry, model, currents,
                         beta_model, scale, set_current, circuit, name)
     if fmt == "json":
@@ -343,6 +390,7 @@ def pi_cmd(structure, charge, conformers, seed, temperature, exchange, geometry,
     from ringshift.reporting.pi_summary import pi_summary
     from ringshift.reporting.text import pi_text
 
+    _claim(plot, force, (structure,), "figure")
     s = _load(structure, charge, conformers, seed, temperature, exchange, geometry)
     summary = pi_summary(s, beta_model=beta_model)
     if plot:
@@ -376,16 +424,13 @@ def report_cmd(structure, peaks, charge, conformers, seed, temperature, exchange
                beta_model, scale, set_current, circuit, solvent, name, claim, noise, correlations, out_dir, force,
                quiet):
     """Write a self-contained HTML report (with figures, JSON and SDF) for STRUCTURE [and PEAKS]."""
-    from pathlib import Path
 
     from ringshift.comparison.run import run_compare
-    from ringshift.errors import OutputError
     from ringshift.io.peak_tables import read_peaks
     from ringshift.reporting import write_report
     from ringshift.reporting.pi_summary import pi_summary
 
-    if Path(out_dir).exists() and not force:  # refuse before any work is done
-        raise OutputError(f"{out_dir}: already exists; use --force to replace it")
+    _claim(out_dir, force, kind="folder")  # refuse before any work is done; the lock is held to the end
     say = (lambda m: None) if quiet else (lambda m: click.echo(f"... {m}", err=True))
     say("structure, pi system and ring currents")
     if not peaks and (claim or noise is not None or solvent or correlations):
@@ -434,6 +479,7 @@ def map_cmd(structure, charge, conformers, seed, temperature, exchange, geometry
     from ringshift.reporting.maps import normal_scan_figure, shielding_map_figure
 
     check_map_model(model)  # refuse a model without a map before any work is done
+    _claim(output, force, (structure,), "figure")
     pred = _run_predict(structure, charge, conformers, seed, temperature, exchange, geometry, model, currents,
                         beta_model, scale, set_current, circuit)
     if plane == "scan":
@@ -481,6 +527,7 @@ def trajectory_cmd(frames, charge, model, currents, beta_model, weights, tempera
     from ringshift.runners.averaging import read_weights_file
     from ringshift.runners.trajectory import predict_trajectory_file
 
+    _claim(output, force, tuple(x for x in (frames, frame_weights) if x))
     if frame_weights is not None and weights != "uniform":
         raise InputError("give either --weights boltzmann or --frame-weights FILE, not both", "--frame-weights")
     if exchange_group and exchange != "none":
@@ -513,15 +560,17 @@ def trajectory_cmd(frames, charge, model, currents, beta_model, weights, tempera
                         f"{num(g.spread_ppm, '6.2f')}  {pred}")
         rows += [f"note: {w}" for w in tp.warnings] + ["", f"Caution: {CAUTION}"]
         text = "\n".join(rows) + "\n"
-    _emit(text, output, force, (frames,))
+    _emit(text, output, force, tuple(x for x in (frames, frame_weights) if x))
 
 
 @cli.command("batch")
 @click.argument("library", type=click.Path(dir_okay=False))
-@click.option("-o", "--output", required=True, type=click.Path(dir_okay=False), help="JSON-lines output.")
-@click.option("--jobs", type=click.IntRange(1, 256), default=1, show_default=True, help="Worker processes.")
+@click.option("-o", "--output", required=True, type=click.Path(dir_okay=False, allow_dash=True),
+              help="JSON-lines output, resumed if it exists (a ringshift batch output only); - for stdout.")
+@click.option("--jobs", type=click.IntRange(1, 64), default=1, show_default=True,
+              help="Worker processes (at most 64; lowered to the usable cores, with a note).")
 @click.option("--scheduler", default=None, metavar="ADDRESS", help="Dask scheduler address (needs ringshift[dask]).")
-@click.option("--restart", is_flag=True, help="Start the output afresh instead of resuming it.")
+@click.option("--restart", is_flag=True, help="Start the output (a ringshift batch output) afresh instead of resuming.")
 @click.option("--quiet", is_flag=True, help="No progress bar.")
 @_apply(structure_options)
 @click.option("--model", type=click.Choice(MODELS),
@@ -560,33 +609,57 @@ def demo_cmd(out_dir, force, quiet):
 
 
 def main(argv=None):
-    """Console entry point with the project's error contract."""
+    """Console entry point with the project's error contract: 0 done; 2 bad input or any OS error (one line
+    naming the path); 130 Ctrl-C, 143 SIGTERM (ringshift._signals); 1 internal error."""
+    from ringshift import _signals
+
     argv = sys.argv[1:] if argv is None else list(argv)
-    debug = "--debug" in argv
     warnings.showwarning = _show_warning
+    with _signals.stop_on_signals():
+        code = _run(argv)
+    sys.exit(code)
+
+
+def _run(argv) -> int:
+    from ringshift import _signals
+    from ringshift.io.writing import public_path
+
+    debug = "--debug" in argv
     try:
-        cli.main(args=argv, prog_name="ringshift", standalone_mode=False)
-    except click.exceptions.Abort:
-        print("ringshift: aborted", file=sys.stderr)
-        sys.exit(EXIT_INTERNAL)
+        with cli.make_context("ringshift", list(argv)) as ctx:
+            cli.invoke(ctx)
+    except click.exceptions.Exit as exc:          # --help, --version
+        return exc.exit_code
+    except (KeyboardInterrupt, click.exceptions.Abort) as exc:
+        print(_signals.stop_message(exc), file=sys.stderr)
+        return _signals.exit_code(exc)
     except click.exceptions.ClickException as exc:
         # usage errors: one line, exit 2
         msg = " ".join(exc.format_message().split())
         print(f"ringshift: error: {msg}", file=sys.stderr)
-        sys.exit(EXIT_BAD_INPUT)
+        return EXIT_BAD_INPUT
     except (InputError, OutputError) as exc:
         if debug:
             raise
         text = _error_text(exc) if isinstance(exc, InputError) else str(exc).replace("use force", "use --force")
         print(f"ringshift: error: {text}", file=sys.stderr)
-        sys.exit(EXIT_BAD_INPUT)
-    except KeyboardInterrupt:
-        print("ringshift: interrupted", file=sys.stderr)
-        sys.exit(130)
+        return EXIT_BAD_INPUT
+    except BrokenPipeError:                         # the reader of standard output went away (e.g. | head)
+        try:
+            sys.stdout = open(os.devnull, "w")      # noqa: SIM115 - nothing more may reach the closed pipe
+        except OSError:
+            pass
+        return 128 + 13
+    except OSError as exc:                          # disk full, name too long, permission, read-only, ...
+        if debug:
+            raise
+        where = public_path(os.fsdecode(exc.filename)) if exc.filename else "output"
+        print(f"ringshift: error: {where}: {exc.strerror or ' '.join(str(exc).split())}", file=sys.stderr)
+        return EXIT_BAD_INPUT
     except Exception as exc:  # internal error
         if debug:
             raise
         print(f"ringshift: internal error: {type(exc).__name__}: {' '.join(str(exc).split())} "
               f"(rerun with --debug for the traceback)", file=sys.stderr)
-        sys.exit(EXIT_INTERNAL)
-    sys.exit(0)
+        return EXIT_INTERNAL
+    return 0

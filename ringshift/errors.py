@@ -2,7 +2,8 @@
 
 Every error that a user can cause is an :class:`InputError`; its message is one line that names the
 input (file and line, or argument), says what was expected and, where possible, how to fix it. The
-CLI prints it on stderr and exits with code 2. Anything else is an internal error (exit code 1).
+CLI prints it on stderr and exits with code 2; so does an :class:`OutputError` and any other OS error (the
+message names the path). Ctrl-C and SIGTERM exit 130 and 143. Anything else is an internal error (exit 1).
 """
 
 from __future__ import annotations
@@ -56,3 +57,7 @@ class PiSystemWarning(RingshiftWarning):
 
 class AssignmentWarning(RingshiftWarning):
     """A peak list does not fit the molecule well: unassigned peaks, integrals off, ..."""
+
+
+class OutputWarning(RingshiftWarning):
+    """An output was tidied or an option lowered: duplicate or cut-off batch records removed, ``jobs`` capped."""

@@ -12,17 +12,12 @@ or ``pi``) and ``data-path`` (a JSON pointer, RFC 6901) naming the value it show
 from __future__ import annotations
 
 import html
-import json
-import os
 import re
-import shutil
-import tempfile
-import uuid
 from collections.abc import Sequence
 from importlib import metadata
 from pathlib import Path
 
-from ringshift.errors import InputError, OutputError
+from ringshift.errors import InputError
 from ringshift.geometry.circuits import MISALIGNMENT_LIMIT_DEG, PLANARITY_LIMIT_A
 from ringshift.reporting.correlations import correlation_section
 from ringshift.reporting.html_fit import fit_section_body, verdict_box
@@ -356,22 +351,12 @@ def _figure_jobs(pred, res, pi):
            lambda: F.levels_figure(pi))
 
 
-def _fail(out: Path, exc: OSError) -> OutputError:
-    reason = exc.strerror or str(exc)
-    return OutputError(f"{out}: cannot write the report there ({reason})")
-
-
 def is_report_folder(path) -> bool:
-    """Whether ``path`` is a folder that :func:`write_report` wrote: a real folder (not a link) whose
-    ``results.json`` names itself a ringshift result (``ringshift_result``). Files added to such a folder
-    later go with it when it is replaced."""
-    folder = Path(path)
-    if not folder.is_dir() or folder.is_symlink():
-        return False
-    try:
-        return "ringshift_result" in json.loads((folder / REPORT_FILES["results"]).read_text(encoding="utf-8"))
-    except (OSError, ValueError, TypeError):
-        return False
+    """Whether ``path`` is a folder that :func:`write_report` wrote: a real folder (not a link) holding
+    ringshift's marker file of a report (:mod:`ringshift.io.folders`)."""
+    from ringshift.io.folders import is_marked_folder
+
+    return is_marked_folder(path, "report")
 
 
 def write_report(out_dir, prediction, *, compare_result=None, pi_summary=None, force: bool = False) -> dict:
@@ -382,7 +367,8 @@ def write_report(out_dir, prediction, *, compare_result=None, pi_summary=None, f
     Parameters
     ----------
     out_dir : str or os.PathLike
-        The folder to create. It must not exist unless ``force`` (then it is replaced as a whole).
+        The folder to create. It must not exist unless ``force``: then it is replaced as a whole if it is a
+        report folder ringshift wrote, holding nothing added or changed since (:mod:`ringshift.io.folders`).
     prediction : ringshift.shifts.records.Prediction
     compare_result : ringshift.comparison.run.CompareResult, optional
         Adds the assignment, fitted currents, verdict and claim; must come from ``prediction``.
@@ -400,8 +386,10 @@ def write_report(out_dir, prediction, *, compare_result=None, pi_summary=None, f
     Raises
     ------
     OutputError
-        The folder exists (without ``force``), its parent is missing or not writable.
+        The folder exists (without ``force``), is not a ringshift report folder or holds files ringshift did
+        not write, is being written by another run, or its parent is missing or not writable.
     """
+    from ringshift.io.folders import output_folder
     from ringshift.reporting import figures as F
     from ringshift.reporting import sdf as S
     from ringshift.reporting.json import comparison_to_dict
@@ -411,20 +399,7 @@ def write_report(out_dir, prediction, *, compare_result=None, pi_summary=None, f
     if compare_result is not None and compare_result.prediction is not prediction:
         raise InputError("the comparison was computed from a different prediction than the one given",
                          "compare_result")
-    if out.exists() and not out.is_dir():
-        raise OutputError(f"{out}: exists and is not a folder")
-    if out.exists() and not force:
-        raise OutputError(f"{out}: already exists; use force to replace the report folder")
-    if out.exists() and not is_report_folder(out):
-        raise OutputError(f"{out}: is not a ringshift report folder; ringshift replaces only folders it wrote")
-    parent = out.parent if str(out.parent) else Path(".")
-    if not parent.is_dir():
-        raise OutputError(f"{out}: parent folder {parent} does not exist")
-    try:
-        tmp = Path(tempfile.mkdtemp(prefix=f".{out.name}.", suffix=".tmp", dir=parent))
-    except OSError as exc:
-        raise _fail(out, exc) from None
-    try:
+    with output_folder(out, force=force, kind="report") as tmp:
         results = comparison_to_dict(compare_result) if compare_result is not None else prediction_to_dict(prediction)
         pi = pi_summary if pi_summary is not None else make_pi(
             prediction.structure, beta_model=prediction.provenance.get("beta_model", "scf"), prediction=prediction)
@@ -459,18 +434,4 @@ def write_report(out_dir, prediction, *, compare_result=None, pi_summary=None, f
                            nmredata_note=nmr_note)
         (tmp / REPORT_FILES["html"]).write_text(page, encoding="utf-8")
         written["html"] = REPORT_FILES["html"]
-        os.chmod(tmp, 0o755)  # mkdtemp made it private; a report folder is an ordinary folder
-        if out.exists():
-            old = out.with_name(f".{out.name}.old-{uuid.uuid4().hex[:8]}")
-            os.replace(out, old)
-            os.replace(tmp, out)
-            shutil.rmtree(old, ignore_errors=True)
-        else:
-            os.replace(tmp, out)
-    except OSError as exc:
-        shutil.rmtree(tmp, ignore_errors=True)
-        raise _fail(out, exc) from None
-    except BaseException:
-        shutil.rmtree(tmp, ignore_errors=True)
-        raise
     return {k: out / v for k, v in written.items()}

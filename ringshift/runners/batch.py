@@ -5,15 +5,23 @@ Output. One JSON object per line and molecule, in library order: ``{"ringshift_r
 ``"ok": false, "error": "<one line>"``. A failing molecule never stops
 the batch. Lines are appended and flushed one by one, so an interruption loses at most the molecules in
 flight; out-of-order results from the workers wait in a buffer until their turn.
-Resume. Molecules whose (index, name) is already in the output are skipped; a cut-off last line is
-removed first. A record whose name differs from the library's molecule at that index means the output
-belongs to another library: an error.
+Output file. Only a batch output is appended to, emptied (``restart``) or tidied: a file that is not one
+(the library itself, any other file) is refused before anything is changed (:mod:`ringshift.runners.batch_output`).
+An advisory lock (:mod:`ringshift.io.locks`) keeps a second run off the same output: it refuses at once.
+``"-"`` writes the records to standard output (no resume).
+Resume. Molecules whose (index, name) is already in the output are skipped; a cut-off last line and
+duplicate records are removed first, with a note (:class:`~ringshift.errors.OutputWarning`). A record whose
+name differs from the library's molecule at that index means the output belongs to another library: an
+error, before anything is computed.
 Library. ``.sdf``/``.sd``: one molecule per record (read as a stream, name from the title line). Any
 other file: one SMILES per line with an optional name after it (whitespace-separated); blank lines and
 lines starting with ``#`` are skipped.
 Workers. ``jobs`` processes (:class:`concurrent.futures.ProcessPoolExecutor`), or a Dask cluster at
-``scheduler`` (``pip install ringshift[dask]``). A worker that dies takes its molecules with it; those
-are retried one by one in fresh single-worker pools so only the culprit is reported.
+``scheduler`` (``pip install ringshift[dask]``). ``jobs`` is at most :data:`MAX_JOBS` and is lowered to the
+usable cores (``os.sched_getaffinity``) with a note. A worker that dies takes its molecules with it; those
+are retried one by one in fresh single-worker pools so only the culprit is reported. Workers die with
+their parent (Linux: ``PR_SET_PDEATHSIG``) and leave Ctrl-C to it; an interrupted batch kills its workers
+at once and keeps the complete records written so far.
 """
 
 from __future__ import annotations
@@ -21,9 +29,12 @@ from __future__ import annotations
 import dataclasses
 import itertools
 import json
+import os
+import signal
 import sys
 import tempfile
 import time
+import warnings
 from collections.abc import Iterator, Mapping
 from concurrent.futures import FIRST_COMPLETED, ProcessPoolExecutor, wait
 from concurrent.futures.process import BrokenProcessPool
@@ -31,19 +42,29 @@ from dataclasses import dataclass
 from pathlib import Path
 from typing import Any
 
-from ringshift.errors import InputError, OutputError
+from ringshift import _signals
+from ringshift.errors import InputError, OutputError, OutputWarning
 from ringshift.io.libraries import LibraryItem, iter_library
+from ringshift.io.locks import output_lock
 from ringshift.io.structures import load_structure
+from ringshift.io.writing import STDOUT, check_output_file, os_error, remove_stale_temporaries
 from ringshift.reporting.json import SCHEMA_VERSION
+from ringshift.runners.batch_output import read_batch_output, start_afresh, tidy_for_resume
 
-__all__ = ['BatchSummary', 'run_batch', 'work_item']
+__all__ = ['MAX_JOBS', 'BatchSummary', 'run_batch', 'usable_cores', 'work_item', 'worker_init']
+
+_POLL_S = 0.2   # s between checks for a stop signal while waiting for workers
+
+#: Hard upper bound of ``jobs`` (worker processes); ``jobs`` is also lowered to the usable cores.
+MAX_JOBS = 64
 
 
 
 @dataclass(frozen=True)
 class BatchSummary:
     """What a :func:`run_batch` call did: molecules in the library, computed now, skipped as already done,
-    failed (of those computed now), the output path and the wall time in s."""
+    failed (of those computed now), the output path, the wall time in s, and notes on what was tidied or
+    lowered (also issued as :class:`~ringshift.errors.OutputWarning`)."""
 
     n_total: int
     n_computed: int
@@ -51,6 +72,31 @@ class BatchSummary:
     n_failed: int
     output: str
     elapsed_s: float
+    notes: tuple[str, ...] = ()
+
+
+def usable_cores() -> int:
+    """Cores this process may run on (``os.sched_getaffinity``; ``os.cpu_count`` where that is missing)."""
+    try:
+        return max(1, len(os.sched_getaffinity(0)))
+    except (AttributeError, OSError):
+        return max(1, os.cpu_count() or 1)
+
+
+def worker_init(parent_pid: int) -> None:
+    """Initializer of every worker process: die with the parent (Linux ``prctl(PR_SET_PDEATHSIG, SIGKILL)``),
+    leave Ctrl-C to the parent, let SIGTERM kill (:func:`ringshift._signals.reset_in_child`)."""
+    _signals.reset_in_child()
+    if sys.platform.startswith("linux"):
+        import ctypes
+
+        try:
+            libc = ctypes.CDLL(None, use_errno=True)
+            libc.prctl(1, int(signal.SIGKILL), 0, 0, 0)        # PR_SET_PDEATHSIG = 1
+        except (OSError, AttributeError):
+            pass
+    if os.getppid() != parent_pid:                             # the parent died before prctl took effect
+        os._exit(1)
 
 
 def _one_line(exc: BaseException) -> str:
@@ -83,26 +129,6 @@ def _record(item: LibraryItem, **fields) -> str:
     head = {"ringshift_result": "batch_record", "name": item.name, "index": item.index, "source": item.source,
             "schema_version": SCHEMA_VERSION}
     return json.dumps(head | fields, ensure_ascii=False, allow_nan=False)
-
-
-def _done_records(output: Path) -> dict[int, str]:
-    """(index → name) already in the output; cuts off a last line without its newline."""
-    if not output.exists():
-        return {}
-    done: dict[int, str] = {}
-    with output.open("rb+") as fh:
-        data = fh.read()
-        keep = data.rfind(b"\n") + 1
-        if keep < len(data):
-            fh.truncate(keep)
-    for line_no, raw in enumerate(data[:keep].splitlines(), start=1):
-        try:
-            rec = json.loads(raw)
-            done[int(rec["index"])] = str(rec["name"])
-        except (ValueError, KeyError, TypeError):
-            raise InputError(f"line {line_no} is not a batch record (JSON with index and name); is this the "
-                             f"output of a ringshift batch?", source=str(output)) from None
-    return done
 
 
 class _Progress:
@@ -138,12 +164,34 @@ def _dask_client(address: str):
                          source="scheduler") from None
 
 
+def _pool(workers: int) -> ProcessPoolExecutor:
+    return ProcessPoolExecutor(max_workers=workers, initializer=worker_init, initargs=(os.getpid(),))
+
+
+def _kill_workers(executor: ProcessPoolExecutor) -> None:
+    """Stop a pool now: kill its processes (a running molecule is not waited for), cancel the rest."""
+    for proc in list((getattr(executor, "_processes", None) or {}).values()):
+        try:
+            proc.kill()
+        except (OSError, ValueError, AttributeError):
+            pass
+    executor.shutdown(wait=False, cancel_futures=True)
+
+
 def _isolated(item, load_kwargs, predict_kwargs) -> str:
+    ex = _pool(1)
     try:
-        with ProcessPoolExecutor(max_workers=1) as ex:
-            return ex.submit(work_item, item, load_kwargs, predict_kwargs).result()
+        fut = ex.submit(work_item, item, load_kwargs, predict_kwargs)
+        while not wait([fut], timeout=_POLL_S).done:    # a timeout keeps the main thread responsive to signals
+            pass
+        return fut.result()
     except BrokenProcessPool:
         return _record(item, ok=False, error="the worker process died on this molecule (crash or out of memory)")
+    except BaseException:
+        _kill_workers(ex)
+        raise
+    finally:
+        ex.shutdown(wait=True)
 
 
 def run_batch(library_path, output_jsonl, *, jobs: int = 1, scheduler: str | None = None, resume: bool = True,
@@ -156,9 +204,10 @@ def run_batch(library_path, output_jsonl, *, jobs: int = 1, scheduler: str | Non
     library_path : path
         ``.sdf``/``.sd`` library or a SMILES file.
     output_jsonl : path
-        JSON-lines output, appended to.
+        JSON-lines output, appended to; it must be a batch output already if it exists (module notes).
+        ``"-"``: standard output.
     jobs : int
-        Worker processes (1 = in this process).
+        Worker processes (1 = in this process), 1 to :data:`MAX_JOBS`; lowered to :func:`usable_cores`.
     scheduler : str, optional
         Address of a Dask scheduler (e.g. ``"tcp://127.0.0.1:8786"``); replaces ``jobs``.
     resume : bool
@@ -166,7 +215,7 @@ def run_batch(library_path, output_jsonl, *, jobs: int = 1, scheduler: str | Non
     progress : bool
         Progress bar on stderr when it is a terminal.
     overwrite : bool
-        With ``resume=False``, start the output afresh.
+        With ``resume=False``, start the output afresh (only a batch output is ever emptied).
     load_kwargs : mapping, optional
         Keyword arguments of :func:`ringshift.io.structures.load_structure` (charge, conformers, seed, ...).
     **predict_kwargs
@@ -177,35 +226,79 @@ def run_batch(library_path, output_jsonl, *, jobs: int = 1, scheduler: str | Non
     BatchSummary
     """
     t0 = time.perf_counter()
-    if isinstance(jobs, bool) or not isinstance(jobs, int) or jobs < 1:
-        raise InputError(f"expected a positive integer, got {jobs!r}", source="jobs")
-    library, output = Path(library_path), Path(output_jsonl)
-    if not output.parent.is_dir():
-        raise OutputError(f"{output}: folder {output.parent} does not exist")
-    if output.exists() and not resume:
-        if not overwrite:
+    if isinstance(jobs, bool) or not isinstance(jobs, int) or not 1 <= jobs <= MAX_JOBS:
+        raise InputError(f"expected a whole number of worker processes from 1 to {MAX_JOBS}, got {jobs!r}",
+                         source="jobs")
+    notes: list[str] = []
+    if scheduler is None and jobs > usable_cores():
+        notes.append(f"jobs lowered from {jobs} to {usable_cores()}, the cores this process may use")
+        jobs = usable_cores()
+    library = Path(library_path)
+    if os.fspath(output_jsonl) == STDOUT:
+        for note in notes:
+            warnings.warn(note, OutputWarning, stacklevel=2)
+        total = sum(1 for _ in iter_library(library))
+        return _run(library, None, {}, total, notes, t0, jobs=jobs, scheduler=scheduler, progress=progress,
+                    load_kwargs=load_kwargs, predict_kwargs=predict_kwargs)
+    output = check_output_file(output_jsonl, inputs=(library,), append=True)
+    with output_lock(output):
+        remove_stale_temporaries(output)
+        check_output_file(output, inputs=(library,), append=True)         # again, under the lock
+        found = read_batch_output(output)                                   # refuses a file that is not ours
+        if (found.lines or found.partial) and not resume and not overwrite:
             raise OutputError(f"{output}: already exists; resume it or allow overwriting")
-        output.unlink()
-    total = sum(1 for _ in iter_library(library))
-    done = _done_records(output) if resume else {}
+        keys = {} if not resume else {i: n for i, n in reversed(found.keys)}
+        total = _check_library(library, keys, output)
+        if not resume:
+            start_afresh(output)
+            done: dict[int, str] = {}
+        else:
+            done, tidied = tidy_for_resume(output, found)
+            notes += tidied
+        for note in notes:
+            warnings.warn(note, OutputWarning, stacklevel=2)
+        return _run(library, output, done, total, notes, t0, jobs=jobs, scheduler=scheduler, progress=progress,
+                    load_kwargs=load_kwargs, predict_kwargs=predict_kwargs)
 
+
+def _check_library(library: Path, done: Mapping[int, str], output: Path) -> int:
+    """Count the library's molecules; refuse an output whose records name other molecules (before any work)."""
+    total = 0
+    for item in iter_library(library):
+        total += 1
+        if item.index in done and done[item.index] != item.name:
+            raise InputError(f"output record {item.index} is {done[item.index]!r} but library molecule "
+                             f"{item.index} is {item.name!r}: the output belongs to another library",
+                             source=str(output))
+    extra = sorted(i for i in done if i >= total)
+    if extra:
+        raise InputError(f"output record {extra[0]} is beyond the library's {total} molecules: the output "
+                         "belongs to another library", source=str(output))
+    return total
+
+
+def _run(library: Path, output: Path | None, done: Mapping[int, str], total: int, notes: list[str], t0: float, *,
+         jobs: int, scheduler, progress: bool, load_kwargs, predict_kwargs) -> BatchSummary:
+    """Compute the molecules not yet done and append their records (standard output when ``output`` is None)."""
     def pending() -> Iterator[LibraryItem]:
         for item in iter_library(library):
-            if item.index in done:
-                if done[item.index] != item.name:
-                    raise InputError(f"output record {item.index} is {done[item.index]!r} but library molecule "
-                                     f"{item.index} is {item.name!r}: the output belongs to another library",
-                                     source=str(output))
-                continue
-            yield item
+            if item.index not in done:
+                yield item
 
     bar = _Progress(total - len(done), progress)
     failed = computed = 0
-    with output.open("a", encoding="utf-8") as out:
+    try:
+        out = sys.stdout if output is None else output.open("a", encoding="utf-8")
+    except OSError as exc:
+        raise os_error(output, exc) from None
+    try:
         def emit(line: str) -> None:
             nonlocal failed, computed
-            out.write(line + "\n")
-            out.flush()
+            try:
+                out.write(line + "\n")
+                out.flush()
+            except OSError as exc:
+                raise os_error(output or "standard output", exc) from None
             ok = json.loads(line)["ok"]
             computed += 1
             failed += not ok
@@ -219,7 +312,16 @@ def run_batch(library_path, output_jsonl, *, jobs: int = 1, scheduler: str | Non
                 _parallel(pending(), emit, jobs, scheduler, load_kwargs, predict_kwargs)
         finally:
             bar.close()
-    return BatchSummary(total, computed, len(done), failed, str(output), time.perf_counter() - t0)
+    except KeyboardInterrupt as exc:   # Ctrl-C or SIGTERM: what is written is complete and resumable
+        if output is not None:
+            exc.detail = (f"{output} keeps the {len(done) + computed} complete records written so far; run the "  # type: ignore[attr-defined]
+                          "same command again to resume")
+        raise
+    finally:
+        if output is not None:
+            out.close()
+    return BatchSummary(total, computed, len(done), failed, str(output or STDOUT), time.perf_counter() - t0,
+                        tuple(notes))
 
 
 def _parallel(items: Iterator[LibraryItem], emit, jobs, scheduler, load_kwargs, predict_kwargs) -> None:
@@ -229,7 +331,7 @@ def _parallel(items: Iterator[LibraryItem], emit, jobs, scheduler, load_kwargs, 
     window = 4 * workers
     buffer: dict[int, str] = {}
     order: list[LibraryItem] = []      # submitted, not yet written, in library order
-    executor = None if client is not None else ProcessPoolExecutor(max_workers=jobs)
+    executor = None if client is not None else _pool(jobs)
 
     def submit(item):
         if client is not None:
@@ -253,8 +355,8 @@ def _parallel(items: Iterator[LibraryItem], emit, jobs, scheduler, load_kwargs, 
             if client is not None:
                 from dask.distributed import wait as dask_wait
                 finished = dask_wait(list(futures), return_when="FIRST_COMPLETED").done
-            else:
-                finished = wait(list(futures), return_when=FIRST_COMPLETED).done
+            else:   # a timeout keeps the main thread responsive to Ctrl-C and SIGTERM (ringshift._signals)
+                finished = wait(list(futures), timeout=_POLL_S, return_when=FIRST_COMPLETED).done
             broken = []
             for fut in finished:
                 item = futures.pop(fut)
@@ -271,8 +373,13 @@ def _parallel(items: Iterator[LibraryItem], emit, jobs, scheduler, load_kwargs, 
                 executor.shutdown(wait=False, cancel_futures=True)
                 for item in sorted(broken, key=lambda it: it.index):
                     buffer[item.index] = _isolated(item, load_kwargs, predict_kwargs)
-                executor = ProcessPoolExecutor(max_workers=jobs)
+                executor = _pool(jobs)
             flush()
+    except BaseException:
+        if executor is not None:            # interrupted or failed: do not wait for running molecules
+            _kill_workers(executor)
+            executor = None
+        raise
     finally:
         if executor is not None:
             executor.shutdown(wait=True, cancel_futures=True)

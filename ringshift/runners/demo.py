@@ -8,11 +8,9 @@ against the closed form's spectrum, and returns the text to print.
 
 from __future__ import annotations
 
-import shutil
-import tempfile
 from pathlib import Path
 
-from ringshift.errors import InputError, OutputError
+from ringshift.errors import InputError
 
 DEMO_CASES = (
     # name, structure file, spectrum file, claim the fictional group wants to make
@@ -31,22 +29,22 @@ def demo_data_dir() -> Path:
 
 
 def _is_demo_folder(path: Path) -> bool:
-    """A folder :func:`run_demo` wrote: only the demo's report folders, each one a report folder."""
-    from ringshift.reporting.html import is_report_folder
+    """A folder :func:`run_demo` wrote: it holds ringshift's marker of a demo folder (:mod:`ringshift.io.folders`)."""
+    from ringshift.io.folders import is_marked_folder
 
-    names = {name for name, *_ in DEMO_CASES}
-    entries = list(path.iterdir()) if path.is_dir() and not path.is_symlink() else None
-    return entries is not None and all(p.name in names and is_report_folder(p) for p in entries)
+    return is_marked_folder(path, "demo")
 
 
 def run_demo(out_dir: str | Path, *, force: bool = False, progress=None) -> str:
     """Run the demo and write one report folder per compound into ``out_dir``.
 
-    Returns the summary text. Refuses an existing ``out_dir`` unless ``force``; the folder is built
-    beside it and renamed at the end, so a failure leaves nothing half-written.
+    Returns the summary text. Refuses an existing ``out_dir`` unless ``force``, and even then a folder that
+    is not a demo folder ringshift wrote or that holds files added since; the folder is built beside it and
+    renamed at the end, so a failure leaves nothing half-written (:func:`ringshift.io.folders.output_folder`).
     """
     from ringshift.comparison.candidates import rank
     from ringshift.comparison.run import run_compare
+    from ringshift.io.folders import output_folder
     from ringshift.io.peak_tables import read_peaks
     from ringshift.io.structures import load_structure
     from ringshift.reporting import write_report
@@ -55,19 +53,11 @@ def run_demo(out_dir: str | Path, *, force: bool = False, progress=None) -> str:
 
     data = demo_data_dir()
     out = Path(out_dir)
-    if out.exists() and not force:
-        raise OutputError(f"{out}: already exists; use force to replace it")
-    if out.exists() and not _is_demo_folder(out):
-        raise OutputError(f"{out}: is not a ringshift demo folder; ringshift replaces only folders it wrote")
-    parent = out.resolve().parent
-    if not parent.is_dir():
-        raise OutputError(f"{out}: folder {parent} does not exist")
-    tmp = Path(tempfile.mkdtemp(prefix=f".{out.name}.", dir=parent))
     lines = ["ringshift demo - INVENTED scenario: the fictional Lindqvist-Okafor group (Fjordvik Institute of",
              "Molecular Materials) asks whether their closed photoswitch FJ-14c carries a diatropic 14-pi",
              "macrocyclic current and whether the open isomer FJ-14o does not. Spectra were simulated from the",
              "model with hidden currents (FJ-14c: +14.0 nA/T; FJ-14o: none in the macrocycle).", ""]
-    try:
+    with output_folder(out, force=force, kind="demo") as tmp:
         preds, peaklists = {}, {}
         for name, sfile, jfile, claim in DEMO_CASES:
             if progress:
@@ -95,12 +85,6 @@ def run_demo(out_dir: str | Path, *, force: bool = False, progress=None) -> str:
         for cs in ranked:
             lines.append(f"  {cs.rank}. {cs.name}: probability {cs.probability:.3f}, "
                          f"log10 BF vs best {cs.log10_bf_vs_best + 0.0:+.1f}")
-        if out.exists():
-            shutil.rmtree(out)
-        tmp.rename(out)
-    except BaseException:
-        shutil.rmtree(tmp, ignore_errors=True)
-        raise
     lines.append("")
     lines.append(f"Open {out / 'fj14c' / 'report.html'} in a browser to see the annotated spectrum, maps and tables.")
     return "\n".join(lines) + "\n"

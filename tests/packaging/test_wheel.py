@@ -158,6 +158,8 @@ def test_wheel_name_and_files(wheel):
     for f in DEMO_FILES:
         assert len(contents[f"ringshift/data/demo/{f}"]) > 100, f"demo file {f} is (nearly) empty"
 
+    # the console entry pins the thread pools and blocks SIGINT/SIGTERM before importing the CLI
+    # (ringshift._entry, ringshift._signals), then runs cli.main
     assert re.search(r"^ringshift\s*=\s*ringshift\._entry:main\s*$", entry_points, re.MULTILINE), entry_points
 
 

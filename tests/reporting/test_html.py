@@ -226,9 +226,14 @@ def test_report_refuses_existing_folder(report, comparison, tmp_path):
         write_report(out, comparison.prediction, compare_result=comparison)
     target = tmp_path / "rep"
     write_report(target, comparison.prediction)
-    (target / "stale.txt").write_text("old")
+    (target / "notes.txt").write_text("mine")
+    # a file the user added to a report folder is never deleted by --force: refused, naming the file
+    with pytest.raises(OutputError, match="holds notes.txt, not written by ringshift"):
+        write_report(target, comparison.prediction, force=True)
+    assert (target / "notes.txt").read_text() == "mine"
+    (target / "notes.txt").unlink()
     paths = write_report(target, comparison.prediction, force=True)
-    assert not (target / "stale.txt").exists() and paths["html"].is_file()
+    assert paths["html"].is_file()
     assert sorted(p.name for p in tmp_path.iterdir()) == ["rep"]  # no temporary or old folders left
 
 

@@ -11,7 +11,7 @@ from numpy.testing import assert_allclose
 from rdkit import Chem
 from rdkit.Chem import rdDistGeom
 
-from ringshift.errors import InputError, OutputError
+from ringshift.errors import InputError, OutputError, OutputWarning
 from ringshift.io.libraries import iter_library
 from ringshift.io.structures import load_structure
 from ringshift.reporting.json import prediction_to_dict
@@ -78,7 +78,8 @@ def test_resume_recomputes_only_the_missing_molecules(library, tmp_path, jobs):
     full = out.read_text()
     lines = full.splitlines(keepends=True)
     out.write_text("".join(lines[:2]) + lines[2][:25])     # interrupted while writing molecule 3
-    summary = run_batch(library, out, jobs=jobs, load_kwargs=LOAD, progress=False)
+    with pytest.warns(OutputWarning, match="removed a cut-off last line"):
+        summary = run_batch(library, out, jobs=jobs, load_kwargs=LOAD, progress=False)
     assert (summary.n_skipped, summary.n_computed) == (2, 4)
     assert out.read_text() == full
     again = run_batch(library, out, load_kwargs=LOAD, progress=False)
@@ -87,7 +88,7 @@ def test_resume_recomputes_only_the_missing_molecules(library, tmp_path, jobs):
 
 def test_resume_refuses_the_output_of_another_library(library, tmp_path):
     out = tmp_path / "out.jsonl"
-    out.write_text(json.dumps({"index": 0, "name": "toluene", "ok": True}) + "\n")
+    out.write_text(json.dumps({"ringshift_result": "batch_record", "index": 0, "name": "toluene", "ok": True}) + "\n")
     with pytest.raises(InputError, match="belongs to another library"):
         run_batch(library, out, load_kwargs=LOAD, progress=False)
     with pytest.raises(OutputError, match="already exists"):
