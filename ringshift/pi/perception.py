@@ -58,7 +58,8 @@ from ringshift import _validation as _v
 from ringshift.errors import InputError
 from ringshift.geometry import planes as pg
 
-__all__ = ['PiSystem', 'perceive_pi', 'circuit_electrons', 'huckel_class', 'orbital_axes']
+__all__ = ['PiSystem', 'perceive_pi', 'circuit_electrons', 'huckel_class', 'orbital_axes', 'circuit_topology',
+           'expected_tropicity', 'MOBIUS_NOTE']
 
 
 _ELEMENTS = {5: "B", 6: "C", 7: "N", 8: "O", 9: "F", 16: "S", 17: "Cl", 35: "Br", 53: "I"}
@@ -70,6 +71,9 @@ _OVERLAP_WARN = 0.7  # |cos| below this (misalignment above ~45°) is reported
 _PYRAMID_WARN_A = 0.3  # a π atom this far from the plane of its three neighbours is reported
 
 _PLANAR_TOL_A = 0.1  # largest deviation from the fitted plane for a "planar" verdict
+
+#: Opening words of the note on a π system with a ring of Möbius topology.
+MOBIUS_NOTE = "Möbius-type twist"
 
 
 @dataclass(frozen=True)
@@ -192,8 +196,9 @@ def _p_axes(mol, xyz: np.ndarray, atoms, bonds) -> tuple[np.ndarray, list[str]]:
              for a, h in zip(atoms, height) if h > _PYRAMID_WARN_A]
     if twist is not None:
         i, j = atoms[lb[twist, 0]], atoms[lb[twist, 1]]
-        notes.append(f"Möbius-type twist: p-orbital phase reverses around a ring at bond ({i}, {j}); "
-                     "Hückel topology (|cos|) used")
+        notes.append(f"{MOBIUS_NOTE}: p-orbital phase reverses around a ring at bond ({i}, {j}); the Hückel "
+                     "matrix keeps the sign of the overlap, so that ring follows the Möbius rule (Heilbronner "
+                     "1964: 4n π electrons diatropic, 4n+2 paratropic)")
     return axes, notes
 
 
@@ -292,6 +297,36 @@ def huckel_class(n_electrons) -> str:
     if isinstance(n_electrons, bool) or not isinstance(n_electrons, (int, np.integer)) or n_electrons < 0:
         raise InputError(f"n_electrons: expected a non-negative integer, got {n_electrons!r}")
     return "odd" if n_electrons % 2 else ("4n+2" if n_electrons % 4 == 2 else "4n")
+
+
+def circuit_topology(pi: PiSystem, mol, coords, circuit_atoms) -> str:
+    """"mobius" when the p-orbital phase reverses an odd number of times around the circuit, else "huckel".
+
+    The parity is the sign of the product of the cosines between consecutive p-orbital axes around the ring
+    (each axis enters twice, so the arbitrary sign of an axis cancels; Heilbronner, Tetrahedron Lett. 1964, 5,
+    1923). ``coords`` (n_atoms, 3), Å, one conformer; ``circuit_atoms`` π atoms in ring order.
+    """
+    _v.molecule(mol)
+    xyz = _v.coordinates(mol, coords, required=True)
+    cyc = _check_circuit(pi, circuit_atoms, "circuit_atoms", closed=True)
+    axes = orbital_axes(pi, mol, xyz)
+    idx = {a: k for k, a in enumerate(pi.atoms)}
+    dots = [float(np.dot(axes[idx[a]], axes[idx[b]])) for a, b in zip(cyc, cyc[1:] + cyc[:1])]
+    return "mobius" if sum(d < 0 for d in dots) % 2 else "huckel"
+
+
+def expected_tropicity(n_electrons, topology: str = "huckel") -> str:
+    """The ring-current rule for a circuit: "diatropic", "paratropic" or "open shell" (odd count).
+
+    Hückel topology: 4n+2 diatropic, 4n paratropic; Möbius topology the reverse (Heilbronner, Tetrahedron
+    Lett. 1964, 5, 1923).
+    """
+    cls = huckel_class(n_electrons)
+    if topology not in ("huckel", "mobius"):
+        raise InputError(f"topology: expected 'huckel' or 'mobius', got {topology!r}")
+    if cls == "odd":
+        return "open shell"
+    return "diatropic" if (cls == "4n+2") == (topology == "huckel") else "paratropic"
 
 
 def _check_circuit(pi: PiSystem, circuit, name: str, closed: bool = False) -> tuple[int, ...]:
