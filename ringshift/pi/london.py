@@ -49,6 +49,7 @@ from ringshift.pi.parameters import (
 )
 from ringshift.pi.perception import (
     _PLANAR_TOL_A,
+    METAL_FACE_NOTE,
     MOBIUS_NOTE,
     PiSystem,
     _check_circuit,
@@ -198,6 +199,9 @@ def london_currents(pi: PiSystem, mol, coords, circuits: Sequence[Sequence[int]]
         circuit_currents_rel=None, circuit_currents_nA_per_T=None, circuit_currents_abs_nA_per_T=None,
         benzene_abs_nA_per_T=bz_abs, kirchhoff_residual=None, conservation_residual=None,
         beta_model=beta_model, beta0_eV=float(beta0_eV), huckel=hr, warnings=tuple(notes))
+    if pi.face_on_metals:
+        reason = next((w for w in pi.warnings if w.startswith(METAL_FACE_NOTE)), METAL_FACE_NOTE)
+        return replace(empty, status=reason)
     if not pi.atoms:
         return empty
     lb = np.array([(pi.atoms.index(i), pi.atoms.index(j)) for i, j in pi.bonds], dtype=np.intp).reshape(-1, 2)
