@@ -358,6 +358,10 @@ def london_bond_response(h0, xyz, bonds, energies, vectors, occ, *, labels=None,
 def kirchhoff_decomposition(bond_currents, incidence):
     """Least-squares circuit currents x with incidence @ x ≈ bond_currents (exact for a cycle basis).
 
+    With every face of a closed cage (a fullerene) the incidence has one null vector (all faces circulating
+    together cancel on every bond); ``numpy.linalg.lstsq`` then returns the minimum-norm solution, which any
+    symmetry of the cage maps onto itself, so equivalent faces get equal currents whatever the atom order.
+
     Parameters
     ----------
     bond_currents : (k, m) currents in m bonds for k field directions
