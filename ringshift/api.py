@@ -340,6 +340,7 @@ def compare(structure: StructureLike | Prediction, peaks: str | os.PathLike[str]
     ['p1', 'p2', 'p3', 'p4']
     """
     from ringshift.comparison.run import run_compare
+    from ringshift.io.structures import require_protons
     from ringshift.spectra.peaks import PeakList
 
     _compare_options(claim, noise_ppm, solvent)
@@ -355,6 +356,7 @@ def compare(structure: StructureLike | Prediction, peaks: str | os.PathLike[str]
                        beta_model=beta_model, scale=scale, set_current=set_current, user_circuits=user_circuits,
                        separation_A=separation_A, charge=charge, conformers=conformers,
                        temperature_K=temperature_K, fmt=fmt, exchange=exchange, geometry=geometry)
+    require_protons(pred.structure.mol)  # nothing a ¹H spectrum could be compared with (no H, or only ²H/³H)
     if peak_path is not None:
         peak_list = read_peaks(peak_path, n_hydrogens=len(pred.protons), solvent=solvent)
     else:

@@ -40,7 +40,42 @@ from ringshift.io.molecule_files import (
     _short,
 )
 
-__all__ = ['Structure', 'load_structure', 'GEOMETRY_ROUTES', 'EXCHANGE_RULES']
+__all__ = ['Structure', 'load_structure', 'GEOMETRY_ROUTES', 'EXCHANGE_RULES', 'proton_indices', 'isotope_note',
+           'require_protons']
+
+
+def proton_indices(mol: Chem.Mol) -> list[int]:
+    """Indices of the ¹H atoms: hydrogens without an isotope label or labelled 1. ²H (D) and ³H (T) are not
+    protons of a ¹H spectrum and are left out of predictions, tables and assignments alike (the rule
+    :func:`ringshift.geometry.symmetry.group_equivalent_hydrogens` applies to the H groups)."""
+    return [a.GetIdx() for a in mol.GetAtoms() if a.GetAtomicNum() == 1 and a.GetIsotope() in (0, 1)]
+
+
+def isotope_note(mol: Chem.Mol) -> str:
+    """A one-line note on hydrogen isotopes that are not ¹H (empty string when there are none)."""
+    heavy_h = [a for a in mol.GetAtoms() if a.GetAtomicNum() == 1 and a.GetIsotope() not in (0, 1)]
+    if not heavy_h:
+        return ""
+    labels = ", ".join(f"{n} {'²H' if iso == 2 else '³H' if iso == 3 else f'{iso}H'}"
+                       for iso, n in sorted(_count(a.GetIsotope() for a in heavy_h).items()))
+    if not proton_indices(mol):
+        return (f"the molecule has no ¹H: all its hydrogens are isotopes ({labels}), which have no ¹H signal; "
+                "nothing to predict")
+    return f"{labels} atom(s) are not ¹H: left out of the predicted shifts, the H groups and the assignment"
+
+
+def require_protons(mol: Chem.Mol, source: str = "structure") -> None:
+    """Refuse a comparison with a ¹H spectrum for a molecule without ¹H (no H at all, or only ²H/³H)."""
+    if not proton_indices(mol):
+        why = isotope_note(mol) or "the molecule has no hydrogens"
+        raise InputError(f"{why.split(';')[0]}; a ¹H spectrum has nothing to be compared with", source)
+
+
+def _count(values) -> dict[int, int]:
+    out: dict[int, int] = {}
+    for v in values:
+        out[int(v)] = out.get(int(v), 0) + 1
+    return out
 
 #: Geometry routes of :func:`load_structure`: MMFF94 conformers (or the input coordinates) as they are, or
 #: re-optimised with GFN2-xTB (Bannwarth, Ehlert & Grimme, J. Chem. Theory Comput. 2019, 15, 1652).

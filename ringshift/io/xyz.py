@@ -134,6 +134,8 @@ def parse_xyz_frames(lines: Iterable[str], source: str,
         for k, r in enumerate(rows):
             if len(r) < 4 or not _floats(r[1:4]) or element_symbol(r[0]) is None:
                 what = f": unknown element {r[0]!r}" if len(r) >= 4 and _floats(r[1:4]) else ""
+                if what and r[0].capitalize() in ("D", "T"):
+                    what += " (XYZ carries no isotopes; give ²H/³H as [2H]/[3H] in a SMILES or as a MOL/SDF file)"
                 raise InputError(f"expected 'element x y z' (atom {k + 1} of {n}, frame {number}), got "
                                  f"{rows_text[k].strip()[:40]!r}{what}", source=f"{source}:{start + 2 + k}")
         xyz = np.array([r[1:4] for r in rows], dtype=np.float64)
