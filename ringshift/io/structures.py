@@ -86,6 +86,8 @@ _MAX_SEED = 2**31 - 1            # ETKDG's randomSeed is a C int; -1 means "rand
 
 _MAX_ABS_CHARGE = 100
 
+_PT = Chem.GetPeriodicTable()
+
 
 @dataclass(frozen=True)
 class Structure:
@@ -215,7 +217,15 @@ def load_structure(spec: str, *, charge: int | None = None, conformers: int | No
     if kind == "smiles":
         base, name = _mol_from_smiles(spec)
     elif kind == "xyz":
-        base, coords = _mol_from_xyz(Path(spec), charge)
+        try:
+            base, coords = _mol_from_xyz(Path(spec), charge)
+        except InputError as exc:   # bonds do not fit a neutral molecule: say so when the electron count is odd
+            if charge is None and exc.parameter == "charge":
+                _odd_electron_check(Path(spec))
+            raise
+        if charge is None:                      # a neutral radical whose bonds RDKit could assign, an ion shape
+            _odd_electron_check(Path(spec), sum(a.GetAtomicNum() for a in base.GetAtoms()))
+            _ion_shape_check(base, coords[0], spec)
         name = Path(spec).stem
         prov["frames"] = int(coords.shape[0])
     else:
@@ -263,6 +273,62 @@ def load_structure(spec: str, *, charge: int | None = None, conformers: int | No
             arr.setflags(write=False)
     return Structure(name=name, source=spec, mol=mol, coords=coords, weights=weights, energies_kcal_mol=energies,
                      charge=int(net), h_groups=h_groups, provenance=prov)
+
+
+#: Largest spread (max − min, Å) of the C–C bonds of a ring called "equal": benzene 1.39–1.40, the COT
+#: dianion 1.40–1.41 Å, against 1.33/1.47 Å in neutral cyclooctatetraene (Traetteberg, Acta Chem. Scand.
+#: 1966, 20, 1724; from memory) and 1.36/1.44 Å in alternating 4n annulenes.
+_EQUAL_BONDS_A = 0.04
+
+#: Largest RMS deviation (Å) from the ring plane of a ring judged by its bond lengths.
+_FLAT_RING_A = 0.1
+
+
+def _odd_electron_check(path: Path, n_el: int | None = None) -> None:
+    """Refuse an XYZ file given without a charge whose neutral electron count ``n_el`` (read from the file's
+    first frame when None) is odd: a radical or an ion."""
+    if n_el is None:
+        from ringshift.io.xyz import parse_xyz_frames
+
+        lines = _limits.read_text(path, "an XYZ file").splitlines()
+        first = next(iter(parse_xyz_frames(lines, str(path), on_truncated=lambda *a: None)), None)
+        if first is None:
+            return
+        n_el = sum(_PT.GetAtomicNumber(sym) for sym in first.symbols)
+    if n_el % 2:
+        raise InputError(f"{n_el} electrons as a neutral molecule, an odd number: a radical (which gets no ring "
+                         "current; charge 0 keeps it) or an ion (e.g. +1 or -1); if this is an ion, "
+                         "give its net charge",
+                         source=str(path), parameter="charge")
+
+
+def _ion_shape_check(mol: Chem.Mol, xyz: np.ndarray, source: str) -> None:
+    """Refuse an XYZ geometry read as neutral whose planar all-carbon 4n ring has equal C–C bonds.
+
+    As a neutral molecule such a ring holds 4n π electrons, and planar 4n rings alternate (cyclooctatetraene
+    1.33/1.47 Å); equal bonds are the shape of its 4n ± 2 ion (the planar C8H8²⁻ dianion, 1.40–1.41 Å; from
+    memory). The user decides with the charge (0 keeps the neutral reading).
+    """
+    x = np.asarray(xyz, dtype=np.float64)
+    for ring in mol.GetRingInfo().AtomRings():
+        n = len(ring)
+        atoms = [mol.GetAtomWithIdx(a) for a in ring]
+        if n % 4 or any(a.GetAtomicNum() != 6 or a.GetTotalDegree() != 3 or a.GetFormalCharge() for a in atoms):
+            continue
+        bonds = [mol.GetBondBetweenAtoms(ring[k], ring[(k + 1) % n]) for k in range(n)]
+        if sum(b.GetBondType() == Chem.BondType.DOUBLE for b in bonds) * 2 != n:
+            continue                                   # not n/2 ring double bonds: not an isolated [n]annulene unit
+        d = np.linalg.norm(x[list(ring)] - x[list(ring[1:]) + [ring[0]]], axis=1)
+        p = x[list(ring)] - x[list(ring)].mean(axis=0)
+        rms = float(np.sqrt(np.mean(np.linalg.svd(p, compute_uv=False)[-1] ** 2 / n)))
+        if float(np.ptp(d)) < _EQUAL_BONDS_A and rms < _FLAT_RING_A:
+            raise InputError(
+                f"the planar {n}-membered carbon ring (atoms {sorted(ring)}, 0-based) has equal C–C bonds "
+                f"({d.min():.3f}–{d.max():.3f} Å), the shape of a {n + 2}π or {n - 2}π ion (as the planar C₈H₈²⁻ "
+                f"dianion), but as a neutral molecule it holds {n} π electrons (4n), and planar 4n rings alternate "
+                "(cyclooctatetraene 1.33/1.47 Å); give the net charge (e.g. -2 for the dianion), or 0 to read it "
+                "as neutral",
+                source=source, parameter="charge")
 
 
 def _refine_gfn2(mol: Chem.Mol, coords: np.ndarray, energies_ff: np.ndarray | None, charge: int, spec: str,
