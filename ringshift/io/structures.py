@@ -280,7 +280,8 @@ def load_structure(spec: str, *, charge: int | None = None, conformers: int | No
 #: 1966, 20, 1724; from memory) and 1.36/1.44 Å in alternating 4n annulenes.
 _EQUAL_BONDS_A = 0.04
 
-#: Largest RMS deviation (Å) from the ring plane of a ring judged by its bond lengths.
+#: Largest RMS deviation (Å) of a ring's atoms and their substituents from their common plane for the ring to
+#: be judged by its bond lengths.
 _FLAT_RING_A = 0.1
 
 
@@ -319,8 +320,10 @@ def _ion_shape_check(mol: Chem.Mol, xyz: np.ndarray, source: str) -> None:
         if sum(b.GetBondType() == Chem.BondType.DOUBLE for b in bonds) * 2 != n:
             continue                                   # not n/2 ring double bonds: not an isolated [n]annulene unit
         d = np.linalg.norm(x[list(ring)] - x[list(ring[1:]) + [ring[0]]], axis=1)
-        p = x[list(ring)] - x[list(ring)].mean(axis=0)
-        rms = float(np.sqrt(np.mean(np.linalg.svd(p, compute_uv=False)[-1] ** 2 / n)))
+        # planar π ring: the ring atoms and their substituents in one plane (a twisted ring is not judged)
+        near = sorted(set(ring) | {nb.GetIdx() for a in atoms for nb in a.GetNeighbors()})
+        p = x[near] - x[near].mean(axis=0)
+        rms = float(np.linalg.svd(p, compute_uv=False)[-1] / np.sqrt(len(near)))
         if float(np.ptp(d)) < _EQUAL_BONDS_A and rms < _FLAT_RING_A:
             raise InputError(
                 f"the planar {n}-membered carbon ring (atoms {sorted(ring)}, 0-based) has equal C–C bonds "
