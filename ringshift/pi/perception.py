@@ -298,7 +298,6 @@ def perceive_pi(mol, coords=None) -> PiSystem:
     if pi_charge != Chem.GetFormalCharge(mol):
         notes.append(f"formal charge {Chem.GetFormalCharge(mol):+d} of the molecule, {pi_charge:+d} of it on π atoms")
     overlap = dev = planar = None
-    axes = None
     if xyz is not None and atoms:
         axes, more = _p_axes(mol, xyz, atoms, bonds)
         notes.extend(more)
@@ -313,7 +312,7 @@ def perceive_pi(mol, coords=None) -> PiSystem:
         for f, d in zip(frags, dev):
             if d > _PLANAR_TOL_A:
                 notes.append(f"non-planar π fragment of {len(f)} atoms: largest deviation from its plane {d:.2f} Å")
-    metals, face_on, more = _metal_binding(mol, xyz, atoms, axes)
+    metals, face_on, more = _metal_binding(mol, xyz, atoms)
     notes.extend(more)
     return PiSystem(atoms=atoms, bonds=bonds, electrons=electrons, n_electrons=n_el, atom_types=types,
                     fragments=frags, warnings=tuple(notes), core_charges=cores,
@@ -322,7 +321,7 @@ def perceive_pi(mol, coords=None) -> PiSystem:
                     fragment_planar=planar, metals=metals, face_on_metals=face_on)
 
 
-def _metal_binding(mol, xyz, atoms, axes) -> tuple[tuple[int, ...], tuple[int, ...], list[str]]:
+def _metal_binding(mol, xyz, atoms) -> tuple[tuple[int, ...], tuple[int, ...], list[str]]:
     """Metals, the metals bound to the face of the π system, and notes on both.
 
     A metal is *in-plane* (σ, κ) bound when it is bonded to π atoms along their σ framework (the N of a
@@ -348,12 +347,18 @@ def _metal_binding(mol, xyz, atoms, axes) -> tuple[tuple[int, ...], tuple[int, .
         eta = sorted({a for i, a in enumerate(heavy) for b in heavy[i + 1:]
                       if mol.GetBondBetweenAtoms(a, b) is not None for a in (a, b)})
         along = []
-        if xyz is not None and axes is not None:
+        if xyz is not None:
             for n in heavy:
-                if n in where:
-                    v = xyz[m] - xyz[n]
-                    if abs(float(np.dot(v, axes[where[n]]))) > _FACE_ON_COS * float(np.linalg.norm(v)):
-                        along.append(n)
+                # the p axis of the ligand atom from its own σ framework (the metal left out): the normal of
+                # the plane of the atom and two of its other neighbours
+                others = [b.GetIdx() for b in mol.GetAtomWithIdx(n).GetNeighbors() if not is_metal(b.GetAtomicNum())]
+                if n not in where or len(others) < 2:
+                    continue
+                axis = np.cross(xyz[others[0]] - xyz[n], xyz[others[1]] - xyz[n])
+                v = xyz[m] - xyz[n]
+                norm = float(np.linalg.norm(axis) * np.linalg.norm(v))
+                if norm > 1e-12 and abs(float(np.dot(v, axis))) > _FACE_ON_COS * norm:
+                    along.append(n)
         if eta or along:
             face_on.append(m)
             why = (f"η{len(eta)} to atoms {eta}" if eta else f"bonded along the p axis of atom(s) {along}")

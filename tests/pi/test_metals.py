@@ -10,6 +10,7 @@ model; Chatt & Duncanson, J. Chem. Soc. 1953, 2939; from memory).
 
 from __future__ import annotations
 
+import numpy as np
 import pytest
 from rdkit import Chem
 
@@ -81,3 +82,34 @@ def test_face_on_metal_gets_no_current(smiles):
     assert all(c.current_nA_per_T is None for c in pred.circuits)
     assert all(c.current_source.startswith("none: " + METAL_FACE_NOTE) for c in pred.circuits)
     assert any(w.startswith(METAL_FACE_NOTE) for w in pred.warnings)
+
+
+GEOMETRY = [
+    # (id, where the metal sits relative to the pyridine N: in the ring plane along the N lone pair, or on the
+    # ring normal above the N, i.e. along its p axis); 2.0 Å Zn–N (common practice, no source)
+    ("in-plane-sigma", "plane", False),
+    ("on-p-axis", "normal", True),
+]
+
+
+@pytest.mark.parametrize("where,face_on", [c[1:] for c in GEOMETRY], ids=[c[0] for c in GEOMETRY])
+def test_metal_bond_direction_decides(where, face_on):
+    from rdkit.Chem import AllChem
+
+    m = Chem.AddHs(Chem.MolFromSmiles("c1ccncc1"))
+    AllChem.Compute2DCoords(m)               # a flat pyridine (z = 0)
+    xyz = m.GetConformer().GetPositions()
+    rw = Chem.RWMol(m)
+    zn = rw.AddAtom(Chem.Atom(30))
+    n_idx = next(a.GetIdx() for a in m.GetAtoms() if a.GetSymbol() == "N")
+    rw.AddBond(n_idx, zn, Chem.BondType.DATIVE)
+    mol = rw.GetMol()
+    Chem.SanitizeMol(mol)
+    ring = [a.GetIdx() for a in m.GetAtoms() if a.GetAtomicNum() > 1]
+    out = (xyz[n_idx] - xyz[ring].mean(axis=0))
+    out /= (out ** 2).sum() ** 0.5
+    direction = out if where == "plane" else np.array([0.0, 0.0, 1.0])
+    coords = np.vstack([xyz, xyz[n_idx] + 2.0 * direction])
+    pi = perceive_pi(mol, coords)
+    assert pi.n_electrons == 6                      # pyridine keeps its sextet either way
+    assert (pi.face_on_metals == (zn,)) == face_on
