@@ -297,9 +297,9 @@ def _odd_electron_check(path: Path, n_el: int | None = None) -> None:
             return
         n_el = sum(_PT.GetAtomicNumber(sym) for sym in first.symbols)
     if n_el % 2:
-        raise InputError(f"{n_el} electrons as a neutral molecule, an odd number: a radical (which gets no ring "
-                         "current; charge 0 keeps it) or an ion (e.g. +1 or -1); if this is an ion, "
-                         "give its net charge",
+        raise InputError(f"{n_el} electrons as a neutral molecule, an odd number: an ion (e.g. +1 or -1) or a "
+                         "radical (which gets no ring current; give a radical as SMILES or MOL/SDF, XYZ bond "
+                         "perception cannot place its unpaired electron); if this is an ion, give its net charge",
                          source=str(path), parameter="charge")
 
 
