@@ -380,6 +380,7 @@ def compare(structure: StructureLike | Prediction, peaks: str | os.PathLike[str]
     from ringshift._validation import compound_name
     from ringshift.comparison.run import run_compare
     from ringshift.io.correlations import CorrelationList, read_correlations
+    from ringshift.io.structures import require_protons
     from ringshift.spectra.peaks import PeakList
 
     _compare_options(claim, noise_ppm, solvent)
@@ -424,6 +425,7 @@ def compare(structure: StructureLike | Prediction, peaks: str | os.PathLike[str]
                        separation_A=separation_A, charge=charge, conformers=conformers,
                        temperature_K=temperature_K, fmt=fmt, exchange=exchange, geometry=geometry)
     pred = _named(pred, label)
+    require_protons(pred.structure.mol)  # nothing a ¹H spectrum could be compared with (no H, or only ²H/³H)
     if peak_path is not None:
         peak_list = read_peaks(peak_path, n_hydrogens=len(pred.protons), solvent=solvent)
     else:

@@ -296,6 +296,7 @@ def compare_cmd(structure, peaks, charge, conformers, seed, temperature, exchang
     from ringshift.reporting.text import comparison_text
     from ringshift.runners.configurations import compare_configurations, configurations_text, resolve_mode
 
+    _claim(output, force, (structure, peaks) + ((correlations,) if correlations else ()))
     cross = _correlations(correlations)  # read first: a bad file fails before the prediction is computed
     if nmredata:
         _nmredata_precheck(nmredata, output, force, (structure, peaks))
@@ -303,6 +304,7 @@ def compare_cmd(structure, peaks, charge, conformers, seed, temperature, exchang
     if mode == "given":
         pred = _run_predict(structure, charge, conformers, seed, temperature, exchange, geometry, model, currents,
                             beta_model, scale, set_current, circuit, name)
+        _require_protons(pred, structure)
         pl = read_peaks(peaks, n_hydrogens=len(pred.protons), solvent=solvent)
         if nmredata:
             from ringshift.io.nmredata import larmor_mhz_of
@@ -334,6 +336,13 @@ def compare_cmd(structure, peaks, charge, conformers, seed, temperature, exchang
 
         write_nmredata(nmredata, res, force=force, inputs=(structure, peaks))
         click.echo(f"wrote {nmredata}", err=True)
+
+
+def _require_protons(pred, structure):
+    """A molecule without ¹H (none, or only ²H/³H) has nothing a ¹H spectrum could be compared with."""
+    from ringshift.io.structures import require_protons
+
+    require_protons(pred.structure.mol, structure)
 
 
 def _nmredata_precheck(nmredata, output, force, inputs):
@@ -444,6 +453,7 @@ def report_cmd(structure, peaks, charge, conformers, seed, temperature, exchange
     res = None
     if peaks:
         say("assignment and fit")
+        _require_protons(pred, structure)
         pl = read_peaks(peaks, n_hydrogens=len(pred.protons), solvent=solvent)
         res = run_compare(pred, pl, claim=claim, noise_ppm=_noise(noise), seed=seed, correlations=cross)
     say("figures and report")

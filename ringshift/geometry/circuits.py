@@ -11,6 +11,11 @@ Two parts:
   lose nothing. The *perimeter* of each fused polycycle (naphthalene's 10-ring) is reported as a
   descriptive circuit (electron count, class) but carries no loop of its own, which would count its
   current twice. RDKit's ring perception alone misses such pathways (design notes §6).
+  A closed cage (every atom of a fused cluster with three bonds in it: a fullerene) has no perimeter: a
+  cycle basis leaves exactly one of its faces out (Euler, F = E − V + 2), and that face is added back, so
+  every face carries a loop. The face currents of a closed surface are then fixed only up to one common
+  circulation; :func:`ringshift.pi.london.kirchhoff_decomposition` takes the minimum-norm solution, which
+  every symmetry operation of the cage maps onto itself, so equivalent faces get equal currents.
 * Geometry (arrays): centre, unit normal from a least-squares plane (SVD), mean radius, area,
   RMS deviation from planarity and the largest p-orbital misalignment between bonded ring atoms.
 
@@ -241,12 +246,33 @@ def find_circuits(
                 key = (min(i, j), max(i, j))
                 count[key] = count.get(key, 0) + 1
         outline = _order_cycle([b for b, n in count.items() if n == 1])
-        if outline is not None:
-            n_per += 1
-            circuits.append(
-                Circuit(_canonical_rotation(outline), "perimeter", f"P{n_per}", cluster[0].fragment)
-            )
-    return tuple(circuits)
+        if outline is None:
+            continue
+        if _closed_surface(count):
+            # a closed cage (fullerene): the outline is the one face the cycle basis leaves out, not a perimeter
+            face = _canonical_rotation(outline)
+            if len(face) <= 8:
+                n_ring += 1
+                circuits.append(Circuit(face, "ring", f"R{n_ring}", cluster[0].fragment))
+            else:
+                n_macro += 1
+                circuits.append(Circuit(face, "macrocycle", f"M{n_macro}", cluster[0].fragment))
+            continue
+        n_per += 1
+        circuits.append(Circuit(_canonical_rotation(outline), "perimeter", f"P{n_per}", cluster[0].fragment))
+    loops = sorted((c for c in circuits if c.carries_loop), key=lambda c: (c.fragment, min(c.atoms), c.size))
+    return tuple(loops + [c for c in circuits if not c.carries_loop])
+
+
+def _closed_surface(count: dict[tuple[int, int], int]) -> bool:
+    """True when the faces of a fused cluster close into a cage: every atom of the cluster has three bonds in
+    it (a cubic polyhedral graph, e.g. a fullerene; Euler: F = E − V + 2, so the cycle basis, E − V + 1 cycles,
+    leaves exactly one face out). A planar or bowl-shaped polycycle always has rim atoms with two."""
+    degree: dict[int, int] = {}
+    for i, j in count:
+        degree[i] = degree.get(i, 0) + 1
+        degree[j] = degree.get(j, 0) + 1
+    return bool(degree) and all(d == 3 for d in degree.values())
 
 
 def _face_clusters(circuits: Sequence[Circuit]) -> list[list[Circuit]]:

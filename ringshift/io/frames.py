@@ -38,7 +38,12 @@ from ringshift.io.xyz import parse_xyz_frames
 from ringshift.limits import check_coordinates
 
 __all__ = ['TrajectoryWarning', 'Frame', 'FrameStream', 'iter_xyz_frames', 'iter_sdf_records', 'parse_energy',
-           'ENERGY_UNITS']
+           'ENERGY_UNITS', 'bond_length_limits', 'broken_bond', 'BROKEN_BOND_FACTOR']
+
+#: A bond of the template longer than this multiple of the sum of its atoms' covalent radii (RDKit's table,
+#: Cordero et al., Dalton Trans. 2008, 2832) is broken in that frame: C–H beyond 1.61 Å, C–C beyond 2.28 Å.
+#: Thermal stretching stays far below (C–H ± 0.1 Å at 300 K; common practice, no source).
+BROKEN_BOND_FACTOR = 1.5
 
 
 _SDF = (".sdf", ".sd")
@@ -87,6 +92,35 @@ def parse_energy(comment: str, default_unit: str = "kcal/mol") -> float | None:
         number, unit = groups[1], groups[2] or (_SUFFIX_UNIT.get(groups[0].lower()) if groups[0] else None)
     value = float(number.replace("d", "e").replace("D", "e"))
     return value * ENERGY_UNITS[(unit or default_unit).lower()]
+
+
+def bond_length_limits(mol: Chem.Mol) -> tuple[np.ndarray, np.ndarray]:
+    """The bonds (m, 2) of a template molecule and the length (m,), Å, beyond which each counts as broken
+    (:data:`BROKEN_BOND_FACTOR` × the sum of the covalent radii)."""
+    pt = Chem.GetPeriodicTable()
+    bonds = np.array([(b.GetBeginAtomIdx(), b.GetEndAtomIdx()) for b in mol.GetBonds()], dtype=np.intp).reshape(-1, 2)
+    radii = np.array([pt.GetRcovalent(a.GetAtomicNum()) for a in mol.GetAtoms()], dtype=np.float64)
+    return bonds, BROKEN_BOND_FACTOR * (radii[bonds[:, 0]] + radii[bonds[:, 1]])
+
+
+def broken_bond(mol: Chem.Mol, bonds: np.ndarray, limits_A: np.ndarray, coords) -> str | None:
+    """A one-line description of the longest broken bond of one frame (coords (n_atoms, 3), Å), or None.
+
+    ``bonds`` and ``limits_A`` from :func:`bond_length_limits` of the template molecule."""
+    x = np.asarray(coords, dtype=np.float64)
+    if not bonds.shape[0]:
+        return None
+    d = np.linalg.norm(x[bonds[:, 0]] - x[bonds[:, 1]], axis=1)
+    over = d / limits_A
+    k = int(np.argmax(over))
+    if over[k] <= 1.0:
+        return None
+    i, j = sorted(int(a) for a in bonds[k])
+    si, sj = mol.GetAtomWithIdx(i).GetSymbol(), mol.GetAtomWithIdx(j).GetSymbol()
+    n_bad = int(np.count_nonzero(over > 1.0))
+    more = f" and {n_bad - 1} more" if n_bad > 1 else ""
+    return (f"bond {si}{i}–{sj}{j} (0-based) is {d[k]:.2f} Å long{more}, beyond {limits_A[k]:.2f} Å "
+            f"({BROKEN_BOND_FACTOR:g} × the covalent radii): a broken bond, not the molecule of the first frame")
 
 
 class FrameStream:

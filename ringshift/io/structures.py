@@ -42,7 +42,42 @@ from ringshift.io.molecule_files import (
     _short,
 )
 
-__all__ = ['Structure', 'load_structure', 'structure_from_molecule', 'GEOMETRY_ROUTES', 'EXCHANGE_RULES']
+__all__ = ['Structure', 'load_structure', 'structure_from_molecule', 'GEOMETRY_ROUTES', 'EXCHANGE_RULES',
+           'proton_indices', 'isotope_note', 'require_protons']
+
+
+def proton_indices(mol: Chem.Mol) -> list[int]:
+    """Indices of the ¹H atoms: hydrogens without an isotope label or labelled 1. ²H (D) and ³H (T) are not
+    protons of a ¹H spectrum and are left out of predictions, tables and assignments alike (the rule
+    :func:`ringshift.geometry.symmetry.group_equivalent_hydrogens` applies to the H groups)."""
+    return [a.GetIdx() for a in mol.GetAtoms() if a.GetAtomicNum() == 1 and a.GetIsotope() in (0, 1)]
+
+
+def isotope_note(mol: Chem.Mol) -> str:
+    """A one-line note on hydrogen isotopes that are not ¹H (empty string when there are none)."""
+    heavy_h = [a for a in mol.GetAtoms() if a.GetAtomicNum() == 1 and a.GetIsotope() not in (0, 1)]
+    if not heavy_h:
+        return ""
+    labels = ", ".join(f"{n} {'²H' if iso == 2 else '³H' if iso == 3 else f'{iso}H'}"
+                       for iso, n in sorted(_count(a.GetIsotope() for a in heavy_h).items()))
+    if not proton_indices(mol):
+        return (f"the molecule has no ¹H: all its hydrogens are isotopes ({labels}), which have no ¹H signal; "
+                "nothing to predict")
+    return f"{labels} atom(s) are not ¹H: left out of the predicted shifts, the H groups and the assignment"
+
+
+def require_protons(mol: Chem.Mol, source: str = "structure") -> None:
+    """Refuse a comparison with a ¹H spectrum for a molecule without ¹H (no H at all, or only ²H/³H)."""
+    if not proton_indices(mol):
+        why = isotope_note(mol) or "the molecule has no hydrogens"
+        raise InputError(f"{why.split(';')[0]}; a ¹H spectrum has nothing to be compared with", source)
+
+
+def _count(values) -> dict[int, int]:
+    out: dict[int, int] = {}
+    for v in values:
+        out[int(v)] = out.get(int(v), 0) + 1
+    return out
 
 #: Geometry routes of :func:`load_structure`: MMFF94 conformers (or the input coordinates) as they are, or
 #: re-optimised with GFN2-xTB (Bannwarth, Ehlert & Grimme, J. Chem. Theory Comput. 2019, 15, 1652).
@@ -52,6 +87,8 @@ GEOMETRY_ROUTES: tuple[str, ...] = ("force-field", "gfn2-xtb")
 _MAX_SEED = 2**31 - 1            # ETKDG's randomSeed is a C int; -1 means "random"
 
 _MAX_ABS_CHARGE = 100
+
+_PT = Chem.GetPeriodicTable()
 
 
 @dataclass(frozen=True)
@@ -186,7 +223,15 @@ def load_structure(spec: str, *, charge: int | None = None, conformers: int | No
     if kind == "smiles":
         base, name = _mol_from_smiles(spec)
     elif kind == "xyz":
-        base, coords = _mol_from_xyz(Path(spec), charge)
+        try:
+            base, coords = _mol_from_xyz(Path(spec), charge)
+        except InputError as exc:   # bonds do not fit a neutral molecule: say so when the electron count is odd
+            if charge is None and exc.parameter == "charge":
+                _odd_electron_check(Path(spec))
+            raise
+        if charge is None:                      # a neutral radical whose bonds RDKit could assign, an ion shape
+            _odd_electron_check(Path(spec), sum(a.GetAtomicNum() for a in base.GetAtoms()))
+            _ion_shape_check(base, coords[0], spec)
         name = Path(spec).stem
         prov["frames"] = int(coords.shape[0])
     else:
@@ -304,6 +349,63 @@ def _configuration_changes(mol: Chem.Mol, first: np.ndarray, other: np.ndarray) 
             out.append(f"bond {i}-{j}: dihedral {ni[0]}-{i}-{j}-{nj[0]} is {d0:.0f} deg in the first record but "
                        f"{d1:.0f} deg here")
     return out
+#: Largest spread (max − min, Å) of the C–C bonds of a ring called "equal": benzene 1.39–1.40, the COT
+#: dianion 1.40–1.41 Å, against 1.33/1.47 Å in neutral cyclooctatetraene (Traetteberg, Acta Chem. Scand.
+#: 1966, 20, 1724; from memory) and 1.36/1.44 Å in alternating 4n annulenes.
+_EQUAL_BONDS_A = 0.04
+
+#: Largest RMS deviation (Å) of a ring's atoms and their substituents from their common plane for the ring to
+#: be judged by its bond lengths.
+_FLAT_RING_A = 0.1
+
+
+def _odd_electron_check(path: Path, n_el: int | None = None) -> None:
+    """Refuse an XYZ file given without a charge whose neutral electron count ``n_el`` (read from the file's
+    first frame when None) is odd: a radical or an ion."""
+    if n_el is None:
+        from ringshift.io.xyz import parse_xyz_frames
+
+        lines = _limits.read_text(path, "an XYZ file").splitlines()
+        first = next(iter(parse_xyz_frames(lines, str(path), on_truncated=lambda *a: None)), None)
+        if first is None:
+            return
+        n_el = sum(_PT.GetAtomicNumber(sym) for sym in first.symbols)
+    if n_el % 2:
+        raise InputError(f"{n_el} electrons as a neutral molecule, an odd number: an ion (e.g. +1 or -1) or a "
+                         "radical (which gets no ring current; give a radical as SMILES or MOL/SDF, XYZ bond "
+                         "perception cannot place its unpaired electron); if this is an ion, give its net charge",
+                         source=str(path), parameter="charge")
+
+
+def _ion_shape_check(mol: Chem.Mol, xyz: np.ndarray, source: str) -> None:
+    """Refuse an XYZ geometry read as neutral whose planar all-carbon 4n ring has equal C–C bonds.
+
+    As a neutral molecule such a ring holds 4n π electrons, and planar 4n rings alternate (cyclooctatetraene
+    1.33/1.47 Å); equal bonds are the shape of its 4n ± 2 ion (the planar C8H8²⁻ dianion, 1.40–1.41 Å; from
+    memory). The user decides with the charge (0 keeps the neutral reading).
+    """
+    x = np.asarray(xyz, dtype=np.float64)
+    for ring in mol.GetRingInfo().AtomRings():
+        n = len(ring)
+        atoms = [mol.GetAtomWithIdx(a) for a in ring]
+        if n % 4 or any(a.GetAtomicNum() != 6 or a.GetTotalDegree() != 3 or a.GetFormalCharge() for a in atoms):
+            continue
+        bonds = [mol.GetBondBetweenAtoms(ring[k], ring[(k + 1) % n]) for k in range(n)]
+        if sum(b.GetBondType() == Chem.BondType.DOUBLE for b in bonds) * 2 != n:
+            continue                                   # not n/2 ring double bonds: not an isolated [n]annulene unit
+        d = np.linalg.norm(x[list(ring)] - x[list(ring[1:]) + [ring[0]]], axis=1)
+        # planar π ring: the ring atoms and their substituents in one plane (a twisted ring is not judged)
+        near = sorted(set(ring) | {nb.GetIdx() for a in atoms for nb in a.GetNeighbors()})
+        p = x[near] - x[near].mean(axis=0)
+        rms = float(np.linalg.svd(p, compute_uv=False)[-1] / np.sqrt(len(near)))
+        if float(np.ptp(d)) < _EQUAL_BONDS_A and rms < _FLAT_RING_A:
+            raise InputError(
+                f"the planar {n}-membered carbon ring (atoms {sorted(ring)}, 0-based) has equal C–C bonds "
+                f"({d.min():.3f}–{d.max():.3f} Å), the shape of a {n + 2}π or {n - 2}π ion (as the planar C₈H₈²⁻ "
+                f"dianion), but as a neutral molecule it holds {n} π electrons (4n), and planar 4n rings alternate "
+                "(cyclooctatetraene 1.33/1.47 Å); give the net charge (e.g. -2 for the dianion), or 0 to read it "
+                "as neutral",
+                source=source, parameter="charge")
 
 
 def _refine_gfn2(mol: Chem.Mol, coords: np.ndarray, energies_ff: np.ndarray | None, charge: int, spec: str,

@@ -5,6 +5,8 @@ Used by the structure reader :mod:`ringshift.io.molecule_files` (a structure fil
 the end of the file may be skipped). Format: an atom count line, a comment line, then one
 ``element x y z`` line per atom (Å; the element as a symbol in any case, or an atomic number). Blank
 lines between frames are allowed. Every frame must list the atoms of the first frame in the same order.
+A first frame whose bonded distances read as bohr, pm or nm rather than Å is refused with that diagnosis
+(:func:`unit_problem`).
 """
 
 from __future__ import annotations
@@ -19,10 +21,53 @@ from rdkit import Chem
 from ringshift import limits as _limits
 from ringshift.errors import InputError
 
-__all__ = ["XyzFrame", "parse_xyz_frames", "element_symbol"]
+__all__ = ["XyzFrame", "parse_xyz_frames", "element_symbol", "unit_problem", "BOHR_A"]
 
 _PT = Chem.GetPeriodicTable()
 _COUNT = re.compile(r"[0-9]{1,12}")
+
+#: The bohr radius in Å (CODATA 2018, scipy.constants.physical_constants["Bohr radius"]).
+BOHR_A = 0.529177210903
+
+#: Nearest-neighbour distances of bonded H, C, N and O atoms in Å: 0.74 (H2) to 1.60 (a long C–C);
+#: C–H 1.09, C–C 1.20–1.54, C=O 1.21 (CRC Handbook of Chemistry and Physics, bond lengths; from memory).
+_NN_RANGE_A = (0.70, 1.65)
+
+_ORGANIC = ("H", "C", "N", "O")
+
+
+def unit_problem(symbols, coords) -> str | None:
+    """A one-line diagnosis when the coordinates of one frame are not in Å, else None.
+
+    The median nearest-neighbour distance of the H, C, N and O atoms (bonded atoms: 0.7–1.65 Å) is compared
+    with the same range in bohr (× 0.529 Å), picometres (/ 100) and nanometres (× 10). Frames with fewer than
+    three such atoms, or where they are fewer than half of all atoms, are not judged (a metal cluster or an
+    inorganic salt has longer bonds).
+
+    Parameters
+    ----------
+    symbols : sequence of str, element symbols (n,)
+    coords : (n, 3) array_like, the frame as written in the file
+    """
+    x = np.asarray(coords, dtype=np.float64)
+    sel = [k for k, sym in enumerate(symbols) if sym in _ORGANIC]
+    if len(sel) < 3 or 2 * len(sel) < len(symbols) or not np.all(np.abs(x) <= _limits.MAX_ABS_COORDINATE_A):
+        return None                                     # too few to judge, or beyond the limits' own refusal
+    d = np.linalg.norm(x[sel, None, :] - x[None, sel, :], axis=2)
+    np.fill_diagonal(d, np.inf)
+    nn = float(np.median(d.min(axis=1)))
+    lo, hi = _NN_RANGE_A
+    if lo <= nn <= hi:
+        return None
+    for unit, factor in (("bohr", BOHR_A), ("pm", 0.01), ("nm", 10.0)):
+        if lo <= nn * factor <= hi:
+            return (f"coordinates look like {unit}, expected Å: the median nearest-neighbour distance of the H, C, "
+                    f"N and O atoms is {nn:.3g}, which is {nn * factor:.2f} Å in {unit} (bonded atoms: "
+                    f"{lo}–{hi} Å); convert the file to Å")
+    if nn > hi:
+        return (f"atoms too far apart for a molecule: the median nearest-neighbour distance of the H, C, N and O "
+                f"atoms is {nn:.3g} Å (bonded atoms: {lo}–{hi} Å); expected one molecule in Å")
+    return None
 
 
 @dataclass(frozen=True)
@@ -134,6 +179,8 @@ def parse_xyz_frames(lines: Iterable[str], source: str,
         for k, r in enumerate(rows):
             if len(r) < 4 or not _floats(r[1:4]) or element_symbol(r[0]) is None:
                 what = f": unknown element {r[0]!r}" if len(r) >= 4 and _floats(r[1:4]) else ""
+                if what and r[0].capitalize() in ("D", "T"):
+                    what += " (XYZ carries no isotopes; give ²H/³H as [2H]/[3H] in a SMILES or as a MOL/SDF file)"
                 raise InputError(f"expected 'element x y z' (atom {k + 1} of {n}, frame {number}), got "
                                  f"{rows_text[k].strip()[:40]!r}{what}", source=f"{source}:{start + 2 + k}")
         xyz = np.array([r[1:4] for r in rows], dtype=np.float64)
@@ -150,6 +197,8 @@ def parse_xyz_frames(lines: Iterable[str], source: str,
                 raise InputError(f"frame {number} does not list the atoms of frame 1 in the same order (atom "
                                  f"{k + 1} is {tokens[k]}, frame 1 has {ref_tokens[k]})",
                                  source=f"{source}:{start + 2 + k}")
+        if number == 1 and (why := unit_problem(ref_symbols, xyz)):
+            raise InputError(why, source=f"{source}:{start} (frame 1)")
         _limits.check_coordinates(xyz[None], list(ref_symbols), f"{source}:{start} (frame {number})")
         yield XyzFrame(number, start, ref_symbols, xyz, comment.strip())
 

@@ -9,6 +9,18 @@ the diagonal (α_X = α + h_X β) and the resonance factors k_rs · f(r_rs) · |
 (β_rs = k_rs f(r) |cos ω| β0, β0 < 0). Parameters and their sources: :mod:`ringshift.pi.parameters`; the
 London response built on these levels: :mod:`ringshift.pi.london`.
 
+Möbius topology
+---------------
+Every β carries the cosine of the angle between the two p-orbital axes *with its sign*: the axes are
+oriented consistently along a spanning tree of the π graph, so a negative cosine is left only on a bond
+that closes a ring with an odd number of p-orbital phase inversions. Such a ring has Möbius topology: its
+levels are those of Heilbronner's Möbius Hückel model (Tetrahedron Lett. 1964, 5, 1923), 2β cos((2k+1)π/N),
+4n π electrons close the shell and 4n+2 leave a degenerate half-filled pair, so the Hückel–London currents
+built on these levels follow the Möbius rule (4n diatropic, 4n+2 paratropic or open shell), never the
+Hückel rule. Which sign a bond gets is a gauge (another spanning tree moves it to another bond of the same
+ring); the levels and currents do not depend on it. In a ring of Hückel topology all cosines come out
+positive and the model is the usual |cos| one.
+
 β(r) models
 -----------
 ``"uniform"``: f = 1. ``"distance"``: f = exp(−(r − 1.397 Å)/0.3106 Å) for C–C bonds, from the
@@ -138,7 +150,9 @@ def _setup(pi: PiSystem, mol, xyz, distortion):
     dbl = np.array([o >= 2 for o in pi.bond_kekule], bool).reshape(-1) if pi.bond_kekule else np.zeros(len(lb), bool)
     if xyz is not None and pi.atoms:
         axes, _ = _p_axes(mol, xyz, pi.atoms, pi.bonds)
-        ov = np.array([min(1.0, abs(np.dot(axes[i], axes[j]))) for i, j in lb])
+        # signed overlap: the axes are oriented along a spanning tree, so a negative cosine remains only on a
+        # bond closing a ring with an odd number of phase inversions (Möbius topology; module notes)
+        ov = np.array([float(np.clip(np.dot(axes[i], axes[j]), -1.0, 1.0)) for i, j in lb])
         ends = np.array(pi.bonds, dtype=np.intp).reshape(-1, 2)
         lengths = np.linalg.norm(xyz[ends[:, 0]] - xyz[ends[:, 1]], axis=1)
     else:
@@ -156,9 +170,9 @@ def huckel(pi: PiSystem, mol, coords=None, *, beta_model: str = "distance",
     pi : PiSystem from :func:`perceive_pi`
     mol : rdkit.Chem.Mol (the same molecule)
     coords : (n_atoms, 3) array_like, Å; required for every beta_model except "uniform"
-        Used for β(r) ("distance") and for the p-orbital alignment factor |cos ω| of every bond
-        (β scaled by |cos| of the angle between the two p-orbital axes; the cosine law for twisted π
-        bonds, common practice, no source).
+        Used for β(r) ("distance") and for the p-orbital alignment factor cos ω of every bond
+        (β scaled by the cosine of the angle between the two tree-oriented p-orbital axes; the cosine law for
+        twisted π bonds, common practice, no source; its sign carries Möbius topology, module notes).
     beta_model : "uniform" | "distance" | "scf" | "scf-coulson", keyword-only (see :mod:`ringshift.pi.huckel`)
     distortion : float, optional, keyword-only
         Explicit bond alternation δ (|δ| < 1): β × (1 + δ) for the Kekulé double bonds, × (1 − δ)

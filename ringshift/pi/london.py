@@ -47,15 +47,26 @@ from ringshift.pi.parameters import (
     SCF_CLOSE_KCAL_PER_MOL,
     SCF_CURRENT_DIFF_REL,
 )
-from ringshift.pi.perception import _PLANAR_TOL_A, PiSystem, _check_circuit, _frozen
+from ringshift.pi.perception import (
+    _PLANAR_TOL_A,
+    METAL_FACE_NOTE,
+    MOBIUS_NOTE,
+    PiSystem,
+    _check_circuit,
+    _frozen,
+    circuit_topology,
+)
 from ringshift.pi.scf_lengths import bond_length_alternation, scf_cc_lengths
 
 #: Fixed words of two warnings (read by predict): a circuit's non-planarity, and two self-consistent
 #: solutions too close in energy to choose between.
 NON_PLANAR_NOTE = "is non-planar: largest deviation"
 CLOSE_SOLUTIONS_NOTE = "two self-consistent bond-length solutions within"
+#: Opening words of the status of an open-shell π system, which gets no current.
+OPEN_SHELL_NOTE = "open shell"
 
-__all__ = ['NON_PLANAR_NOTE', 'CLOSE_SOLUTIONS_NOTE', 'LondonCurrents', 'AlternativeCurrents', 'london_currents',
+__all__ = ['NON_PLANAR_NOTE', 'CLOSE_SOLUTIONS_NOTE', 'OPEN_SHELL_NOTE', 'open_shell_status',
+           'LondonCurrents', 'AlternativeCurrents', 'london_currents',
            'circuit_normals', 'london_bond_response', 'kirchhoff_decomposition', 'regular_polygon',
            'benzene_reference_response', 'absolute_current_nA_per_T', 'pi_charge_shift_ppm']
 
@@ -148,8 +159,8 @@ def london_currents(pi: PiSystem, mol, coords, circuits: Sequence[Sequence[int]]
     -------
     LondonCurrents
         Ring currents relative to benzene (same model, regular hexagon of 1.397 Å), positive =
-        diatropic; None with an explanatory ``status`` when there is no number to give (no π system,
-        open shell with degenerate partly filled HOMO).
+        diatropic; None with an explanatory ``status`` when there is no number to give (no π system;
+        any open shell: an odd π-electron count or a partly filled HOMO shell, degenerate or not).
     """
     _v.molecule(mol)
     _check_model(beta_model, pi)
@@ -176,6 +187,10 @@ def london_currents(pi: PiSystem, mol, coords, circuits: Sequence[Sequence[int]]
         f"circuit {n} ({len(c)} atoms) {NON_PLANAR_NOTE} {d:.2f} Å from its plane; the current "
         "is its response to a field along its mean normal"
         for n, (c, d) in enumerate(zip(oriented, devs)) if d > _PLANAR_TOL_A]
+    if any(w.startswith(MOBIUS_NOTE) for w in pi.warnings):
+        notes += [f"circuits[{n}] ({len(c)} atoms) has Möbius topology (odd number of p-orbital phase inversions): "
+                  "its current follows the Möbius rule (Heilbronner 1964), 4n π electrons diatropic, 4n+2 paratropic"
+                  for n, c in enumerate(oriented) if circuit_topology(pi, mol, xyz, c) == "mobius"]
     # the result without numbers; the other outcomes replace its status and numbers
     empty = LondonCurrents(
         status="no π system", open_shell=False, field_dirs=_frozen(np.eye(3)), circuits=tuple(oriented),
@@ -184,6 +199,9 @@ def london_currents(pi: PiSystem, mol, coords, circuits: Sequence[Sequence[int]]
         circuit_currents_rel=None, circuit_currents_nA_per_T=None, circuit_currents_abs_nA_per_T=None,
         benzene_abs_nA_per_T=bz_abs, kirchhoff_residual=None, conservation_residual=None,
         beta_model=beta_model, beta0_eV=float(beta0_eV), huckel=hr, warnings=tuple(notes))
+    if pi.face_on_metals:
+        reason = next((w for w in pi.warnings if w.startswith(METAL_FACE_NOTE)), METAL_FACE_NOTE)
+        return replace(empty, status=reason)
     if not pi.atoms:
         return empty
     lb = np.array([(pi.atoms.index(i), pi.atoms.index(j)) for i, j in pi.bonds], dtype=np.intp).reshape(-1, 2)
@@ -193,9 +211,7 @@ def london_currents(pi: PiSystem, mol, coords, circuits: Sequence[Sequence[int]]
     notes += [n for n in (_close_note(None if out is None else out[2], bla, a, oriented) for a in alts) if n]
     empty = replace(empty, warnings=tuple(notes), alternatives=alts, bla_A=bla)
     if out is None:
-        status = ("open shell: degenerate, partly filled HOMO (e.g. a D_Nh 4n annulene); Hückel–London gives no "
-                  "finite current. Pass a distortion (bond alternation) or a geometry that breaks the degeneracy")
-        return replace(empty, status=status, open_shell=True)
+        return replace(empty, status=open_shell_status(hr, pi), open_shell=True)
     diat, resp, rel, resid, cons = out
     return replace(
         empty, status="ok", open_shell=hr.open_shell,
@@ -203,6 +219,21 @@ def london_currents(pi: PiSystem, mol, coords, circuits: Sequence[Sequence[int]]
         circuit_response_rel=_frozen(resp), circuit_currents_rel=_frozen(rel),
         circuit_currents_nA_per_T=_frozen(rel * BENZENE_CURRENT_NA_PER_T),
         circuit_currents_abs_nA_per_T=_frozen(rel * bz_abs), kirchhoff_residual=resid, conservation_residual=cons)
+
+
+def open_shell_status(hr: HuckelResult, pi: PiSystem) -> str:
+    """The one-line reason an open-shell π system gets no current (the ``status`` of :func:`london_currents`)."""
+    if pi.n_electrons % 2:
+        what = f"odd π-electron count ({pi.n_electrons}, a radical)"
+    elif hr.degenerate_open_shell:
+        what = "degenerate, partly filled HOMO (e.g. a D_Nh 4n annulene)"
+    else:
+        what = "partly filled HOMO shell"
+    status = (f"{OPEN_SHELL_NOTE}: {what}; the closed-shell Hückel–London response does not apply, so no current "
+              "is given")
+    if not pi.n_electrons % 2:
+        status += ". Pass a distortion (bond alternation) or a geometry that breaks the degeneracy"
+    return status
 
 
 def _bla(hr: HuckelResult, pi: PiSystem) -> float | None:
@@ -215,8 +246,9 @@ def _bla(hr: HuckelResult, pi: PiSystem) -> float | None:
 
 def _circuit_response(hr: HuckelResult, pi: PiSystem, xyz, lb, inc, nrm, g_bz):
     """(diatropic bond currents (3, m), circuit responses (c, 3), currents along the normals (c,), Kirchhoff
-    residual, conservation residual) relative to benzene; None for a degenerate open shell."""
-    if hr.degenerate_open_shell:
+    residual, conservation residual) relative to benzene; None for any open shell (odd electron count or a
+    partly filled HOMO shell): the closed-shell linear response is not defined there (module notes)."""
+    if hr.open_shell:
         return None
     h0 = huckel_matrix([HETERO_PARAMETERS[t][0] for t in pi.atom_types], lb, hr.resonance)
     try:
@@ -249,6 +281,8 @@ def _close_note(rel, bla, alt: AlternativeCurrents, circuits) -> str:
     if alt.energy_above_kcal_per_mol >= SCF_CLOSE_KCAL_PER_MOL or not len(circuits):
         return ""
     a = alt.circuit_currents_rel
+    if rel is None and a is None:  # neither has a current (an open shell): nothing to choose between
+        return ""
     if rel is not None and a is not None:
         k = int(np.argmax(np.abs(a - rel)))
         if abs(a[k] - rel[k]) < SCF_CURRENT_DIFF_REL:
@@ -323,6 +357,10 @@ def london_bond_response(h0, xyz, bonds, energies, vectors, occ, *, labels=None,
 
 def kirchhoff_decomposition(bond_currents, incidence):
     """Least-squares circuit currents x with incidence @ x ≈ bond_currents (exact for a cycle basis).
+
+    With every face of a closed cage (a fullerene) the incidence has one null vector (all faces circulating
+    together cancel on every bond); ``numpy.linalg.lstsq`` then returns the minimum-norm solution, which any
+    symmetry of the cage maps onto itself, so equivalent faces get equal currents whatever the atom order.
 
     Parameters
     ----------

@@ -58,18 +58,29 @@ from ringshift import _validation as _v
 from ringshift.errors import InputError
 from ringshift.geometry import planes as pg
 
-__all__ = ['PiSystem', 'perceive_pi', 'circuit_electrons', 'huckel_class', 'orbital_axes']
+__all__ = ['PiSystem', 'perceive_pi', 'circuit_electrons', 'huckel_class', 'orbital_axes', 'circuit_topology',
+           'expected_tropicity', 'MOBIUS_NOTE', 'METAL_FACE_NOTE', 'is_metal']
 
 
 _ELEMENTS = {5: "B", 6: "C", 7: "N", 8: "O", 9: "F", 16: "S", 17: "Cl", 35: "Br", 53: "I"}
 
 _PT = Chem.GetPeriodicTable()
 
+_NONMETALS = frozenset({1, 2, 5, 6, 7, 8, 9, 10, 14, 15, 16, 17, 18, 33, 34, 35, 36, 52, 53, 54, 85, 86})
+
+_FACE_ON_COS = float(np.cos(np.radians(45.0)))  # metal–atom bond within 45° of the p axis: face-on (η) binding
+
 _OVERLAP_WARN = 0.7  # |cos| below this (misalignment above ~45°) is reported
 
 _PYRAMID_WARN_A = 0.3  # a π atom this far from the plane of its three neighbours is reported
 
 _PLANAR_TOL_A = 0.1  # largest deviation from the fitted plane for a "planar" verdict
+
+#: Opening words of the note (and of the current status) of a metal bound to the face of the π system.
+METAL_FACE_NOTE = "metal bound to the face of the π system"
+
+#: Opening words of the note on a ring of Möbius topology.
+MOBIUS_NOTE = "Möbius-type twist"
 
 
 @dataclass(frozen=True)
@@ -88,6 +99,9 @@ class PiSystem:
     fragments : connected π fragments (sorted tuples). radical : odd electron count.
     bond_overlap : |cos| of the p-orbital axes per bond, or None without coordinates.
     fragment_max_deviation_A, fragment_planar : plane-fit verdict per fragment, or None.
+    metals : metal atoms (:func:`is_metal`) of the molecule; they are never π atoms.
+    face_on_metals : metals bound to the face of the π system (η² or more, or a bond along a p axis); the
+        Hückel–London step gives no current then (:data:`METAL_FACE_NOTE`).
     warnings : human-readable notes (radical, fragments, poor overlap, pyramidal atoms, ...).
     """
 
@@ -105,6 +119,8 @@ class PiSystem:
     bond_overlap: tuple[float, ...] | None = None
     fragment_max_deviation_A: tuple[float, ...] | None = None
     fragment_planar: tuple[bool, ...] | None = None
+    metals: tuple[int, ...] = ()
+    face_on_metals: tuple[int, ...] = ()
 
 
 # ---------------------------------------------------------------------------------------------------
@@ -125,13 +141,28 @@ def _kekule_orders(mol) -> tuple[dict, list[str]]:
     return orders, notes
 
 
+def is_metal(atomic_number: int) -> bool:
+    """True for an element outside the π-capable main-group set (H, He, B, C, N, O, F, Ne, Si, P, S, Cl, Ar,
+    As, Se, Br, Kr, Te, I, Xe, At, Rn): metals and semi-metals that the Hückel parameters here do not cover."""
+    return int(atomic_number) not in _NONMETALS
+
+
+def _donated(atom) -> int:
+    """Dative bonds the atom donates (its lone pair goes into the bond: two of its electrons, not one)."""
+    return sum(1 for b in atom.GetBonds() if b.GetBondType() == Chem.BondType.DATIVE
+               and b.GetBeginAtomIdx() == atom.GetIdx())
+
+
 def _pi_count(atom) -> int | None:
-    """π electrons of an atom with one p orbital in the π system, or None if not a π centre."""
+    """π electrons of an atom with one p orbital in the π system, or None if not a π centre.
+
+    Every σ bond takes one of the atom's electrons, a dative bond it donates takes two (N→Zn in a metal
+    porphyrin drawn with dative bonds: the imine N keeps one π electron, as in the free base)."""
     sym = _ELEMENTS.get(atom.GetAtomicNum())
     if sym is None:
         return None
     nsig = atom.GetTotalDegree()
-    n_nb = _PT.GetNOuterElecs(atom.GetAtomicNum()) - atom.GetFormalCharge() - nsig
+    n_nb = _PT.GetNOuterElecs(atom.GetAtomicNum()) - atom.GetFormalCharge() - nsig - _donated(atom)
     if atom.GetHybridization() == Chem.HybridizationType.SP:
         free = 2 - nsig
         if free < 0 or (n_nb - 2 * free) % 2:
@@ -192,8 +223,9 @@ def _p_axes(mol, xyz: np.ndarray, atoms, bonds) -> tuple[np.ndarray, list[str]]:
              for a, h in zip(atoms, height) if h > _PYRAMID_WARN_A]
     if twist is not None:
         i, j = atoms[lb[twist, 0]], atoms[lb[twist, 1]]
-        notes.append(f"Möbius-type twist: p-orbital phase reverses around a ring at bond ({i}, {j}); "
-                     "Hückel topology (|cos|) used")
+        notes.append(f"{MOBIUS_NOTE}: p-orbital phase reverses around a ring at bond ({i}, {j}); the Hückel "
+                     "matrix keeps the sign of the overlap, so that ring follows the Möbius rule (Heilbronner "
+                     "1964: 4n π electrons diatropic, 4n+2 paratropic)")
     return axes, notes
 
 
@@ -280,11 +312,64 @@ def perceive_pi(mol, coords=None) -> PiSystem:
         for f, d in zip(frags, dev):
             if d > _PLANAR_TOL_A:
                 notes.append(f"non-planar π fragment of {len(f)} atoms: largest deviation from its plane {d:.2f} Å")
+    metals, face_on, more = _metal_binding(mol, xyz, atoms)
+    notes.extend(more)
     return PiSystem(atoms=atoms, bonds=bonds, electrons=electrons, n_electrons=n_el, atom_types=types,
                     fragments=frags, warnings=tuple(notes), core_charges=cores,
                     charge=int(sum(cores) - n_el), bond_kekule=tuple(orders[b] for b in bonds),
                     radical=bool(n_el % 2), bond_overlap=overlap, fragment_max_deviation_A=dev,
-                    fragment_planar=planar)
+                    fragment_planar=planar, metals=metals, face_on_metals=face_on)
+
+
+def _metal_binding(mol, xyz, atoms) -> tuple[tuple[int, ...], tuple[int, ...], list[str]]:
+    """Metals, the metals bound to the face of the π system, and notes on both.
+
+    A metal is *in-plane* (σ, κ) bound when it is bonded to π atoms along their σ framework (the N of a
+    metal porphyrin, a bipyridine): it is kept outside the π system and its bonds count as σ bonds. It is
+    *face-on* (η) bound when two of its bonded heavy atoms are bonded to each other (η², ..., ηⁿ; a ferrocene or
+    an alkene complex drawn with metal–carbon bonds) or, with coordinates, a metal–π-atom bond lies within 45°
+    of that atom's p axis: the metal's d orbitals then mix with the π levels, which this Hückel model does not
+    contain (common practice, no source).
+    """
+    metals = tuple(a.GetIdx() for a in mol.GetAtoms() if is_metal(a.GetAtomicNum()))
+    notes: list[str] = []
+    face_on = []
+    where = {a: k for k, a in enumerate(atoms)}
+    for m in metals:
+        atom = mol.GetAtomWithIdx(m)
+        heavy = [n.GetIdx() for n in atom.GetNeighbors() if n.GetAtomicNum() > 1 and not is_metal(n.GetAtomicNum())]
+        name = f"{atom.GetSymbol()} (atom {m})"
+        if not heavy:
+            if atom.GetDegree() == 0:
+                notes.append(f"metal {name} is not bonded to anything in the input: the π system is that of the "
+                             "free ligand(s) with their formal charges")
+            continue
+        eta = sorted({a for i, a in enumerate(heavy) for b in heavy[i + 1:]
+                      if mol.GetBondBetweenAtoms(a, b) is not None for a in (a, b)})
+        along = []
+        if xyz is not None:
+            for n in heavy:
+                # the p axis of the ligand atom from its own σ framework (the metal left out): the normal of
+                # the plane of the atom and two of its other neighbours
+                others = [b.GetIdx() for b in mol.GetAtomWithIdx(n).GetNeighbors() if not is_metal(b.GetAtomicNum())]
+                if n not in where or len(others) < 2:
+                    continue
+                axis = np.cross(xyz[others[0]] - xyz[n], xyz[others[1]] - xyz[n])
+                v = xyz[m] - xyz[n]
+                norm = float(np.linalg.norm(axis) * np.linalg.norm(v))
+                if norm > 1e-12 and abs(float(np.dot(v, axis))) > _FACE_ON_COS * norm:
+                    along.append(n)
+        if eta or along:
+            face_on.append(m)
+            why = (f"η{len(eta)} to atoms {eta}" if eta else f"bonded along the p axis of atom(s) {along}")
+            notes.append(f"{METAL_FACE_NOTE}: {name} is {why}; its d orbitals mix with the π levels, which this "
+                         "Hückel model does not contain, so no current is given")
+        else:
+            pin = [n for n in heavy if n in where]
+            if pin:
+                notes.append(f"metal {name} is bonded in the π plane to π atoms {pin}: kept outside the π system, "
+                             "its bonds counted as σ bonds (a dative bond takes the donor's lone pair)")
+    return metals, tuple(face_on), notes
 
 
 def huckel_class(n_electrons) -> str:
@@ -292,6 +377,36 @@ def huckel_class(n_electrons) -> str:
     if isinstance(n_electrons, bool) or not isinstance(n_electrons, (int, np.integer)) or n_electrons < 0:
         raise InputError(f"n_electrons: expected a non-negative integer, got {n_electrons!r}")
     return "odd" if n_electrons % 2 else ("4n+2" if n_electrons % 4 == 2 else "4n")
+
+
+def circuit_topology(pi: PiSystem, mol, coords, circuit_atoms) -> str:
+    """"mobius" when the p-orbital phase reverses an odd number of times around the circuit, else "huckel".
+
+    The parity is the sign of the product of the cosines between consecutive p-orbital axes around the ring
+    (each axis enters twice, so the arbitrary sign of an axis cancels; Heilbronner, Tetrahedron Lett. 1964, 5,
+    1923). ``coords`` (n_atoms, 3), Å, one conformer; ``circuit_atoms`` π atoms in ring order.
+    """
+    _v.molecule(mol)
+    xyz = _v.coordinates(mol, coords, required=True)
+    cyc = _check_circuit(pi, circuit_atoms, "circuit_atoms", closed=True)
+    axes = orbital_axes(pi, mol, xyz)
+    idx = {a: k for k, a in enumerate(pi.atoms)}
+    dots = [float(np.dot(axes[idx[a]], axes[idx[b]])) for a, b in zip(cyc, cyc[1:] + cyc[:1])]
+    return "mobius" if sum(d < 0 for d in dots) % 2 else "huckel"
+
+
+def expected_tropicity(n_electrons, topology: str = "huckel") -> str:
+    """The ring-current rule for a circuit: "diatropic", "paratropic" or "open shell" (odd count).
+
+    Hückel topology: 4n+2 diatropic, 4n paratropic; Möbius topology the reverse (Heilbronner, Tetrahedron
+    Lett. 1964, 5, 1923).
+    """
+    cls = huckel_class(n_electrons)
+    if topology not in ("huckel", "mobius"):
+        raise InputError(f"topology: expected 'huckel' or 'mobius', got {topology!r}")
+    if cls == "odd":
+        return "open shell"
+    return "diatropic" if (cls == "4n+2") == (topology == "huckel") else "paratropic"
 
 
 def _check_circuit(pi: PiSystem, circuit, name: str, closed: bool = False) -> tuple[int, ...]:

@@ -39,6 +39,8 @@ from ringshift.io.frames import (
     Frame,
     FrameStream,
     TrajectoryWarning,
+    bond_length_limits,
+    broken_bond,
     iter_sdf_records,
     iter_xyz_frames,
 )
@@ -163,6 +165,22 @@ def _frames(frames, energies_kcal_mol) -> Iterator[Frame]:
         yield fr if isinstance(fr, Frame) else Frame(k + 1, np.asarray(fr, dtype=np.float64))
 
 
+def _intact(frames: Iterator[Frame], mol, source) -> Iterator[Frame]:
+    """The frames whose bonds are all intact (:func:`ringshift.io.frames.broken_bond`); a frame with a broken
+    bond is skipped with a TrajectoryWarning naming it (an error for a strict stream), never averaged in."""
+    bonds, limits = bond_length_limits(mol)
+    n = mol.GetNumAtoms()
+    for fr in frames:
+        why = broken_bond(mol, bonds, limits, fr.coords) if np.shape(fr.coords) == (n, 3) else None
+        if why is None:
+            yield fr
+        elif isinstance(source, FrameStream):
+            source._skip(fr.number, f"frame {fr.number}: {why}", str(source.path))
+        else:
+            warnings.warn(TrajectoryWarning(f"frame {fr.number}: {why}; skipped, the other frames are used"),
+                          stacklevel=3)
+
+
 def _check_options(template, model, currents, memory_MB, weights, temperature_K):
     if not isinstance(template, Structure):
         raise InputError(f"expected a Structure (or frames from iter_xyz_frames/iter_sdf_records), got "
@@ -268,7 +286,7 @@ def predict_trajectory(template: Structure | None, frames, *, model: str = DEFAU
     with warnings.catch_warnings(record=True) as caught:
         warnings.simplefilter("always", GeometryWarning)
         warnings.simplefilter("always", TrajectoryWarning)
-        it = _frames(frames, energies_kcal_mol)
+        it = _intact(_frames(frames, energies_kcal_mol), mol, frames)
         while True:
             items = list(itertools.islice(it, chunk))
             if not items:

@@ -29,7 +29,7 @@ from ringshift.constants import (
 from ringshift.errors import GeometryWarning, InputError
 from ringshift.fields.registry import BAND_MODELS, MODEL_DESCRIPTIONS, geometric_factors
 from ringshift.geometry.circuits import Circuit, CircuitGeometry, circuit_geometry, find_circuits
-from ringshift.io.structures import Structure
+from ringshift.io.structures import Structure, isotope_note, proton_indices
 from ringshift.pi.huckel import SCF_NO_SOLUTION_NOTE
 from ringshift.pi.huckel import huckel as _pisystem_huckel
 from ringshift.pi.london import (
@@ -251,7 +251,9 @@ def predict(structure: Structure, *, model: str = DEFAULT_MODEL, currents: str =
     width_A = _v.real(0.0 if width_A is None else width_A, "width_A", nonneg=True) if banded else 0.0
     height_width_A = (_v.real(0.0 if height_width_A is None else height_width_A, "height_width_A", nonneg=True)
                       if banded else 0.0)
-    h_idx = [a.GetIdx() for a in mol.GetAtoms() if a.GetAtomicNum() == 1]
+    h_idx = proton_indices(mol)                    # ¹H only: ²H/³H are not protons of the spectrum
+    if isotope_note(mol):
+        notes.append(isotope_note(mol))
     with warnings.catch_warnings(record=True) as caught:
         warnings.simplefilter("always", GeometryWarning)
         # per-circuit factors; the network model's total is replaced below, its breakdown uses the face loops
@@ -294,7 +296,7 @@ def predict(structure: Structure, *, model: str = DEFAULT_MODEL, currents: str =
                               for c, geo in zip(perims, pgeoms))
     if not loops:
         notes.append("no conjugated ring: all ring-current contributions are zero")
-    if not h_idx:
+    if not h_idx and not isotope_note(mol):
         notes.append("the molecule has no hydrogens: nothing to predict")
 
     refs = reference_shifts(mol, reference_table, h_idx) if h_idx else {}

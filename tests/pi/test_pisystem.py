@@ -605,7 +605,8 @@ def test_radicals_fragments_and_no_pi_system_do_not_crash():
     pi = perceive_pi(m, xyz)
     assert pi.radical and any("radical" in w for w in pi.warnings)
     lc = london_currents(pi, m, xyz, _rings(m))
-    assert lc.open_shell and lc.status == "ok" and np.all(np.isfinite(lc.circuit_currents_rel))
+    # any open shell gets no number (README: open shells are reported, never given a current)
+    assert lc.open_shell and lc.circuit_currents_rel is None and lc.status.startswith("open shell: odd")
     m, xyz = _ring(5, "[CH]1C=CC=C1")  # cyclopentadienyl radical: degenerate partly filled HOMO
     lc = london_currents(perceive_pi(m, xyz), m, xyz, [list(range(5))])
     assert lc.open_shell and lc.circuit_currents_rel is None and "open shell" in lc.status
