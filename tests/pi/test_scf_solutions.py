@@ -200,3 +200,52 @@ def test_bond_length_alternation_and_energy_units():
     # Mean |Δr| of bonds sharing an atom; 1 eV = 23.0605 kcal/mol (CODATA).
     assert bond_length_alternation([1.35, 1.45, 1.35, 1.45], [(0, 1), (1, 2), (2, 3), (3, 0)]) == pytest.approx(0.1)
     assert KCAL_PER_MOL_PER_EV == pytest.approx(23.0605, abs=1e-4)
+
+
+# ------------------------------------------------------------------ Kekulé-mode average (ringshift.pi.kekule_mode)
+def test_mode_density_matches_the_harmonic_ground_state():
+    # Textbook: the ground state of V = ½ k q² has a Gaussian density with <q²> = ħ/(2 M ω), ω = (k/M)^½, and the
+    # first excitation ħω. The module's own grid; tolerance 1 % (second-order finite differences). The mode is
+    # as soft as the softest measured (about 530 cm⁻¹; [18]annulene's double well 460 cm⁻¹).
+    from scipy import constants as sc
+
+    from ringshift.pi.kekule_mode import KEKULE_GRID_POINTS, KEKULE_Q_MAX_A, mode_density
+
+    q = np.linspace(-KEKULE_Q_MAX_A, KEKULE_Q_MAX_A, KEKULE_GRID_POINTS)
+    k_ev_a2, mass = 20.0, 19.5  # invented, synthetic: eV/Å², amu
+    p, gap = mode_density(q, 0.5 * k_ev_a2 * q ** 2, mass, 0.0)
+    omega = np.sqrt(k_ev_a2 * sc.e / 1e-20 / (mass * sc.atomic_mass))
+    assert p @ q ** 2 == pytest.approx(sc.hbar / (2 * mass * sc.atomic_mass * omega) * 1e20, rel=0.01)
+    assert gap == pytest.approx(sc.hbar * omega / (sc.h * sc.c * 100), rel=0.01)
+
+
+def test_benzene_kekule_mode_frequency_and_unit_current():
+    # The model's Kekulé coordinate of benzene (frozen cut through the Longuet-Higgins–Salem energy, mass Σm/4)
+    # against the observed b2u Kekulé mode, 1309 cm⁻¹ (ν14; Herzberg, Infrared and Raman Spectra, 1945, from
+    # memory): measured 1756 cm⁻¹, the cut is stiffer than the real mode (which mixes in CCH bending), so the
+    # zero-point amplitude is if anything too small. Tolerance 40 %. Benzene's averaged current stays exactly
+    # the unit (the average is normalised by benzene's own; 1e-6, the density cut-off of the current grid).
+    m, xyz = _ring(6)
+    pi = perceive_pi(m, xyz)
+    lc = london_currents(pi, m, xyz, [list(range(6))], beta_model="scf", kekule_average_K=298.15)
+    assert lc.kekule is not None and lc.kekule.averaged.all()
+    assert lc.kekule.gap_cm1[0] == pytest.approx(1309.0, rel=0.40)
+    assert lc.circuit_currents_rel[0] == pytest.approx(1.0, abs=1e-6)
+
+
+def test_kekule_average_of_a_soft_14_ring_lowers_its_current():
+    # [14]annulene (regular polygon) sits at the stability limit of the "scf" line (S_c = 0.1991 Å against
+    # S = 0.1988 Å; ringshift.pi.bond_lengths): its Kekulé potential is nearly quartic and the current falls on
+    # both sides of q = 0 (Pople & Untch, J. Am. Chem. Soc. 1966, 88, 4811, from memory: alternation lowers the
+    # current), so the zero-point average lies below the current at the minimum. The cold (0 K) and room-
+    # temperature averages differ by little against that drop (the mode's first excitation is far above kT).
+    m, xyz = _ring(14)
+    pi = perceive_pi(m, xyz)
+    at_min = london_currents(pi, m, xyz, [list(range(14))], beta_model="scf").circuit_currents_rel[0]
+    cold = london_currents(pi, m, xyz, [list(range(14))], beta_model="scf", kekule_average_K=0.0)
+    warm = london_currents(pi, m, xyz, [list(range(14))], beta_model="scf", kekule_average_K=298.15)
+    assert cold.circuit_currents_rel[0] < 0.95 * at_min
+    assert abs(warm.circuit_currents_rel[0] - cold.circuit_currents_rel[0]) < 0.2 * (at_min - cold.circuit_currents_rel[0])
+    assert cold.kekule.rms_q_A[0] > 0.01
+    # no average for a model without an energy
+    assert london_currents(pi, m, xyz, [list(range(14))], beta_model="distance", kekule_average_K=298.15).kekule is None
