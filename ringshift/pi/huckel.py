@@ -155,17 +155,18 @@ def shared_ring_overlap(pi: PiSystem, mol, local_bonds, overlap) -> np.ndarray:
     where = {a: k for k, a in enumerate(pi.atoms)}
     sums, counts = np.zeros(len(ov)), np.zeros(len(ov))
     for circ in find_circuits(mol, pi.atoms, pi.bonds):
-        loc = [where.get(a) for a in circ.atoms]
-        if any(x is None for x in loc):
+        if any(a not in where for a in circ.atoms):
             continue
         try:
             if circuit_electrons(pi, circ.atoms, mol) % 4 != 2:
                 continue
         except InputError:
             continue
-        idx = [pos.get((min(a, b), max(a, b))) for a, b in zip(loc, loc[1:] + loc[:1])]
-        if any(x is None for x in idx):
+        loc = [where[a] for a in circ.atoms]
+        pairs = [(min(a, b), max(a, b)) for a, b in zip(loc, loc[1:] + loc[:1])]
+        if any(pr not in pos for pr in pairs):
             continue
+        idx = np.array([pos[pr] for pr in pairs], dtype=np.intp)
         sums[idx] += float(np.mean(ov[idx]))
         counts[idx] += 1
     return np.where(counts > 0, sums / np.maximum(counts, 1), ov)
