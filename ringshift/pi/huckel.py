@@ -201,7 +201,8 @@ def huckel(pi: PiSystem, mol, coords=None, *, beta_model: str = "distance",
     coords : (n_atoms, 3) array_like, Å; required for every beta_model except "uniform"
         Used for β(r) ("distance") and for the p-orbital alignment factor |cos ω| of every bond
         (β scaled by |cos| of the angle between the two p-orbital axes; the cosine law for twisted π
-        bonds, common practice, no source).
+        bonds, common practice, no source); within a (4n+2)-electron circuit the circuit's mean factor
+        (:func:`shared_ring_overlap`).
     beta_model : "uniform" | "distance" | "scf" | "scf-coulson", keyword-only (see :mod:`ringshift.pi.huckel`)
     distortion : float, optional, keyword-only
         Explicit bond alternation δ (|δ| < 1): β × (1 + δ) for the Kekulé double bonds, × (1 − δ)
@@ -227,7 +228,8 @@ def huckel(pi: PiSystem, mol, coords=None, *, beta_model: str = "distance",
               "bond_order_length": ({"relation": f"r = {SCF_RELATIONS[beta_model][0]:.4f} - "
                                      f"{SCF_RELATIONS[beta_model][1]:.4f} p", "source": SCF_RELATIONS[beta_model][2]}
                                     if beta_model in SCF_RELATIONS else None),
-              "overlap": "|cos| of POAV-type p-orbital axes" if xyz is not None else "none (no coordinates)",
+              "overlap": ("|cos| of POAV-type p-orbital axes, shared within (4n+2) circuits" if xyz is not None
+                          else "none (no coordinates)"),
               "distortion": distortion}
     if beta_model == "uniform":
         return _assemble(pi, lb, hd, frags, f_elec, k * dist * ov, None, beta_model, params)
