@@ -98,7 +98,11 @@ def run_one(mol, route: str, models: list[str], predict_options: dict | None = N
         try:
             with warnings.catch_warnings(record=True) as caught:
                 warnings.simplefilter("always")
-                pred = ringshift.predict(structure, model=model, **(predict_options or {}))
+                if predict_options:  # options the public API does not expose: the pipeline's own predict
+                    from ringshift.shifts.prediction import predict as pipeline_predict
+                    pred = pipeline_predict(structure, model=model, **predict_options)
+                else:
+                    pred = ringshift.predict(structure, model=model)
         except Exception as exc:
             rec.update(failure=f"predict: {type(exc).__name__}: {exc}", seconds=load_s + time.perf_counter() - t1,
                        traceback=traceback.format_exc(limit=3))
