@@ -42,6 +42,8 @@ import warnings
 import numpy as np
 
 sys.path.insert(0, str(pathlib.Path(__file__).resolve().parent))
+# measure the checkout this script belongs to, not whatever ringshift the interpreter has installed
+sys.path.insert(1, str(pathlib.Path(__file__).resolve().parent.parent))
 from accuracy.scoring import CATEGORIES, SPLITS, load_published, sorted_match_mae, verdict_from_currents
 
 import ringshift
