@@ -80,13 +80,14 @@ from ringshift.pi.perception import (
     PiSystem,
     _frozen,
     _p_axes,
+    circuit_electrons,
 )
 
 #: Opening words of the warning of a self-consistent step that found no stable solution (read by predict).
 SCF_NO_SOLUTION_NOTE = "scf bond lengths: no stable closed-shell self-consistent solution"
 
 __all__ = ['SCF_NO_SOLUTION_NOTE', 'HuckelResult', 'huckel', 'beta_distance_factor', 'huckel_matrix', 'occupy',
-           'solve_fragments', 'density_matrix', 'bond_polarizability']
+           'solve_fragments', 'density_matrix', 'bond_polarizability', 'shared_ring_overlap']
 
 
 
@@ -141,6 +142,48 @@ def _hetero_k(ta: str, tb: str) -> float:
     return ka * kb if ta.startswith("C") or tb.startswith("C") else float(np.sqrt(ka * kb))
 
 
+def shared_ring_overlap(pi: PiSystem, mol, local_bonds, overlap) -> np.ndarray:
+    """p-orbital alignment factors with the misalignment of every (4n+2)-electron circuit shared by its bonds.
+
+    A force field with localised single/double bond parameters (MMFF94) puts the torsional strain of a
+    non-planar conjugated ring on the formal single bonds; read back as an alternating β, the imposed pattern
+    locks the self-consistent step into a localised solution (1,6-methano[10]annulene: |cos ω| 0.69–1.00,
+    alternation 0.14 Å and 0.16 × benzene). A (4n+2)-electron perimeter below the alternation onset is
+    delocalised (X-ray of 1,6-methano[10]annulene: Bianchi, Pilati & Simonetta, Acta Cryst. B 1980, 36, 3146,
+    from memory; its GFN2-xTB geometry, Bannwarth, Ehlert & Grimme, J. Chem. Theory Comput. 2019, 15, 1652,
+    spreads the misalignment: |cos ω| 0.89–0.99), so each of its bonds takes the circuit's mean |cos ω| (a bond
+    in several such circuits, the mean of their means). A 4n-electron circuit is genuinely bond-alternated
+    (first-order Jahn–Teller) and keeps its bond-by-bond factors (GFN2-xTB [16]annulene twists four single
+    bonds, |cos ω| 0.83, the others 1.00); so do bonds outside every (4n+2) circuit (biaryl links).
+
+    local_bonds (m, 2) π-local indices; overlap (m,) |cos ω|. Returns (m,).
+    """
+    from ringshift.geometry.circuits import find_circuits  # circuits build on the π graph of this package
+
+    ov = np.asarray(overlap, dtype=np.float64)
+    if not len(ov) or np.all(ov >= 1.0 - 1e-12):
+        return ov
+    pos = {(int(min(i, j)), int(max(i, j))): n for n, (i, j) in enumerate(np.asarray(local_bonds).reshape(-1, 2))}
+    where = {a: k for k, a in enumerate(pi.atoms)}
+    sums, counts = np.zeros(len(ov)), np.zeros(len(ov))
+    for circ in find_circuits(mol, pi.atoms, pi.bonds):
+        if any(a not in where for a in circ.atoms):
+            continue
+        try:
+            if circuit_electrons(pi, circ.atoms, mol) % 4 != 2:
+                continue
+        except InputError:
+            continue
+        loc = [where[a] for a in circ.atoms]
+        pairs = [(min(a, b), max(a, b)) for a, b in zip(loc, loc[1:] + loc[:1])]
+        if any(pr not in pos for pr in pairs):
+            continue
+        idx = np.array([pos[pr] for pr in pairs], dtype=np.intp)
+        sums[idx] += float(np.mean(ov[idx]))
+        counts[idx] += 1
+    return np.where(counts > 0, sums / np.maximum(counts, 1), ov)
+
+
 def _setup(pi: PiSystem, mol, xyz, distortion):
     idx = {a: k for k, a in enumerate(pi.atoms)}
     lb = np.array([(idx[i], idx[j]) for i, j in pi.bonds], dtype=np.intp).reshape(-1, 2)
@@ -151,8 +194,10 @@ def _setup(pi: PiSystem, mol, xyz, distortion):
     if xyz is not None and pi.atoms:
         axes, _ = _p_axes(mol, xyz, pi.atoms, pi.bonds)
         # signed overlap: the axes are oriented along a spanning tree, so a negative cosine remains only on a
-        # bond closing a ring with an odd number of phase inversions (Möbius topology; module notes)
-        ov = np.array([float(np.clip(np.dot(axes[i], axes[j]), -1.0, 1.0)) for i, j in lb])
+        # bond closing a ring with an odd number of phase inversions (Möbius topology; module notes); the
+        # magnitude of a (4n+2)-electron circuit's misalignment is shared by its bonds (shared_ring_overlap)
+        signed = np.array([float(np.clip(np.dot(axes[i], axes[j]), -1.0, 1.0)) for i, j in lb])
+        ov = np.where(signed < 0.0, -1.0, 1.0) * shared_ring_overlap(pi, mol, lb, np.abs(signed))
         ends = np.array(pi.bonds, dtype=np.intp).reshape(-1, 2)
         lengths = np.linalg.norm(xyz[ends[:, 0]] - xyz[ends[:, 1]], axis=1)
     else:
@@ -172,7 +217,8 @@ def huckel(pi: PiSystem, mol, coords=None, *, beta_model: str = "distance",
     coords : (n_atoms, 3) array_like, Å; required for every beta_model except "uniform"
         Used for β(r) ("distance") and for the p-orbital alignment factor cos ω of every bond
         (β scaled by the cosine of the angle between the two tree-oriented p-orbital axes; the cosine law for
-        twisted π bonds, common practice, no source; its sign carries Möbius topology, module notes).
+        twisted π bonds, common practice, no source; its sign carries Möbius topology, module notes); within a
+        (4n+2)-electron circuit the circuit's mean |cos ω| (:func:`shared_ring_overlap`).
     beta_model : "uniform" | "distance" | "scf" | "scf-coulson", keyword-only (see :mod:`ringshift.pi.huckel`)
     distortion : float, optional, keyword-only
         Explicit bond alternation δ (|δ| < 1): β × (1 + δ) for the Kekulé double bonds, × (1 − δ)
@@ -198,7 +244,8 @@ def huckel(pi: PiSystem, mol, coords=None, *, beta_model: str = "distance",
               "bond_order_length": ({"relation": f"r = {SCF_RELATIONS[beta_model][0]:.4f} - "
                                      f"{SCF_RELATIONS[beta_model][1]:.4f} p", "source": SCF_RELATIONS[beta_model][2]}
                                     if beta_model in SCF_RELATIONS else None),
-              "overlap": "|cos| of POAV-type p-orbital axes" if xyz is not None else "none (no coordinates)",
+              "overlap": ("|cos| of POAV-type p-orbital axes, shared within (4n+2) circuits" if xyz is not None
+                          else "none (no coordinates)"),
               "distortion": distortion}
     if beta_model == "uniform":
         return _assemble(pi, lb, hd, frags, f_elec, k * dist * ov, None, beta_model, params)

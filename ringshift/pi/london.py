@@ -91,7 +91,9 @@ class LondonCurrents:
     "uniform". alternatives: the other stable self-consistent solutions ("scf" models), lowest energy first,
     each with its circuit currents (:class:`AlternativeCurrents`). warnings: everything the user must see,
     including a self-consistent step that found no stable solution and solutions that are too close in energy
-    to choose between (with both currents).
+    to choose between (with both currents). kekule: the :class:`ringshift.pi.kekule_mode.KekuleAverage` when the
+    currents were averaged over the Kekulé mode (``kekule_average_K``), else None; circuit_response_rel stays the
+    response at the minimum.
     """
 
     status: str
@@ -115,6 +117,7 @@ class LondonCurrents:
     warnings: tuple[str, ...] = ()
     bla_A: float | None = None
     alternatives: tuple[AlternativeCurrents, ...] = ()
+    kekule: object | None = None
 
 
 @dataclass(frozen=True, eq=False)
@@ -143,7 +146,7 @@ def circuit_normals(coords, circuits) -> np.ndarray:
 
 def london_currents(pi: PiSystem, mol, coords, circuits: Sequence[Sequence[int]], normals=None, *,
                     beta_model: str = "distance", distortion: float | None = None,
-                    beta0_eV: float = BETA0_EV) -> LondonCurrents:
+                    beta0_eV: float = BETA0_EV, kekule_average_K: float | None = None) -> LondonCurrents:
     """Hückel–London bond and circuit currents (analytic first-order response, any orientation).
 
     Parameters
@@ -154,6 +157,10 @@ def london_currents(pi: PiSystem, mol, coords, circuits: Sequence[Sequence[int]]
     normals : (n_circuits, 3) array_like, optional; default :func:`circuit_normals`
     beta_model, distortion : as for :func:`huckel`
     beta0_eV : float, keyword-only; β0 in eV for the absolute current (default ``huckel.BETA0_EV``)
+    kekule_average_K : float, optional, keyword-only
+        Temperature (K) at which the circuit and bond currents are averaged over the zero-point and thermal
+        motion of each fragment's Kekulé mode (:mod:`ringshift.pi.kekule_mode`; ``"scf"`` models only, with no
+        explicit distortion); None (default) gives the currents at the self-consistent minimum.
 
     Returns
     -------
@@ -213,12 +220,24 @@ def london_currents(pi: PiSystem, mol, coords, circuits: Sequence[Sequence[int]]
     if out is None:
         return replace(empty, status=open_shell_status(hr, pi), open_shell=True)
     diat, resp, rel, resid, cons = out
+    kek = None
+    if kekule_average_K is not None and beta_model in SCF_RELATIONS and distortion is None:
+        from ringshift.pi.kekule_mode import kekule_mode_average
+
+        def response(h):
+            o = _circuit_response(h, pi, xyz, lb, inc, nrm, g_bz)
+            return None if o is None else (o[0], o[2])
+
+        kek = kekule_mode_average(pi, mol, xyz, hr, response, temperature_K=float(kekule_average_K))
+        if kek is not None:
+            diat, rel = -kek.bond_currents_rel, kek.circuit_currents_rel
     return replace(
         empty, status="ok", open_shell=hr.open_shell,
         bond_currents_rel=_frozen(-diat), bond_currents_nA_per_T=_frozen(-diat * BENZENE_CURRENT_NA_PER_T),
         circuit_response_rel=_frozen(resp), circuit_currents_rel=_frozen(rel),
         circuit_currents_nA_per_T=_frozen(rel * BENZENE_CURRENT_NA_PER_T),
-        circuit_currents_abs_nA_per_T=_frozen(rel * bz_abs), kirchhoff_residual=resid, conservation_residual=cons)
+        circuit_currents_abs_nA_per_T=_frozen(rel * bz_abs), kirchhoff_residual=resid, conservation_residual=cons,
+        kekule=kek)
 
 
 def open_shell_status(hr: HuckelResult, pi: PiSystem) -> str:

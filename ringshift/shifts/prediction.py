@@ -24,6 +24,7 @@ from ringshift.constants import (
     CURRENT_SOURCES,
     DEFAULT_MODEL,
     JB_SEPARATION_A,
+    KEKULE_AVERAGE,
     MODELS,
 )
 from ringshift.errors import GeometryWarning, InputError
@@ -83,13 +84,16 @@ def _circuit_result(circ: Circuit, geo: CircuitGeometry, w: np.ndarray, current:
 
 
 def huckel_london_currents(structure: Structure, pi, loops: Sequence[Circuit], geoms: Sequence[CircuitGeometry],
-                           beta_model: str):
+                           beta_model: str, kekule_average_K: float | None = None):
     """Hückel–London current of every loop in every conformer.
 
     Returns
     -------
     currents : ndarray, shape (n_conf, n_loops)
         nA/T (ratio to benzene with the same parameters × 12 nA/T); 0 where no number exists.
+    kekule_average_K : float, optional
+        Average each conformer's currents over the zero-point and thermal motion of the Kekulé mode at this
+        temperature (K; :mod:`ringshift.pi.kekule_mode`); None: the currents at the self-consistent minimum.
     status : list of str, length n_loops
         ``"ok"`` or the reason there is no number (open shell, ...).
     results : list of LondonCurrents, one per conformer
@@ -103,7 +107,7 @@ def huckel_london_currents(structure: Structure, pi, loops: Sequence[Circuit], g
     for k in range(coords.shape[0]):
         normals = np.array([g.normal[k] for g in geoms])
         lc = london_currents(pi, structure.mol, coords[k], [c.atoms for c in loops], normals,
-                                      beta_model=beta_model)
+                             beta_model=beta_model, kekule_average_K=kekule_average_K)
         results.append(lc)
         if lc.status != "ok":
             status = [lc.status] * len(loops)
@@ -156,7 +160,7 @@ def predict(structure: Structure, *, model: str = DEFAULT_MODEL, currents: str =
             scale: Mapping[str, float] | None = None, set_current: Mapping[str, float] | None = None,
             user_circuits: Sequence[Sequence[int]] | None = None,
             separation_A: float = JB_SEPARATION_A, reference_table=None, width_A: float | None = None,
-            height_width_A: float | None = None) -> Prediction:
+            height_width_A: float | None = None, kekule_average: bool = KEKULE_AVERAGE) -> Prediction:
     """Per-proton ring-current shifts of a structure.
 
     Parameters
@@ -191,6 +195,10 @@ def predict(structure: Structure, *, model: str = DEFAULT_MODEL, currents: str =
         Johnson–Bovey half-separation of the double loops, Å.
     reference_table : ringshift.shifts.reference.ReferenceTable, optional
         Ring-current-free reference shifts by proton class; the packaged table by default.
+    kekule_average : bool
+        With the self-consistent β models, average the Hückel–London currents over the zero-point and thermal
+        motion of the Kekulé (bond-alternation) mode at the structure's temperature
+        (:mod:`ringshift.pi.kekule_mode`); default :data:`ringshift.constants.KEKULE_AVERAGE`.
 
     Returns
     -------
@@ -229,7 +237,8 @@ def predict(structure: Structure, *, model: str = DEFAULT_MODEL, currents: str =
             raise InputError("a given circuit contains atoms outside the pi system; Hueckel-London currents "
                              "need pi atoms (use the 'benzene' current source or give the current yourself)",
                              "user_circuits")
-        cur, hl_status, london = huckel_london_currents(structure, pi, loops, geoms, beta_model)
+        kek_K = float(structure.provenance.get("temperature_K", 298.15)) if kekule_average else None
+        cur, hl_status, london = huckel_london_currents(structure, pi, loops, geoms, beta_model, kek_K)
         sources = [f"huckel-london ({beta_model} beta)" if st == "ok" else "none: " + st for st in hl_status]
         for st in set(hl_status) - {"ok"}:
             notes.append(st)
@@ -340,7 +349,7 @@ def predict(structure: Structure, *, model: str = DEFAULT_MODEL, currents: str =
     prov = {
         "model": model, "model_description": MODEL_DESCRIPTIONS[model],
         "separation_A": separation_A, "width_A": width_A, "height_width_A": height_width_A,
-        "currents": currents, "beta_model": beta_model,
+        "currents": currents, "beta_model": beta_model, "kekule_average": bool(kekule_average),
         "pi_charge_ppm_per_electron": PI_CHARGE_PPM_PER_E,
         "benzene_current_nA_per_T": BENZENE_CURRENT_NA_PER_T,
         "structure": dict(structure.provenance),

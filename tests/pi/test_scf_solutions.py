@@ -62,11 +62,13 @@ def test_two_near_identical_geometries_give_the_same_choice():
 
 
 def test_close_solutions_are_reported_with_both_currents():
-    # Buckled by 0.03 Å, the two Kekulé phases of [18]annulene lie 0.35 kcal/mol apart (< RT at 298 K) with
-    # currents 1.21x and 1.29x benzene (measured): the warning names both; the alternative carries its currents.
-    m, xyz, cyc = _buckled18(0.03)
+    # With an explicit Kekulé bias of 0.04 % on β (distortion 4e-4), the two Kekulé phases of planar [18]annulene
+    # lie 0.41 kcal/mol apart (< RT at 298 K) with currents 1.20x and 1.29x benzene (measured): the warning names
+    # both; the alternative carries its currents. (A buckled ring no longer splits them: the misalignment of a
+    # (4n+2) circuit is shared by its bonds, ringshift.pi.huckel.shared_ring_overlap.)
+    m, xyz, cyc, _, _ = _annulene18()
     pi = perceive_pi(m, xyz)
-    lc = london_currents(pi, m, xyz, [cyc], beta_model="scf")
+    lc = london_currents(pi, m, xyz, [cyc], beta_model="scf", distortion=4e-4)
     alt = lc.alternatives[0]
     assert 0 < alt.energy_above_kcal_per_mol < SCF_CLOSE_KCAL_PER_MOL
     assert abs(alt.circuit_currents_rel[0] - lc.circuit_currents_rel[0]) > 0.02
@@ -114,8 +116,8 @@ def test_energy_is_stationary_at_the_fixed_points_and_the_lowest_is_chosen():
     # ∇E = K f (r − F(r)) (module notes): at a fixed point the finite-difference gradient of E vanishes
     # (central differences, step 1e-5 Å; tolerance 1e-5 eV/Å, truncation). The chosen solution has the lowest
     # energy of all stable solutions found; the saddle (equal bonds of [22]annulene) lies higher.
-    m, xyz, cyc = _buckled18(0.03)
-    h = huckel(perceive_pi(m, xyz), m, xyz, beta_model="scf")
+    m, xyz, cyc, _, _ = _annulene18()
+    h = huckel(perceive_pi(m, xyz), m, xyz, beta_model="scf", distortion=4e-4)
     assert all(a.scf_energy_above_kcal_per_mol >= 0 for a in h.scf_alternatives) and h.scf_alternatives
     s = _ring_search(22)
     model = scf_mod._Model(np.zeros(22), np.array([(i, (i + 1) % 22) for i in range(22)]), np.ones(22),
@@ -200,3 +202,94 @@ def test_bond_length_alternation_and_energy_units():
     # Mean |Δr| of bonds sharing an atom; 1 eV = 23.0605 kcal/mol (CODATA).
     assert bond_length_alternation([1.35, 1.45, 1.35, 1.45], [(0, 1), (1, 2), (2, 3), (3, 0)]) == pytest.approx(0.1)
     assert KCAL_PER_MOL_PER_EV == pytest.approx(23.0605, abs=1e-4)
+
+
+# ------------------------------------------------------------------ Kekulé-mode average (ringshift.pi.kekule_mode)
+def test_mode_density_matches_the_harmonic_ground_state():
+    # Textbook: the ground state of V = ½ k q² has a Gaussian density with <q²> = ħ/(2 M ω), ω = (k/M)^½, and the
+    # first excitation ħω. The module's own grid; tolerance 1 % (second-order finite differences). The mode is
+    # as soft as the softest measured (about 530 cm⁻¹; [18]annulene's double well 460 cm⁻¹).
+    from scipy import constants as sc
+
+    from ringshift.pi.kekule_mode import KEKULE_GRID_POINTS, KEKULE_Q_MAX_A, mode_density
+
+    q = np.linspace(-KEKULE_Q_MAX_A, KEKULE_Q_MAX_A, KEKULE_GRID_POINTS)
+    k_ev_a2, mass = 20.0, 19.5  # invented, synthetic: eV/Å², amu
+    p, gap = mode_density(q, 0.5 * k_ev_a2 * q ** 2, mass, 0.0)
+    omega = np.sqrt(k_ev_a2 * sc.e / 1e-20 / (mass * sc.atomic_mass))
+    assert p @ q ** 2 == pytest.approx(sc.hbar / (2 * mass * sc.atomic_mass * omega) * 1e20, rel=0.01)
+    assert gap == pytest.approx(sc.hbar * omega / (sc.h * sc.c * 100), rel=0.01)
+
+
+def test_benzene_kekule_mode_frequency_and_unit_current():
+    # The model's Kekulé coordinate of benzene (frozen cut through the Longuet-Higgins–Salem energy, mass Σm/4)
+    # against the observed b2u Kekulé mode, 1309 cm⁻¹ (ν14; Herzberg, Infrared and Raman Spectra, 1945, from
+    # memory): measured 1756 cm⁻¹, the cut is stiffer than the real mode (which mixes in CCH bending), so the
+    # zero-point amplitude is if anything too small. Tolerance 40 %. Benzene's averaged current stays exactly
+    # the unit (the average is normalised by benzene's own; 1e-6, the density cut-off of the current grid).
+    m, xyz = _ring(6)
+    pi = perceive_pi(m, xyz)
+    lc = london_currents(pi, m, xyz, [list(range(6))], beta_model="scf", kekule_average_K=298.15)
+    assert lc.kekule is not None and lc.kekule.averaged.all()
+    assert lc.kekule.gap_cm1[0] == pytest.approx(1309.0, rel=0.40)
+    assert lc.circuit_currents_rel[0] == pytest.approx(1.0, abs=1e-6)
+
+
+def test_kekule_average_of_a_soft_14_ring_lowers_its_current():
+    # [14]annulene (regular polygon) sits at the stability limit of the "scf" line (S_c = 0.1991 Å against
+    # S = 0.1988 Å; ringshift.pi.bond_lengths): its Kekulé potential is nearly quartic and the current falls on
+    # both sides of q = 0 (Pople & Untch, J. Am. Chem. Soc. 1966, 88, 4811, from memory: alternation lowers the
+    # current), so the zero-point average lies below the current at the minimum. The cold (0 K) and room-
+    # temperature averages differ by little against that drop (the mode's first excitation is far above kT).
+    m, xyz = _ring(14)
+    pi = perceive_pi(m, xyz)
+    at_min = london_currents(pi, m, xyz, [list(range(14))], beta_model="scf").circuit_currents_rel[0]
+    cold = london_currents(pi, m, xyz, [list(range(14))], beta_model="scf", kekule_average_K=0.0)
+    warm = london_currents(pi, m, xyz, [list(range(14))], beta_model="scf", kekule_average_K=298.15)
+    j_cold, j_warm = cold.circuit_currents_rel[0], warm.circuit_currents_rel[0]
+    assert j_cold < 0.95 * at_min
+    assert abs(j_warm - j_cold) < 0.2 * (at_min - j_cold)
+    assert cold.kekule.rms_q_A[0] > 0.01
+    # no average for a model without an energy
+    assert london_currents(pi, m, xyz, [list(range(14))], beta_model="distance", kekule_average_K=298.15).kekule is None
+
+
+# ------------------------------------------------------------ shared misalignment (ringshift.pi.huckel)
+def test_misalignment_of_a_4n2_circuit_is_shared_and_of_a_4n_circuit_kept():
+    # shared_ring_overlap: every bond of a (4n+2)-electron circuit takes the circuit's mean |cos ω| (identity,
+    # 1e-12); a 4n circuit keeps its bond-by-bond values. Buckled rings from a fixed pattern (synthetic).
+    from ringshift.pi.huckel import shared_ring_overlap
+    from ringshift.pi.perception import _p_axes
+
+    for n, shared in ((18, True), (16, False)):
+        m, xyz = _ring(n)
+        xyz = xyz.copy()
+        xyz[:n, 2] = 0.25 * np.random.default_rng(3).normal(size=n)
+        pi = perceive_pi(m, xyz)
+        axes = _p_axes(m, xyz, pi.atoms, pi.bonds)[0]
+        lb = np.array([(pi.atoms.index(i), pi.atoms.index(j)) for i, j in pi.bonds])
+        raw = np.array([min(1.0, abs(axes[i] @ axes[j])) for i, j in lb])
+        out = shared_ring_overlap(pi, m, lb, raw)
+        assert np.ptp(raw) > 0.01
+        assert_allclose(out, raw.mean() if shared else raw, atol=1e-12)
+
+
+def test_methano10annulene_force_field_geometry_is_delocalised_and_diatropic():
+    # 1,6-Methano[10]annulene is diatropic (perimeter H 6.9-7.3 ppm, bridge CH2 -0.5 ppm; Vogel & Roth, Angew.
+    # Chem. Int. Ed. Engl. 1964, 3, 228) with nearly equal perimeter bonds (X-ray 1.38-1.42 Å; Bianchi, Pilati &
+    # Simonetta, Acta Cryst. B 1980, 36, 3146; both from memory). On the MMFF94 geometry, whose twist sits on the
+    # formal single bonds, the step used to localise it (alternation 0.14 Å, 0.16 x benzene); with the shared
+    # misalignment: alternation below 0.02 Å and above half the benzene current (measured 0.000 Å, 1.11x).
+    import warnings
+
+    from ringshift.geometry.circuits import find_circuits
+    from ringshift.io.structures import load_structure
+
+    with warnings.catch_warnings():
+        warnings.simplefilter("ignore")
+        st = load_structure("C12=CC=CC=C(C2)C=CC=C1", seed=42)
+    xyz = st.coords[0]
+    pi = perceive_pi(st.mol, xyz)
+    loops = [c.atoms for c in find_circuits(st.mol, pi.atoms, pi.bonds) if c.carries_loop]
+    lc = london_currents(pi, st.mol, xyz, loops, beta_model="scf")
+    assert lc.bla_A < 0.02 and lc.circuit_currents_rel[0] > 0.5
