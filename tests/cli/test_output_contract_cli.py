@@ -152,7 +152,7 @@ def test_an_os_error_is_exit_2_naming_the_path(work, capsys, monkeypatch):
 
 
 LEAKS = [
-    ("no-hydrogen-compare", "ClC1=C(Cl)C(Cl)=C(Cl)C(Cl)=C1Cl", "no hydrogen atom"),
+    ("no-hydrogen-compare", "ClC1=C(Cl)C(Cl)=C(Cl)C(Cl)=C1Cl", "has no hydrogens"),
 ]
 
 

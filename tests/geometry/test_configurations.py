@@ -10,7 +10,7 @@ import pytest
 from rdkit import Chem
 from rdkit.Chem.EnumerateStereoisomers import EnumerateStereoisomers, StereoEnumerationOptions
 
-from ringshift.cli import CONFIGURATION_CHOICES
+from ringshift.cli_spectra import CONFIGURATION_CHOICES
 from ringshift.errors import GeometryWarning, InputError
 from ringshift.geometry.configurations import (
     CONFIGURATION_MODES,
