@@ -140,14 +140,15 @@ def _structure(structure, load: Mapping[str, object]) -> Structure:
 def _named(result, name: str | None):
     """``result`` (a Structure, Prediction or CompareResult) with the compound's name ``name`` in its structure:
     ``Structure.name`` (what every title shows) and ``Structure.label`` (the given name, for the JSON)."""
+    import sys
     from dataclasses import replace
 
-    from ringshift.comparison.run import CompareResult
     from ringshift.shifts.records import Prediction
 
     if name is None or result is None:
         return result
-    if isinstance(result, CompareResult):
+    run = sys.modules.get("ringshift.comparison.run")  # not loaded: result cannot be a CompareResult (start-up)
+    if run is not None and isinstance(result, run.CompareResult):
         return replace(result, prediction=_named(result.prediction, name))
     if isinstance(result, Prediction):
         return replace(result, structure=_named(result.structure, name))

@@ -1,17 +1,26 @@
 """Physical and model constants, each with its source.
 
-Physical constants come from :mod:`scipy.constants` (CODATA). Model constants are the vetted values of
-the project's design notes; "from memory" marks a value recalled rather than re-read from the paper.
+Physical constants are CODATA 2022 values written out as literals, equal to :mod:`scipy.constants` (a test
+compares them), so that importing this module does no work and loads no SciPy (start-up time of the
+command). Model constants are the vetted values of the project's design notes; "from memory" marks a value
+recalled rather than re-read from the paper.
 """
 
 from __future__ import annotations
 
-from scipy import constants as _sc
+#: CODATA 2022 (exact SI values for e, ħ, N_A and k_B; μ0 and E_h measured): scipy.constants.e, hbar, N_A,
+#: R, mu_0 and physical_constants["Hartree energy"].
+ELEMENTARY_CHARGE_C: float = 1.602176634e-19
+HBAR_J_S: float = 1.0545718176461565e-34
+AVOGADRO_PER_MOL: float = 6.02214076e23
+GAS_CONSTANT_J_PER_MOL_K: float = 8.31446261815324
+MU0_T_M_PER_A: float = 1.25663706127e-06
+HARTREE_J: float = 4.359744722206e-18
 
 #: μ0 × (1 nA/T) expressed in ppm·Å. A current susceptibility J (nA/T) in a field B induces a current
 #: I = J·B; its field at distance r scales as μ0 I / r, so μ0·J is a length, and
 #: 4π×1e-7 T·m/A × 1e-9 A/T = 1.2566e-15 m = 1.2566e-5 Å = 12.566 ppm·Å.
-MU0_PPM_A_PER_NA_T: float = _sc.mu_0 * 1e-9 * 1e10 * 1e6
+MU0_PPM_A_PER_NA_T: float = MU0_T_M_PER_A * 1e-9 * 1e10 * 1e6
 
 #: Net ring-current susceptibility of benzene, nA/T. Ab initio value ≈ 11.8–12 nA/T
 #: (Fliegl, Sundholm, Taubert, Jusélius, Klopper, J. Phys. Chem. A 2009, 113, 8668; from memory).
@@ -28,14 +37,13 @@ WIRE_CUTOFF_A: float = 0.2
 #: (design notes §5).
 FAR_FIELD_RADII: float = 10.0
 
-#: Boltzmann constant in kcal/(mol·K) (CODATA R / 4184 J/kcal, via scipy.constants).
-KB_KCAL_PER_MOL_K: float = _sc.R / 4184.0
+#: Boltzmann constant in kcal/(mol·K) (CODATA R / 4184 J/kcal).
+KB_KCAL_PER_MOL_K: float = GAS_CONSTANT_J_PER_MOL_K / 4184.0
 
-#: Energy conversions to kcal/mol: thermochemical calorie (4.184 J); Hartree and electronvolt from CODATA
-#: via scipy.constants.
+#: Energy conversions to kcal/mol: thermochemical calorie (4.184 J); Hartree and electronvolt from CODATA.
 KCAL_PER_KJ: float = 1.0 / 4.184
-KCAL_PER_HARTREE: float = _sc.physical_constants["Hartree energy"][0] * _sc.N_A / 4184.0
-KCAL_PER_EV: float = _sc.e * _sc.N_A / 4184.0
+KCAL_PER_HARTREE: float = HARTREE_J * AVOGADRO_PER_MOL / 4184.0
+KCAL_PER_EV: float = ELEMENTARY_CHARGE_C * AVOGADRO_PER_MOL / 4184.0
 
 #: The one list of the names of the shielding models, the a priori current sources (a trajectory may also
 #: recompute Hückel–London currents per frame) and the resonance-integral models; kept here, free of heavy

@@ -37,7 +37,6 @@ from __future__ import annotations
 import os
 
 import numpy as np
-from scipy.spatial import cKDTree
 
 from ringshift.errors import InputError
 
@@ -193,9 +192,26 @@ def check_coordinates(coords, symbols, source: str, *, unit: str = "frame") -> N
         if np.max(np.ptp(xf, axis=0)) < MIN_EXTENT_A:
             raise InputError(f"all {xf.shape[0]} atoms lie within {MIN_EXTENT_A:g} Å of each other; expected "
                              "coordinates in Å (all zero, or written in another unit?)", where)
-        pairs = cKDTree(xf).query_pairs(MIN_ATOM_DISTANCE_A, output_type="ndarray")
+        pairs = _close_pairs(xf, MIN_ATOM_DISTANCE_A)
         if pairs.size:
             d = np.linalg.norm(xf[pairs[:, 0]] - xf[pairs[:, 1]], axis=1)
             i, j = sorted(int(v) for v in pairs[int(np.argmin(d))])
             raise InputError(f"atoms {name(i)} and {name(j)} (0-based) are {d.min():.3f} Å apart; expected at "
                              f"least {MIN_ATOM_DISTANCE_A:g} Å (a duplicated or misplaced atom?)", where)
+
+
+def _close_pairs(x: np.ndarray, r_A: float) -> np.ndarray:
+    """(k, 2) index pairs i < j of the points x (n, 3) Å closer than ``r_A``: a direct distance check in
+    row blocks for ordinary molecules (no SciPy import at start-up), a k-d tree for very large ones."""
+    n = x.shape[0]
+    if n > 2000:
+        from scipy.spatial import cKDTree
+
+        return cKDTree(x).query_pairs(r_A, output_type="ndarray")
+    out = []
+    for lo in range(0, n, 256):
+        d2 = np.sum((x[lo:lo + 256, None, :] - x[None, :, :]) ** 2, axis=2)
+        i, j = np.nonzero(d2 < r_A * r_A)
+        keep = (i + lo) < j
+        out.append(np.stack([i[keep] + lo, j[keep]], axis=1))
+    return np.concatenate(out) if out else np.zeros((0, 2), dtype=int)

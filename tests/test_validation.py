@@ -133,3 +133,19 @@ def test_a_file_error_names_the_parameter_that_fixes_it(tmp_path, capsys):
     with pytest.raises(SystemExit):
         main(["predict", str(path)])
     assert "(option --charge)" in capsys.readouterr().err
+
+
+def test_close_pairs_match_scipy_kdtree():
+    # outside reference: scipy.spatial.cKDTree.query_pairs on random clouds with planted close pairs
+    import numpy as np
+    from scipy.spatial import cKDTree
+
+    from ringshift.limits import _close_pairs
+
+    rng = np.random.default_rng(3)
+    for n in (2, 300, 700):
+        x = rng.uniform(0, 0.9 * n ** (1 / 3) * 2, size=(n, 3))
+        x[n // 2] = x[0] + 0.1
+        got = {tuple(p) for p in _close_pairs(x, 0.5).tolist()}
+        ref = {tuple(sorted(p)) for p in cKDTree(x).query_pairs(0.5, output_type="ndarray").tolist()}
+        assert got == ref and (0, n // 2) in got

@@ -40,8 +40,6 @@ import math
 from dataclasses import dataclass
 
 import numpy as np
-from scipy import linalg
-from scipy.special import log_ndtr, ndtr
 
 from ringshift.comparison.records import CircuitEvidence, CircuitFit, ClaimCheck
 from ringshift.constants import BENZENE_CURRENT_NA_PER_T
@@ -125,6 +123,8 @@ def linear_gaussian_fit(
     LinearGaussianFit
         With ``n = 0`` the posterior is the prior and ``log_evidence`` is 0.
     """
+    from scipy import linalg  # loaded on use: keeps the command's start-up light
+
     y = np.asarray(y, dtype=np.float64).reshape(-1)
     m0 = np.asarray(prior_mean, dtype=np.float64).reshape(-1)
     s0 = np.asarray(prior_sd, dtype=np.float64).reshape(-1)
@@ -204,6 +204,8 @@ def sign_evidence(
     -------
     SignEvidence
     """
+    from scipy.special import log_ndtr
+
     m_full = np.array(prior_mean, dtype=np.float64)
     s_full = np.array(prior_sd, dtype=np.float64)
     m_full[column] = 0.0
@@ -294,6 +296,8 @@ def hypothesis_verdict(
 
 def evidence_record(ev: SignEvidence, width: float) -> tuple[str, CircuitEvidence]:
     """The verdict and the evidence record of one sign test (log10 Bayes factors and their category)."""
+    from scipy.special import ndtr
+
     hv = hypothesis_verdict(ev.ln_z_dia, ev.ln_z_para, ev.ln_z_none)
     ln10 = math.log(10.0)
     return hv.verdict, CircuitEvidence(

@@ -36,7 +36,6 @@ infinity; ring polygons (interior angles 60°–300°) never reach the floor.
 from __future__ import annotations
 
 import numpy as np
-from scipy.special import roots_jacobi
 
 from ringshift.fields._common import _cross
 
@@ -55,6 +54,8 @@ def _profile(sigma: float, nodes: int) -> tuple[np.ndarray, np.ndarray]:
     """Nodes (k,) and weights (k,) (summing to 1) of the parabolic profile of standard deviation sigma."""
     if sigma == 0.0:
         return np.zeros(1), np.ones(1)
+    from scipy.special import roots_jacobi  # only for a finite width; SciPy's special loads slowly
+
     x, w = roots_jacobi(nodes, 1.0, 1.0)   # ∫_{-1}^{1} (1 − x²) f(x) dx ≈ Σ w f(x)
     return HALF_WIDTH_PER_SIGMA * sigma * x, w / w.sum()
 

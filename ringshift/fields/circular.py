@@ -1,7 +1,7 @@
 """Circular-loop kernels: Johnson–Bovey double loop and the Pople point dipole.
 
 Johnson & Bovey (J. Chem. Phys. 1958, 29, 1012): B_z of a circular loop of radius a at (ρ, z) from the
-complete elliptic integrals K(m), E(m) (SciPy's ``ellipk``/``ellipe`` take the parameter m = k²), two
+complete elliptic integrals K(m), E(m) (parameter m = k², :mod:`ringshift.fields.elliptic`), two
 loops at ±0.64 Å with half the current each; beyond :data:`ringshift.constants.FAR_FIELD_RADII` radii a
 multipole series replaces the exact form, which cancels badly there. Pople (J. Chem. Phys. 1956, 24,
 1111): σ_iso = −(μ0/4π)(J S/3)(1 − 3cos²θ)/R³ for a ring of area S, a far-field form. Outputs in ppm per
@@ -11,11 +11,12 @@ nA/T, σ > 0 shielding.
 from __future__ import annotations
 
 import numpy as np
-from scipy.special import binom, ellipe, ellipk, eval_legendre
+from numpy.polynomial.legendre import legval
 
 from ringshift import _validation as _v
 from ringshift.constants import FAR_FIELD_RADII, JB_SEPARATION_A, MU0_PPM_A_PER_NA_T, WIRE_CUTOFF_A
 from ringshift.fields._common import _MU0_4PI, _N_MULTIPOLE, _warn_near
+from ringshift.fields.elliptic import ellipk_ellipe
 
 __all__ = ['johnson_bovey_shielding', 'point_dipole_shielding']
 
@@ -34,12 +35,13 @@ def _loop_sigma_zz(rho, z, a):
     near = q < WIRE_CUTOFF_A
     out = np.empty_like(rho)
     # Near: B_z = (mu0 I / 2π) [(a+ρ)² + z²]^(-1/2) [K(m) + (a² − ρ² − z²)/((a−ρ)² + z²) E(m)],
-    # m = 4aρ/((a+ρ)² + z²)  (scipy's ellipk/ellipe take the parameter m = k²).
+    # m = 4aρ/((a+ρ)² + z²)  (the parameter m = k²).
     i = ~far & (q > 0)
     rr, zz, qq = rho[i], z[i], q[i]
     s2 = (a + rr) ** 2 + zz * zz
     m = np.minimum(4.0 * a * rr / s2, 1.0 - 1e-16)
-    bz = (ellipk(m) + (a * a - rr * rr - zz * zz) / (qq * qq) * ellipe(m)) / (2.0 * np.pi * np.sqrt(s2))
+    k_m, e_m = ellipk_ellipe(m)
+    bz = (k_m + (a * a - rr * rr - zz * zz) / (qq * qq) * e_m) / (2.0 * np.pi * np.sqrt(s2))
     out[i] = MU0_PPM_A_PER_NA_T * bz * np.where(qq < WIRE_CUTOFF_A, (qq / WIRE_CUTOFF_A) ** 2, 1.0)
     out[~far & (q == 0)] = 0.0
     # Far: B_z = (mu0 I a²/2) Σ_n C(−3/2, n) (a/R)^(2n) P_(2n+2)(cos θ) / R³ (exterior multipole
@@ -49,9 +51,17 @@ def _loop_sigma_zz(rho, z, a):
         ct = z[far] / R
         series = np.zeros_like(R)
         for k in range(_N_MULTIPOLE):
-            series += binom(-1.5, k) * (a / R) ** (2 * k) * eval_legendre(2 * k + 2, ct)
+            series += _binom_minus_three_halves(k) * (a / R) ** (2 * k) * legval(ct, [0.0] * (2 * k + 2) + [1.0])
         out[far] = MU0_PPM_A_PER_NA_T * 0.5 * a * a * series / R ** 3
     return out, near
+
+
+def _binom_minus_three_halves(k: int) -> float:
+    """Generalised binomial coefficient C(−3/2, k) = Π_{j<k} (−3/2 − j)/(j + 1)."""
+    out = 1.0
+    for j in range(k):
+        out *= (-1.5 - j) / (j + 1)
+    return out
 
 
 def johnson_bovey_shielding(points, centre, normal, radius_A, *, separation_A=JB_SEPARATION_A):

@@ -11,8 +11,8 @@ Conventions: coordinates in Å, float64; ``xyz`` is (n_atoms, 3) or, where state
 from __future__ import annotations
 
 import numpy as np
-from scipy.sparse import coo_matrix
-from scipy.sparse.csgraph import breadth_first_order
+
+from ringshift._graphs import bfs_order
 
 __all__ = ['plane_fit', 'poav_vectors', 'poav_defined', 'LINEAR_BOND_ANGLE_DEG', 'p_orbital_axes', 'circuit_normals',
            'circuit_incidence']
@@ -146,14 +146,13 @@ def p_orbital_axes(xyz, centres, neighbours, bonds):
     ok = poav_defined(v, neighbours)
     v_len = np.linalg.norm(v, axis=1)
     axes = np.where(ok[:, None], v / np.where(ok, v_len, 1.0)[:, None], 0.0)
-    graph = coo_matrix((np.ones(len(b)), (b[:, 0], b[:, 1])), shape=(n, n))
     done = np.zeros(n, bool)
     for s0 in [k for k in range(n) if ok[k]] + list(range(n)):  # each component from a defined axis
         if done[s0]:
             continue
         if not ok[s0]:
             axes[s0], ok[s0] = plane_fit(x[list(centres)])[1], True
-        order, pred = breadth_first_order(graph, s0, directed=False, return_predecessors=True)
+        order, pred = bfs_order(n, b, s0)
         for q in order[1:]:  # undefined axes (one neighbour, linear) inherit; signs follow the tree
             if not ok[q]:
                 axes[q], ok[q] = axes[pred[q]], True

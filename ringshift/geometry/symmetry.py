@@ -11,6 +11,7 @@ from __future__ import annotations
 import numpy as np
 from rdkit import Chem
 
+from ringshift._graphs import component_labels
 from ringshift.errors import InputError
 
 __all__ = ['group_equivalent_hydrogens', 'fast_exchange_classes', 'EXCHANGE_RULES', 'H_SYMMETRY_TOLERANCE_A',
@@ -380,9 +381,6 @@ def _realised_pairs(x, frame, perms, follow, rigid, parents, slots, tol_A) -> li
 def _static_groups(mol: Chem.Mol, x: np.ndarray, hs: list[int], tol_A: float) -> tuple[tuple[int, ...], ...]:
     """Slow-exchange groups of the protons ``hs`` from the geometry ``x`` (n_atoms, 3), Å; see
     :func:`group_equivalent_hydrogens`."""
-    from scipy.sparse import coo_matrix
-    from scipy.sparse.csgraph import connected_components
-
     n = mol.GetNumAtoms()
     isotopes = {at.GetIdx(): at.GetIsotope() for at in mol.GetAtoms()}
     rank = list(Chem.CanonicalRankAtoms(symmetry_graph(mol, range(n), isotopes), breakTies=False,
@@ -415,8 +413,7 @@ def _static_groups(mol: Chem.Mol, x: np.ndarray, hs: list[int], tol_A: float) ->
         keep = [k for k, a in enumerate(atoms) if int(a) in anchors or mol.GetAtomWithIdx(int(a)).GetAtomicNum() == 1]
         pairs.append(np.stack([atoms[keep], images[keep]], axis=1).reshape(-1, 2))
     edges = np.concatenate([p.reshape(-1, 2) for p in pairs]) if pairs else np.zeros((0, 2), dtype=int)
-    graph = coo_matrix((np.ones(len(edges)), (edges[:, 0], edges[:, 1])), shape=(n, n))
-    _, label = connected_components(graph, directed=False)
+    label = component_labels(n, edges)
     groups: dict[int, list[int]] = {}
     for h in hs:
         groups.setdefault(int(label[h]), []).append(h)

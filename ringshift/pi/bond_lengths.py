@@ -11,6 +11,8 @@ enters. :data:`SCF_RELATIONS` maps the model name to (R0, S, source).
 
 from __future__ import annotations
 
+import functools
+
 import numpy as np
 
 from ringshift.pi.parameters import (
@@ -18,14 +20,17 @@ from ringshift.pi.parameters import (
     BETA_REF_LENGTH_A,
     COULSON_R0_A,
     COULSON_SLOPE_A,
-    POLYACETYLENE_BLA_A,
 )
 
 __all__ = ["polyene_chain_lengths", "calibrate_chain_slope", "SCF_R0_A", "SCF_SLOPE_A", "SCF_RELATIONS"]
 
-_GL_X, _GL_W = np.polynomial.legendre.leggauss(400)
 
-_GL_K, _GL_W = 0.5 * np.pi * (_GL_X + 1.0), 0.5 * np.pi * _GL_W  # Gauss–Legendre on [0, π]
+
+@functools.cache
+def _gauss_legendre_0_pi() -> tuple[np.ndarray, np.ndarray]:
+    """400 Gauss–Legendre nodes and weights on [0, π], computed on first use (not at import)."""
+    x, w = np.polynomial.legendre.leggauss(400)
+    return 0.5 * np.pi * (x + 1.0), 0.5 * np.pi * w
 
 
 def polyene_chain_lengths(r0_A: float, slope_A: float, *, decay_A: float = BETA_DECAY_A, tol_A: float = 1e-12,
@@ -45,13 +50,14 @@ def polyene_chain_lengths(r0_A: float, slope_A: float, *, decay_A: float = BETA_
     def f(r):
         return np.exp(-(r - BETA_REF_LENGTH_A) / decay_A)
 
-    cosk = np.cos(_GL_K)
+    gl_k, gl_w = _gauss_legendre_0_pi()
+    cosk = np.cos(gl_k)
     r1, r2 = r0_A - slope_A * 0.8, r0_A - slope_A * 0.45
     for _ in range(max_iter):
         t1, t2 = f(r1), f(r2)
         eps = np.sqrt(t1 * t1 + t2 * t2 + 2.0 * t1 * t2 * cosk)
-        p1 = float(_GL_W @ ((t1 + t2 * cosk) / eps)) / np.pi
-        p2 = float(_GL_W @ ((t2 + t1 * cosk) / eps)) / np.pi
+        p1 = float(gl_w @ ((t1 + t2 * cosk) / eps)) / np.pi
+        p2 = float(gl_w @ ((t2 + t1 * cosk) / eps)) / np.pi
         n1, n2 = r0_A - slope_A * p1, r0_A - slope_A * p2
         if abs(n1 - r1) + abs(n2 - r2) < tol_A:
             return float(n1), float(n2), p1, p2
@@ -75,9 +81,11 @@ def calibrate_chain_slope(bla_A: float, *, r_ref_A: float = BETA_REF_LENGTH_A, p
     s = brentq(excess, 0.05, 0.6, xtol=1e-12)
     return float(s), float(r_ref_A + s * p_ref)
 
-#: The calibrated ``"scf"`` relation r = SCF_R0_A − SCF_SLOPE_A p (module notes), computed here from its
-#: two inputs (benzene 1.397 Å, polyacetylene BLA 0.08 Å): S = 0.1988 Å, R0 = 1.5295 Å.
-SCF_SLOPE_A, SCF_R0_A = calibrate_chain_slope(POLYACETYLENE_BLA_A)
+#: The calibrated ``"scf"`` relation r = SCF_R0_A − SCF_SLOPE_A p (module notes): the values of
+#: ``calibrate_chain_slope(POLYACETYLENE_BLA_A)`` for its two inputs (benzene 1.397 Å, polyacetylene BLA
+#: 0.08 Å), written out so that importing the module does no numerical work; a test recomputes them.
+SCF_SLOPE_A: float = 0.19879698818080416
+SCF_R0_A: float = 1.5295313254538694
 
 #: beta_model name -> (R0, S, source) of the self-consistent bond-length models.
 SCF_RELATIONS: dict[str, tuple[float, float, str]] = {

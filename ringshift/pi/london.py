@@ -22,10 +22,9 @@ from dataclasses import dataclass, replace
 from functools import cache
 
 import numpy as np
-from scipy import constants as _sc
 
 from ringshift import _validation as _v
-from ringshift.constants import BENZENE_CURRENT_NA_PER_T
+from ringshift.constants import BENZENE_CURRENT_NA_PER_T, ELEMENTARY_CHARGE_C, HBAR_J_S
 from ringshift.errors import InputError
 from ringshift.geometry import planes as pg
 from ringshift.pi.bond_lengths import SCF_RELATIONS
@@ -438,8 +437,8 @@ def absolute_current_nA_per_T(g_A2, beta0_eV: float = BETA0_EV):
 
     The conventional current is −2 (e/ħ)² |β| g B (module notes); the sign is left to the caller.
     """
-    e_over_hbar = _sc.e / _sc.hbar  # 1/(T m²)
-    beta_j = abs(beta0_eV) * _sc.e
+    e_over_hbar = ELEMENTARY_CHARGE_C / HBAR_J_S  # 1/(T m²)
+    beta_j = abs(beta0_eV) * ELEMENTARY_CHARGE_C
     return 2.0 * e_over_hbar**2 * beta_j * 1e-20 * np.asarray(g_A2, dtype=np.float64) * 1e9
 
 

@@ -51,10 +51,9 @@ from dataclasses import dataclass
 
 import numpy as np
 from rdkit import Chem
-from scipy.sparse import coo_matrix
-from scipy.sparse.csgraph import connected_components
 
 from ringshift import _validation as _v
+from ringshift._graphs import component_labels
 from ringshift.errors import InputError
 from ringshift.geometry import planes as pg
 
@@ -203,13 +202,12 @@ def _atom_type(atom, pi: int) -> str | None:
 
 
 def _components(atoms, bonds) -> list[tuple[int, ...]]:
-    """Connected components of the π graph (scipy.sparse.csgraph), as sorted tuples of atom indices."""
+    """Connected components of the π graph, as sorted tuples of atom indices."""
     if not atoms:
         return []
     idx = {a: k for k, a in enumerate(atoms)}
     e = np.array([(idx[i], idx[j]) for i, j in bonds], dtype=np.intp).reshape(-1, 2)
-    graph = coo_matrix((np.ones(len(e)), (e[:, 0], e[:, 1])), shape=(len(atoms), len(atoms)))
-    labels = connected_components(graph, directed=False)[1]
+    labels = component_labels(len(atoms), e)
     return sorted(tuple(a for a, lab in zip(atoms, labels) if lab == k) for k in set(labels))
 
 
