@@ -62,7 +62,7 @@ def reference_lines(res: CompareResult) -> list[dict]:
 #: Version of the JSON layout written by every command (``schema_version`` in each object). The layout is
 #: described by the JSON Schemas in ``ringshift/data/schemas/``; renamed or removed fields raise the major
 #: number and are listed in README.md ("JSON output").
-SCHEMA_VERSION = "1.1"
+SCHEMA_VERSION = "2.0"
 
 CAUTION = ("Ring-current models are approximate: they estimate the ring-current part of each shift, not "
            "the whole shift. Confirm assignments with 2D NMR and the current with quantum-chemical calculations.")

@@ -249,7 +249,7 @@ MUTATIONS = [
     ("prediction-number-as-string", "prediction", "prediction",
      lambda d: d["protons"][0].update(ring_current_ppm="1.04"), "$.protons[0].ring_current_ppm"),
     ("prediction-unannounced-field", "prediction", "prediction", lambda d: d.update(new_field=1), "$"),
-    ("prediction-other-version", "prediction", "prediction", lambda d: d.update(schema_version="2.0"),
+    ("prediction-other-version", "prediction", "prediction", lambda d: d.update(schema_version="3.0"),
      "$.schema_version"),
     ("prediction-circuit-label-key", "prediction", "prediction",
      lambda d: d["groups"][0]["ring_current_by_circuit_ppm"].update(ring=1.0),
