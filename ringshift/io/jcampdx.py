@@ -44,7 +44,7 @@ from dataclasses import dataclass
 import numpy as np
 
 from ringshift import limits as _limits
-from ringshift.errors import InputError, OutputError
+from ringshift.errors import InputError
 from ringshift.io.jcampdx_codec import FORMS, decode_xydata, encode_xydata
 
 #: Largest NPOINTS accepted (a guard against absurd or hostile files; :mod:`ringshift.limits`).
@@ -360,11 +360,9 @@ def _one_line(text: str) -> str:
 
 
 def _write(path, lines: list[str]) -> None:
-    try:
-        with open(os.fspath(path), "w", encoding="ascii", errors="replace", newline="\n") as handle:
-            handle.write("\n".join(lines) + "\n")
-    except OSError as exc:
-        raise OutputError(f"{os.fspath(path)}: cannot be written ({exc.strerror or exc})") from None
+    from ringshift.io.writing import atomic_write  # the output contract of every writer
+
+    atomic_write(path, ("\n".join(lines) + "\n").encode("ascii", errors="replace"), force=True)
 
 
 def _check_observe(observe_mhz, needed: bool) -> float | None:

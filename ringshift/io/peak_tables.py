@@ -12,6 +12,7 @@ CSV columns: a shift column (``shift_ppm``/``ppm``/``shift``/``delta``), an inte
 from __future__ import annotations
 
 import csv
+import io
 import math
 import os
 import re
@@ -19,7 +20,7 @@ import unicodedata
 from dataclasses import replace
 
 from ringshift import limits as _limits
-from ringshift.errors import InputError, OutputError
+from ringshift.errors import InputError
 from ringshift.io import jcampdx as _jcamp
 from ringshift.spectra.peaks import (
     MAX_LINES_PER_H,
@@ -230,18 +231,19 @@ def write_peak_table_csv(path: str | os.PathLike, peaks) -> None:
 
     def num(v):
         return "" if v is None else repr(float(v))
-    try:
-        with open(os.fspath(path), "w", encoding="utf-8", newline="") as handle:
-            if observe is not None:
-                handle.write(f"# observe_mhz = {observe!r}\n")
-            writer = csv.writer(handle, lineterminator="\n")
-            writer.writerow("shift_ppm integral width_hz multiplicity label atoms kind height j_hz".split())
-            for p in items:
-                writer.writerow([num(p.shift_ppm), num(p.integral), num(p.width_hz), p.multiplicity or "",
-                                 p.label or "", " ".join(map(str, p.fixed_atoms or ())), p.kind, num(p.height),
-                                 "/".join(repr(j) for j in p.j_hz or ())])
-    except OSError as exc:
-        raise OutputError(f"{os.fspath(path)}: cannot be written ({exc.strerror or exc})") from None
+    from ringshift.io.writing import atomic_write
+
+    handle = io.StringIO(newline="")
+    if observe is not None:
+        handle.write(f"# observe_mhz = {observe!r}\n")
+    writer = csv.writer(handle, lineterminator="\n")
+    writer.writerow("shift_ppm integral width_hz multiplicity label atoms kind height j_hz".split())
+    for p in items:
+        writer.writerow([num(p.shift_ppm), num(p.integral), num(p.width_hz), p.multiplicity or "",
+                         p.label or "", " ".join(map(str, p.fixed_atoms or ())), p.kind, num(p.height),
+                         "/".join(repr(j) for j in p.j_hz or ())])
+    # the output contract of every writer: atomic, never a folder, device, link or input (ringshift.io.writing)
+    atomic_write(path, handle.getvalue(), force=True)
 
 # ---------------------------------------------------------------------------------------- JCAMP
 def _from_jcamp(data: _jcamp.JcampData, prominence_sigma: float) -> PeakList:
