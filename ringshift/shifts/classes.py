@@ -294,7 +294,8 @@ def classify_hydrogens(mol, h_indices: Iterable[int] | None = None) -> dict[int,
       ``sp3_CH2_between_pi``; any π neighbour -> ``sp3_<n>_on_pi`` (this includes the CH2 of
       [2.2]paracyclophane, each bonded to one ring atom: they do not span a circuit); CH3 on an sp3
       carbon that bears a π atom -> ``sp3_CH3_beta_to_pi`` (tert-butyl and ethyl CH3 on a π system, the
-      internal methyls of dimethyldihydropyrene); else ``sp3_<n>_alkyl``. Other heteroatoms, charged carbon or CH4 give the fallback.
+      internal methyls of dimethyldihydropyrene); else ``sp3_<n>_alkyl``. Other heteroatoms, charged carbon or
+      CH4 give the fallback.
     * N: bonded to C=O -> ``NH_amide``; ring N that is aromatic or joins two π ring atoms ->
       ``NH_pyrrole_type`` (also cationic NH of protonated porphyrins); bonded to a π atom ->
       ``NH_amine_on_pi``; sp3 amine -> ``NH_amine``.
