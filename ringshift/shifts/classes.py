@@ -178,6 +178,8 @@ def _classify_sp3_ch(carbon, n_h: int, pi: frozenset[int]) -> str:
         return f"sp3_{size}_on_CO"
     pi_nbrs = [nb.GetIdx() for nb in heavy if nb.GetIdx() in pi]
     if not pi_nbrs:
+        if n_h == 3 and any(nb.GetIdx() in pi for c in heavy for nb in c.GetNeighbors()):
+            return "sp3_CH3_beta_to_pi"  # homoallylic/homobenzylic CH3 (tert-butyl or ethyl on a π system)
         return f"sp3_{size}_alkyl"
     if n_h == 2 and len(pi_nbrs) == 2:
         if _share_pi_circuit(mol, pi, pi_nbrs[0], pi_nbrs[1]):
@@ -290,8 +292,10 @@ def classify_hydrogens(mol, h_indices: Iterable[int] | None = None) -> dict[int,
       non-adjacent atoms of one cycle of the π subgraph -> ``bridge_CH2_over_pi`` (the methano
       bridge of 1,6-methano[10]annulene), other CH2 with two π neighbours ->
       ``sp3_CH2_between_pi``; any π neighbour -> ``sp3_<n>_on_pi`` (this includes the CH2 of
-      [2.2]paracyclophane, each bonded to one ring atom: they do not span a circuit); else
-      ``sp3_<n>_alkyl``. Other heteroatoms, charged carbon or CH4 give the fallback.
+      [2.2]paracyclophane, each bonded to one ring atom: they do not span a circuit); CH3 on an sp3
+      carbon that bears a π atom -> ``sp3_CH3_beta_to_pi`` (tert-butyl and ethyl CH3 on a π system, the
+      internal methyls of dimethyldihydropyrene); else ``sp3_<n>_alkyl``. Other heteroatoms, charged carbon or
+      CH4 give the fallback.
     * N: bonded to C=O -> ``NH_amide``; ring N that is aromatic or joins two π ring atoms ->
       ``NH_pyrrole_type`` (also cationic NH of protonated porphyrins); bonded to a π atom ->
       ``NH_amine_on_pi``; sp3 amine -> ``NH_amine``.

@@ -74,12 +74,12 @@ def test_methano10annulene_bridge():
 
 def test_dimethyldihydropyrene_internal_methyls():
     # trans-15,16-dimethyldihydropyrene: internal CH3 at −4.25 ppm, ring H 8.1-8.7 ppm (Boekelheide &
-    # Phillips, J. Am. Chem. Soc. 1967, 89, 1695; from memory). CH3 reference 0.9 ppm (table) → ring-current
-    # part ≈ −5.2 ppm; ring H +2.2 … +2.8 ppm.
+    # Phillips, J. Am. Chem. Soc. 1967, 89, 1695; from memory). CH3 reference 1.0 ppm (table, homoallylic CH3)
+    # → ring-current part ≈ −5.25 ppm; ring H +2.2 … +2.8 ppm.
     pred = predict(load_structure("C1=CC2=CC=C3C=CC=C4C=CC(=C1)[C@]2(C)[C@]34C"),
                    set_current={"M1": BENZENE_J})
-    me = _rc(pred, lambda g: g.proton_class == "sp3_CH3_alkyl")
-    assert -5.2 * 2 < me < -5.2 / 2
+    me = _rc(pred, lambda g: g.proton_class == "sp3_CH3_beta_to_pi")
+    assert -5.25 * 2 < me < -5.25 / 2
     ring = _rc(pred, lambda g: g.proton_class.startswith("sp2"))
     assert 2.5 / 2 < ring < 2.5 * 2
 
@@ -105,7 +105,7 @@ def test_paracyclophane_facing_ring():
 def test_porphine_nh_and_meso():
     # Free-base porphine: inner NH ≈ −3.8 ppm, meso H ≈ 10.6 ppm, β H ≈ 9.7 ppm (from memory; compare
     # tetraphenylporphyrin NH −2.76 ppm, common practice). With the a priori Hückel–London currents the
-    # NH are strongly shielded (ring-current part below −4 ppm against a 6 ppm NH reference) and the
+    # NH are strongly shielded (ring-current part below −4 ppm against a 6.4 ppm NH reference) and the
     # meso H deshielded (above +1.5 ppm). Sign and size class only.
     pred = predict(load_structure("C1=CC2=CC3=CC=C(N3)C=C4C=CC(=N4)C=C5C=CC(=CC1=N2)N5"))
     nh = _rc(pred, lambda g: g.proton_class.startswith("NH"))
@@ -169,3 +169,20 @@ def test_annulene16_sign_pattern_paratropic():
     inner = [p.ring_current_ppm for p in pred.protons if np.linalg.norm(X[p.index] - centre) < radius]
     outer = [p.ring_current_ppm for p in pred.protons if np.linalg.norm(X[p.index] - centre) >= radius]
     assert len(inner) == 4 and np.mean(inner) > 0 > np.mean(outer)
+
+
+@pytest.mark.parametrize("smiles, observed_ppm", [
+    ("c1cc[nH]c1", 8.0),                      # pyrrole NH, CDCl3 (Pretsch, Buehlmann, Badertscher; from memory)
+    ("c1ccc2[nH]ccc2c1", 8.1),                # indole NH, CDCl3 (same handbook; from memory)
+    ("c1ccc2c(c1)[nH]c1ccccc12", 8.0),        # carbazole NH, CDCl3 (same handbook; from memory)
+])
+def test_pyrrole_type_nh_reference_is_model_consistent(smiles, observed_ppm):
+    # The packaged NH_pyrrole_type reference is the mean over these three compounds of observed NH minus the
+    # ring-current part the default pipeline computes for them, so each predicted NH must land within the
+    # spread of that mean (±0.7 ppm: the three ring-current parts differ by 1.3 ppm, max - min) of the
+    # observed value. A reference that again assumed a benzene-like 1.5-2 ppm for a five-membered ring
+    # (6.0 ppm) puts pyrrole 1.1 ppm low and fails.
+    pred = predict(load_structure(smiles))
+    nh = [g.predicted_ppm for g in pred.groups if g.proton_class == "NH_pyrrole_type"]
+    assert len(nh) == 1
+    assert nh[0] == pytest.approx(observed_ppm, abs=0.7)

@@ -74,7 +74,7 @@ WHOLE_MOLECULES = [
     ("paracyclophane", PARACYCLOPHANE, {"sp3_CH2_on_pi": 8, "sp2_CH_aromatic_type": 8}),
     ("cyclooctatetraene", "C1=CC=CC=CC=C1", {"sp2_CH_ring_conjugated": 8}),
     ("dimethyldihydropyrene", DIMETHYLDIHYDROPYRENE,
-     {"sp2_CH_ring_conjugated": 10, "sp3_CH3_alkyl": 6}),
+     {"sp2_CH_ring_conjugated": 10, "sp3_CH3_beta_to_pi": 6}),
 ]
 
 
@@ -253,10 +253,12 @@ def test_every_packaged_class_is_reachable(table):
         ("CC#C", "[#1]C#C", "sp_CH_alkyne"),
         ("COC=O", "[#1]C=O", "CHO_formyl_heteroatom"),
         ("CCC=C", "[#1][CH2]=C", "sp2_CH2_terminal"),
+        ("CCC=C", "[#1][CH3]", "sp3_CH3_beta_to_pi"),  # 1-butene CH3 (homoallylic)
+        ("CC(C)(C)c1ccccc1", "[#1][CH3]", "sp3_CH3_beta_to_pi"),  # tert-butylbenzene CH3
     ],
     ids=["CH2_on_CO", "CH_on_CO", "CH_on_pi", "NH_amine", "CH3_on_N", "CH3_on_N_pi", "CH_on_N",
          "CH2_on_N", "CH3_on_O", "CH_on_O", "alkene", "between_pi", "alkyne_conj", "alkyne",
-         "formyl", "terminal_CH2"],
+         "formyl", "terminal_CH2", "CH3_beta_to_pi", "tBu_on_arene"],
 )
 def test_specific_hydrogens(smiles, h_smarts, expected):
     # Each H picked by an RDKit SMARTS gets the class the documented rules give it.
@@ -291,6 +293,7 @@ HANDBOOK_RANGES = [
     ("sp3_CH2_between_pi", 2.6, 2.9),  # 1,4-pentadiene 2.8, 1,4-cyclohexadiene 2.67 (from memory)
     ("bridge_CH2_over_pi", 2.0, 2.8),  # cycloheptatriene 2.2 .. 1,4-cyclohexadiene 2.7 (from memory)
     ("sp3_CH3_alkyl", 0.8, 1.0),  # ethane 0.86, propane 0.91 (Silverstein & Webster, from memory)
+    ("sp3_CH3_beta_to_pi", 0.95, 1.1),  # 1-butene CH3 1.00, 3,3-dimethyl-1-butene 1.01 (Pretsch, from memory)
     ("sp3_CH2_alkyl", 1.2, 1.45),  # propane CH2 1.33, cyclohexane 1.43 (from memory)
     ("sp3_CH3_on_O", 3.2, 3.5),  # dimethyl ether 3.24, methanol 3.43 (from memory)
     ("sp3_CH3_on_CO", 2.0, 2.2),  # acetone 2.17, acetic acid 2.10 (from memory)
