@@ -287,7 +287,8 @@ def check_estimate(est: Estimate, step: str, source: str) -> None:
                          f"limit of {mem_max:g} MB; raise it with {MEMORY_ENV}=MB if the machine has the memory",
                          source)
     if est.seconds > t_max:
-        raise InputError(f"{step} would take about {est.seconds / 60:.0f} min ({est.what}), over the limit of "
+        took = f"{est.seconds:.0f} s" if est.seconds < 120 else f"{est.seconds / 60:.0f} min"
+        raise InputError(f"{step} would take about {took} ({est.what}), over the limit of "
                          f"{t_max:g} s; raise it with {TIME_ENV}=SECONDS to run it anyway", source)
 
 
