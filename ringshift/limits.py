@@ -220,8 +220,11 @@ PROGRESS_AFTER_S: float = 3.0
 # after the blocked bond polarisability, a 474-carbon flake peaks at 47 MB traced / 178 MB RSS, of
 # which ~130 MB is the interpreter with numpy, scipy and RDKit loaded. The self-consistent β step runs
 # about 7 bond-polarisability evaluations (m² n²/4 multiply-adds each, ~1.25e10 per s measured) and
-# about 16 eigen-decompositions per evaluation (n³ at ~2.1e9 per s measured), for n π atoms and m π bonds.
+# about 16 eigen-decompositions per evaluation (n³ at ~2.1e9 per s measured), for n π atoms and m π bonds
+# (profile of a C302H44 flake: 2.24 s and 1.48 s of 8.0 s; the model gives 2.37 s and 1.47 s). Times are
+# for an idle core; with other work on the machine they run up to 2-3 times longer.
 _BASE_MB = 130.0
+_BASE_S = 4.5  # first-use imports (~2.8 s) and the light steps (perception, circuits, classes) of a 302-C flake
 _POL_STEPS = 7
 _POL_RATE = 1.25e10
 _EIGH_PER_STEP = 16
@@ -248,7 +251,7 @@ def estimate_predict(n_pi: int, n_bonds: int, n_h: int, n_loops: int, n_conf: in
     n, m = float(n_pi), float(n_bonds)
     dense_MB = 8e-6 * (6.0 * n * n + 4.0 * m * m) + 40.0 * (n > 0)     # matrices + 5 polarisability blocks
     factors_MB = 8e-6 * 3.0 * n_conf * n_loops * n_h
-    secs = 1.5 + 1e-6 * n_conf * n_loops * n_h * 20
+    secs = _BASE_S + 1e-6 * n_conf * n_loops * n_h * 20
     if huckel:
         secs += n_conf * _POL_STEPS * (m * m * n * n / 4.0 / _POL_RATE + _EIGH_PER_STEP * n ** 3 / _EIGH_RATE)
     return Estimate(_BASE_MB + (dense_MB if huckel else 0.0) + factors_MB, secs,
