@@ -35,6 +35,7 @@ Physics, bond lengths table; from memory), so 0.5 Å cannot refuse a real struct
 from __future__ import annotations
 
 import os
+from typing import Any
 
 import numpy as np
 
@@ -42,7 +43,9 @@ from ringshift.errors import InputError
 
 __all__ = ["MAX_FILE_BYTES", "MAX_LINE_CHARS", "MAX_SMILES_CHARS", "MAX_ATOMS", "MAX_RECORDS", "MAX_PEAKS",
            "MAX_SPECTRUM_POINTS", "MAX_ABS_COORDINATE_A", "MIN_EXTENT_A", "MIN_ATOM_DISTANCE_A",
-           "check_file_size", "read_text_bytes", "read_text", "check_lines", "check_count", "check_coordinates"]
+           "check_file_size", "read_text_bytes", "read_text", "check_lines", "check_count", "check_coordinates",
+           "DEFAULT_MEMORY_MB", "MEMORY_ENV", "DEFAULT_TIME_S", "TIME_ENV", "Estimate", "estimate_predict",
+           "estimate_map", "check_estimate", "progress"]
 
 MAX_FILE_BYTES: int = 200 * 2**20
 MAX_LINE_CHARS: int = 100_000
@@ -215,3 +218,137 @@ def _close_pairs(x: np.ndarray, r_A: float) -> np.ndarray:
         keep = (i + lo) < j
         out.append(np.stack([i[keep] + lo, j[keep]], axis=1))
     return np.concatenate(out) if out else np.zeros((0, 2), dtype=int)
+
+
+# ----------------------------------------------------------------------------------------------------
+# Memory and time of the heavy steps, estimated from sizes before the work starts
+# ----------------------------------------------------------------------------------------------------
+#: Memory a single predict or map may need before it is refused, MB; raised with this environment variable.
+DEFAULT_MEMORY_MB: float = 4000.0
+MEMORY_ENV: str = "RINGSHIFT_MEMORY_MB"
+#: Time a single predict or map may need before it is refused, s; raised with this environment variable.
+DEFAULT_TIME_S: float = 900.0
+TIME_ENV: str = "RINGSHIFT_TIME_LIMIT_S"
+#: Steps estimated to take longer than this show a progress line on stderr (only on a terminal), s.
+PROGRESS_AFTER_S: float = 3.0
+
+# Calibration (benchmarks/bench_resources.py, hexagonal C–H flakes, one core of a shared 2-core machine):
+# after the blocked bond polarisability, a 474-carbon flake peaks at 47 MB traced / 178 MB RSS, of
+# which ~130 MB is the interpreter with numpy, scipy and RDKit loaded. The self-consistent β step runs
+# about 7 bond-polarisability evaluations (m² n²/4 multiply-adds each, ~1.25e10 per s measured) and
+# about 16 eigen-decompositions per evaluation (n³ at ~2.1e9 per s measured), for n π atoms and m π bonds
+# (profile of a C302H44 flake: 2.24 s and 1.48 s of 8.0 s; the model gives 2.37 s and 1.47 s). Times are
+# for an idle core; with other work on the machine they run up to 2-3 times longer.
+_BASE_MB = 130.0
+_BASE_S = 4.5  # first-use imports (~2.8 s) and the light steps (perception, circuits, classes) of a 302-C flake
+_POL_STEPS = 7
+_POL_RATE = 1.25e10
+_EIGH_PER_STEP = 16
+_EIGH_RATE = 2.1e9
+_MAP_RATE = 2.0e7  # point × wire-segment evaluations per s (half the fields benchmark's target; not measured here)
+
+
+class Estimate:
+    """Estimated peak memory (MB, resident) and wall time (s) of one step, and what was counted."""
+
+    __slots__ = ("memory_MB", "seconds", "what")
+
+    def __init__(self, memory_MB: float, seconds: float, what: str) -> None:
+        self.memory_MB, self.seconds, self.what = float(memory_MB), float(seconds), what
+
+    def __repr__(self) -> str:
+        return f"Estimate(memory_MB={self.memory_MB:.0f}, seconds={self.seconds:.1f}, what={self.what!r})"
+
+
+def estimate_predict(n_pi: int, n_bonds: int, n_h: int, n_loops: int, n_conf: int = 1, *,
+                     huckel: bool = True) -> Estimate:
+    """Memory and time of a prediction: the Hückel–London step (n_pi π atoms, n_bonds π bonds, per
+    conformer) and the geometric factors (n_conf × n_loops × n_h floats). Calibration in the module."""
+    n, m = float(n_pi), float(n_bonds)
+    dense_MB = 8e-6 * (6.0 * n * n + 4.0 * m * m) + 40.0 * (n > 0)     # matrices + 5 polarisability blocks
+    factors_MB = 8e-6 * 3.0 * n_conf * n_loops * n_h
+    secs = _BASE_S + 1e-6 * n_conf * n_loops * n_h * 20
+    if huckel:
+        secs += n_conf * _POL_STEPS * (m * m * n * n / 4.0 / _POL_RATE + _EIGH_PER_STEP * n ** 3 / _EIGH_RATE)
+    return Estimate(_BASE_MB + (dense_MB if huckel else 0.0) + factors_MB, secs,
+                    f"{n_pi} π atoms, {n_bonds} π bonds, {n_loops} loops, {n_h} H, {n_conf} conformer(s)")
+
+
+def estimate_map(n_points: int, n_loops: int, n_segments: int, block: int, max_loop_atoms: int = 6) -> Estimate:
+    """Memory and time of a shielding map of n_points grid points over n_loops loops with n_segments wire
+    segments in all (largest loop: max_loop_atoms), evaluated in blocks of ``block`` points."""
+    b = min(block, n_points)
+    mem = _BASE_MB + 8e-6 * (6.0 * n_points + 4.0 * b * max(n_loops, 1) + 12.0 * b * max(max_loop_atoms, 1))
+    return Estimate(mem, 1.0 + 2.0 * n_points * n_segments / _MAP_RATE,
+                    f"{n_points} grid points, {n_loops} loops, {n_segments} wire segments")
+
+
+def _limit(env: str, default: float) -> float:
+    raw = os.environ.get(env, "").strip()
+    if not raw:
+        return default
+    try:
+        value = float(raw)
+    except ValueError:
+        raise InputError(f"{env}={raw!r}; expected a number", env) from None
+    if not value > 0:
+        raise InputError(f"{env}={raw!r}; expected a positive number", env)
+    return value
+
+
+def check_estimate(est: Estimate, step: str, source: str) -> None:
+    """Refuse (InputError) a step whose estimate exceeds the memory or time limit, naming the variable
+    that raises it; the limits are :data:`DEFAULT_MEMORY_MB` and :data:`DEFAULT_TIME_S` unless the
+    environment variables :data:`MEMORY_ENV` / :data:`TIME_ENV` say otherwise."""
+    mem_max, t_max = _limit(MEMORY_ENV, DEFAULT_MEMORY_MB), _limit(TIME_ENV, DEFAULT_TIME_S)
+    if est.memory_MB > mem_max:
+        raise InputError(f"{step} would need about {est.memory_MB:.0f} MB of memory ({est.what}), over the "
+                         f"limit of {mem_max:g} MB; raise it with {MEMORY_ENV}=MB if the machine has the memory",
+                         source)
+    if est.seconds > t_max:
+        took = f"{est.seconds:.0f} s" if est.seconds < 120 else f"{est.seconds / 60:.0f} min"
+        raise InputError(f"{step} would take about {took} ({est.what}), over the limit of "
+                         f"{t_max:g} s; raise it with {TIME_ENV}=SECONDS to run it anyway", source)
+
+
+class progress:  # noqa: N801 - used as a context manager, like open()
+    """Context manager: while a step estimated at ``est.seconds`` runs, a line on stderr shows the elapsed
+    and estimated time once a second ("ringshift: Hückel–London step … 12 s of about 40 s"), cleared at
+    the end. Quiet when stderr is not a terminal or the estimate is under :data:`PROGRESS_AFTER_S`.
+    ``stream`` (default sys.stderr) is for tests."""
+
+    def __init__(self, step: str, est: Estimate, stream=None) -> None:
+        import sys
+        self.step, self.est, self.stream = step, est, stream if stream is not None else sys.stderr
+        self._stop: Any = None      # threading.Event while a progress line is shown
+        self._thread: Any = None
+
+    def _active(self) -> bool:
+        try:
+            return bool(self.stream.isatty()) and self.est.seconds >= PROGRESS_AFTER_S
+        except (AttributeError, ValueError):
+            return False
+
+    def _run(self, t0: float) -> None:
+        import time
+        assert self._stop is not None
+        while not self._stop.wait(1.0):
+            self.stream.write(f"\rringshift: {self.step} ({self.est.what}) … {time.monotonic() - t0:.0f} s of "
+                              f"about {self.est.seconds:.0f} s ")
+            self.stream.flush()
+
+    def __enter__(self) -> progress:
+        if self._active():
+            import threading
+            import time
+            self._stop = threading.Event()
+            self._thread = threading.Thread(target=self._run, args=(time.monotonic(),), daemon=True)
+            self._thread.start()
+        return self
+
+    def __exit__(self, *exc) -> None:
+        if self._thread is not None and self._stop is not None:
+            self._stop.set()
+            self._thread.join()
+            self.stream.write("\r\x1b[K")  # erase the progress line
+            self.stream.flush()

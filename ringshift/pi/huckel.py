@@ -429,6 +429,10 @@ def density_matrix(vectors, occ) -> np.ndarray:
     return (c * np.asarray(occ, dtype=np.float64)) @ c.T
 
 
+#: Elements of one (bonds × orbital pairs) block of :func:`bond_polarizability` (8 MB of float64).
+_POL_BLOCK_ELEMENTS = 1 << 20
+
+
 def bond_polarizability(vectors, energies, occ, bonds, *, tol: float = DEGENERACY_TOL) -> np.ndarray:
     """Bond–bond polarisability π_bc = ∂p_b/∂(β_c/β0) from first-order perturbation theory.
 
@@ -453,5 +457,13 @@ def bond_polarizability(vectors, energies, occ, bonds, *, tol: float = DEGENERAC
     f = np.zeros_like(de)
     f[mask] = dn[mask] / de[mask]
     ci, cj = c[b[:, 0]], c[b[:, 1]]  # (m, n): MO coefficients on the bond atoms
-    w = (ci[:, lo, None] * cj[:, None, hi] + cj[:, lo, None] * ci[:, None, hi]).reshape(b.shape[0], -1)
-    return -(w * f.reshape(1, -1)) @ w.T  # −½ Σ over ordered pairs = −Σ over n_k > n_l
+    # blocks of occupied orbitals k: memory O(m·n_l·block), not O(m·n²) (2.3 GB for 726 π atoms)
+    block = max(1, _POL_BLOCK_ELEMENTS // max(1, b.shape[0] * lo.size))
+    out = np.zeros((b.shape[0], b.shape[0]))
+    for k0 in range(0, hi.size, block):
+        ks, fk = hi[k0:k0 + block], f[:, k0:k0 + block]
+        if not fk.any():
+            continue
+        w = (ci[:, lo, None] * cj[:, None, ks] + cj[:, lo, None] * ci[:, None, ks]).reshape(b.shape[0], -1)
+        out -= (w * fk.reshape(1, -1)) @ w.T  # −½ Σ over ordered pairs = −Σ over n_k > n_l
+    return out

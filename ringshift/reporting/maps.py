@@ -32,6 +32,7 @@ from matplotlib.figure import Figure
 from matplotlib.lines import Line2D
 
 from ringshift import _numbers as numbers
+from ringshift import limits
 from ringshift.constants import JB_SEPARATION_A
 from ringshift.errors import InputError
 from ringshift.reporting.figure_style import FITTED, INK, MUTED, PRIOR, STYLE
@@ -99,6 +100,12 @@ class NormalScan:
     currents_from: str
     model: str = "polygon"
 
+
+#: Grid points evaluated per block by :func:`shielding_map` (the per-loop factors of one block take
+#: 8 bytes × block × loops: 13 MB for 100 loops), so a 601² grid no longer holds loops × 361 201 floats.
+MAP_POINTS_PER_BLOCK = 16384
+
+
 def _checked(extent_A, grid, height_A):
     if not (np.isfinite(extent_A) and extent_A > 0):
         raise InputError(f"extent_A={extent_A!r}; expected a positive number of Å", "extent_A")
@@ -154,8 +161,15 @@ def shielding_map(source, *, circuit: str | None = None, plane: str = "ring", he
     offset = height_A * fr.n if plane == "ring" else 0.0
     pts = fr.centre + offset + a.reshape(-1, 1) * fr.u + b.reshape(-1, 1) * second
     sep = float(pred.provenance.get("separation_A", JB_SEPARATION_A))
-    val = loop_shift_ppm(pts, loops, model=model, separation_A=sep)
-    val[wire_distance_A(pts, loops, separation_A=sep) < mask_A] = np.nan
+    est = limits.estimate_map(pts.shape[0], len(loops), 2 * sum(len(lp.vertices) for lp in loops),
+                              MAP_POINTS_PER_BLOCK, max((len(lp.vertices) for lp in loops), default=0))
+    limits.check_estimate(est, f"the {plane}-plane map", "grid")
+    val = np.empty(pts.shape[0])
+    with limits.progress(f"{plane}-plane map", est):
+        for lo in range(0, pts.shape[0], MAP_POINTS_PER_BLOCK):  # memory O(block × loops), not O(grid² × loops)
+            blk = slice(lo, lo + MAP_POINTS_PER_BLOCK)
+            val[blk] = loop_shift_ppm(pts[blk], loops, model=model, separation_A=sep)
+            val[blk][wire_distance_A(pts[blk], loops, separation_A=sep) < mask_A] = np.nan
     return ShieldingMap(plane, float(height_A if plane == "ring" else 0.0), ax, val.reshape(a.shape), fr, origin,
                         loops, model)
 

@@ -17,7 +17,7 @@ import numpy as np
 from rdkit import Chem
 
 from ringshift import _validation as _v
-from ringshift import fields
+from ringshift import fields, limits
 from ringshift.constants import (
     BENZENE_CURRENT_NA_PER_T,
     BETA_MODELS,
@@ -225,6 +225,9 @@ def predict(structure: Structure, *, model: str = DEFAULT_MODEL, currents: str =
             raise InputError(f"no circuit labelled {key!r}; this molecule has {', '.join(labels) or 'none'}",
                              "set_current" if key in (set_current or {}) else "scale")
     notes.extend(pi.warnings)
+    est = limits.estimate_predict(len(pi.atoms), len(pi.bonds), sum(a.GetAtomicNum() == 1 for a in mol.GetAtoms()),
+                                  len(loops), coords.shape[0], huckel=currents == "huckel" and bool(loops))
+    limits.check_estimate(est, "the prediction", structure.source)
 
     # currents: (n_conf, n_loops) nA/T
     cur = np.zeros((coords.shape[0], len(loops)))
@@ -238,7 +241,8 @@ def predict(structure: Structure, *, model: str = DEFAULT_MODEL, currents: str =
                              "need pi atoms (use the 'benzene' current source or give the current yourself)",
                              "user_circuits")
         kek_K = float(structure.provenance.get("temperature_K", 298.15)) if kekule_average else None
-        cur, hl_status, london = huckel_london_currents(structure, pi, loops, geoms, beta_model, kek_K)
+        with limits.progress("Hückel–London currents", est):
+            cur, hl_status, london = huckel_london_currents(structure, pi, loops, geoms, beta_model, kek_K)
         sources = [f"huckel-london ({beta_model} beta)" if st == "ok" else "none: " + st for st in hl_status]
         for st in set(hl_status) - {"ok"}:
             notes.append(st)
