@@ -4,8 +4,9 @@ Without 3D input, conformers are embedded with ETKDG v3 with macrocycle torsions
 Riniker, J. Chem. Inf. Model. 2020, 60, 2044), optimised with MMFF94 (Halgren, J. Comput. Chem. 1996, 17,
 490), rejected when their embedded E/Z configuration differs from the input's (:func:`ez_stereo_check`),
 kept within an energy window, pruned by RMSD over graph automorphisms and weighted by
-:func:`boltzmann_weights` (p_k ∝ exp(−E_k / RT), CODATA R via SciPy). The count
-(:func:`default_conformer_count`) is larger for rings of 12 or more atoms.
+:func:`boltzmann_weights` (p_k ∝ exp(−E_k / RT), CODATA R via SciPy). Small rigid molecules get a fixed
+count (:func:`default_conformer_count`); macrocycles and polycycles are searched in rounds that stop once the
+search stops finding new low-energy minima, with that count as the cap (:func:`_search_rounds`).
 """
 
 from __future__ import annotations
@@ -146,8 +147,9 @@ def ez_stereo_check(mol_with_stereo: Chem.Mol, coords: np.ndarray) -> list[str]:
 # --------------------------------------------------------------------------------------- conformers
 def default_conformer_count(mol: Chem.Mol) -> int:
     """Conformers to embed: 30 for small rigid molecules; for the searched ones (:func:`needs_search`: a ring
-    of >= 12 atoms, a bridged or >= 3-ring fused system) 1200 / n_atoms, clipped to 12..40, spread over
-    several seeds and joined by flat starts (see :func:`_generate`), so that a 40-heavy-atom porphyrin stays
+    of >= 12 atoms, a bridged or >= 3-ring fused system) at most 1200 / n_atoms, clipped to 12..40 (the cap
+    of the adaptive rounds, which stop earlier when nothing new turns up), spread over several seeds and
+    joined by flat starts (see :func:`_generate`), so that a 40-heavy-atom porphyrin stays
     within seconds on one core (benchmarks/bench_conformers.py)."""
     if not needs_search(mol):
         return _CONFORMERS_RIGID
