@@ -282,6 +282,9 @@ def _new_minima(heavy_xyz: np.ndarray, energies: np.ndarray | None, old: list[in
     are new low-energy minima: within ``window`` kcal/mol of the lowest candidate so far and more than ``rmsd_A``
     Å (over automorphisms and rotations, as :func:`prune_conformers`) from every distinct low-energy minimum of
     the earlier rounds ``old`` and from every new one already counted (lower energy first)."""
+    if not new:                                      # e.g. every minimum of the round changed its E/Z
+        return 0
+
     def order(cs: list[int]) -> list[int]:
         if energies is None:
             return sorted(cs)

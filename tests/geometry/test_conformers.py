@@ -214,6 +214,7 @@ def test_new_minima_rule():
     assert cf._new_minima(x, e, [0], [1, 2], perms, 10.0, 0.3) == 1       # distinct, within the window
     assert cf._new_minima(x, e, [0], [3], perms, 10.0, 0.3) == 0          # distinct but 50 kcal/mol above
     assert cf._new_minima(x, None, [0], [3], perms, 10.0, 0.3) == 1       # no force field: shape alone
+    assert cf._new_minima(x, e, [], [], perms, 10.0, 0.3) == 0            # nothing passed the E/Z check
 
 
 def test_progress_is_quiet_off_a_terminal(capsys):
