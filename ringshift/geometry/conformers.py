@@ -4,13 +4,16 @@ Without 3D input, conformers are embedded with ETKDG v3 with macrocycle torsions
 Riniker, J. Chem. Inf. Model. 2020, 60, 2044), optimised with MMFF94 (Halgren, J. Comput. Chem. 1996, 17,
 490), rejected when their embedded E/Z configuration differs from the input's (:func:`ez_stereo_check`),
 kept within an energy window, pruned by RMSD over graph automorphisms and weighted by
-:func:`boltzmann_weights` (p_k ∝ exp(−E_k / RT), CODATA R via SciPy). The count
-(:func:`default_conformer_count`) is larger for rings of 12 or more atoms.
+:func:`boltzmann_weights` (p_k ∝ exp(−E_k / RT), CODATA R via SciPy). Small rigid molecules get a fixed
+count (:func:`default_conformer_count`); macrocycles and polycycles are searched in rounds that stop once the
+search stops finding new low-energy minima, with that count as the cap (:func:`_search_rounds`).
 """
 
 from __future__ import annotations
 
 import os
+import sys
+import time
 import warnings
 
 import numpy as np
@@ -33,7 +36,7 @@ from ringshift.geometry.macrocycle import (
     project_onto_plane,
     ring_cis_pattern,
 )
-from ringshift.geometry.symmetry import automorphisms, prune_conformers, symmetry_graph
+from ringshift.geometry.symmetry import automorphisms, kabsch_rmsd, prune_conformers, symmetry_graph
 
 __all__ = ['ez_stereo_check', 'boltzmann_weights', 'default_conformer_count']
 
@@ -46,6 +49,17 @@ _PERIMETER_NODES = 200_000        # enumeration budget per ring (partial paths)
 _PERIMETER_ATTEMPTS = 50          # ETKDG attempts per perimeter start (impossible ones fail in smoothing)
 _PROJECTED = 4                    # lowest distinct bent minima projected onto their plane
 _FLAT_RMS_A = 0.1                 # conjugated ring atoms within this RMS of a plane count as flat, Å
+# Adaptive rounds of the search (issue 16): a round embeds _ROUND_PER_SEED conformers with each of the
+# _SEARCH_SEEDS seeds (8 a round: the smallest round in which every seed still contributes a pair, so one unlucky
+# seed cannot end the search). The search stops when the embeddings since the last round that added a new
+# low-energy minimum are at least as many as those before it, and at least _PATIENCE rounds (a search that found
+# its last minimum late must spend as much again before it may stop: with 1 round of patience alone, [14]annulene
+# stopped at 24 of 40 embeddings missing a populated conformer, shifts off by 3.5 ppm, measured), or when the
+# embeddings reach the count (:func:`default_conformer_count`, the cap: never more work than the fixed search it
+# replaces). Porphine stops after 2 rounds (16 of 31 embeddings); flexible rings run to the cap.
+_ROUND_PER_SEED = 2
+_PATIENCE = 1
+_PROGRESS_AFTER_S = 2.0           # a search running longer shows one progress line on a terminal (stderr)
 
 # --------------------------------------------------------------------------------------- array kernels
 def boltzmann_weights(energies_kcal_mol: np.ndarray, temperature_K: float) -> np.ndarray:
@@ -133,8 +147,9 @@ def ez_stereo_check(mol_with_stereo: Chem.Mol, coords: np.ndarray) -> list[str]:
 # --------------------------------------------------------------------------------------- conformers
 def default_conformer_count(mol: Chem.Mol) -> int:
     """Conformers to embed: 30 for small rigid molecules; for the searched ones (:func:`needs_search`: a ring
-    of >= 12 atoms, a bridged or >= 3-ring fused system) 1200 / n_atoms, clipped to 12..40, spread over
-    several seeds and joined by flat starts (see :func:`_generate`), so that a 40-heavy-atom porphyrin stays
+    of >= 12 atoms, a bridged or >= 3-ring fused system) at most 1200 / n_atoms, clipped to 12..40 (the cap
+    of the adaptive rounds, which stop earlier when nothing new turns up), spread over several seeds and
+    joined by flat starts (see :func:`_generate`), so that a 40-heavy-atom porphyrin stays
     within seconds on one core (benchmarks/bench_conformers.py)."""
     if not needs_search(mol):
         return _CONFORMERS_RIGID
@@ -238,18 +253,142 @@ def _noisy(x: np.ndarray, rng: np.random.Generator) -> np.ndarray:
     return x + rng.normal(0.0, FLAT_NOISE_A, size=x.shape)
 
 
+class _Progress:
+    """One self-overwriting line on stderr, only when stderr is a terminal and the search has run longer than
+    _PROGRESS_AFTER_S; :meth:`close` erases it (also on Ctrl-C, so the stop message starts a clean line)."""
+
+    def __init__(self) -> None:
+        self.t0, self.shown = time.monotonic(), False
+        try:
+            self.tty = sys.stderr is not None and sys.stderr.isatty()
+        except (AttributeError, ValueError):         # replaced or closed stream
+            self.tty = False
+
+    def update(self, text: str) -> None:
+        if self.tty and (self.shown or time.monotonic() - self.t0 > _PROGRESS_AFTER_S):
+            sys.stderr.write(f"\r\033[Kconformer search: {text}")
+            sys.stderr.flush()
+            self.shown = True
+
+    def close(self) -> None:
+        if self.shown:
+            sys.stderr.write("\r\033[K")
+            sys.stderr.flush()
+
+
+def _new_minima(heavy_xyz: np.ndarray, energies: np.ndarray | None, old: list[int], new: list[int],
+                autos: np.ndarray, window: float, rmsd_A: float) -> int:
+    """How many of the candidates ``new`` (this round's, E/Z-checked; indices into ``heavy_xyz`` (n, n_heavy, 3) Å)
+    are new low-energy minima: within ``window`` kcal/mol of the lowest candidate so far and more than ``rmsd_A``
+    Å (over automorphisms and rotations, as :func:`prune_conformers`) from every distinct low-energy minimum of
+    the earlier rounds ``old`` and from every new one already counted (lower energy first)."""
+    if not new:                                      # e.g. every minimum of the round changed its E/Z
+        return 0
+
+    def order(cs: list[int]) -> list[int]:
+        if energies is None:
+            return sorted(cs)
+        best = float(energies[old + new].min())
+        return sorted((c for c in cs if energies[c] - best <= window), key=lambda c: (energies[c], c))
+
+    low_old = order(old)
+    reps = [low_old[k] for k in prune_conformers(heavy_xyz[low_old], autos, rmsd_A)] if low_old else []
+    count = 0
+    for c in order(new):
+        if not reps or kabsch_rmsd(heavy_xyz[c][autos][:, None], heavy_xyz[reps][None]).min() > rmsd_A:
+            reps.append(c)
+            count += 1
+    return count
+
+
+def _search_rounds(mol: Chem.Mol, n: int, seeds: list[int], search: bool, refs, rng: np.random.Generator,
+                   threads: int, source: str, window: float, rmsd_A: float, heavy: list[int], autos: np.ndarray,
+                   extra_starts: list[np.ndarray] | None):
+    """Embed and minimise in rounds until a round adds no new low-energy minimum (:func:`_new_minima`) for
+    _PATIENCE rounds running, or ``n`` embeddings (the cap) are spent; molecules that need no search get one
+    round of ``n`` with the single seed (the fixed count). Round 1 uses ``seeds`` and, for a search, adds the
+    perimeter starts and ``extra_starts``; round r > 1 uses the r-th seed :func:`derived_seeds` gives for each of
+    ``seeds``. Returns coords (k, n_atoms, 3) Å, energies (k,) kcal/mol or None, force field, not converged,
+    origins, embedded, rejected for E/Z, basic knowledge, and the info dict (perimeter counts, search_rounds,
+    search_stop)."""
+    progress = _Progress()
+    xyz: list[np.ndarray] = []
+    energy: list[float] | None = []
+    origin: list[str] = []
+    ff, not_converged, rejected, embedded_n, basic, done, rounds, last_new = None, 0, 0, 0, True, 0, 0, 0
+    info: dict = {}
+    per_round = _ROUND_PER_SEED * len(seeds) if search else n
+    try:
+        while True:
+            size = min(per_round, n - done)
+            counts = [size // len(seeds) + (k < size % len(seeds)) for k in range(len(seeds))]
+            if rounds == 0:
+                embedded, basic = _embed(mol, counts, seeds, threads, source)
+            else:
+                round_seeds = [derived_seeds(s, rounds + 1)[rounds] for s in seeds]
+                embedded = [x for s, k in zip(round_seeds, counts) if k > 0
+                            for x in _embed_confs(mol, k, _etkdg(s, basic, threads))]
+            done, rounds, embedded_n = done + size, rounds + 1, embedded_n + len(embedded)
+            starts = [x for x in embedded if not _ez_problems(refs, x)]
+            rejected += len(embedded) - len(starts)
+            org = ["embedded"] * len(starts)
+            if rounds == 1:
+                if search:
+                    perimeter, info = _perimeter_starts(mol, refs, seeds[0], basic, threads)
+                    flat = [_noisy(x, rng) for x in perimeter if not _ez_problems(refs, x)]
+                    rejected += len(perimeter) - len(flat)
+                    starts, org = starts + flat, org + ["perimeter"] * len(flat)
+                if extra_starts:
+                    given = [np.asarray(x, dtype=np.float64) for x in extra_starts if not _ez_problems(refs, x)]
+                    starts, org = starts + given, org + ["given"] * len(given)
+                if not starts:
+                    why = _ez_problems(refs, embedded[0])[0]
+                    raise InputError(f"embedded geometry contradicts the E/Z stereo: {why} (all {len(embedded)} "
+                                     "conformers); check the stereo marks or supply 3D coordinates", source=source)
+            new = 0
+            if starts:
+                c, e, f, nc = _optimise(mol, starts, threads)
+                if rounds > 1 and (e is None) != (energy is None):     # the force field failed in this round only
+                    info.update(search_rounds=rounds - 1, search_stop="force-field")
+                    break
+                first = len(xyz)
+                xyz, origin, not_converged = xyz + list(c), origin + org, not_converged + nc
+                if rounds == 1:
+                    ff, energy = f, (None if e is None else [])
+                if energy is not None and e is not None:
+                    energy.extend(float(v) for v in e)
+                if search:
+                    hx = np.stack(xyz)[:, heavy]
+                    ok = [k for k in range(len(xyz)) if not _ez_problems(refs, xyz[k])]
+                    new = _new_minima(hx, None if energy is None else np.asarray(energy), [k for k in ok if k < first],
+                                      [k for k in ok if k >= first], autos, window, rmsd_A)
+            last_new = done if new else last_new
+            converged = done - last_new >= max(_PATIENCE * per_round, last_new)
+            progress.update(f"round {rounds}, {done}/{n} embeddings, {new} new low-energy conformer(s)")
+            if not search or done >= n or converged:
+                stop = "fixed-count" if not search else ("converged" if converged else "cap")
+                info.update(search_rounds=rounds, search_stop=stop)
+                break
+    finally:
+        progress.close()
+    coords = np.stack(xyz)
+    energies = None if energy is None else np.asarray(energy, dtype=np.float64)
+    return coords, energies, ff, not_converged, origin, embedded_n, rejected, basic, info
+
+
 def _generate(mol: Chem.Mol, n: int, seed: int, window: float, rmsd_A: float, source: str, *, threads: int = 0,
               extra_starts: list[np.ndarray] | None = None):
     """Embed, add flat starts, minimise, reject E/Z contradictions, apply the window, sort, prune.
 
     Small rigid molecules: ``n`` ETKDG v3 embeddings with ``seed`` (Wang, Witek, Landrum & Riniker, J. Chem.
     Inf. Model. 2020, 60, 2044), MMFF94 (Halgren, J. Comput. Chem. 1996, 17, 490). Molecules that
-    :func:`needs_search` (macrocycles, bridged and fused polycycles): ``n`` embeddings spread over
-    _SEARCH_SEEDS seeds derived from ``seed`` (:func:`derived_seeds`), plus the honeycomb perimeters of each
-    isolated conjugated ring of >= 12 atoms (:func:`honeycomb_perimeters`), all minimised; then the
-    _PROJECTED lowest distinct minima that are not yet flat are projected onto the plane of their conjugated
-    ring atoms (:func:`project_onto_plane`) and minimised again. Flat starts get a small deterministic
-    out-of-plane displacement. E/Z is checked after embedding, after projection and after minimisation.
+    :func:`needs_search` (macrocycles, bridged and fused polycycles): embeddings in rounds of _ROUND_PER_SEED
+    per seed over _SEARCH_SEEDS seeds derived from ``seed`` (:func:`derived_seeds`), stopped after _PATIENCE
+    rounds without a new low-energy minimum or at ``n`` embeddings (:func:`_search_rounds`), plus the
+    honeycomb perimeters of each isolated conjugated ring of >= 12 atoms (:func:`honeycomb_perimeters`), all
+    minimised; then the _PROJECTED lowest distinct minima that are not yet flat are projected onto the plane
+    of their conjugated ring atoms (:func:`project_onto_plane`) and minimised again. Flat starts get a small
+    deterministic out-of-plane displacement. E/Z is checked after embedding, after projection and after minimisation.
 
     Returns coords (n_conf, n_atoms, 3) Å sorted by energy, energies (n_conf,) kcal/mol relative to the lowest
     (None without a force field) and the provenance dict. ``threads``: RDKit threads (0 = every core this
@@ -260,30 +399,13 @@ def _generate(mol: Chem.Mol, n: int, seed: int, window: float, rmsd_A: float, so
     threads = threads or _available_cores()
     search = needs_search(mol)
     seeds = derived_seeds(seed, _SEARCH_SEEDS if search else 1)
-    counts = [n // len(seeds) + (k < n % len(seeds)) for k in range(len(seeds))]
     refs = _cis_references(mol)
     rng = np.random.default_rng(int(seed))
-    embedded, basic = _embed(mol, counts, seeds, threads, source)
-    starts = [x for x in embedded if not _ez_problems(refs, x)]
-    rejected = len(embedded) - len(starts)
-    origin = ["embedded"] * len(starts)
-    info: dict = {}
-    if search:
-        perimeter, info = _perimeter_starts(mol, refs, seed, basic, threads)
-        flat = [_noisy(x, rng) for x in perimeter if not _ez_problems(refs, x)]
-        rejected += len(perimeter) - len(flat)
-        starts, origin = starts + flat, origin + ["perimeter"] * len(flat)
-    if extra_starts:
-        given = [np.asarray(x, dtype=np.float64) for x in extra_starts if not _ez_problems(refs, x)]
-        starts, origin = starts + given, origin + ["given"] * len(given)
-    if not starts:
-        raise InputError(f"embedded geometry contradicts the E/Z stereo: {_ez_problems(refs, embedded[0])[0]} (all "
-                         f"{len(embedded)} conformers); check the stereo marks or supply 3D coordinates",
-                         source=source)
-    coords, energies, ff, not_converged = _optimise(mol, starts, threads)
     heavy = [a.GetIdx() for a in mol.GetAtoms() if a.GetAtomicNum() > 1]
     tags = {a.GetIdx(): 1 + a.GetTotalNumHs(includeNeighbors=True) for a in mol.GetAtoms()}
     autos = automorphisms(symmetry_graph(mol, heavy, tags))
+    coords, energies, ff, not_converged, origin, n_embedded, rejected, basic, info = _search_rounds(
+        mol, n, seeds, search, refs, rng, threads, source, window, rmsd_A, heavy, autos, extra_starts)
     planar_atoms = conjugated_ring_atoms(mol)
     if search and energies is not None and len(planar_atoms) >= 3:
         ok = sorted((c for c in range(len(coords)) if not _ez_problems(refs, coords[c])),
@@ -311,7 +433,7 @@ def _generate(mol: Chem.Mol, n: int, seed: int, window: float, rmsd_A: float, so
     kept = [ok[k] for k in prune_conformers(coords[ok][:, heavy], autos, rmsd_A)]
     rel = None if energies is None else energies[kept] - energies[kept].min()
     info = {"coordinates": "etkdg-v3" + (f"+{ff}" if ff else ""), "embedding_basic_knowledge": basic,
-            "conformers_requested": n, "conformers_embedded": len(embedded),
+            "conformers_requested": n, "conformers_embedded": n_embedded,
             "conformers_rejected_ez": int(rejected), "conformers_kept": len(kept),
             "not_converged": int(not_converged),
             "search": "multi-seed+flat-starts" if search else "single-seed", "search_seeds": seeds,

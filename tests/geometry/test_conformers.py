@@ -175,3 +175,60 @@ def test_ctrl_c_during_embedding_raises_instead_of_falling_back():
         cf._embed_confs(mol, 4, cf._etkdg(1, True, 1))
     timer.join()
     assert time.perf_counter() - t0 < 10.0
+
+
+PORPHINE = "c1cc2cc3ccc(cc4ccc(cc5ccc(cc1n2)[nH]5)n4)[nH]3"
+
+
+def test_rigid_porphine_search_stops_after_two_rounds():
+    # porphine has one MMFF94 minimum (planar D2h core; X-ray of porphine: Webb & Fleischer, J. Chem. Phys. 1965,
+    # 43, 3100, from memory): round 1 finds it, round 2 adds nothing, so the search stops at 16 of 31 embeddings
+    mol = _mol_from_smiles(PORPHINE)[0]
+    n = cf.default_conformer_count(mol)
+    coords, _, info = cf._generate(mol, n, 42, 10.0, 0.3, "test")
+    assert n == 1200 // 38 and info["conformers_requested"] == n
+    assert info["search_rounds"] == 2 and info["search_stop"] == "converged"
+    assert info["conformers_embedded"] == 2 * cf._ROUND_PER_SEED * cf._SEARCH_SEEDS < n
+    assert coords.shape[0] == 1 and mc.planarity_rms_A(coords[0], mc.conjugated_ring_atoms(mol)) < 0.05
+
+
+def test_search_never_exceeds_the_count_and_small_molecules_keep_one_round():
+    mol = _mol_from_smiles("[H]/C1=C/C=C\\C=C/C=C\\C=C/C=C\\C=C1\\[H]")[0]      # [14]annulene, flexible
+    _, _, info = cf._generate(mol, 12, 0, 10.0, 0.3, "test")
+    assert info["conformers_embedded"] <= 12 and info["search_stop"] in ("cap", "converged")
+    assert info["search_rounds"] == 2                           # 8 + 4 embeddings: the cap cuts round 2
+    benzene = _mol_from_smiles("c1ccccc1")[0]
+    _, _, info = cf._generate(benzene, 30, 42, 10.0, 0.3, "test")
+    assert info["search_rounds"] == 1 and info["search_stop"] == "fixed-count" and info["conformers_embedded"] == 30
+
+
+def test_new_minima_rule():
+    # synthetic (invented) coordinates: 3 points, identity permutation only
+    x = np.array([[[0, 0, 0], [1, 0, 0], [0, 1, 0]],
+                  [[0, 0, 0], [1, 0, 0], [0, 1, 0]],              # duplicate of 0
+                  [[0, 0, 0], [3, 0, 0], [0, 3, 0]],              # distinct shape
+                  [[0, 0, 0], [2, 0, 0], [0, 2, 0]]], dtype=float)
+    perms = np.array([[0, 1, 2]])
+    e = np.array([0.0, 0.1, 5.0, 50.0])
+    assert cf._new_minima(x, e, [0], [1], perms, 10.0, 0.3) == 0          # duplicate: not new
+    assert cf._new_minima(x, e, [0], [1, 2], perms, 10.0, 0.3) == 1       # distinct, within the window
+    assert cf._new_minima(x, e, [0], [3], perms, 10.0, 0.3) == 0          # distinct but 50 kcal/mol above
+    assert cf._new_minima(x, None, [0], [3], perms, 10.0, 0.3) == 1       # no force field: shape alone
+    assert cf._new_minima(x, e, [], [], perms, 10.0, 0.3) == 0            # nothing passed the E/Z check
+
+
+def test_progress_is_quiet_off_a_terminal(capsys):
+    p = cf._Progress()
+    p.t0 -= 10.0                                                  # as if the search had run 10 s
+    p.update("round 3")
+    p.close()
+    assert capsys.readouterr().err == ""                          # pytest's captured stderr is not a terminal
+    p = cf._Progress()
+    p.tty = True                                                  # as on a terminal
+    p.update("round 1")
+    assert capsys.readouterr().err == ""                          # a search shorter than 2 s stays silent
+    p.t0 -= 10.0
+    p.update("round 2")
+    p.close()
+    err = capsys.readouterr().err
+    assert "conformer search: round 2" in err and err.endswith("\r\033[K")   # the line is erased at the end
