@@ -19,10 +19,21 @@ from ringshift.cli import (
     parse_assignments,
     structure_options,
 )
-from ringshift.errors import InputError, OutputError
+from ringshift.errors import InputError
 
 #: Choices of --configurations: ringshift.geometry.configurations.CONFIGURATION_MODES (a test checks them).
 CONFIGURATION_CHOICES = ("given", "open", "all")
+
+
+#: Options compare and report share word for word.
+solvent_option = click.option(
+    "--solvent", default=None,
+    help="Deuterated solvent (e.g. CDCl3); a line at its residual position (or at 0 ppm, TMS) is kept in the "
+         "sample or set aside as solvent/tms by the integrals.")
+correlations_option = click.option(
+    "--correlations", type=click.Path(dir_okay=False), default=None, metavar="FILE",
+    help="H-H correlation list (COSY cross peaks, CSV: shift_a_ppm,shift_b_ppm[,kind,strength]) used as "
+         "evidence in the assignment.")
 
 
 @cli.command("compare")
@@ -30,17 +41,13 @@ CONFIGURATION_CHOICES = ("given", "open", "all")
 @click.argument("peaks", type=click.Path(dir_okay=False))
 @_apply(structure_options)
 @_apply(model_options)
-@click.option("--solvent", default=None,
-              help="Deuterated solvent (e.g. CDCl3); a line at its residual position (or at 0 ppm, TMS) is kept in the "
-                   "sample or set aside as solvent/tms by the integrals.")
+@solvent_option
 @name_option
 @click.option("--claim", type=click.Choice(["aromatic", "antiaromatic", "nonaromatic"]), default=None,
               help="Check an aromaticity claim against the spectrum.")
 @click.option("--noise", default=None, metavar="PPM|auto",
               help="Model error of a predicted shift in ppm [default: 0.3], or 'auto' (maximum evidence).")
-@click.option("--correlations", type=click.Path(dir_okay=False), default=None, metavar="FILE",
-              help="H-H correlation list (COSY cross peaks, CSV: shift_a_ppm,shift_b_ppm[,kind,strength]) used as "
-                   "evidence in the assignment.")
+@correlations_option
 @click.option("--configurations", "configurations", type=click.Choice(CONFIGURATION_CHOICES), default=None,
               help="Ring E/Z: given (as the input says), open (rank every configuration of the ring double bonds the "
                    "SMILES leaves open), all (every ring double bond) [default: open when the SMILES leaves ring "
@@ -112,15 +119,15 @@ def _require_protons(pred, structure):
 
 
 def _nmredata_precheck(nmredata, output, force, inputs):
-    """Refuse --nmredata before the fit: the same file as -o, an input of the run, or a file in the way."""
-    from os.path import abspath, exists, isfile, samefile
+    """Refuse --nmredata before the fit: the same file as -o, or what the output contract refuses (an input of
+    the run, a file in the way without --force, a link, a device; ringshift.io.writing.check_output_file)."""
+    from os.path import abspath
+
+    from ringshift.io.writing import check_output_file
 
     if output and abspath(output) == abspath(nmredata):
         raise InputError("names the same file as -o; give the NMReDATA file a name of its own", "--nmredata")
-    if exists(nmredata) and any(isfile(src) and samefile(nmredata, src) for src in inputs):
-        raise OutputError(f"{nmredata}: is an input of this run; choose another output path")
-    if exists(nmredata) and not force:
-        raise OutputError(f"{nmredata}: already exists; use --force to overwrite it")
+    check_output_file(nmredata, force=force, inputs=inputs)
 
 
 def _correlations(path):
@@ -154,16 +161,12 @@ def _noise(value):
 @click.argument("peaks", required=False, type=click.Path(dir_okay=False))
 @_apply(structure_options)
 @_apply(model_options)
-@click.option("--solvent", default=None,
-              help="Deuterated solvent (e.g. CDCl3); a line at its residual position (or at 0 ppm, TMS) is kept in the "
-                   "sample or set aside as solvent/tms by the integrals.")
+@solvent_option
 @name_option
 @click.option("--claim", type=click.Choice(["aromatic", "antiaromatic", "nonaromatic"]), default=None,
               help="The aromaticity claim to check against the fitted currents (needs PEAKS).")
 @click.option("--noise", default=None, metavar="PPM|auto", help="Model error of a predicted shift (ppm) or 'auto'.")
-@click.option("--correlations", type=click.Path(dir_okay=False), default=None, metavar="FILE",
-              help="H-H correlation list (COSY cross peaks, CSV: shift_a_ppm,shift_b_ppm[,kind,strength]) used as "
-                   "evidence in the assignment.")
+@correlations_option
 @click.option("-o", "--output", "out_dir", type=click.Path(file_okay=False), required=True,
               help="New folder for the report (HTML, figures, JSON, SDF).")
 @click.option("--force", is_flag=True, help="Replace an existing report folder.")
