@@ -312,7 +312,8 @@ def predict(structure: Structure, *, model: str = DEFAULT_MODEL, currents: str =
     if not h_idx and not isotope_note(mol):
         notes.append("the molecule has no hydrogens: nothing to predict")
 
-    refs = reference_shifts(mol, reference_table, h_idx) if h_idx else {}
+    refs = (reference_shifts(mol, reference_table, h_idx, coords=structure.coords, weights=structure.weights)
+            if h_idx else {})
     charge_ppm = charge_term_ppm(structure, pi, h_idx, beta_model,
                                  huckel_results=[lc.huckel for lc in london] or None)
     pos = {h: k for k, h in enumerate(h_idx)}

@@ -30,6 +30,7 @@ from ringshift import _validation as _v
 from ringshift import limits as _limits
 from ringshift.errors import InputError
 from ringshift.shifts.classes import classify_hydrogens
+from ringshift.shifts.hbonds import refine_nh_classes
 
 __all__ = ['ReferenceShift', 'ReferenceTable', 'ReferenceArrays', 'CSV_COLUMNS', 'load_reference_table',
            'reference_shifts', 'reference_arrays', 'assemble_prediction']
@@ -224,11 +225,15 @@ def load_reference_table(path: str | Path | None = None, *, extend_default: bool
 
 
 def reference_shifts(mol, table: ReferenceTable | None = None,
-                     h_indices: Iterable[int] | None = None) -> dict[int, ReferenceShift]:
+                     h_indices: Iterable[int] | None = None, *, coords=None,
+                     weights=None) -> dict[int, ReferenceShift]:
     """Reference shift of each hydrogen: H atom index -> the table entry of its class.
 
     ``mol`` and ``h_indices`` as in :func:`classify_hydrogens`; ``table`` defaults to the packaged
-    table. Raises :class:`InputError` as there, or when the table lacks a class that is needed.
+    table. With ``coords`` (n_conf, n_atoms, 3) Å and ``weights`` (n_conf,), pyrrole-type NH that are
+    hydrogen-bonded to an imine-like N in 3D get their own class
+    (:func:`ringshift.shifts.hbonds.refine_nh_classes`). Raises :class:`InputError` as there, or when the
+    table lacks a class that is needed.
     """
     if table is None:
         table = load_reference_table()
@@ -236,6 +241,9 @@ def reference_shifts(mol, table: ReferenceTable | None = None,
         raise InputError(f"got {type(table).__name__}; expected a ReferenceTable "
                          "(see load_reference_table)", source="table")
     classes = classify_hydrogens(mol, h_indices)
+    if coords is not None:
+        w = np.full(len(coords), 1.0 / len(coords)) if weights is None else np.asarray(weights, dtype=float)
+        classes = refine_nh_classes(mol, classes, np.asarray(coords, dtype=float), w)
     return {i: table[c] for i, c in classes.items()}
 
 

@@ -231,7 +231,9 @@ def test_every_packaged_class_is_reachable(table):
     produced = set()
     for smiles in CATALOGUE.values():
         produced |= set(class_counts(smiles))
-    assert produced == set(table.classes)
+    # The hydrogen-bonded NH class is assigned from 3D geometry (ringshift.shifts.hbonds), not from the
+    # graph: tests/shifts/test_hbonds.py reaches it.
+    assert produced | {"NH_pyrrole_type_H_bonded_N"} == set(table.classes)
 
 
 @pytest.mark.parametrize(
