@@ -237,6 +237,8 @@ TIME_OPTION: str = "--time-limit"
 _OVERRIDE: dict[str, float | None] = {"memory_MB": None, "time_s": None}
 #: Steps estimated to take longer than this show a progress line on stderr (only on a terminal), s.
 PROGRESS_AFTER_S: float = 3.0
+#: Interval of the progress line's clock, s.
+PROGRESS_TICK_S: float = 1.0
 
 # Calibration (benchmarks/bench_resources.py, hexagonal C–H flakes, one core of a shared 2-core machine):
 # after the blocked bond polarisability, a 474-carbon flake peaks at 47 MB traced / 178 MB RSS, of
@@ -389,7 +391,7 @@ class progress:  # noqa: N801 - used as a context manager, like open()
     def _run(self, t0: float) -> None:
         import time
         assert self._stop is not None
-        while not self._stop.wait(1.0):
+        while not self._stop.wait(PROGRESS_TICK_S):
             self.stream.write(f"\r\x1b[Kringshift: {self.step} ({self.detail}) … {time.monotonic() - t0:.0f} s of "
                               f"about {self.est.seconds:.0f} s ")
             self.stream.flush()
