@@ -28,6 +28,14 @@ MIN_EXTENT_A                 0.001 Å         spread of a molecule of ≥ 2 atom
 MIN_ATOM_DISTANCE_A          0.5 Å           any two atoms (closer: duplicated or overlapping atoms)
 ===========================  ==============  =========================================================
 
+Memory and time. Before conformer generation (:func:`estimate_conformers`: atoms and candidate geometries),
+the Hückel–London step (:func:`estimate_predict`) and a shielding map (:func:`estimate_map`) the cost is
+estimated from sizes and compared with the limits (:func:`check_estimate`): :data:`DEFAULT_MEMORY_MB` and
+:data:`DEFAULT_TIME_S`, or the environment variables :data:`MEMORY_ENV` / :data:`TIME_ENV`, or the command-line
+options :data:`MEMORY_OPTION` / :data:`TIME_OPTION` (:func:`set_limits`; the option wins). Over a limit, the
+step is refused with one line naming the option, before any output is written. Steps estimated at more than
+:data:`PROGRESS_AFTER_S` show a progress line on stderr when it is a terminal (:class:`progress`).
+
 The shortest real interatomic distance is that of H₂, 0.741 Å (CRC Handbook of Chemistry and
 Physics, bond lengths table; from memory), so 0.5 Å cannot refuse a real structure.
 """
