@@ -55,10 +55,10 @@ def unit_problem(symbols, coords) -> str | None:
         return None                                     # too few to judge, or beyond the limits' own refusal
     xs = x[sel]
     nearest = np.empty(len(sel))
-    for lo in range(0, len(sel), 256):    # row blocks: memory ~256 × n, not n² × 3 (700 MB for 3202 atoms)
-        d = np.linalg.norm(xs[lo:lo + 256, None, :] - xs[None, :, :], axis=2)
-        d[np.arange(d.shape[0]), lo + np.arange(d.shape[0])] = np.inf
-        nearest[lo:lo + d.shape[0]] = d.min(axis=1)
+    for start in range(0, len(sel), 256):    # row blocks: memory ~256 × n, not n² × 3 (700 MB for 3202 atoms)
+        d = np.linalg.norm(xs[start:start + 256, None, :] - xs[None, :, :], axis=2)
+        d[np.arange(d.shape[0]), start + np.arange(d.shape[0])] = np.inf
+        nearest[start:start + d.shape[0]] = d.min(axis=1)
     nn = float(np.median(nearest))
     lo, hi = _NN_RANGE_A
     if lo <= nn <= hi:
