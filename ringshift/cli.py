@@ -17,6 +17,7 @@ from collections.abc import Sequence
 
 import click
 
+from ringshift.cli_limits import limit_options
 from ringshift.constants import BETA_MODELS, CURRENT_SOURCES, DEFAULT_MODEL, MAP_MODELS, MODELS
 from ringshift.errors import InputError, OutputError, RingshiftWarning
 
@@ -114,9 +115,8 @@ def parse_assignments(items: Sequence[str], option: str) -> dict[str, float]:
 
 structure_options = [
     click.option("--charge", type=int, default=None, help="Net charge (needed for XYZ input of ions)."),
-    click.option("--conformers", type=click.IntRange(1, 5000), default=None,
-                 help="Conformers to generate when no 3D coordinates are given "
-                      "[default: 30, or 200 with a ring of 12 or more atoms]."),
+    click.option("--conformers", type=click.IntRange(1, 5000), default=None, help="Conformers to generate when no "
+                 "3D coordinates are given [default: 30, or 12-40 with a ring of 12 or more atoms]."),
     click.option("--seed", type=int, default=42, show_default=True, help="Random seed for conformer generation."),
     click.option("--temperature", type=click.FloatRange(1.0, 2000.0), default=298.15, show_default=True,
                  help="Temperature (K) for Boltzmann weights."),
@@ -125,7 +125,7 @@ structure_options = [
                       "that conformational and bond-shift processes interchange (e.g. annulene inner/outer)."),
     click.option("--geometry", type=click.Choice(GEOMETRY_CHOICES), default="force-field", show_default=True,
                  help="MMFF94 (or input) conformers, or re-optimised by GFN2-xTB (pip install 'ringshift[xtb]')."),
-]
+] + limit_options  # --memory-limit, --time-limit
 
 model_options = [
     click.option("--model", type=click.Choice(MODELS),

@@ -28,6 +28,14 @@ MIN_EXTENT_A                 0.001 Å         spread of a molecule of ≥ 2 atom
 MIN_ATOM_DISTANCE_A          0.5 Å           any two atoms (closer: duplicated or overlapping atoms)
 ===========================  ==============  =========================================================
 
+Memory and time. Before conformer generation (:func:`estimate_conformers`: atoms and candidate geometries),
+the Hückel–London step (:func:`estimate_predict`) and a shielding map (:func:`estimate_map`) the cost is
+estimated from sizes and compared with the limits (:func:`check_estimate`): :data:`DEFAULT_MEMORY_MB` and
+:data:`DEFAULT_TIME_S`, or the environment variables :data:`MEMORY_ENV` / :data:`TIME_ENV`, or the command-line
+options :data:`MEMORY_OPTION` / :data:`TIME_OPTION` (:func:`set_limits`; the option wins). Over a limit, the
+step is refused with one line naming the option, before any output is written. Steps estimated at more than
+:data:`PROGRESS_AFTER_S` show a progress line on stderr when it is a terminal (:class:`progress`).
+
 The shortest real interatomic distance is that of H₂, 0.741 Å (CRC Handbook of Chemistry and
 Physics, bond lengths table; from memory), so 0.5 Å cannot refuse a real structure.
 """
@@ -45,7 +53,8 @@ __all__ = ["MAX_FILE_BYTES", "MAX_LINE_CHARS", "MAX_SMILES_CHARS", "MAX_ATOMS", 
            "MAX_SPECTRUM_POINTS", "MAX_ABS_COORDINATE_A", "MIN_EXTENT_A", "MIN_ATOM_DISTANCE_A",
            "check_file_size", "read_text_bytes", "read_text", "check_lines", "check_count", "check_coordinates",
            "DEFAULT_MEMORY_MB", "MEMORY_ENV", "DEFAULT_TIME_S", "TIME_ENV", "Estimate", "estimate_predict",
-           "estimate_map", "check_estimate", "progress"]
+           "estimate_map", "estimate_conformers", "check_estimate", "progress", "set_limits", "MEMORY_OPTION",
+           "TIME_OPTION", "current_limits", "overrides", "note"]
 
 MAX_FILE_BYTES: int = 200 * 2**20
 MAX_LINE_CHARS: int = 100_000
@@ -229,8 +238,15 @@ MEMORY_ENV: str = "RINGSHIFT_MEMORY_MB"
 #: Time a single predict or map may need before it is refused, s; raised with this environment variable.
 DEFAULT_TIME_S: float = 900.0
 TIME_ENV: str = "RINGSHIFT_TIME_LIMIT_S"
+#: The command-line options of our own that set the limits (they override the environment variables).
+MEMORY_OPTION: str = "--memory-limit"
+TIME_OPTION: str = "--time-limit"
+#: Limits given by the command line or the API (None: the environment variable, else the default).
+_OVERRIDE: dict[str, float | None] = {"memory_MB": None, "time_s": None}
 #: Steps estimated to take longer than this show a progress line on stderr (only on a terminal), s.
 PROGRESS_AFTER_S: float = 3.0
+#: Interval of the progress line's clock, s.
+PROGRESS_TICK_S: float = 1.0
 
 # Calibration (benchmarks/bench_resources.py, hexagonal C–H flakes, one core of a shared 2-core machine):
 # after the blocked bond polarisability, a 474-carbon flake peaks at 47 MB traced / 178 MB RSS, of
@@ -283,6 +299,51 @@ def estimate_map(n_points: int, n_loops: int, n_segments: int, block: int, max_l
                     f"{n_points} grid points, {n_loops} loops, {n_segments} wire segments")
 
 
+# Conformer generation (measured with 'C=C'*k polyene SMILES, one core of the shared 2-core machine,
+# benchmarks/bench_resources.py): the MMFF94 minimisation of one conformer of N atoms takes ~9.1 s at N = 202
+# and grows as N³ (2000 iterations at most, each over all N² atom pairs; 30 conformers of N = 42, 62, 82
+# took 3.7, 12 and 21 s, the model gives 3.0, 7.9 and 18 s); one ETKDG attempt (bounds smoothing and
+# embedding) takes 1.3 s at N = 402 and 8.6 s at N = 802 (~N^2.7), and peaks at 73 MB and 550 MB above the
+# interpreter at N = 802 and 1602 (~N^2.9). Every candidate costs at least one attempt and one minimisation.
+_FF_S_202 = 9.1
+_EMBED_S_402 = 1.3
+_EMBED_MB_802 = 73.0
+
+
+def estimate_conformers(n_atoms: int, n_candidates: int) -> Estimate:
+    """Memory and time of conformer generation for a molecule of ``n_atoms`` atoms (hydrogens included):
+    ``n_candidates`` embeddings each minimised (the cap of the search plus its extra starts). A lower bound
+    for flexible molecules, where ETKDG needs many attempts per conformer. Calibration in the module."""
+    n = float(n_atoms)
+    per = _EMBED_S_402 * (n / 402.0) ** 2.7 + _FF_S_202 * (n / 202.0) ** 3
+    return Estimate(_BASE_MB + _EMBED_MB_802 * (n / 802.0) ** 2.9, 1.0 + n_candidates * per,
+                    f"{n_atoms} atoms, {n_candidates} conformer candidates")
+
+
+def set_limits(memory_MB: float | None = None, time_s: float | None = None) -> None:
+    """Set the memory (MB) and time (s) limits of this process (the command-line options
+    :data:`MEMORY_OPTION` and :data:`TIME_OPTION` call this); None returns to the environment variable or
+    the default. Raises InputError for a value that is not a positive number."""
+    for key, value, name in (("memory_MB", memory_MB, MEMORY_OPTION), ("time_s", time_s, TIME_OPTION)):
+        if value is not None and not (isinstance(value, (int, float)) and float(value) > 0
+                                      and np.isfinite(float(value))):
+            raise InputError(f"expected a positive number, got {value!r}", name)
+        _OVERRIDE[key] = None if value is None else float(value)
+
+
+def overrides() -> tuple[float | None, float | None]:
+    """The limits set by :func:`set_limits` (memory MB, time s; None where not set), e.g. to pass to workers."""
+    return _OVERRIDE["memory_MB"], _OVERRIDE["time_s"]
+
+
+def current_limits() -> tuple[float, float]:
+    """The memory (MB) and time (s) limits in force: the option (:func:`set_limits`), else the environment
+    variable, else the default."""
+    mem, t = _OVERRIDE["memory_MB"], _OVERRIDE["time_s"]
+    return (mem if mem is not None else _limit(MEMORY_ENV, DEFAULT_MEMORY_MB),
+            t if t is not None else _limit(TIME_ENV, DEFAULT_TIME_S))
+
+
 def _limit(env: str, default: float) -> float:
     raw = os.environ.get(env, "").strip()
     if not raw:
@@ -296,19 +357,22 @@ def _limit(env: str, default: float) -> float:
     return value
 
 
-def check_estimate(est: Estimate, step: str, source: str) -> None:
-    """Refuse (InputError) a step whose estimate exceeds the memory or time limit, naming the variable
-    that raises it; the limits are :data:`DEFAULT_MEMORY_MB` and :data:`DEFAULT_TIME_S` unless the
-    environment variables :data:`MEMORY_ENV` / :data:`TIME_ENV` say otherwise."""
-    mem_max, t_max = _limit(MEMORY_ENV, DEFAULT_MEMORY_MB), _limit(TIME_ENV, DEFAULT_TIME_S)
+def check_estimate(est: Estimate, step: str, source: str, hint: str = "") -> None:
+    """Refuse (InputError, one line) a step whose estimate exceeds the memory or time limit, naming the option
+    and the variable that raise it; the limits are those of :func:`current_limits`. ``hint``: another way
+    out, appended to the message (e.g. "or give 3D coordinates")."""
+    mem_max, t_max = current_limits()
+    extra = f"; {hint}" if hint else ""
     if est.memory_MB > mem_max:
         raise InputError(f"{step} would need about {est.memory_MB:.0f} MB of memory ({est.what}), over the "
-                         f"limit of {mem_max:g} MB; raise it with {MEMORY_ENV}=MB if the machine has the memory",
-                         source)
+                         f"limit of {mem_max:g} MB; raise it with {MEMORY_OPTION} MB (or {MEMORY_ENV}=MB) if the "
+                         f"machine has the memory{extra}", source)
     if est.seconds > t_max:
-        took = f"{est.seconds:.0f} s" if est.seconds < 120 else f"{est.seconds / 60:.0f} min"
+        took = f"{est.seconds:.0f} s" if est.seconds < 120 else (f"{est.seconds / 60:.0f} min" if est.seconds < 7200
+                                                                  else f"{est.seconds / 3600:.0f} h")
         raise InputError(f"{step} would take about {took} ({est.what}), over the limit of "
-                         f"{t_max:g} s; raise it with {TIME_ENV}=SECONDS to run it anyway", source)
+                         f"{t_max:g} s; raise it with {TIME_OPTION} SECONDS (or {TIME_ENV}=SECONDS) to run it "
+                         f"anyway{extra}", source)
 
 
 class progress:  # noqa: N801 - used as a context manager, like open()
@@ -317,9 +381,12 @@ class progress:  # noqa: N801 - used as a context manager, like open()
     the end. Quiet when stderr is not a terminal or the estimate is under :data:`PROGRESS_AFTER_S`.
     ``stream`` (default sys.stderr) is for tests."""
 
+    current: progress | None = None   # the progress line shown now, if any (for :func:`note`)
+
     def __init__(self, step: str, est: Estimate, stream=None) -> None:
         import sys
         self.step, self.est, self.stream = step, est, stream if stream is not None else sys.stderr
+        self.detail = est.what
         self._stop: Any = None      # threading.Event while a progress line is shown
         self._thread: Any = None
 
@@ -332,8 +399,8 @@ class progress:  # noqa: N801 - used as a context manager, like open()
     def _run(self, t0: float) -> None:
         import time
         assert self._stop is not None
-        while not self._stop.wait(1.0):
-            self.stream.write(f"\rringshift: {self.step} ({self.est.what}) … {time.monotonic() - t0:.0f} s of "
+        while not self._stop.wait(PROGRESS_TICK_S):
+            self.stream.write(f"\r\x1b[Kringshift: {self.step} ({self.detail}) … {time.monotonic() - t0:.0f} s of "
                               f"about {self.est.seconds:.0f} s ")
             self.stream.flush()
 
@@ -344,11 +411,23 @@ class progress:  # noqa: N801 - used as a context manager, like open()
             self._stop = threading.Event()
             self._thread = threading.Thread(target=self._run, args=(time.monotonic(),), daemon=True)
             self._thread.start()
+            progress.current = self
         return self
 
     def __exit__(self, *exc) -> None:
         if self._thread is not None and self._stop is not None:
             self._stop.set()
             self._thread.join()
+            progress.current = None
             self.stream.write("\r\x1b[K")  # erase the progress line
             self.stream.flush()
+
+
+def note(text: str) -> bool:
+    """Show ``text`` as the detail of the progress line shown now (e.g. "round 2, 16/40 embeddings");
+    False when no progress line is shown (quiet, or not on a terminal)."""
+    cur = progress.current
+    if cur is None:
+        return False
+    cur.detail = text
+    return True

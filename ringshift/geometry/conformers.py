@@ -156,6 +156,14 @@ def default_conformer_count(mol: Chem.Mol) -> int:
     return int(min(_SEARCH_MAX, max(_SEARCH_MIN, _SEARCH_ATOM_BUDGET // max(1, mol.GetNumAtoms()))))
 
 
+def candidate_count(mol: Chem.Mol, n: int) -> int:
+    """Most geometries :func:`_generate` minimises for ``n`` embeddings (for the cost estimate): ``n``, and for a
+    search the honeycomb perimeters of each isolated conjugated ring and the projected minima."""
+    if not needs_search(mol):
+        return int(n)
+    return int(n) + _MAX_PERIMETERS * len(perimeter_rings(mol)) + _PROJECTED
+
+
 def _etkdg(seed: int, basic_knowledge: bool, threads: int, max_iterations: int = 0) -> rdDistGeom.EmbedParameters:
     params = rdDistGeom.ETKDGv3()
     # rdkit-stubs type the property setters of EmbedParameters as (*args, **kwargs)
@@ -265,6 +273,10 @@ class _Progress:
             self.tty = False
 
     def update(self, text: str) -> None:
+        from ringshift import limits
+
+        if limits.note(text):                       # a progress line of the whole step is shown: give it the detail
+            return
         if self.tty and (self.shown or time.monotonic() - self.t0 > _PROGRESS_AFTER_S):
             sys.stderr.write(f"\r\033[Kconformer search: {text}")
             sys.stderr.flush()

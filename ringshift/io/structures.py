@@ -29,6 +29,7 @@ from ringshift.errors import GeometryWarning, InputError
 from ringshift.geometry.conformers import (
     _generate,
     boltzmann_weights,
+    candidate_count,
     default_conformer_count,
     ez_stereo_check,
 )
@@ -270,8 +271,12 @@ def _complete(base: Chem.Mol, coords, energies, name: str, spec: str, prov: dict
         raise InputError(f"charge={charge} contradicts the net formal charge {net} of the input", source=spec)
     if coords is None:
         n = conformers if conformers is not None else default_conformer_count(base)
-        coords, energies, info = _generate(base, int(n), seed, float(energy_window_kcal_mol),
-                                           float(rmsd_prune_A), spec, extra_starts=extra_starts)
+        est = _limits.estimate_conformers(base.GetNumAtoms(), candidate_count(base, int(n)) + len(extra_starts or ()))
+        _limits.check_estimate(est, "conformer generation", _short(spec),
+                               hint="or give 3D coordinates (SDF or XYZ) or fewer conformers")
+        with _limits.progress("conformer generation", est):
+            coords, energies, info = _generate(base, int(n), seed, float(energy_window_kcal_mol),
+                                               float(rmsd_prune_A), spec, extra_starts=extra_starts)
         prov.update(info, seed=int(seed), rmsd_prune_A=float(rmsd_prune_A),
                     energy_window_kcal_mol=float(energy_window_kcal_mol))
     else:

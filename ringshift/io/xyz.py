@@ -53,9 +53,13 @@ def unit_problem(symbols, coords) -> str | None:
     sel = [k for k, sym in enumerate(symbols) if sym in _ORGANIC]
     if len(sel) < 3 or 2 * len(sel) < len(symbols) or not np.all(np.abs(x) <= _limits.MAX_ABS_COORDINATE_A):
         return None                                     # too few to judge, or beyond the limits' own refusal
-    d = np.linalg.norm(x[sel, None, :] - x[None, sel, :], axis=2)
-    np.fill_diagonal(d, np.inf)
-    nn = float(np.median(d.min(axis=1)))
+    xs = x[sel]
+    nearest = np.empty(len(sel))
+    for start in range(0, len(sel), 256):    # row blocks: memory ~256 × n, not n² × 3 (700 MB for 3202 atoms)
+        d = np.linalg.norm(xs[start:start + 256, None, :] - xs[None, :, :], axis=2)
+        d[np.arange(d.shape[0]), start + np.arange(d.shape[0])] = np.inf
+        nearest[start:start + d.shape[0]] = d.min(axis=1)
+    nn = float(np.median(nearest))
     lo, hi = _NN_RANGE_A
     if lo <= nn <= hi:
         return None

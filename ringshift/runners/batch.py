@@ -83,10 +83,14 @@ def usable_cores() -> int:
         return max(1, os.cpu_count() or 1)
 
 
-def worker_init(parent_pid: int) -> None:
+def worker_init(parent_pid: int, resource_limits: tuple[float | None, float | None] = (None, None)) -> None:
     """Initializer of every worker process: die with the parent (Linux ``prctl(PR_SET_PDEATHSIG, SIGKILL)``),
-    leave Ctrl-C to the parent, let SIGTERM kill (:func:`ringshift._signals.reset_in_child`)."""
+    leave Ctrl-C to the parent, let SIGTERM kill (:func:`ringshift._signals.reset_in_child`), and apply the
+    parent's memory and time limits (:func:`ringshift.limits.set_limits`; MB, s)."""
+    from ringshift import limits
+
     _signals.reset_in_child()
+    limits.set_limits(*resource_limits)
     if sys.platform.startswith("linux"):
         import ctypes
 
@@ -165,7 +169,10 @@ def _dask_client(address: str):
 
 
 def _pool(workers: int) -> ProcessPoolExecutor:
-    return ProcessPoolExecutor(max_workers=workers, initializer=worker_init, initargs=(os.getpid(),))
+    from ringshift import limits
+
+    return ProcessPoolExecutor(max_workers=workers, initializer=worker_init,
+                               initargs=(os.getpid(), limits.overrides()))
 
 
 def _kill_workers(executor: ProcessPoolExecutor) -> None:
