@@ -10,13 +10,13 @@ replaced by a function that fails the test, so a refusal that came too late cann
 
 from __future__ import annotations
 
-import io
 import json
 
 import pytest
 
 from ringshift import limits
 from ringshift.cli import main
+from tests.test_resources import _Tty
 
 POLYENE = "C=C" * 30
 BUTADIENE = "C=CC=C"
@@ -119,15 +119,6 @@ def test_option_does_not_outlive_its_run(capsys):
 def test_bad_limit_value_is_one_line(value, capsys):
     code, _, err = run(["predict", BUTADIENE, "--memory-limit", value], capsys)
     assert code == 2 and err.count("\n") == 1 and "--memory-limit" in err and "positive number" in err
-
-
-class _Tty(io.StringIO):
-    def __init__(self, tty: bool) -> None:
-        super().__init__()
-        self.tty = tty
-
-    def isatty(self) -> bool:
-        return self.tty
 
 
 @pytest.mark.parametrize("tty", [True, False], ids=["terminal-shows-progress", "not-a-terminal-quiet"])
