@@ -26,12 +26,6 @@ from rdkit import Chem
 
 from ringshift import limits as _limits
 from ringshift.errors import GeometryWarning, InputError
-from ringshift.geometry.conformers import (
-    _generate,
-    boltzmann_weights,
-    default_conformer_count,
-    ez_stereo_check,
-)
 from ringshift.geometry.symmetry import EXCHANGE_RULES, group_equivalent_hydrogens
 from ringshift.io.molecule_files import (
     _check_chemistry,
@@ -269,6 +263,10 @@ def _complete(base: Chem.Mol, coords, energies, name: str, spec: str, prov: dict
     if charge is not None and charge != net:
         raise InputError(f"charge={charge} contradicts the net formal charge {net} of the input", source=spec)
     if coords is None:
+        # conformer generation (RDKit's distance geometry and force fields) loads only when it is used: a file
+        # with coordinates does not pay for it (start-up, issue 16)
+        from ringshift.geometry.conformers import _generate, default_conformer_count
+
         n = conformers if conformers is not None else default_conformer_count(base)
         coords, energies, info = _generate(base, int(n), seed, float(energy_window_kcal_mol),
                                            float(rmsd_prune_A), spec, extra_starts=extra_starts)
@@ -296,6 +294,8 @@ def _complete(base: Chem.Mol, coords, energies, name: str, spec: str, prov: dict
     except Exception as exc:
         raise InputError(f"RDKit cannot aromatise the molecule ({' '.join(str(exc).split())})", source=spec) from None
     if energies is not None:
+        from ringshift.geometry.conformers import boltzmann_weights
+
         weights = boltzmann_weights(energies, temperature_K)
     else:
         weights = np.full(coords.shape[0], 1.0 / coords.shape[0])
@@ -316,6 +316,8 @@ def _check_ez(mol: Chem.Mol, coords: np.ndarray, spec: str, *, generated: bool) 
     first record), so each later record of an ensemble is compared with the first, bond by bond, and another
     configuration is a warning that names the bond and the record."""
     if generated:
+        from ringshift.geometry.conformers import ez_stereo_check
+
         for c in range(coords.shape[0]):
             problems = ez_stereo_check(mol, coords[c])
             if problems:
