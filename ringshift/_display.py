@@ -24,7 +24,6 @@ pandas are imported when a method runs.
 
 from __future__ import annotations
 
-import html
 import os
 from collections.abc import Callable, Iterable, Sequence
 from typing import Any, ClassVar
@@ -110,6 +109,8 @@ def _signed(value: float | None, digits: int = 2) -> str:
 def _html_table(caption: str, header: Sequence[str], rows: Iterable[Sequence[Any]]) -> str:
     rows = list(rows)
     shown = rows[:HTML_MAX_ROWS]
+    import html  # loaded by the notebook views only (start-up)
+
     esc = html.escape
     parts = [f"<table><caption style='text-align:left;font-weight:bold'>{esc(caption)}</caption>",
              "<thead><tr>" + "".join(f"<th>{esc(h)}</th>" for h in header) + "</tr></thead><tbody>"]
@@ -123,6 +124,8 @@ def _html_table(caption: str, header: Sequence[str], rows: Iterable[Sequence[Any
 
 
 def _html_block(title: str, tables: Sequence[str], notes: Sequence[str] = ()) -> str:
+    import html
+
     body = [f"<div class='ringshift-result'><p><code>{html.escape(title)}</code></p>", *tables]
     if notes:
         body.append("<ul>" + "".join(f"<li>{html.escape(n)}</li>" for n in notes) + "</ul>")
@@ -315,6 +318,8 @@ class ComparisonDisplay(_Display):
         return f"{_short(pred.structure.name, 20)} vs {_short(source, 24)}: " + ", ".join(parts)
 
     def _html_tables(self, data: dict) -> list[str]:
+        import html
+
         comb = data.get("combined")
         source = ("the combined current" if data.get("verdict_basis") == "combined"
                   else f"circuit {data['verdict_circuit']}")

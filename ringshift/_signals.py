@@ -24,7 +24,6 @@ from __future__ import annotations
 
 import _thread
 import os
-import shutil
 import signal
 import sys
 import threading
@@ -95,6 +94,8 @@ def _handler(signum, frame):  # noqa: ARG001
 
 
 def _remove_temporaries() -> None:
+    import shutil  # only when a stop leaves temporaries: shutil is not needed at start-up
+
     with _LOCK:
         paths = sorted(_TEMPORARIES)
     for p in paths:

@@ -2,6 +2,7 @@
 
 from __future__ import annotations
 
+import math
 import subprocess
 import sys
 
@@ -61,3 +62,55 @@ def test_multipole_coefficients_match_scipy_binomial():
 
     assert [_binom_minus_three_halves(k) for k in range(8)] == pytest.approx([binom(-1.5, k) for k in range(8)],
                                                                              rel=1e-14)
+
+
+def test_benzene_reference_response_literals_recompute():
+    # the literal per beta model equals the benzene Hückel-London response computed from the model itself;
+    # 1e-12 relative admits a different BLAS/LAPACK rounding of the same computation (common practice, no source)
+    from ringshift.constants import BETA_MODELS
+    from ringshift.pi.london import BENZENE_RESPONSE_A2, benzene_reference_response, benzene_reference_response_computed
+
+    assert set(BENZENE_RESPONSE_A2) == set(BETA_MODELS)
+    for model in BETA_MODELS:
+        assert benzene_reference_response(model) == BENZENE_RESPONSE_A2[model]
+        assert BENZENE_RESPONSE_A2[model] == pytest.approx(benzene_reference_response_computed(model), rel=1e-12)
+
+
+#: Modules the predict-from-a-file path must not load (each cost 3-40 ms at start-up, measured for issue 16).
+NOT_ON_PREDICT_PATH = ("matplotlib", "scipy", "pandas", "numpy.ma", "numpy.polynomial", "ringshift.comparison",
+                       "ringshift.comparison.records", "ringshift.comparison.evidence", "ringshift.reporting.html",
+                       "ringshift.reporting.correlations", "ringshift.reporting.pi_summary",
+                       "ringshift.geometry.conformers", "rdkit.Chem.rdDistGeom", "rdkit.Chem.rdForceFieldHelpers",
+                       "ringshift.runners", "json", "html", "secrets", "shutil", "importlib.resources")
+
+
+def test_predict_from_xyz_loads_no_module_it_does_not_use(tmp_path):
+    # the whole command in a fresh process (text output of a benzene XYZ), then a look at sys.modules
+    xyz = tmp_path / "benzene.xyz"
+    xyz.write_text("12\nbenzene (idealised D6h, C-C 1.397 A, C-H 1.084 A)\n" + "".join(
+        f"{e} {x:.6f} {y:.6f} 0.0\n" for e, r in (("C", 1.397), ("H", 2.481))
+        for x, y in ((r * math.sin(k * math.pi / 3), r * math.cos(k * math.pi / 3)) for k in range(6))))
+    code = ("import sys, io, contextlib\n"
+            "from ringshift._entry import main\n"
+            "out = io.StringIO()\n"
+            "with contextlib.redirect_stdout(out):\n"
+            "    try:\n"
+            "        main(['predict', sys.argv[1]])\n"
+            "    except SystemExit as e:\n"
+            "        assert e.code == 0, e.code\n"
+            "assert 'H1' in out.getvalue(), out.getvalue()\n"
+            f"print(sorted(m for m in {NOT_ON_PREDICT_PATH!r} if m in sys.modules))\n")
+    out = subprocess.run([sys.executable, "-c", code, str(xyz)], capture_output=True, text=True, timeout=120)
+    assert out.returncode == 0, out.stderr
+    assert out.stdout.strip().splitlines()[-1] == "[]", out.stdout + out.stderr
+
+
+def test_import_ringshift_stays_light_and_the_api_still_works():
+    # a notebook user: import ringshift loads no NumPy, RDKit or CLI; ringshift.predict then works
+    code = ("import sys, ringshift\n"
+            "print(sorted(m for m in ('numpy', 'rdkit', 'click', 'scipy', 'ringshift.cli') if m in sys.modules))\n"
+            "p = ringshift.predict('c1ccccc1', conformers=1)\n"
+            "print(len(p.groups))\n")
+    out = subprocess.run([sys.executable, "-c", code], capture_output=True, text=True, timeout=300)
+    assert out.returncode == 0, out.stderr
+    assert out.stdout.split() == ["[]", "1"], out.stdout + out.stderr

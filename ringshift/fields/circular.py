@@ -11,7 +11,6 @@ nA/T, σ > 0 shielding.
 from __future__ import annotations
 
 import numpy as np
-from numpy.polynomial.legendre import legval
 
 from ringshift import _validation as _v
 from ringshift.constants import FAR_FIELD_RADII, JB_SEPARATION_A, MU0_PPM_A_PER_NA_T, WIRE_CUTOFF_A
@@ -47,6 +46,8 @@ def _loop_sigma_zz(rho, z, a):
     # Far: B_z = (mu0 I a²/2) Σ_n C(−3/2, n) (a/R)^(2n) P_(2n+2)(cos θ) / R³ (exterior multipole
     # expansion of the on-axis field μ0 I a²/(2 (a² + z²)^(3/2)), textbook; n = 0 is the point dipole).
     if np.any(far):
+        from numpy.polynomial.legendre import legval  # loaded here: numpy.polynomial costs ~10 ms at start-up
+
         R = np.sqrt(R2[far])
         ct = z[far] / R
         series = np.zeros_like(R)

@@ -166,7 +166,7 @@ def _ring_flips(mol: Chem.Mol, x: np.ndarray, rank: list[int], anchor: np.ndarra
         elem = np.array([mol.GetAtomWithIdx(int(k)).GetAtomicNum() for k in atoms])
         d[elem[:, None] != elem[None, :]] = np.inf
         best = np.argmin(d, axis=1)
-        if np.max(d[np.arange(atoms.size), best]) <= tol_A and np.unique(best).size == atoms.size:
+        if np.max(d[np.arange(atoms.size), best]) <= tol_A and len(set(best.tolist())) == atoms.size:
             yield atoms, atoms[best]
 
 

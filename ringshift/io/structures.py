@@ -26,13 +26,6 @@ from rdkit import Chem
 
 from ringshift import limits as _limits
 from ringshift.errors import GeometryWarning, InputError
-from ringshift.geometry.conformers import (
-    _generate,
-    boltzmann_weights,
-    candidate_count,
-    default_conformer_count,
-    ez_stereo_check,
-)
 from ringshift.geometry.symmetry import EXCHANGE_RULES, group_equivalent_hydrogens
 from ringshift.io.molecule_files import (
     _check_chemistry,
@@ -270,6 +263,10 @@ def _complete(base: Chem.Mol, coords, energies, name: str, spec: str, prov: dict
     if charge is not None and charge != net:
         raise InputError(f"charge={charge} contradicts the net formal charge {net} of the input", source=spec)
     if coords is None:
+        # conformer generation (RDKit's distance geometry and force fields) loads only when it is used: a file
+        # with coordinates does not pay for it (start-up, issue 16)
+        from ringshift.geometry.conformers import _generate, candidate_count, default_conformer_count
+
         n = conformers if conformers is not None else default_conformer_count(base)
         est = _limits.estimate_conformers(base.GetNumAtoms(), candidate_count(base, int(n)) + len(extra_starts or ()))
         _limits.check_estimate(est, "conformer generation", _short(spec),
@@ -301,6 +298,8 @@ def _complete(base: Chem.Mol, coords, energies, name: str, spec: str, prov: dict
     except Exception as exc:
         raise InputError(f"RDKit cannot aromatise the molecule ({' '.join(str(exc).split())})", source=spec) from None
     if energies is not None:
+        from ringshift.geometry.conformers import boltzmann_weights
+
         weights = boltzmann_weights(energies, temperature_K)
     else:
         weights = np.full(coords.shape[0], 1.0 / coords.shape[0])
@@ -321,6 +320,8 @@ def _check_ez(mol: Chem.Mol, coords: np.ndarray, spec: str, *, generated: bool) 
     first record), so each later record of an ensemble is compared with the first, bond by bond, and another
     configuration is a warning that names the bond and the record."""
     if generated:
+        from ringshift.geometry.conformers import ez_stereo_check
+
         for c in range(coords.shape[0]):
             problems = ez_stereo_check(mol, coords[c])
             if problems:

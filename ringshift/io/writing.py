@@ -17,8 +17,6 @@ from __future__ import annotations
 import errno
 import os
 import re
-import secrets
-import shutil
 import stat
 from collections.abc import Sequence
 from pathlib import Path
@@ -54,7 +52,7 @@ def new_file_mode() -> int:
 
 def temporary_name(output: Path, kind: str = "tmp") -> Path:
     """A fresh hidden sibling name ``.NAME.XXXXXXXX.<kind>`` of ``output``."""
-    return output.with_name(f".{output.name}.{secrets.token_hex(4)}.{kind}")
+    return output.with_name(f".{output.name}.{os.urandom(4).hex()}.{kind}")
 
 
 def public_path(path: str) -> str:
@@ -68,6 +66,8 @@ def remove_stale_temporaries(output: str | os.PathLike) -> list[str]:
     """Remove ``.NAME.XXXXXXXX.tmp``/``.old`` files and folders of ``output`` left by an interrupted run.
 
     Call it only with the output's lock held (then no live run owns them). Returns the names removed."""
+    import shutil  # here, not at start-up
+
     out = Path(os.path.abspath(output))
     pattern = re.compile(r"\." + re.escape(out.name) + _TEMP_TAIL)
     removed: list[str] = []

@@ -59,7 +59,8 @@ def unit_problem(symbols, coords) -> str | None:
         d = np.linalg.norm(xs[start:start + 256, None, :] - xs[None, :, :], axis=2)
         d[np.arange(d.shape[0]), start + np.arange(d.shape[0])] = np.inf
         nearest[start:start + d.shape[0]] = d.min(axis=1)
-    nn = float(np.median(nearest))
+    nearest = np.sort(nearest)                       # the median by hand: np.median loads numpy.ma (~30 ms)
+    nn = float(0.5 * (nearest[(len(nearest) - 1) // 2] + nearest[len(nearest) // 2]))
     lo, hi = _NN_RANGE_A
     if lo <= nn <= hi:
         return None

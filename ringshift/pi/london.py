@@ -406,13 +406,27 @@ def regular_polygon(n: int, side_A: float = BETA_REF_LENGTH_A) -> np.ndarray:
     return np.column_stack([rad * np.cos(t), rad * np.sin(t), np.zeros(n)])
 
 
-@cache
+#: :func:`benzene_reference_response` of the β models, Å², written out so that a run does not spend a benzene
+#: self-consistent bond-length search (~25 ms) on a constant of the model; tests/test_start_up.py recomputes every
+#: entry with :func:`benzene_reference_response_computed` (start-up, issue 16).
+BENZENE_RESPONSE_A2: dict[str, float] = {"scf": 0.5633809915732876, "scf-coulson": 0.565197760859959,
+                                         "distance": 0.5633809907514484, "uniform": 0.5633809907514484}
+
+
 def benzene_reference_response(beta_model: str) -> float:
     """Diatropic ring-current response g of benzene (regular hexagon, 1.397 Å) in the given β model.
 
     Returns the positive number, in Å², that a circuit current is divided by to give J/J_benzene.
-    A constant of the model: computed once per β model and process (cached).
+    A constant of the model: :data:`BENZENE_RESPONSE_A2`, or computed once per β model and process.
     """
+    if beta_model in BENZENE_RESPONSE_A2:
+        return BENZENE_RESPONSE_A2[beta_model]
+    return benzene_reference_response_computed(beta_model)
+
+
+@cache
+def benzene_reference_response_computed(beta_model: str) -> float:
+    """:func:`benzene_reference_response` computed from the model (cached per β model and process)."""
     xyz = regular_polygon(6)
     bonds = np.array([(i, (i + 1) % 6) for i in range(6)])
     ov = np.ones(6)

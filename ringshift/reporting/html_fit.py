@@ -10,7 +10,7 @@ from __future__ import annotations
 
 import html
 
-from ringshift.reporting.text import EVIDENCE_SCALE
+from ringshift.reporting.text import evidence_scale
 
 __all__ = ["verdict_box", "fit_section_body"]
 
@@ -67,7 +67,7 @@ def fit_section_body(pg, results: dict) -> str:
         ("log₁₀ BF best : runner-up", ("evidence", "log10_bf_margin"), ".2f"),
         ("strength (Kass–Raftery)", ("evidence", "kass_raftery"), None),
         ("P(J > 0)", ("evidence", "p_diatropic"), ".4f")])
-    body += f'<p class="def">{html.escape(EVIDENCE_SCALE)}</p>'
+    body += f'<p class="def">{html.escape(evidence_scale())}</p>'
     body += "<h3>Fit settings</h3>" + pg.kv("results", [
         ("model error σ (ppm)", ("noise_ppm",), ".3f"),
         ("σ chosen by maximum evidence", ("noise_estimated",), None),

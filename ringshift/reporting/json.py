@@ -10,7 +10,6 @@ There is one function per result type that produces plain Python data (:func:`pr
 from __future__ import annotations
 
 import dataclasses
-import json
 from typing import TYPE_CHECKING
 
 from ringshift._numbers import rounded as _r
@@ -136,6 +135,8 @@ def prediction_to_dict(pred) -> dict:
 
 def to_json(data: dict) -> str:
     """Deterministic JSON text (sorted keys are not used: the schema order is the reading order)."""
+    import json  # the standard library's, loaded when JSON is written (not at start-up)
+
     return json.dumps(data, indent=2, ensure_ascii=False, allow_nan=False) + "\n"
 
 

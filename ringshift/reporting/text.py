@@ -13,10 +13,10 @@ from typing import TYPE_CHECKING
 
 from ringshift._numbers import rounded as _r
 from ringshift._numbers import text
-from ringshift.comparison.evidence import DECISIVE_LOG10, KASS_RAFTERY_LOG10
-from ringshift.reporting.correlations import correlation_lines
 from ringshift.reporting.json import CAUTION
-from ringshift.reporting.pi_summary import circuit_verdict
+
+# The comparison's modules (evidence, correlations) and the π summary load where their text is written, so
+# that the predict command does not import the comparer (start-up, issue 16).
 
 if TYPE_CHECKING:
     from ringshift.comparison.run import CompareResult
@@ -27,6 +27,8 @@ __all__ = ['comparison_text']
 
 def comparison_text(res: CompareResult) -> str:
     """Readable summary: verdict, currents with intervals, assignment with residuals, warnings."""
+    from ringshift.reporting.correlations import correlation_lines
+
     c = res.comparison
     lines = [f"{res.prediction.structure.name} against {res.peaks.source}", "verdict: " + verdict_phrase(c)]
     if c.claim is not None:
@@ -47,7 +49,7 @@ def comparison_text(res: CompareResult) -> str:
     if c.combined is not None:
         lines.extend(combined_lines(c.combined))
     if c.circuits:
-        lines.append(EVIDENCE_SCALE)
+        lines.append(evidence_scale())
     lines.append("")
     lines.append("group  nH  class                     peak     observed  predicted  residual  ring current  "
                  "ref. needed without current")
@@ -74,13 +76,24 @@ def comparison_text(res: CompareResult) -> str:
     return "\n".join(lines) + "\n"
 
 
-#: How the reports read Bayes factors (one scale everywhere: log10 B).
-EVIDENCE_SCALE = (f"Evidence as log10 Bayes factors (B > 1 favours the first hypothesis). Categories of Kass & Raftery "
-                  f"(JASA 1995, 90, 773), their 2 ln B bounds 2, 6, 10 converted to log10 B: below "
-                  f"{KASS_RAFTERY_LOG10[1][0]:.2f} {KASS_RAFTERY_LOG10[0][1]}, from {KASS_RAFTERY_LOG10[1][0]:.2f} "
-                  f"{KASS_RAFTERY_LOG10[1][1]}, from {KASS_RAFTERY_LOG10[2][0]:.2f} {KASS_RAFTERY_LOG10[2][1]}, from "
-                  f"{KASS_RAFTERY_LOG10[3][0]:.2f} {KASS_RAFTERY_LOG10[3][1]}; a verdict needs a lead of "
-                  f"{DECISIVE_LOG10:.2f}.")
+def evidence_scale() -> str:
+    """How the reports read Bayes factors (one scale everywhere: log10 B); also ``EVIDENCE_SCALE``."""
+    from ringshift.comparison.evidence import DECISIVE_LOG10, KASS_RAFTERY_LOG10
+
+    return (f"Evidence as log10 Bayes factors (B > 1 favours the first hypothesis). Categories of Kass & Raftery "
+            f"(JASA 1995, 90, 773), their 2 ln B bounds 2, 6, 10 converted to log10 B: below "
+            f"{KASS_RAFTERY_LOG10[1][0]:.2f} {KASS_RAFTERY_LOG10[0][1]}, from {KASS_RAFTERY_LOG10[1][0]:.2f} "
+            f"{KASS_RAFTERY_LOG10[1][1]}, from {KASS_RAFTERY_LOG10[2][0]:.2f} {KASS_RAFTERY_LOG10[2][1]}, from "
+            f"{KASS_RAFTERY_LOG10[3][0]:.2f} {KASS_RAFTERY_LOG10[3][1]}; a verdict needs a lead of "
+            f"{DECISIVE_LOG10:.2f}.")
+
+
+def __getattr__(name: str) -> str:
+    # EVIDENCE_SCALE stays a module attribute (``from ringshift.reporting.text import EVIDENCE_SCALE``) without
+    # importing the comparer when only the prediction's text is needed
+    if name == "EVIDENCE_SCALE":
+        return evidence_scale()
+    raise AttributeError(f"module {__name__!r} has no attribute {name!r}")
 
 
 def verdict_phrase(c) -> str:
@@ -189,6 +202,8 @@ def prediction_csv(pred) -> str:
 
 def pi_text(summary: dict) -> str:
     """Readable text of :func:`pi_summary`."""
+    from ringshift.reporting.pi_summary import circuit_verdict
+
     lines = [f"{summary['name']}: {summary['pi_electrons']} pi electrons on {len(summary['pi_atoms'])} atoms "
              f"({summary['huckel_class'] or 'no pi system'}), charge {summary['charge']:+d}, "
              f"{len(summary['fragments'])} fragment(s)"]

@@ -20,7 +20,6 @@ import re
 from collections.abc import Iterable, Mapping
 from dataclasses import dataclass
 from functools import lru_cache
-from importlib import resources
 from pathlib import Path
 from types import MappingProxyType
 
@@ -181,8 +180,13 @@ def _parse_table_text(text: str, label: str) -> tuple[dict[str, ReferenceShift],
 @lru_cache(maxsize=1)
 def _packaged_table() -> ReferenceTable:
     """The packaged table, parsed once per process (it is immutable: entries is a read-only mapping)."""
-    resource = resources.files("ringshift").joinpath("data").joinpath(_PACKAGE_CSV)
-    text = resource.read_text(encoding="utf-8")
+    path = Path(__file__).resolve().parent.parent / "data" / _PACKAGE_CSV
+    if path.is_file():                       # an installed or source tree: read the file, no importlib.resources
+        text = path.read_text(encoding="utf-8")
+    else:                                    # a zipped install: through the package's resource reader
+        from importlib import resources
+
+        text = resources.files("ringshift").joinpath("data").joinpath(_PACKAGE_CSV).read_text(encoding="utf-8")
     entries, notes = _parse_table_text(text, f"ringshift/data/{_PACKAGE_CSV}")
     return ReferenceTable(entries=entries, name=f"ringshift default ({_PACKAGE_CSV})", basis=notes)
 

@@ -40,7 +40,7 @@ def _clean_limits(monkeypatch):
 def _forbid_heavy(monkeypatch):
     def boom(*a, **k):
         raise AssertionError("a heavy step ran although the estimate is over the limit")
-    monkeypatch.setattr("ringshift.io.structures._generate", boom)
+    monkeypatch.setattr("ringshift.geometry.conformers._generate", boom)   # imported lazily by io.structures
     monkeypatch.setattr("ringshift.shifts.prediction.huckel_london_currents", boom)
 
 
