@@ -118,3 +118,18 @@ def test_kekule_average_option_keeps_naphthalene_and_is_recorded(naphthalene):
     avg = predict(naphthalene, kekule_average=True)
     assert avg.provenance["kekule_average"] is True and plain.provenance["kekule_average"] is False
     assert_allclose([g.ring_current_ppm for g in avg.groups], [g.ring_current_ppm for g in plain.groups], atol=0.1)
+
+
+@pytest.mark.parametrize("smiles, expect_note", [
+    # [16]annulene: 16 pi electrons, 4n, twisted macrocycle (Sondheimer, Acc. Chem. Res. 1972, 5, 81: paratropic,
+    # inner H 10.5 ppm) -> the caution that a small current is no proof of an atropic ring
+    pytest.param("[H]/C1=C/C=C/C=C\\C=C\\C=C/C=C/C=C\\C=C1/[H]", True, id="annulene16-twisted-4n"),
+    # cyclooctatetraene: a tub is its real shape (common practice, no source) -> no caution
+    pytest.param("C1=CC=CC=CC=C1", False, id="cot-tub-no-caution"),
+    # benzene: 4n+2, planar -> no caution (common practice, no source)
+    pytest.param("c1ccccc1", False, id="benzene-no-caution"),
+])
+def test_twisted_4n_macrocycle_current_is_not_called_atropic(smiles, expect_note):
+    s = load_structure(smiles, seed=42, conformers=12)
+    notes = " ".join(predict(s).warnings)
+    assert ("no proof of an atropic ring" in notes) is expect_note
