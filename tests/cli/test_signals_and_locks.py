@@ -157,3 +157,73 @@ def test_files_written_respect_the_umask(tmp_path):
     subprocess.run(["sh", "-c", cmd], cwd=tmp_path, env=env, check=True, capture_output=True)
     for name in ("out.txt", "out.jsonl"):
         assert oct(os.stat(tmp_path / name).st_mode & 0o777) == oct(0o640), name
+
+
+def _raise_on_enter(signum):
+    from contextlib import contextmanager
+
+    from ringshift._signals import Stopped
+
+    @contextmanager
+    def cm():
+        raise Stopped(signum)
+        yield                                    # pragma: no cover
+
+    return cm
+
+
+def _raise_on_exit(signum):
+    from contextlib import contextmanager
+
+    from ringshift._signals import Stopped
+
+    @contextmanager
+    def cm():
+        yield
+        raise Stopped(signum)
+
+    return cm
+
+
+# (id, where the signal lands, the signal, exit code, output kept): the moments outside a command's own handling
+# that a real signal can only hit by chance (measured before the fix: exit 1 with a traceback)
+WINDOWS = [
+    ("entry-before-blocking", "entry", signal.SIGINT, 130, False),
+    ("watchdog-starting", "enter", signal.SIGINT, 130, False),
+    ("watchdog-starting-sigterm", "enter", signal.SIGTERM, 143, False),
+    ("inside-the-command", "command", signal.SIGTERM, 143, False),
+    ("after-the-command-ended", "exit", signal.SIGINT, 0, True),
+]
+
+
+@pytest.mark.parametrize("where, sig, code, kept", [c[1:] for c in WINDOWS], ids=[c[0] for c in WINDOWS])
+def test_a_signal_at_any_moment_is_one_line_and_its_exit_code(where, sig, code, kept, tmp_path, monkeypatch,
+                                                               capsys, request):
+    from ringshift import _entry, cli
+    from ringshift._signals import Stopped
+
+    monkeypatch.chdir(tmp_path)
+    mask = signal.pthread_sigmask(signal.SIG_BLOCK, [])          # the entry point blocks SIGINT/SIGTERM: undo
+    request.addfinalizer(lambda: signal.pthread_sigmask(signal.SIG_SETMASK, mask))
+    if where == "entry":
+        def interrupted():
+            raise KeyboardInterrupt
+        monkeypatch.setattr(_entry, "pin_threads", interrupted)
+    elif where == "enter":
+        monkeypatch.setattr(cli._signals, "stop_on_signals", _raise_on_enter(sig))
+    elif where == "exit":
+        monkeypatch.setattr(cli._signals, "stop_on_signals", _raise_on_exit(sig))
+    else:
+        def stopped(*args, **kwargs):
+            raise Stopped(sig)
+        monkeypatch.setattr(cli.cli, "make_context", stopped)
+    with pytest.raises(SystemExit) as exc:
+        _entry.main(["predict", "c1ccccc1", "--conformers", "1", "-o", "out.txt"])
+    out, err = capsys.readouterr()
+    assert exc.value.code == code
+    assert "Traceback" not in err and out == ""
+    if kept:                                     # the command had finished: its complete output stays
+        assert (tmp_path / "out.txt").read_text().startswith("c1ccccc1")
+    else:
+        assert err.strip().splitlines() == [err.strip()] and err.startswith("ringshift: stopped by")
+        assert list(tmp_path.iterdir()) == []
