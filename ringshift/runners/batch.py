@@ -26,6 +26,7 @@ at once and keeps the complete records written so far.
 
 from __future__ import annotations
 
+import contextlib
 import dataclasses
 import itertools
 import json
@@ -254,6 +255,7 @@ def run_batch(library_path, output_jsonl, *, jobs: int = 1, scheduler: str | Non
         found = read_batch_output(output)                                   # refuses a file that is not ours
         if (found.lines or found.partial) and not resume and not overwrite:
             raise OutputError(f"{output}: already exists; resume it or allow overwriting")
+        created = not os.path.lexists(output)        # a stopped run that wrote nothing leaves no file
         keys = {} if not resume else {i: n for i, n in reversed(found.keys)}
         total = _check_library(library, keys, output)
         if not resume:
@@ -265,7 +267,7 @@ def run_batch(library_path, output_jsonl, *, jobs: int = 1, scheduler: str | Non
         for note in notes:
             warnings.warn(note, OutputWarning, stacklevel=2)
         return _run(library, output, done, total, notes, t0, jobs=jobs, scheduler=scheduler, progress=progress,
-                    load_kwargs=load_kwargs, predict_kwargs=predict_kwargs)
+                    load_kwargs=load_kwargs, predict_kwargs=predict_kwargs, created=created)
 
 
 def _check_library(library: Path, done: Mapping[int, str], output: Path) -> int:
@@ -285,8 +287,9 @@ def _check_library(library: Path, done: Mapping[int, str], output: Path) -> int:
 
 
 def _run(library: Path, output: Path | None, done: Mapping[int, str], total: int, notes: list[str], t0: float, *,
-         jobs: int, scheduler, progress: bool, load_kwargs, predict_kwargs) -> BatchSummary:
-    """Compute the molecules not yet done and append their records (standard output when ``output`` is None)."""
+         jobs: int, scheduler, progress: bool, load_kwargs, predict_kwargs, created: bool = False) -> BatchSummary:
+    """Compute the molecules not yet done and append their records (standard output when ``output`` is None);
+    an output that this run ``created`` is removed again when a stop leaves it empty."""
     def pending() -> Iterator[LibraryItem]:
         for item in iter_library(library):
             if item.index not in done:
@@ -320,7 +323,11 @@ def _run(library: Path, output: Path | None, done: Mapping[int, str], total: int
         finally:
             bar.close()
     except KeyboardInterrupt as exc:   # Ctrl-C or SIGTERM: what is written is complete and resumable
-        if output is not None:
+        if output is not None and created and not done and not computed:
+            out.close()
+            with contextlib.suppress(OSError):
+                output.unlink()
+        elif output is not None:
             exc.detail = (f"{output} keeps the {len(done) + computed} complete records written so far; run the "  # type: ignore[attr-defined]
                           "same command again to resume")
         raise

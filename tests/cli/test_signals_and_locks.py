@@ -80,12 +80,23 @@ def test_a_signal_stops_the_run_promptly_and_leaves_no_output(tmp_path, args, ou
     lines = err.strip().splitlines()
     assert len(lines) == 1 and lines[0].startswith("ringshift: stopped by"), err
     left = sorted(p.name for p in tmp_path.iterdir())
-    if output == "out.jsonl":                   # a batch keeps its complete records (none yet): no partial line
-        assert left == ["L.smi", "out.jsonl"] and (tmp_path / "out.jsonl").read_text() == ""
-        assert "run the same command again to resume" in err
-    else:
-        assert left == ["L.smi"]                # no output, no temporary, no lock file
+    assert left == ["L.smi"]                    # no output (a new batch output with no record yet), no lock file
     _assert_gone(workers)
+
+
+def test_a_stopped_resumed_batch_keeps_its_complete_records(tmp_path):
+    (tmp_path / "L.smi").write_text("c1ccccc1 benzene\n")
+    assert finish(start(["batch", "L.smi", "-o", "out.jsonl", "--conformers", "1", "--quiet"], tmp_path), 60)[0] == 0
+    kept = (tmp_path / "out.jsonl").read_text()
+    (tmp_path / "L.smi").write_text(f"c1ccccc1 benzene\n{SLOW} a24\n")
+    proc = start(["batch", "L.smi", "-o", "out.jsonl", "--quiet"], tmp_path)
+    wait_for(lock_path(tmp_path / "out.jsonl"), proc)
+    time.sleep(1.5)
+    proc.send_signal(signal.SIGINT)
+    rc, _, err = finish(proc)
+    assert rc == 130 and "keeps the 1 complete records" in err and "run the same command again to resume" in err
+    assert (tmp_path / "out.jsonl").read_text() == kept           # the record of benzene, nothing partial
+    assert sorted(p.name for p in tmp_path.iterdir()) == ["L.smi", "out.jsonl"]
 
 
 def _children(pid: int) -> list[int]:
@@ -125,16 +136,20 @@ def test_batch_workers_die_with_a_killed_parent(tmp_path):
 
 
 def test_a_second_batch_on_the_same_output_refuses_and_nothing_is_written_twice(tmp_path):
-    (tmp_path / "L.smi").write_text(LIBRARY)
+    (tmp_path / "L.smi").write_text(f"c1ccccc1 benzene\n{SLOW} a24\n")
     first = start(["batch", "L.smi", "-o", "out.jsonl", "--quiet"], tmp_path)
-    wait_for(lock_path(tmp_path / "out.jsonl"), first)
+    out = tmp_path / "out.jsonl"
+    t0 = time.monotonic()
+    while not (out.exists() and out.read_text().endswith("\n")):      # benzene's record is written
+        assert first.poll() is None and time.monotonic() - t0 < 60, first.communicate()
+        time.sleep(0.05)
     second = start(["batch", "L.smi", "-o", "out.jsonl", "--quiet"], tmp_path)
     rc, _, err = finish(second)
     assert rc == 2 and "another ringshift run" in err and len(err.strip().splitlines()) == 1
     first.send_signal(signal.SIGTERM)
     assert finish(first)[0] == 143
-    records = [json.loads(line) for line in (tmp_path / "out.jsonl").read_text().splitlines()]
-    assert len({r["index"] for r in records}) == len(records)
+    records = [json.loads(line) for line in out.read_text().splitlines()]
+    assert [r["index"] for r in records] == [0]                 # benzene once; [24]annulene was stopped
 
 
 def test_a_second_report_to_the_same_folder_refuses_and_the_first_one_stands(tmp_path):
