@@ -100,14 +100,26 @@ def test_refused_outputs_change_nothing(work, capsys, args, words):
     assert snapshot(work) == before
 
 
-def test_dash_is_standard_output(work, capsys):
-    code, out, err = run(["predict", "c1ccccc1", "--conformers", "1", "-o", "-"], capsys)
+# (id, arguments, a check of standard output): `-o -` writes to standard output and never a file named "-"
+DASH = [
+    ("predict-text", ["predict", "c1ccccc1", "--conformers", "1", "-o", "-"], lambda out: "H" in out),
+    ("predict-json", ["predict", "c1ccccc1", "--conformers", "1", "--format", "json", "-o", "-"],
+     lambda out: len(json.loads(out)["protons"]) == 6),
+    ("trajectory", ["trajectory", "in.xyz", "-o", "-"], lambda out: "H" in out),
+    ("compare", ["compare", "c1ccccc1", "p.csv", "--conformers", "1", "-o", "-"], lambda out: "7.3" in out),
+    ("batch", ["batch", "L.smi", "-o", "-", "--conformers", "1", "--quiet"],
+     lambda out: [json.loads(x)["name"] for x in out.splitlines() if x.startswith("{")] == ["benzene", "pyridine"]),
+]
+
+
+@pytest.mark.parametrize("args, check", [c[1:] for c in DASH], ids=[c[0] for c in DASH])
+def test_dash_is_standard_output(work, capsys, args, check):
+    (work / "p.csv").write_text("shift_ppm,integral\n7.3,6\n")      # invented one-line peak list
+    before = snapshot(work)
+    code, out, err = run(args, capsys)
     assert code == 0, err
-    assert "H" in out and not (work / "-").exists()
-    code, out, err = run(["batch", "L.smi", "-o", "-", "--conformers", "1", "--quiet"], capsys)
-    assert code == 0, err
-    records = [json.loads(line) for line in out.splitlines() if line.startswith("{")]
-    assert [r["name"] for r in records] == ["benzene", "pyridine"] and not (work / "-").exists()
+    assert check(out) and not (work / "-").exists()
+    assert snapshot(work) == before
 
 
 def test_a_file_added_to_a_report_folder_is_never_deleted(work, capsys):
