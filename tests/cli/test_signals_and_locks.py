@@ -242,3 +242,47 @@ def test_a_signal_at_any_moment_is_one_line_and_its_exit_code(where, sig, code, 
     else:
         assert err.strip().splitlines() == [err.strip()] and err.startswith("ringshift: stopped by")
         assert list(tmp_path.iterdir()) == []
+
+
+def _file_size_limit(limit_bytes: int):
+    import resource
+
+    def limit():                                 # a real EFBIG from the kernel, as a full disk would give
+        signal.signal(signal.SIGINT, signal.SIG_DFL)
+        signal.signal(signal.SIGXFSZ, signal.SIG_IGN)
+        resource.setrlimit(resource.RLIMIT_FSIZE, (limit_bytes, limit_bytes))
+    return limit
+
+
+# (id, arguments, the output the message names, what is left besides L.smi): 2 KB is less than one record,
+# one JSON prediction or one report figure of benzene (measured: 2.2 KB, 5 KB, > 20 KB)
+FILE_TOO_LARGE = [
+    ("predict-json", ["predict", "c1ccccc1", "--conformers", "1", "--format", "json", "-o", "out.json"], "out.json"),
+    ("report", ["report", "c1ccccc1", "--conformers", "1", "-o", "rep", "--quiet"], "rep"),
+    ("batch-new-output", ["batch", "L.smi", "-o", "out.jsonl", "--conformers", "1", "--quiet"], "out.jsonl"),
+]
+
+
+@pytest.mark.parametrize("args, output", [c[1:] for c in FILE_TOO_LARGE], ids=[c[0] for c in FILE_TOO_LARGE])
+def test_a_write_the_kernel_refuses_is_exit_2_naming_the_output_and_leaves_nothing(tmp_path, args, output):
+    (tmp_path / "L.smi").write_text("c1ccccc1 benzene\nc1ccncc1 pyridine\n")
+    env = dict(os.environ, PYTHONPATH=str(ROOT))
+    proc = subprocess.run([sys.executable, "-m", "ringshift", *args], cwd=tmp_path, env=env, text=True,
+                          capture_output=True, preexec_fn=_file_size_limit(2048), timeout=120)
+    assert proc.returncode == 2, proc.stderr
+    assert proc.stderr.startswith(f"ringshift: error: {output}: ")
+    assert "File too large" in proc.stderr and len(proc.stderr.strip().splitlines()) == 1
+    assert sorted(p.name for p in tmp_path.iterdir()) == ["L.smi"]
+
+
+def test_a_batch_record_that_cannot_be_written_whole_is_cut_off_again(tmp_path):
+    (tmp_path / "L.smi").write_text("c1ccccc1 benzene\n")
+    env = dict(os.environ, PYTHONPATH=str(ROOT))
+    run = ["batch", "L.smi", "-o", "out.jsonl", "--conformers", "1", "--quiet"]
+    subprocess.run([sys.executable, "-m", "ringshift", *run], cwd=tmp_path, env=env, check=True, capture_output=True)
+    kept = (tmp_path / "out.jsonl").read_bytes()
+    (tmp_path / "L.smi").write_text("c1ccccc1 benzene\nc1ccncc1 pyridine\n")
+    proc = subprocess.run([sys.executable, "-m", "ringshift", *run], cwd=tmp_path, env=env, text=True,
+                          capture_output=True, preexec_fn=_file_size_limit(len(kept) + 100), timeout=120)
+    assert proc.returncode == 2 and "out.jsonl: cannot write it (File too large)" in proc.stderr, proc.stderr
+    assert (tmp_path / "out.jsonl").read_bytes() == kept          # benzene's record only, no cut-off line
