@@ -39,10 +39,22 @@ def main(argv=None):
     """Pin the thread pools and block SIGINT/SIGTERM (so that every thread a library starts inherits the block
     and the signals reach ringshift's watchdog only, :mod:`ringshift._signals`), then hand over to
     :func:`ringshift.cli.main`."""
-    pin_threads()
-    from ringshift._signals import block_early
+    try:
+        pin_threads()
+        from ringshift._signals import block_early
 
-    block_early()
+        block_early()
+    except KeyboardInterrupt:        # Ctrl-C in the first milliseconds, before the stop signals are blocked
+        stopped_at_start()
     from ringshift.cli import main as cli_main
 
     return cli_main(argv)
+
+
+def stopped_at_start() -> None:
+    """The one line and exit 130 of a Ctrl-C that lands while the command starts (ringshift._signals not in force
+    yet): nothing has been written, and Python's own traceback is not shown."""
+    import sys
+
+    print("ringshift: stopped by Ctrl-C (SIGINT); no partial output was left", file=sys.stderr)
+    raise SystemExit(130)

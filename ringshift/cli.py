@@ -8,6 +8,7 @@ traceback. Warnings are one line each on stderr. Outputs follow one contract (ri
 
 from __future__ import annotations
 
+import contextlib
 import math
 import os
 import re
@@ -17,6 +18,7 @@ from collections.abc import Sequence
 
 import click
 
+from ringshift import _signals
 from ringshift.cli_limits import limit_options
 from ringshift.constants import BETA_MODELS, CURRENT_SOURCES, DEFAULT_MODEL, MAP_MODELS, MODELS
 from ringshift.errors import InputError, OutputError, RingshiftWarning
@@ -30,10 +32,9 @@ OPTION_OF_PARAMETER = {
     "scale": "--scale", "set_current": "--set-current", "charge": "--charge", "conformers": "--conformers",
     "seed": "--seed", "temperature_K": "--temperature", "noise_ppm": "--noise", "claim": "--claim",
     "solvent": "--solvent", "weights": "--weights", "energy_unit": "--energy-unit", "memory_MB": "--memory",
-    "jobs": "--jobs", "scheduler": "--scheduler", "contour_max_ppm": "--contour-max",
-    "circuit": "--for-circuit", "exchange": "--exchange", "geometry": "--geometry", "name": "--name",
-    "correlations": "--correlations", "configurations": "--configurations",
-}
+    "jobs": "--jobs", "scheduler": "--scheduler", "contour_max_ppm": "--contour-max", "circuit": "--for-circuit",
+    "exchange": "--exchange", "geometry": "--geometry", "name": "--name", "correlations": "--correlations",
+    "configurations": "--configurations"}
 
 #: Choices of --exchange and --geometry: ringshift.geometry.symmetry.EXCHANGE_RULES and
 #: ringshift.io.structures.GEOMETRY_ROUTES (spelt out here so that importing the CLI stays light; a test checks them).
@@ -446,19 +447,20 @@ from ringshift import cli_spectra as _cli_spectra  # noqa: E402,F401  (registers
 def main(argv=None):
     """Console entry point with the project's error contract: 0 done; 2 bad input or any OS error (one line
     naming the path); 130 Ctrl-C, 143 SIGTERM (ringshift._signals); 1 internal error."""
-    from ringshift import _signals
-
     argv = sys.argv[1:] if argv is None else list(argv)
     warnings.showwarning = _show_warning
-    with _signals.stop_on_signals():
-        code = _run(argv)
+    code = None     # a signal as the watchdog starts or stops, outside _run's own handling: still one line
+    try:
+        with _signals.stop_on_signals():
+            code = _run(argv)
+    except KeyboardInterrupt as exc:
+        if code is None:                          # after a finished command the output is complete: keep it
+            print(_signals.stop_message(exc), file=sys.stderr)
+            code = _signals.exit_code(exc)
     sys.exit(code)
 
 
 def _run(argv) -> int:
-    from ringshift import _signals
-    from ringshift.io.writing import public_path
-
     debug = "--debug" in argv
     try:
         with cli.make_context("ringshift", list(argv)) as ctx:
@@ -468,8 +470,7 @@ def _run(argv) -> int:
     except (KeyboardInterrupt, click.exceptions.Abort) as exc:
         print(_signals.stop_message(exc), file=sys.stderr)
         return _signals.exit_code(exc)
-    except click.exceptions.ClickException as exc:
-        # usage errors: one line, exit 2
+    except click.exceptions.ClickException as exc:   # usage errors: one line, exit 2
         msg = " ".join(exc.format_message().split())
         print(f"ringshift: error: {msg}", file=sys.stderr)
         return EXIT_BAD_INPUT
@@ -480,14 +481,13 @@ def _run(argv) -> int:
         print(f"ringshift: error: {text}", file=sys.stderr)
         return EXIT_BAD_INPUT
     except BrokenPipeError:                         # the reader of standard output went away (e.g. | head)
-        try:
+        with contextlib.suppress(OSError):
             sys.stdout = open(os.devnull, "w")      # noqa: SIM115 - nothing more may reach the closed pipe
-        except OSError:
-            pass
         return 128 + 13
     except OSError as exc:                          # disk full, name too long, permission, read-only, ...
         if debug:
             raise
+        from ringshift.io.writing import public_path
         where = public_path(os.fsdecode(exc.filename)) if exc.filename else "output"
         print(f"ringshift: error: {where}: {exc.strerror or ' '.join(str(exc).split())}", file=sys.stderr)
         return EXIT_BAD_INPUT

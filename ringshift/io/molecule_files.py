@@ -148,8 +148,10 @@ def _bonds_from_xyz(symbols: list[str], xyz: np.ndarray, charge: int) -> Chem.Mo
     conf.Set3D(True)
     rw.AddConformer(conf, assignId=True)
     mol = rw.GetMol()
-    with rdBase.BlockLogs():
-        rdDetermineBonds.DetermineBonds(mol, charge=int(charge))
+    with rdBase.BlockLogs():            # embedChiral=False: no full sanitisation with aromaticity perception,
+        # whose fused-ring search took 37 s on an invented 136-carbon graphene flake and over 10 min on a
+        # 268-carbon one, holding the GIL (no Ctrl-C); _mol_from_xyz sanitises Kekulé-only and sets 3D stereo
+        rdDetermineBonds.DetermineBonds(mol, charge=int(charge), embedChiral=False)
     return mol
 
 

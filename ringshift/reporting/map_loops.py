@@ -152,7 +152,8 @@ def loops_of(source) -> tuple[tuple[Loop, ...], str]:
                   for cr in pred.circuits)
     if not any(lp.current_nA_per_T for lp in loops):
         raise InputError("no circuit carries a current (open shell or zero currents): nothing to map; "
-                         "give a current yourself (set_current, nA/T per circuit label)", pred.structure.source)
+                         "give a current yourself, in nA/T per circuit label", pred.structure.source,
+                         parameter="set_current")
     return loops, ("fitted" if fitted else "a priori")
 
 

@@ -26,6 +26,7 @@ at once and keeps the complete records written so far.
 
 from __future__ import annotations
 
+import contextlib
 import dataclasses
 import itertools
 import json
@@ -254,6 +255,7 @@ def run_batch(library_path, output_jsonl, *, jobs: int = 1, scheduler: str | Non
         found = read_batch_output(output)                                   # refuses a file that is not ours
         if (found.lines or found.partial) and not resume and not overwrite:
             raise OutputError(f"{output}: already exists; resume it or allow overwriting")
+        created = not os.path.lexists(output)        # a stopped run that wrote nothing leaves no file
         keys = {} if not resume else {i: n for i, n in reversed(found.keys)}
         total = _check_library(library, keys, output)
         if not resume:
@@ -265,7 +267,7 @@ def run_batch(library_path, output_jsonl, *, jobs: int = 1, scheduler: str | Non
         for note in notes:
             warnings.warn(note, OutputWarning, stacklevel=2)
         return _run(library, output, done, total, notes, t0, jobs=jobs, scheduler=scheduler, progress=progress,
-                    load_kwargs=load_kwargs, predict_kwargs=predict_kwargs)
+                    load_kwargs=load_kwargs, predict_kwargs=predict_kwargs, created=created)
 
 
 def _check_library(library: Path, done: Mapping[int, str], output: Path) -> int:
@@ -285,8 +287,9 @@ def _check_library(library: Path, done: Mapping[int, str], output: Path) -> int:
 
 
 def _run(library: Path, output: Path | None, done: Mapping[int, str], total: int, notes: list[str], t0: float, *,
-         jobs: int, scheduler, progress: bool, load_kwargs, predict_kwargs) -> BatchSummary:
-    """Compute the molecules not yet done and append their records (standard output when ``output`` is None)."""
+         jobs: int, scheduler, progress: bool, load_kwargs, predict_kwargs, created: bool = False) -> BatchSummary:
+    """Compute the molecules not yet done and append their records (standard output when ``output`` is None);
+    an output that this run ``created`` is removed again when a stop leaves it empty."""
     def pending() -> Iterator[LibraryItem]:
         for item in iter_library(library):
             if item.index not in done:
@@ -294,18 +297,21 @@ def _run(library: Path, output: Path | None, done: Mapping[int, str], total: int
 
     bar = _Progress(total - len(done), progress)
     failed = computed = 0
-    try:
-        out = sys.stdout if output is None else output.open("a", encoding="utf-8")
+    try:    # a file unbuffered: a record that cannot be written whole is cut off again, nothing left to flush
+        out: Any = sys.stdout if output is None else output.open("ab", buffering=0)
     except OSError as exc:
         raise os_error(output, exc) from None
     try:
         def emit(line: str) -> None:
             nonlocal failed, computed
-            try:
-                out.write(line + "\n")
-                out.flush()
-            except OSError as exc:
-                raise os_error(output or "standard output", exc) from None
+            if output is None:
+                try:
+                    out.write(line + "\n")
+                    out.flush()
+                except OSError as exc:
+                    raise os_error("standard output", exc) from None
+            else:
+                _append_record(out, (line + "\n").encode("utf-8"), output)
             ok = json.loads(line)["ok"]
             computed += 1
             failed += not ok
@@ -319,8 +325,12 @@ def _run(library: Path, output: Path | None, done: Mapping[int, str], total: int
                 _parallel(pending(), emit, jobs, scheduler, load_kwargs, predict_kwargs)
         finally:
             bar.close()
-    except KeyboardInterrupt as exc:   # Ctrl-C or SIGTERM: what is written is complete and resumable
-        if output is not None:
+    except BaseException as exc:       # Ctrl-C, SIGTERM, disk full: what is written is complete and resumable
+        if output is not None and created and not done and not computed:
+            out.close()
+            with contextlib.suppress(OSError):
+                output.unlink()
+        elif output is not None and isinstance(exc, KeyboardInterrupt):
             exc.detail = (f"{output} keeps the {len(done) + computed} complete records written so far; run the "  # type: ignore[attr-defined]
                           "same command again to resume")
         raise
@@ -329,6 +339,20 @@ def _run(library: Path, output: Path | None, done: Mapping[int, str], total: int
             out.close()
     return BatchSummary(total, computed, len(done), failed, str(output or STDOUT), time.perf_counter() - t0,
                         tuple(notes))
+
+
+def _append_record(fh, data: bytes, output: Path) -> None:
+    """Append one record to the unbuffered output ``fh``; on an OS error (disk full, file size limit) the part
+    that was written is truncated away, so the file keeps complete records only, and the error names ``output``."""
+    mark = fh.tell()
+    try:
+        view = memoryview(data)
+        while view:
+            view = view[fh.write(view):]
+    except OSError as exc:
+        with contextlib.suppress(OSError):
+            os.ftruncate(fh.fileno(), mark)
+        raise os_error(output, exc) from None
 
 
 def _parallel(items: Iterator[LibraryItem], emit, jobs, scheduler, load_kwargs, predict_kwargs) -> None:

@@ -10,6 +10,7 @@ from __future__ import annotations
 
 import json
 import os
+import stat
 from pathlib import Path
 
 import pytest
@@ -43,6 +44,10 @@ def work(tmp_path, monkeypatch):
     os.link(tmp_path / "in.xyz", tmp_path / "hard.xyz")
     os.symlink(tmp_path / "in.xyz", tmp_path / "soft.xyz")
     os.mkfifo(tmp_path / "pipe")
+    try:        # a private null device (major 1, minor 3, as /dev/null): a test must never risk the real one
+        os.mknod(tmp_path / "nulldev", stat.S_IFCHR | 0o666, os.makedev(1, 3))
+    except (OSError, AttributeError):       # not root, or no mknod here: the device rows are skipped
+        pass
     return tmp_path
 
 
@@ -53,6 +58,9 @@ REFUSED = [
     ("predict-onto-symlink", ["predict", "soft.xyz", "-o", "in.xyz", "--force"], "is an input of this run"),
     ("predict-onto-relative-path", ["predict", "in.xyz", "-o", "./userdata/../in.xyz", "--force"], "is an input"),
     ("predict-onto-fifo", ["predict", "c1ccccc1", "-o", "pipe", "--force"], "not a regular file"),
+    ("predict-onto-device", ["predict", "c1ccccc1", "-o", "nulldev", "--force"], "not a regular file"),
+    ("trajectory-onto-device", ["trajectory", "in.xyz", "-o", "nulldev", "--force"], "not a regular file"),
+    ("batch-onto-device", ["batch", "L.smi", "-o", "nulldev", "--quiet"], "not a regular file"),
     ("predict-empty-output", ["predict", "c1ccccc1", "-o", ""], "empty path"),
     ("predict-existing-no-force", ["predict", "c1ccccc1", "-o", "notes.txt"], "--force"),
     ("trajectory-onto-input", ["trajectory", "in.xyz", "-o", "hard.xyz", "--force"], "is an input of this run"),
@@ -82,6 +90,8 @@ REFUSED = [
 
 @pytest.mark.parametrize("args, words", [c[1:] for c in REFUSED], ids=[c[0] for c in REFUSED])
 def test_refused_outputs_change_nothing(work, capsys, args, words):
+    if "nulldev" in args and not (work / "nulldev").exists():
+        pytest.skip("creating a device node needs root")
     before = snapshot(work)
     code, out, err = run(args, capsys)
     assert code == 2, err
@@ -90,14 +100,26 @@ def test_refused_outputs_change_nothing(work, capsys, args, words):
     assert snapshot(work) == before
 
 
-def test_dash_is_standard_output(work, capsys):
-    code, out, err = run(["predict", "c1ccccc1", "--conformers", "1", "-o", "-"], capsys)
+# (id, arguments, a check of standard output): `-o -` writes to standard output and never a file named "-"
+DASH = [
+    ("predict-text", ["predict", "c1ccccc1", "--conformers", "1", "-o", "-"], lambda out: "H" in out),
+    ("predict-json", ["predict", "c1ccccc1", "--conformers", "1", "--format", "json", "-o", "-"],
+     lambda out: len(json.loads(out)["protons"]) == 6),
+    ("trajectory", ["trajectory", "in.xyz", "-o", "-"], lambda out: "H" in out),
+    ("compare", ["compare", "c1ccccc1", "p.csv", "--conformers", "1", "-o", "-"], lambda out: "7.3" in out),
+    ("batch", ["batch", "L.smi", "-o", "-", "--conformers", "1", "--quiet"],
+     lambda out: [json.loads(x)["name"] for x in out.splitlines() if x.startswith("{")] == ["benzene", "pyridine"]),
+]
+
+
+@pytest.mark.parametrize("args, check", [c[1:] for c in DASH], ids=[c[0] for c in DASH])
+def test_dash_is_standard_output(work, capsys, args, check):
+    (work / "p.csv").write_text("shift_ppm,integral\n7.3,6\n")      # invented one-line peak list
+    before = snapshot(work)
+    code, out, err = run(args, capsys)
     assert code == 0, err
-    assert "H" in out and not (work / "-").exists()
-    code, out, err = run(["batch", "L.smi", "-o", "-", "--conformers", "1", "--quiet"], capsys)
-    assert code == 0, err
-    records = [json.loads(line) for line in out.splitlines() if line.startswith("{")]
-    assert [r["name"] for r in records] == ["benzene", "pyridine"] and not (work / "-").exists()
+    assert check(out) and not (work / "-").exists()
+    assert snapshot(work) == before
 
 
 def test_a_file_added_to_a_report_folder_is_never_deleted(work, capsys):
@@ -152,16 +174,21 @@ def test_an_os_error_is_exit_2_naming_the_path(work, capsys, monkeypatch):
 
 
 LEAKS = [
-    ("no-hydrogen-compare", "ClC1=C(Cl)C(Cl)=C(Cl)C(Cl)=C1Cl", "has no hydrogens"),
+    # (id, arguments, words expected, internal names that must not appear)
+    ("no-hydrogen-compare", ["compare", "ClC1=C(Cl)C(Cl)=C(Cl)C(Cl)=C1Cl", "p.csv"], "has no hydrogens",
+     ["n_hydrogens", "=0"]),
+    ("open-shell-map", ["map", "[CH]1C=CC=C1", "-o", "m.png"], "(option --set-current)", ["set_current"]),
 ]
 
 
-@pytest.mark.parametrize("smiles, words", [c[1:] for c in LEAKS], ids=[c[0] for c in LEAKS])
-def test_messages_do_not_leak_internal_names(work, capsys, smiles, words):
+@pytest.mark.parametrize("args, words, hidden", [c[1:] for c in LEAKS], ids=[c[0] for c in LEAKS])
+def test_messages_do_not_leak_internal_names(work, capsys, args, words, hidden):
     (work / "p.csv").write_text("shift_ppm,integral\n7.3,1\n")
-    code, _, err = run(["compare", smiles, "p.csv", "--conformers", "1"], capsys)
-    assert code == 2 and words in err and len(err.strip().splitlines()) == 1
-    assert "n_hydrogens" not in err and "=0" not in err
+    before = snapshot(work)
+    code, _, err = run([*args, "--conformers", "1"], capsys)
+    assert code == 2 and words in err and len(err.strip().splitlines()) == 1, err
+    assert not any(h in err for h in hidden)
+    assert snapshot(work) == before
 
 
 @pytest.mark.parametrize("source, message, want", [

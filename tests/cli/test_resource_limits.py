@@ -134,3 +134,21 @@ def test_conformer_progress_only_on_a_terminal(tty, monkeypatch, capsys):
     assert ("ringshift: conformer generation (" in text) is tty
     if not tty:
         assert text == ""
+
+
+# (id, arguments): inputs of the resource complaint itself, at the default limits (4000 MB, 900 s), refused
+# before any heavy step; 'C=C'*800 is C1600H1602, 3202 atoms, inside the 5000-atom input limit (invented input)
+DEFAULT_LIMIT_REFUSALS = [
+    ("polyene-3202-atoms", ["predict", "C=C" * 800]),
+    ("polyene-3202-atoms-one-conformer", ["predict", "C=C" * 800, "--conformers", "1"]),
+    ("polyene-3202-atoms-pi", ["pi", "C=C" * 800]),
+]
+
+
+@pytest.mark.parametrize("args", [c[1] for c in DEFAULT_LIMIT_REFUSALS], ids=[c[0] for c in DEFAULT_LIMIT_REFUSALS])
+def test_the_reported_giant_polyene_is_refused_at_the_default_limits(args, tmp_path, capsys, monkeypatch):
+    _forbid_heavy(monkeypatch)
+    monkeypatch.chdir(tmp_path)
+    code, out, err = run(args, capsys)
+    assert code == 2 and out == "" and list(tmp_path.iterdir()) == []
+    assert len(err.strip().splitlines()) == 1 and "3202 atoms" in err and "raise it with --memory-limit MB" in err

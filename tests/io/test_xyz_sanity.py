@@ -145,3 +145,30 @@ def test_in_memory_frames_with_broken_bond_are_skipped(tmp_path):
     with pytest.warns(TrajectoryWarning, match="frame 2: bond"):
         res = predict_trajectory(load_structure(path), frames[1:], currents="benzene")   # frames 2..4 of a 3-stack
     assert list(res.frame_numbers) == [1, 3]
+
+
+# ------------------------------------------------------------------------------ stereo and bond perception
+STEREO_XYZ = [
+    # (id, SMILES of the invented reference geometry): a stereocentre and a ring stereocentre, both enantiomers
+    ("chfclbr-r", "F[C@H](Cl)Br"),
+    ("chfclbr-s", "F[C@@H](Cl)Br"),
+    ("methylcyclohexene-r", "C[C@@H]1CCCC=C1"),
+]
+
+
+@pytest.mark.parametrize("smiles", [c[1] for c in STEREO_XYZ], ids=[c[0] for c in STEREO_XYZ])
+def test_xyz_stereocentres_come_from_the_coordinates(tmp_path, smiles):
+    # XYZ bonds are perceived without RDKit's full sanitisation (no aromaticity search, which ran for minutes on
+    # large graphene flakes holding the GIL); the stereocentres must still come from the 3D coordinates.
+    # Reference: RDKit's CIP labels of the embedded input molecule (Chem.FindMolChiralCenters).
+    from rdkit import Chem
+    from rdkit.Chem import AllChem
+
+    ref = Chem.AddHs(Chem.MolFromSmiles(smiles))
+    AllChem.EmbedMolecule(ref, randomSeed=7)
+    sym = [a.GetSymbol() for a in ref.GetAtoms()]
+    path = _write(tmp_path, "stereo.xyz", sym, ref.GetConformer().GetPositions())
+    got = load_structure(path).mol
+    Chem.AssignStereochemistryFrom3D(ref)
+    assert Chem.FindMolChiralCenters(got, useLegacyImplementation=False) == \
+        Chem.FindMolChiralCenters(ref, useLegacyImplementation=False)
