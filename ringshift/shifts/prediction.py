@@ -30,6 +30,7 @@ from ringshift.constants import (
 from ringshift.errors import GeometryWarning, InputError
 from ringshift.fields.registry import BAND_MODELS, MODEL_DESCRIPTIONS, geometric_factors
 from ringshift.geometry.circuits import Circuit, CircuitGeometry, circuit_geometry, find_circuits
+from ringshift.geometry.macrocycle import MACROCYCLE_RING
 from ringshift.io.structures import Structure, isotope_note, proton_indices
 from ringshift.pi.huckel import SCF_NO_SOLUTION_NOTE
 from ringshift.pi.huckel import huckel as _pisystem_huckel
@@ -305,12 +306,13 @@ def predict(structure: Structure, *, model: str = DEFAULT_MODEL, currents: str =
         if not cr.planar:
             notes.append(f"circuit {cr.circuit.label} is far from planar (RMS {cr.planarity_rms_A:.2f} A, "
                          f"p-orbital misalignment up to {cr.max_misalignment_deg:.0f} deg): overlap is not continuous")
-            if cr.huckel_class == "4n" and currents == "huckel" and len(cr.circuit.atoms) >= 12:
+            if cr.huckel_class == "4n" and currents == "huckel" and len(cr.circuit.atoms) >= MACROCYCLE_RING:
                 # the paratropic current of a bond-alternated 4n circuit falls steeply with the twist of its single
                 # bonds; MMFF94 twists the s-cis single bonds of [16]annulene to 56 deg where GFN2-xTB gives 37 deg
                 # (Bannwarth, Ehlert & Grimme, J. Chem. Theory Comput. 2019, 15, 1652), and the current drops from
                 # -0.25 to -0.04 x benzene (benchmarks/accuracy): a small current here is no proof of an atropic ring.
-                # Macrocycles only (12+ ring atoms): the tub of cyclooctatetraene is its real shape, not a partial twist
+                # Macrocycles only (the conformer search's own size bound): the tub of cyclooctatetraene is its
+                # real shape, not a partial twist
                 notes.append(f"circuit {cr.circuit.label} has {cr.pi_electrons} pi electrons (4n) and is twisted: its "
                              "paratropic current falls steeply with the twist, which a force-field geometry can "
                              "overstate, so a small current is no proof of an atropic ring; compare with a "
