@@ -196,7 +196,13 @@ def _embed_confs(mol: Chem.Mol, n: int, params: rdDistGeom.EmbedParameters) -> l
 def _embed(mol: Chem.Mol, counts: list[int], seeds: list[int], threads: int, source: str):
     """ETKDG v3 for each seed; falls back to useBasicKnowledge=False ([2.2]paracyclophane, design notes §7). A
     probe (2 conformers, 20 attempts each) decides first: a failing basic-knowledge run takes minutes."""
-    basic = len(_embed_confs(mol, 2, _etkdg(seeds[0], True, threads, 20))) > 0
+    try:
+        basic = len(_embed_confs(mol, 2, _etkdg(seeds[0], True, threads, 20))) > 0
+    except RuntimeError as exc:   # RDKit's bounds-matrix invariant, e.g. a metal bonded to the four N of a porphyrin
+        raise InputError("RDKit ETKDG cannot set up distance bounds for this molecule "
+                         f"({' '.join(str(exc).split()[:5])}; bonds to a metal atom are a common cause); supply "
+                         "3D coordinates (SDF with its bonds, or XYZ), or give the metal as a separate ion",
+                         source=source) from None
     for use_basic in ((True, False) if basic else (False,)):
         out = [x for s, k in zip(seeds, counts) if k > 0 for x in _embed_confs(mol, k, _etkdg(s, use_basic, threads))]
         if out:

@@ -138,8 +138,108 @@ def _read_xyz(path: Path) -> tuple[list[str], np.ndarray]:
     return list(frames[0].symbols), np.stack([f.coords for f in frames])
 
 
+#: Elements RDKit's bond perception handles (main-group non-metals and metalloids); any other element in an XYZ file
+#: is read as a metal ion (:func:`_bonds_with_metal_ions`).
+_PERCEIVABLE = frozenset("H He B C N O F Ne Si P S Cl Ar Ge As Se Br Kr Te I Xe".split())
+#: Oxidation states tried for metal ions, most common first (common practice, no source).
+_METAL_CHARGES = (2, 3, 1, 4)
+
+
+def _ligand_bonds(symbols: list[str], xyz: np.ndarray, charge: int, metal_xyz: np.ndarray) -> Chem.Mol:
+    """Bonds of the non-metal atoms (n, 3) with net ``charge``; n atoms in the given order.
+
+    RDKit's bond perception fails on some anions that it reads as the conjugate acid (measured: the porphine
+    dianion of a zinc porphyrin, "Final molecular charge (-2) does not match input (-4)", while free-base porphine
+    works). So a negative ligand is also tried with temporary protons on the |charge| donor atoms nearest a metal
+    (N, O, S, P within 2.6 Å; H 1.01 Å from the donor towards the metal; at most 30 choices of donors), perceived
+    neutral; the protons are then removed and their donors carry −1 (a pyrrolide N keeps the bonds of its NH).
+    """
+    try:
+        return _bonds_from_xyz(symbols, xyz, charge)
+    except Exception:                    # noqa: BLE001 - fall through to the protonated try; re-raised below
+        if charge >= 0 or not len(metal_xyz):
+            raise
+    from itertools import combinations, islice
+
+    dist = np.linalg.norm(xyz[:, None, :] - metal_xyz[None, :, :], axis=2).min(axis=1)
+    donors = [i for i in np.argsort(dist, kind="stable") if symbols[i] in ("N", "O", "S", "P") and dist[i] <= 2.6]
+    for chosen in islice(combinations(donors, -charge), 30):
+        extra = []
+        for i in chosen:
+            near = metal_xyz[int(np.argmin(np.linalg.norm(metal_xyz - xyz[i], axis=1)))]
+            extra.append(xyz[i] + 1.01 * (near - xyz[i]) / np.linalg.norm(near - xyz[i]))
+        try:
+            mol = _bonds_from_xyz(symbols + ["H"] * len(chosen), np.vstack([xyz, np.array(extra)]), 0)
+        except Exception:                # noqa: BLE001 - this choice of donors does not give a valid structure
+            continue
+        n = len(symbols)
+        added = range(n, n + len(chosen))
+        if any([nb.GetIdx() for nb in mol.GetAtomWithIdx(h).GetNeighbors()] != [d] for h, d in zip(added, chosen)):
+            continue
+        rw = Chem.RWMol(mol)
+        for h, d in zip(added, chosen):
+            rw.RemoveBond(h, int(d))
+            rw.GetAtomWithIdx(int(d)).SetFormalCharge(rw.GetAtomWithIdx(int(d)).GetFormalCharge() - 1)
+        for h in sorted(added, reverse=True):
+            rw.RemoveAtom(h)
+        return rw.GetMol()
+    return _bonds_from_xyz(symbols, xyz, charge)     # re-raise RDKit's own message
+
+
+def _bonds_with_metal_ions(symbols: list[str], xyz: np.ndarray, charge: int) -> Chem.Mol:
+    """Bonds of an XYZ geometry that holds metal atoms, in the file's atom order.
+
+    RDKit's bond perception has no valences for metals (measured: zinc porphine raises "Atom … with atomic
+    number 30 has no valences defined"), so each metal is read as an unbonded ion of the first charge in
+    :data:`_METAL_CHARGES` (the same for every metal) that lets the rest, with the remaining net charge, take a
+    valid bond assignment; a metal–ligand bond is kept outside the π system anyway (ringshift.pi.perception).
+    Raises the last RDKit exception when no charge fits.
+    """
+    organic = [i for i, s in enumerate(symbols) if s in _PERCEIVABLE]
+    metals = [i for i, s in enumerate(symbols) if s not in _PERCEIVABLE]
+    last: Exception | None = None
+    for m in _METAL_CHARGES:
+        try:
+            part = _ligand_bonds([symbols[i] for i in organic], xyz[organic], charge - m * len(metals), xyz[metals])
+        except Exception as exc:     # noqa: BLE001 - RDKit raises ValueError/RuntimeError: try the next charge
+            last = exc
+            continue
+        rw = Chem.RWMol()
+        for i, sym in enumerate(symbols):
+            atom = Chem.Atom(sym)
+            if i in metals:
+                atom.SetFormalCharge(m)
+                atom.SetNoImplicit(True)
+            rw.AddAtom(atom)
+        for k, i in enumerate(organic):
+            src = part.GetAtomWithIdx(k)
+            dst = rw.GetAtomWithIdx(i)
+            dst.SetFormalCharge(src.GetFormalCharge())
+            dst.SetNumExplicitHs(src.GetNumExplicitHs())
+            dst.SetNoImplicit(True)
+            dst.SetNumRadicalElectrons(src.GetNumRadicalElectrons())
+        for b in part.GetBonds():
+            rw.AddBond(organic[b.GetBeginAtomIdx()], organic[b.GetEndAtomIdx()], b.GetBondType())
+        conf = Chem.Conformer(len(symbols))
+        conf.SetPositions(xyz)
+        conf.Set3D(True)
+        rw.AddConformer(conf, assignId=True)
+        mol = rw.GetMol()
+        names = ", ".join(sorted({symbols[i] for i in metals}))
+        warnings.warn(GeometryWarning(
+            f"metal {names}: an XYZ file carries no bonds to it, so it is read as an unbonded {names}{m:+d} ion "
+            f"beside ligands of net charge {charge - m * len(metals):+d} (the first of the charges "
+            f"{', '.join(f'{c:+d}' for c in _METAL_CHARGES)} that gives them a valid bond assignment); give an SDF "
+            "with its bonds to fix them"), stacklevel=4)
+        return mol
+    assert last is not None
+    raise last
+
+
 def _bonds_from_xyz(symbols: list[str], xyz: np.ndarray, charge: int) -> Chem.Mol:
     """RDKit bond perception (design notes §7); raises RDKit's exception when the charge does not fit."""
+    if any(s not in _PERCEIVABLE for s in symbols) and any(s in _PERCEIVABLE for s in symbols):
+        return _bonds_with_metal_ions(symbols, xyz, charge)
     rw = Chem.RWMol()
     for sym in symbols:
         rw.AddAtom(Chem.Atom(sym))

@@ -169,3 +169,14 @@ def test_api_passes_exchange_and_geometry(annulene18, monkeypatch, tmp_path):
     assert s.provenance["geometry"] == "gfn2-xtb"
     np.testing.assert_allclose(s.coords[0] - ringshift.load_structure(path).coords[0], [[0.001, 0.0, 0.0]] * 36,
                                atol=1e-9)
+
+
+def test_metal_chelate_smiles_that_rdkit_cannot_bound_is_a_one_line_error(capsys):
+    # zinc porphine with four covalent Zn–N bonds: RDKit's distance-bounds set-up raises an invariant violation
+    # (RuntimeError, measured with RDKit 2026.09); it must end as a one-line input error, exit 2, no traceback
+    smi = "C1=CC2=CC3=CC=C4N3[Zn]35N2C1=CC1=CC=C(N13)C=C1C=CC(=C4)N15"
+    code, out, err = run(["predict", smi], capsys)
+    assert code == 2 and out == ""
+    lines = err.strip().splitlines()
+    assert len(lines) == 1 and smi in lines[0] and "distance bounds" in lines[0] and "SDF" in lines[0]
+    assert "Traceback" not in err and "internal error" not in err
