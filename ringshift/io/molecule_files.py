@@ -186,6 +186,31 @@ def _ligand_bonds(symbols: list[str], xyz: np.ndarray, charge: int, metal_xyz: n
     return _bonds_from_xyz(symbols, xyz, charge)     # re-raise RDKit's own message
 
 
+def _coordinate(rw: Chem.RWMol, metals: list[int], xyz: np.ndarray) -> Chem.Mol | None:
+    """The metal ions of ``rw`` bonded to their donors (N, O, S, P within 2.6 Å): a single bond from a donor
+    carrying −1 (its charge moves to the metal), a dative bond from a neutral donor, as in a metalloporphyrin's
+    usual connection table. None when RDKit cannot sanitise the result (the ion pair is kept then)."""
+    work = Chem.RWMol(rw)
+    for mi in metals:
+        metal = work.GetAtomWithIdx(mi)
+        for a in work.GetAtoms():
+            if a.GetSymbol() not in ("N", "O", "S", "P") or float(np.linalg.norm(xyz[a.GetIdx()] - xyz[mi])) > 2.6:
+                continue
+            if a.GetFormalCharge() == -1 and metal.GetFormalCharge() > 0:
+                work.AddBond(a.GetIdx(), mi, Chem.BondType.SINGLE)
+                a.SetFormalCharge(0)
+                metal.SetFormalCharge(metal.GetFormalCharge() - 1)
+            elif a.GetFormalCharge() == 0 and a.GetTotalNumHs() == 0:
+                work.AddBond(a.GetIdx(), mi, Chem.BondType.DATIVE)
+    mol = work.GetMol()
+    try:
+        with rdBase.BlockLogs():
+            Chem.SanitizeMol(Chem.Mol(mol))
+    except Exception:                    # noqa: BLE001 - RDKit refuses the valence: keep the ion pair
+        return None
+    return mol
+
+
 def _bonds_with_metal_ions(symbols: list[str], xyz: np.ndarray, charge: int) -> Chem.Mol:
     """Bonds of an XYZ geometry that holds metal atoms, in the file's atom order.
 
@@ -224,14 +249,17 @@ def _bonds_with_metal_ions(symbols: list[str], xyz: np.ndarray, charge: int) -> 
         conf.SetPositions(xyz)
         conf.Set3D(True)
         rw.AddConformer(conf, assignId=True)
-        mol = rw.GetMol()
+        ionic = rw.GetMol()
+        bonded = _coordinate(rw, metals, xyz)
         names = ", ".join(sorted({symbols[i] for i in metals}))
+        how = ("bonded to the donor atoms within 2.6 Å (a single bond from each anionic donor, a dative bond from "
+               "each neutral one)" if bonded is not None else "left unbonded")
         warnings.warn(GeometryWarning(
-            f"metal {names}: an XYZ file carries no bonds to it, so it is read as an unbonded {names}{m:+d} ion "
-            f"beside ligands of net charge {charge - m * len(metals):+d} (the first of the charges "
-            f"{', '.join(f'{c:+d}' for c in _METAL_CHARGES)} that gives them a valid bond assignment); give an SDF "
-            "with its bonds to fix them"), stacklevel=4)
-        return mol
+            f"metal {names}: an XYZ file carries no bonds to it, so it is read as {names}{m:+d} beside ligands of "
+            f"net charge {charge - m * len(metals):+d} (the first of the charges "
+            f"{', '.join(f'{c:+d}' for c in _METAL_CHARGES)} that gives them a valid bond assignment) and "
+            f"{how}; give an SDF with its bonds to fix them"), stacklevel=4)
+        return bonded if bonded is not None else ionic
     assert last is not None
     raise last
 

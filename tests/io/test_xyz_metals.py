@@ -1,4 +1,4 @@
-"""XYZ files with a metal atom: read as an unbonded metal ion beside its ligand (ringshift.io.molecule_files).
+"""XYZ files with a metal atom: a metal ion beside its ligand, bonded back to its donors (ringshift.io.molecule_files).
 
 The geometry is SYNTHETIC: free-base porphine embedded and MMFF94-minimised by RDKit, its two N–H protons removed
 and a Zn atom put at the centre of the four N — a stand-in for a quantum-chemical zinc porphine geometry.
@@ -36,16 +36,18 @@ def zinc_porphine_xyz(tmp_path_factory):
     return str(path)
 
 
-def test_zinc_porphine_xyz_is_zinc_two_plus_and_a_porphyrin_dianion(zinc_porphine_xyz):
-    # a metalloporphyrin is M(2+) and porphyrinato(2-): common practice, no source
+def test_zinc_porphine_xyz_is_zinc_two_plus_and_a_porphyrin_dianion_bonded_back(zinc_porphine_xyz):
+    # a metalloporphyrin is M(2+) and porphyrinato(2-), written as two covalent M–N bonds and two dative N->M
+    # bonds in a connection table: common practice, no source
     with warnings.catch_warnings(record=True) as caught:
         warnings.simplefilter("always", GeometryWarning)
         st = load_structure(zinc_porphine_xyz)
-    assert any("Zn+2 ion" in str(w.message) and "-2" in str(w.message) for w in caught)
+    assert any("Zn+2 beside ligands of net charge -2" in str(w.message) for w in caught)
     zn = [a for a in st.mol.GetAtoms() if a.GetSymbol() == "Zn"][0]
-    assert zn.GetFormalCharge() == 2 and zn.GetDegree() == 0
-    n_charges = sorted(a.GetFormalCharge() for a in st.mol.GetAtoms() if a.GetSymbol() == "N")
-    assert n_charges == [-1, -1, 0, 0]
+    assert zn.GetFormalCharge() == 0 and zn.GetDegree() == 4
+    kinds = sorted(str(b.GetBondType()) for b in zn.GetBonds())
+    assert kinds == ["DATIVE", "DATIVE", "SINGLE", "SINGLE"]
+    assert all(a.GetFormalCharge() == 0 for a in st.mol.GetAtoms())
     assert Chem.GetFormalCharge(st.mol) == 0
     assert sum(a.GetAtomicNum() == 1 for a in st.mol.GetAtoms()) == 12       # no proton was added or lost
 
