@@ -18,6 +18,7 @@ from rdkit.Chem import rdDetermineBonds
 from ringshift import limits as _limits
 from ringshift.constants import KCAL_PER_HARTREE, KCAL_PER_KJ
 from ringshift.errors import GeometryWarning, InputError
+from ringshift.geometry.metal_ligand import NON_METALS, coordinate_metals
 from ringshift.io.xyz import parse_xyz_frames
 
 __all__ = ['read_mol_records', 'ENERGY_PROPERTIES']
@@ -140,7 +141,7 @@ def _read_xyz(path: Path) -> tuple[list[str], np.ndarray]:
 
 #: Elements RDKit's bond perception handles (main-group non-metals and metalloids); any other element in an XYZ file
 #: is read as a metal ion (:func:`_bonds_with_metal_ions`).
-_PERCEIVABLE = frozenset("H He B C N O F Ne Si P S Cl Ar Ge As Se Br Kr Te I Xe".split())
+_PERCEIVABLE = NON_METALS
 #: Oxidation states tried for metal ions, most common first (common practice, no source).
 _METAL_CHARGES = (2, 3, 1, 4)
 
@@ -186,31 +187,6 @@ def _ligand_bonds(symbols: list[str], xyz: np.ndarray, charge: int, metal_xyz: n
     return _bonds_from_xyz(symbols, xyz, charge)     # re-raise RDKit's own message
 
 
-def _coordinate(rw: Chem.RWMol, metals: list[int], xyz: np.ndarray) -> Chem.Mol | None:
-    """The metal ions of ``rw`` bonded to their donors (N, O, S, P within 2.6 Å): a single bond from a donor
-    carrying −1 (its charge moves to the metal), a dative bond from a neutral donor, as in a metalloporphyrin's
-    usual connection table. None when RDKit cannot sanitise the result (the ion pair is kept then)."""
-    work = Chem.RWMol(rw)
-    for mi in metals:
-        metal = work.GetAtomWithIdx(mi)
-        for a in work.GetAtoms():
-            if a.GetSymbol() not in ("N", "O", "S", "P") or float(np.linalg.norm(xyz[a.GetIdx()] - xyz[mi])) > 2.6:
-                continue
-            if a.GetFormalCharge() == -1 and metal.GetFormalCharge() > 0:
-                work.AddBond(a.GetIdx(), mi, Chem.BondType.SINGLE)
-                a.SetFormalCharge(0)
-                metal.SetFormalCharge(metal.GetFormalCharge() - 1)
-            elif a.GetFormalCharge() == 0 and a.GetTotalNumHs() == 0:
-                work.AddBond(a.GetIdx(), mi, Chem.BondType.DATIVE)
-    mol = work.GetMol()
-    try:
-        with rdBase.BlockLogs():
-            Chem.SanitizeMol(Chem.Mol(mol))
-    except Exception:                    # noqa: BLE001 - RDKit refuses the valence: keep the ion pair
-        return None
-    return mol
-
-
 def _bonds_with_metal_ions(symbols: list[str], xyz: np.ndarray, charge: int) -> Chem.Mol:
     """Bonds of an XYZ geometry that holds metal atoms, in the file's atom order.
 
@@ -250,7 +226,7 @@ def _bonds_with_metal_ions(symbols: list[str], xyz: np.ndarray, charge: int) -> 
         conf.Set3D(True)
         rw.AddConformer(conf, assignId=True)
         ionic = rw.GetMol()
-        bonded = _coordinate(rw, metals, xyz)
+        bonded = coordinate_metals(ionic, xyz)
         names = ", ".join(sorted({symbols[i] for i in metals}))
         how = ("bonded to the donor atoms within 2.6 Å (a single bond from each anionic donor, a dative bond from "
                "each neutral one)" if bonded is not None else "left unbonded")

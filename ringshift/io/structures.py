@@ -26,6 +26,7 @@ from rdkit import Chem
 
 from ringshift import limits as _limits
 from ringshift.errors import GeometryWarning, InputError
+from ringshift.geometry.metal_ligand import coordinate_metals, metal_proxy
 from ringshift.geometry.symmetry import EXCHANGE_RULES, group_equivalent_hydrogens
 from ringshift.io.molecule_files import (
     _check_chemistry,
@@ -267,13 +268,24 @@ def _complete(base: Chem.Mol, coords, energies, name: str, spec: str, prov: dict
         # with coordinates does not pay for it (start-up, issue 16)
         from ringshift.geometry.conformers import _generate, candidate_count, default_conformer_count
 
-        n = conformers if conformers is not None else default_conformer_count(base)
-        est = _limits.estimate_conformers(base.GetNumAtoms(), candidate_count(base, int(n)) + len(extra_starts or ()))
+        proxy = metal_proxy(base)               # a metal chelate: embed its free-base ligand (geometry.metal_ligand)
+        target = base if proxy is None else proxy.mol
+        n = conformers if conformers is not None else default_conformer_count(target)
+        est = _limits.estimate_conformers(target.GetNumAtoms(),
+                                          candidate_count(target, int(n)) + len(extra_starts or ()))
         _limits.check_estimate(est, "conformer generation", _short(spec),
                                hint="or give 3D coordinates (SDF or XYZ) or fewer conformers")
         with _limits.progress("conformer generation", est):
-            coords, energies, info = _generate(base, int(n), seed, float(energy_window_kcal_mol),
-                                               float(rmsd_prune_A), spec, extra_starts=extra_starts)
+            coords, energies, info = _generate(target, int(n), seed, float(energy_window_kcal_mol),
+                                               float(rmsd_prune_A), spec,
+                                               extra_starts=extra_starts if proxy is None else None)
+        if proxy is not None:
+            coords = proxy.lift(coords)
+            bonded = coordinate_metals(base, coords[0]) if proxy.ionic else None
+            if bonded is not None:
+                base = bonded
+            info["metal_geometry"] = ("free-base ligand embedded, metal at its donors' centroid"
+                                      + ("; ion pair bonded back to the donors" if bonded is not None else ""))
         prov.update(info, seed=int(seed), rmsd_prune_A=float(rmsd_prune_A),
                     energy_window_kcal_mol=float(energy_window_kcal_mol))
     else:
