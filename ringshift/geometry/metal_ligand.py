@@ -7,7 +7,8 @@ bonds came out 1.1 Å out of plane, measured). Left unbonded, as an ion pair, th
 porphyrin pucker by 1.6 Å under MMFF94 (measured). The ring currents need the ligand's π framework, not the
 metal–donor distances, so the conformers are generated for a *proxy*: the ligand with each metal–donor single
 bond (or the charge of an anionic donor of an unbonded metal) replaced by an N–H/O–H/S–H proton, and dative bonds
-dropped — the free-base ligand (free-base porphine for a metalloporphine). Each metal is then put at the centroid
+dropped (also a dative bond written charge-separated, M(−)–N(+): the donor loses its + charge) — the free-base
+ligand (free-base porphine for a metalloporphine). Each metal is then put at the centroid
 of its donors; for an ion pair the metal is bonded back to its donors within :data:`DONOR_RANGE_A` (a single bond
 from each anionic donor, whose charge moves to the metal; a dative bond from each neutral one), the connection
 table of an SDF of the complex. Only N, O, S and P donors are handled; a metal bonded to carbon (a sandwich or
@@ -23,7 +24,7 @@ from dataclasses import dataclass
 import numpy as np
 from rdkit import Chem, rdBase
 
-__all__ = ["NON_METALS", "DONOR_RANGE_A", "MetalProxy", "metal_proxy", "coordinate_metals"]
+__all__ = ["NON_METALS", "DONOR_RANGE_A", "MetalProxy", "metal_proxy", "coordinate_metals", "normalise_dative"]
 
 #: Elements that are not treated as metals (main-group non-metals and metalloids RDKit's bond perception knows).
 NON_METALS = frozenset("H He B C N O F Ne Si P S Cl Ar Ge As Se Br Kr Te I Xe".split())
@@ -111,6 +112,8 @@ def metal_proxy(mol: Chem.Mol) -> MetalProxy | None:
             if bond is None:                                   # anionic donor of an unbonded metal
                 protonate.append(d)
                 rw.GetAtomWithIdx(d).SetFormalCharge(0)
+            elif rw.GetAtomWithIdx(d).GetFormalCharge() > 0:  # charge-separated dative bond, M(−)–N(+)
+                rw.GetAtomWithIdx(d).SetFormalCharge(rw.GetAtomWithIdx(d).GetFormalCharge() - 1)
             elif bond.GetBondType() != Chem.BondType.DATIVE:   # a covalent M–X bond becomes X–H
                 protonate.append(d)
             if bond is not None:
@@ -159,4 +162,37 @@ def coordinate_metals(mol: Chem.Mol, xyz: np.ndarray) -> Chem.Mol | None:
             Chem.SanitizeMol(Chem.Mol(out))
     except Exception:                    # noqa: BLE001 - RDKit refuses the valence: keep the ion pair
         return None
+    return out
+
+
+def normalise_dative(mol: Chem.Mol) -> Chem.Mol:
+    """``mol`` with each charge-separated metal–donor bond, M(−)–X(+) (a common way to write a metalloporphyrin or a
+    bipyridine chelate), rewritten as the dative bond X→M with both charges moved back (X to 0, M up by one), so the
+    π perception sees a neutral donor whose lone pair goes to the metal rather than a cationic π atom. Returns the
+    input unchanged when there is nothing to rewrite or RDKit cannot sanitise the result."""
+    metals = set(_metals(mol))
+    pairs = []
+    for b in mol.GetBonds():
+        i, j = b.GetBeginAtomIdx(), b.GetEndAtomIdx()
+        if b.GetBondType() != Chem.BondType.SINGLE or (i in metals) == (j in metals):
+            continue
+        m, d = (i, j) if i in metals else (j, i)
+        if mol.GetAtomWithIdx(d).GetSymbol() in _DONORS and mol.GetAtomWithIdx(d).GetFormalCharge() > 0:
+            pairs.append((m, d))
+    if not pairs:
+        return mol
+    rw = Chem.RWMol(mol)
+    for m, d in pairs:
+        if rw.GetAtomWithIdx(m).GetFormalCharge() >= 0:
+            continue                          # only a metal that carries the balancing negative charge
+        rw.RemoveBond(m, d)
+        rw.AddBond(d, m, Chem.BondType.DATIVE)
+        rw.GetAtomWithIdx(d).SetFormalCharge(rw.GetAtomWithIdx(d).GetFormalCharge() - 1)
+        rw.GetAtomWithIdx(m).SetFormalCharge(rw.GetAtomWithIdx(m).GetFormalCharge() + 1)
+    out = rw.GetMol()
+    try:
+        with rdBase.BlockLogs():
+            Chem.SanitizeMol(Chem.Mol(out))
+    except Exception:                         # noqa: BLE001 - keep the input as written
+        return mol
     return out

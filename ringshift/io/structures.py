@@ -26,7 +26,7 @@ from rdkit import Chem
 
 from ringshift import limits as _limits
 from ringshift.errors import GeometryWarning, InputError
-from ringshift.geometry.metal_ligand import coordinate_metals, metal_proxy
+from ringshift.geometry.metal_ligand import coordinate_metals, metal_proxy, normalise_dative
 from ringshift.geometry.symmetry import EXCHANGE_RULES, group_equivalent_hydrogens
 from ringshift.io.molecule_files import (
     _check_chemistry,
@@ -258,6 +258,7 @@ def _complete(base: Chem.Mol, coords, energies, name: str, spec: str, prov: dict
               extra_starts=None) -> Structure:
     """Checks, conformers (when ``coords`` is None), the optional GFN2-xTB step, aromaticity and H groups."""
     generated = coords is None
+    base = normalise_dative(base)                 # M(−)–N(+) written bonds become N→M (geometry.metal_ligand)
     _limits.check_count(base.GetNumAtoms(), _limits.MAX_ATOMS, "atoms (hydrogens included)", _short(spec))
     _check_chemistry(base, _short(spec))
     net = Chem.GetFormalCharge(base)

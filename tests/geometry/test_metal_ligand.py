@@ -64,3 +64,16 @@ def test_two_notations_of_zinc_porphine_give_the_same_shifts(zinc_porphines):
     beta_bonded = np.average([p for p, n in bonded[:-1]], weights=[n for _, n in bonded[:-1]])
     assert abs(ionic[0][0] - beta_bonded) < 0.1 and abs(ionic[1][0] - bonded[-1][0]) < 0.05
     assert 8.5 < ionic[0][0] < ionic[1][0]
+
+
+def test_charge_separated_metal_porphine_matches_the_ion_pair():
+    # nickel porphine written with M(2-)–N(+) bonds (a common database form) is the same complex as the ion pair
+    # and must give the same shifts (common practice, no source); before, the proxy protonated the N(+) donors
+    # and the ligand embedded saddled, with no ring current
+    sep = "C1=CC2=[N+]3C1=Cc1ccc4[n]1[Ni-2]31[n]3c(ccc3=CC3=[N+]1C(=C4)C=C3)=C2"
+    pair = "[Ni+2].C1=CC2=NC1=CC1=CC=C([N-]1)C=C1C=CC(=N1)C=C1C=CC(=C2)[N-]1"
+    a, b = (sorted((round(g.predicted_ppm, 2), g.n_h) for g in predict(load_structure(s)).groups) for s in (sep, pair))
+    assert [n for _, n in a] == [n for _, n in b] == [8, 4]
+    assert all(abs(x - y) < 0.05 for (x, _), (y, _) in zip(a, b))
+    st = load_structure(sep)
+    assert all(at.GetFormalCharge() == 0 for at in st.mol.GetAtoms())
