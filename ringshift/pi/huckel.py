@@ -151,8 +151,12 @@ def shared_ring_overlap(pi: PiSystem, mol, local_bonds, overlap) -> np.ndarray:
     alternation 0.14 Å and 0.16 × benzene). A (4n+2)-electron perimeter below the alternation onset is
     delocalised (X-ray of 1,6-methano[10]annulene: Bianchi, Pilati & Simonetta, Acta Cryst. B 1980, 36, 3146,
     from memory; its GFN2-xTB geometry, Bannwarth, Ehlert & Grimme, J. Chem. Theory Comput. 2019, 15, 1652,
-    spreads the misalignment: |cos ω| 0.89–0.99), so each of its bonds takes the circuit's mean |cos ω| (a bond
-    in several such circuits, the mean of their means). A 4n-electron circuit is genuinely bond-alternated
+    spreads the misalignment: |cos ω| 0.89–0.99), so each of its bonds takes the circuit's geometric-mean |cos ω|
+    (a bond in several such circuits, the arithmetic mean of those). The geometric mean keeps the product of the
+    alignment factors around the loop, the term of the secular determinant that carries the flux through the ring
+    (a ring's only closed path; textbook tight-binding identity); an arithmetic mean would raise it whenever the
+    twist is uneven (1,6-methano[10]annulene 1.11 → 1.09 × benzene; an anti-bridged [14]annulene with two bonds
+    twisted 82°, 1.15 → 0.95). A 4n-electron circuit is genuinely bond-alternated
     (first-order Jahn–Teller) and keeps its bond-by-bond factors (GFN2-xTB [16]annulene twists four single
     bonds, |cos ω| 0.83, the others 1.00); so do bonds outside every (4n+2) circuit (biaryl links).
 
@@ -179,7 +183,7 @@ def shared_ring_overlap(pi: PiSystem, mol, local_bonds, overlap) -> np.ndarray:
         if any(pr not in pos for pr in pairs):
             continue
         idx = np.array([pos[pr] for pr in pairs], dtype=np.intp)
-        sums[idx] += float(np.mean(ov[idx]))
+        sums[idx] += float(np.exp(np.mean(np.log(np.maximum(ov[idx], 1e-6)))))
         counts[idx] += 1
     return np.where(counts > 0, sums / np.maximum(counts, 1), ov)
 
@@ -218,7 +222,7 @@ def huckel(pi: PiSystem, mol, coords=None, *, beta_model: str = "distance",
         Used for β(r) ("distance") and for the p-orbital alignment factor cos ω of every bond
         (β scaled by the cosine of the angle between the two tree-oriented p-orbital axes; the cosine law for
         twisted π bonds, common practice, no source; its sign carries Möbius topology, module notes); within a
-        (4n+2)-electron circuit the circuit's mean |cos ω| (:func:`shared_ring_overlap`).
+        (4n+2)-electron circuit the circuit's geometric-mean |cos ω| (:func:`shared_ring_overlap`).
     beta_model : "uniform" | "distance" | "scf" | "scf-coulson", keyword-only (see :mod:`ringshift.pi.huckel`)
     distortion : float, optional, keyword-only
         Explicit bond alternation δ (|δ| < 1): β × (1 + δ) for the Kekulé double bonds, × (1 − δ)
