@@ -247,6 +247,12 @@ def predict(structure: Structure, *, model: str = DEFAULT_MODEL, currents: str =
         sources = [f"huckel-london ({beta_model} beta)" if st == "ok" else "none: " + st for st in hl_status]
         for st in set(hl_status) - {"ok"}:
             notes.append(st)
+        if any(st.startswith("open shell") for st in hl_status):
+            # unpaired electrons shift ¹H signals by hyperfine (contact and pseudocontact) terms of tens of ppm and
+            # broaden them (common practice, no source): the diamagnetic sum below is no prediction of the spectrum
+            notes.append("open shell: the 'predicted' column is only the diamagnetic reference and charge terms; "
+                         "the 1H spectrum of a species with unpaired electrons is dominated by paramagnetic "
+                         "(hyperfine) shifts that this model does not contain, so do not compare it with a spectrum")
         notes.extend(london_notes(london, pi.warnings, labels, best))
     else:
         for c, (val, src) in enumerate(benzene_equivalent_currents(mol, loops)):

@@ -109,6 +109,16 @@ def test_open_shell_annulene_is_reported_not_given_a_number():
     assert c.current_nA_per_T is None and "open shell" in c.current_source
 
 
+def test_radical_prediction_says_the_column_is_no_spectrum():
+    # a π radical's ¹H shifts are paramagnetic (hyperfine) shifts (common practice, no source): the output must say
+    # that its diamagnetic sum is no prediction of the spectrum; the benzene radical cation, 5 π electrons
+    pred = predict(load_structure("C1=CC=C[CH+][CH]1"))
+    assert pred.circuits[0].current_nA_per_T is None
+    assert any("paramagnetic" in w and "do not compare" in w for w in pred.warnings)
+    closed = predict(load_structure("c1ccccc1"))
+    assert not any("paramagnetic" in w for w in closed.warnings)
+
+
 def test_kekule_average_option_keeps_naphthalene_and_is_recorded(naphthalene):
     # The Kekulé-mode average (ringshift.pi.kekule_mode) is normalised by benzene's own average, so a ring whose
     # current barely depends on the alternation keeps its shifts: naphthalene's ring-current shifts move by less
