@@ -102,11 +102,16 @@ def automorphisms(graph: Chem.Mol) -> np.ndarray:
     return np.array([ident] + [m for m in found if m != ident], dtype=int).reshape(-1, len(ident))
 
 
-def _free_single_bonds(mol: Chem.Mol, rank: list[int], hybridization, n_subs):
+def _free_single_bonds(mol: Chem.Mol, rank: list[int], hybridization, n_subs, *, aryl_links: bool = False):
     """(Y, Z, other neighbours of Y) over non-ring, non-conjugated single bonds Y-Z where Y has the given
-    hybridisation and ``n_subs(k)`` other neighbours, all of one topological class."""
+    hybridisation and ``n_subs(k)`` other neighbours, all of one topological class. ``aryl_links`` also admits a
+    conjugated single bond from an aromatic ring atom Y to a ring atom Z of another ring (a biaryl bond, the
+    meso-aryl bond of a tetraarylporphyrin)."""
     for bond in mol.GetBonds():
-        if bond.GetBondType() != Chem.BondType.SINGLE or bond.IsInRing() or bond.GetIsConjugated():
+        if bond.GetBondType() != Chem.BondType.SINGLE or bond.IsInRing():
+            continue
+        if bond.GetIsConjugated() and not (aryl_links and bond.GetBeginAtom().IsInRing()
+                                           and bond.GetEndAtom().IsInRing()):
             continue
         for y, z in ((bond.GetBeginAtom(), bond.GetEndAtom()), (bond.GetEndAtom(), bond.GetBeginAtom())):
             subs = [n.GetIdx() for n in y.GetNeighbors() if n.GetIdx() != z.GetIdx()]
@@ -147,8 +152,12 @@ def _rotor_sites(mol: Chem.Mol, rank: list[int]) -> tuple[np.ndarray, set, dict]
 
 def _ring_flips(mol: Chem.Mol, x: np.ndarray, rank: list[int], anchor: np.ndarray, beyond: set, tol_A: float):
     """(atoms, images) of 180 deg flips that carry a group onto itself within ``tol_A``: the group beyond
-    a free single bond Y-Z, Y sp2 with two other neighbours of one class (phenyl on an sp3 carbon)."""
-    for y, z, subs in _free_single_bonds(mol, rank, Chem.HybridizationType.SP2, lambda k: k == 2):
+    a free single bond Y-Z, Y sp2 with two other neighbours of one class (phenyl on an sp3 carbon), or an aryl
+    on a ring atom of another ring (biaryl, meso-aryl of a porphyrin: the two faces of a tilted aryl are
+    equivalent in the time average of the spectrum, TPP's eight ortho H give one signal)."""
+    for y, z, subs in _free_single_bonds(mol, rank, Chem.HybridizationType.SP2, lambda k: k == 2, aryl_links=True):
+        if mol.GetBondBetweenAtoms(y, z).GetIsConjugated() and not mol.GetAtomWithIdx(y).GetIsAromatic():
+            continue
         if mol.GetAtomWithIdx(z).GetDegree() < 2:
             # a flip about the bond to a terminal atom (an aryl C-H, C-Cl) moves the whole rest of the
             # molecule rigidly: a point-group operation, tested by the automorphism pass already
@@ -179,7 +188,8 @@ def group_equivalent_hydrogens(mol: Chem.Mol, coords: np.ndarray, *, tol_A: floa
     geometry with every heavy atom within ``tol_A`` (approximate point-group symmetry), carries one onto
     the other; each H follows its parent atom (the nearest image among the H of the image atom,
     one-to-one). Motions fast at any temperature are averaged first: H of a symmetric rotor (CH3, NH3+,
-    C(CH3)3, ...) form one site, O-H/S-H follow their atom, a phenyl on an sp3 carbon may flip. Graph
+    C(CH3)3, ...) form one site, O-H/S-H follow their atom, a phenyl on an sp3 carbon or an aryl on another
+    ring may flip. Graph
     symmetry alone (``Chem.CanonicalRankAtoms(mol, breakTies=False)``) lumps [18]annulene's inner and outer
     H and diastereotopic CH2 protons; no rotation or reflection of the geometry swaps those. Motions that
     leave a static minimum of lower symmetry are not averaged (ring inversion, the inner/outer exchange of

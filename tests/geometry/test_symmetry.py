@@ -290,3 +290,19 @@ def test_regular_large_annulene_is_one_group():
     Chem.SanitizeMol(mol)
     x = np.concatenate([r * u, (r + 1.08) * u])
     assert group_equivalent_hydrogens(mol, x) == (tuple(range(n, 2 * n)),)
+
+
+def test_meso_aryl_faces_are_one_group_in_tetraphenylporphyrin():
+    # the eight ortho H (and the eight meta H) of tetraphenylporphyrin give one signal each at room temperature
+    # (ortho 8.22 ppm, 8 H, CDCl3; Lindsey et al., J. Org. Chem. 1987, 52, 827, from memory): the porphyrin plane
+    # is a mirror of the time-averaged structure, so a phenyl's two faces are equivalent even though the lowest
+    # MMFF94 conformer tilts the phenyls; a flip about the meso-aryl bond relates them (slow exchange too)
+    from ringshift.io.structures import load_structure
+
+    tpp = ("c1ccc(cc1)-c1c2ccc(n2)c(-c2ccccc2)c2ccc([nH]2)c(-c2ccccc2)c2ccc(n2)c(-c2ccccc2)c2ccc1[nH]2")
+    st = load_structure(tpp)
+    mol = st.mol
+    phenyl_h = [h for h in range(mol.GetNumAtoms()) if mol.GetAtomWithIdx(h).GetAtomicNum() == 1
+                and mol.GetAtomWithIdx(h).GetNeighbors()[0].IsInRingSize(6)]
+    sizes = sorted(len(g) for g in st.h_groups if set(g) <= set(phenyl_h))
+    assert sizes == [4, 8, 8]                          # para, meta, ortho
