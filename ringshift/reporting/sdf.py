@@ -16,7 +16,7 @@ import io
 from pathlib import Path
 
 import numpy as np
-from rdkit import Chem
+from rdkit import Chem, rdBase
 
 from ringshift.errors import InputError
 from ringshift.io.writing import atomic_write
@@ -136,7 +136,9 @@ def structure_sdf(prediction, *, compare_result=None) -> str:
         else:
             Chem.CreateAtomDoublePropertyList(mol, name)
     buf = io.StringIO()
-    with Chem.SDWriter(buf) as w:
+    # a metal chelate's dative bonds have no V2000 code: RDKit logs "unrecognized bond type" for each and writes
+    # the record as V3000, which keeps them (measured with zinc porphine); the log lines are not for the user
+    with rdBase.BlockLogs(), Chem.SDWriter(buf) as w:
         w.SetKekulize(True)
         w.write(mol)
     return buf.getvalue()

@@ -15,7 +15,7 @@ from dataclasses import dataclass, field
 from functools import lru_cache
 
 import numpy as np
-from rdkit import Chem
+from rdkit import Chem, rdBase
 from rdkit.Chem import rdCoordGen, rdDepictor
 from rdkit.Chem.Draw import rdMolDraw2D
 from rdkit.Geometry import Point2D
@@ -271,7 +271,8 @@ def _depict(mol: Chem.Mol) -> None:
     rdDepictor.Compute2DCoords(mol)
     alt = Chem.Mol(mol)
     try:
-        rdCoordGen.AddCoords(alt)
+        with rdBase.BlockLogs():      # CoordGen logs "unrecognized bond type" for a metal's dative bonds
+            rdCoordGen.AddCoords(alt)
     except (RuntimeError, ValueError):  # pragma: no cover - CoordGen gives up on a few odd valences
         return
     if _depiction_badness(alt) + 0.1 < _depiction_badness(mol):
