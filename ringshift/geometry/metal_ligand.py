@@ -24,12 +24,13 @@ from dataclasses import dataclass
 import numpy as np
 from rdkit import Chem, rdBase
 
-__all__ = ["NON_METALS", "DONOR_RANGE_A", "MetalProxy", "metal_proxy", "coordinate_metals", "normalise_dative"]
+__all__ = ["NON_METALS", "DONOR_ELEMENTS", "DONOR_RANGE_A", "MetalProxy", "metal_proxy", "coordinate_metals",
+           "normalise_dative"]
 
 #: Elements that are not treated as metals (main-group non-metals and metalloids RDKit's bond perception knows).
 NON_METALS = frozenset("H He B C N O F Ne Si P S Cl Ar Ge As Se Br Kr Te I Xe".split())
 #: Donor elements of a chelate.
-_DONORS = ("N", "O", "S", "P")
+DONOR_ELEMENTS = ("N", "O", "S", "P")
 #: A donor atom at most this far from a metal is bonded to it, Å (metalloporphyrin M–N 1.9–2.1 Å; common
 #: practice, no source).
 DONOR_RANGE_A = 2.6
@@ -72,8 +73,16 @@ class MetalProxy:
         return out
 
 
+def _is_metal(atom: Chem.Atom) -> bool:
+    return atom.GetSymbol() not in NON_METALS
+
+
+def _metal_bound(atom: Chem.Atom) -> bool:
+    return any(_is_metal(nb) for nb in atom.GetNeighbors())
+
+
 def _metals(mol: Chem.Mol) -> list[int]:
-    return [a.GetIdx() for a in mol.GetAtoms() if a.GetSymbol() not in NON_METALS]
+    return [a.GetIdx() for a in mol.GetAtoms() if _is_metal(a)]
 
 
 def metal_proxy(mol: Chem.Mol) -> MetalProxy | None:
@@ -89,17 +98,17 @@ def metal_proxy(mol: Chem.Mol) -> MetalProxy | None:
     donors: dict[int, tuple[int, ...]] = {}
     unbonded = []
     for m in metals:
-        nbs = [nb for nb in mol.GetAtomWithIdx(m).GetNeighbors()]
+        nbs = list(mol.GetAtomWithIdx(m).GetNeighbors())
         if not nbs:
             unbonded.append(m)
             continue
-        if any(nb.GetSymbol() not in _DONORS for nb in nbs) or len(nbs) < 2:
+        if any(nb.GetSymbol() not in DONOR_ELEMENTS for nb in nbs) or len(nbs) < 2:
             return None
         donors[m] = tuple(nb.GetIdx() for nb in nbs)
     ionic = False
     if unbonded:
-        anionic = tuple(a.GetIdx() for a in mol.GetAtoms() if a.GetSymbol() in _DONORS and a.GetFormalCharge() == -1
-                        and not any(nb.GetSymbol() not in NON_METALS for nb in a.GetNeighbors()))
+        anionic = tuple(a.GetIdx() for a in mol.GetAtoms()
+                        if a.GetSymbol() in DONOR_ELEMENTS and a.GetFormalCharge() == -1 and not _metal_bound(a))
         if len(unbonded) != 1 or len(anionic) < 2 or mol.GetAtomWithIdx(unbonded[0]).GetFormalCharge() <= 0:
             return None
         donors[unbonded[0]] = anionic
@@ -133,9 +142,8 @@ def metal_proxy(mol: Chem.Mol) -> MetalProxy | None:
     to_proxy = np.full(mol.GetNumAtoms(), -1, dtype=np.intp)
     left = [i for i in range(mol.GetNumAtoms()) if i not in donors]
     to_proxy[left] = np.arange(len(left))
-    neutral = tuple(a.GetIdx() for a in mol.GetAtoms() if a.GetSymbol() in _DONORS and a.GetFormalCharge() == 0
-                    and a.GetTotalNumHs() == 0 and not any(nb.GetSymbol() not in NON_METALS
-                                                           for nb in a.GetNeighbors()))
+    neutral = tuple(a.GetIdx() for a in mol.GetAtoms() if a.GetSymbol() in DONOR_ELEMENTS and a.GetFormalCharge() == 0
+                    and a.GetTotalNumHs() == 0 and not _metal_bound(a))
     return MetalProxy(mol=proxy, to_proxy=to_proxy, donors=donors, ionic=ionic, neutral_donors=neutral)
 
 
@@ -147,7 +155,7 @@ def coordinate_metals(mol: Chem.Mol, xyz: np.ndarray) -> Chem.Mol | None:
     for mi in _metals(mol):
         metal = work.GetAtomWithIdx(mi)
         for a in work.GetAtoms():
-            if a.GetSymbol() not in _DONORS or work.GetBondBetweenAtoms(a.GetIdx(), mi) is not None \
+            if a.GetSymbol() not in DONOR_ELEMENTS or work.GetBondBetweenAtoms(a.GetIdx(), mi) is not None \
                     or float(np.linalg.norm(xyz[a.GetIdx()] - xyz[mi])) > DONOR_RANGE_A:
                 continue
             if a.GetFormalCharge() == -1 and metal.GetFormalCharge() > 0:
@@ -177,7 +185,7 @@ def normalise_dative(mol: Chem.Mol) -> Chem.Mol:
         if b.GetBondType() != Chem.BondType.SINGLE or (i in metals) == (j in metals):
             continue
         m, d = (i, j) if i in metals else (j, i)
-        if mol.GetAtomWithIdx(d).GetSymbol() in _DONORS and mol.GetAtomWithIdx(d).GetFormalCharge() > 0:
+        if mol.GetAtomWithIdx(d).GetSymbol() in DONOR_ELEMENTS and mol.GetAtomWithIdx(d).GetFormalCharge() > 0:
             pairs.append((m, d))
     if not pairs:
         return mol

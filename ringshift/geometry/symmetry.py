@@ -114,6 +114,8 @@ def _free_single_bonds(mol: Chem.Mol, rank: list[int], hybridization, n_subs, *,
                                            and bond.GetEndAtom().IsInRing()):
             continue
         for y, z in ((bond.GetBeginAtom(), bond.GetEndAtom()), (bond.GetEndAtom(), bond.GetBeginAtom())):
+            if bond.GetIsConjugated() and not y.GetIsAromatic():
+                continue
             subs = [n.GetIdx() for n in y.GetNeighbors() if n.GetIdx() != z.GetIdx()]
             if y.GetHybridization() == hybridization and n_subs(len(subs)) and len({rank[k] for k in subs}) == 1:
                 yield y.GetIdx(), z.GetIdx(), subs
@@ -156,8 +158,6 @@ def _ring_flips(mol: Chem.Mol, x: np.ndarray, rank: list[int], anchor: np.ndarra
     on a ring atom of another ring (biaryl, meso-aryl of a porphyrin: the two faces of a tilted aryl are
     equivalent in the time average of the spectrum, TPP's eight ortho H give one signal)."""
     for y, z, subs in _free_single_bonds(mol, rank, Chem.HybridizationType.SP2, lambda k: k == 2, aryl_links=True):
-        if mol.GetBondBetweenAtoms(y, z).GetIsConjugated() and not mol.GetAtomWithIdx(y).GetIsAromatic():
-            continue
         if mol.GetAtomWithIdx(z).GetDegree() < 2:
             # a flip about the bond to a terminal atom (an aryl C-H, C-Cl) moves the whole rest of the
             # molecule rigidly: a point-group operation, tested by the automorphism pass already

@@ -18,7 +18,7 @@ from rdkit.Chem import rdDetermineBonds
 from ringshift import limits as _limits
 from ringshift.constants import KCAL_PER_HARTREE, KCAL_PER_KJ
 from ringshift.errors import GeometryWarning, InputError
-from ringshift.geometry.metal_ligand import NON_METALS, coordinate_metals
+from ringshift.geometry.metal_ligand import DONOR_ELEMENTS, DONOR_RANGE_A, NON_METALS, coordinate_metals
 from ringshift.io.xyz import parse_xyz_frames
 
 __all__ = ['read_mol_records', 'ENERGY_PROPERTIES']
@@ -139,9 +139,6 @@ def _read_xyz(path: Path) -> tuple[list[str], np.ndarray]:
     return list(frames[0].symbols), np.stack([f.coords for f in frames])
 
 
-#: Elements RDKit's bond perception handles (main-group non-metals and metalloids); any other element in an XYZ file
-#: is read as a metal ion (:func:`_bonds_with_metal_ions`).
-_PERCEIVABLE = NON_METALS
 #: Oxidation states tried for metal ions, most common first (common practice, no source).
 _METAL_CHARGES = (2, 3, 1, 4)
 
@@ -152,7 +149,8 @@ def _ligand_bonds(symbols: list[str], xyz: np.ndarray, charge: int, metal_xyz: n
     RDKit's bond perception fails on some anions that it reads as the conjugate acid (measured: the porphine
     dianion of a zinc porphyrin, "Final molecular charge (-2) does not match input (-4)", while free-base porphine
     works). So a negative ligand is also tried with temporary protons on the |charge| donor atoms nearest a metal
-    (N, O, S, P within 2.6 Å; H 1.01 Å from the donor towards the metal; at most 30 choices of donors), perceived
+    (``DONOR_ELEMENTS`` within ``DONOR_RANGE_A`` of :mod:`ringshift.geometry.metal_ligand`; H 1.01 Å from the
+    donor towards the metal; at most 30 choices of donors), perceived
     neutral; the protons are then removed and their donors carry −1 (a pyrrolide N keeps the bonds of its NH).
     """
     try:
@@ -163,7 +161,7 @@ def _ligand_bonds(symbols: list[str], xyz: np.ndarray, charge: int, metal_xyz: n
     from itertools import combinations, islice
 
     dist = np.linalg.norm(xyz[:, None, :] - metal_xyz[None, :, :], axis=2).min(axis=1)
-    donors = [i for i in np.argsort(dist, kind="stable") if symbols[i] in ("N", "O", "S", "P") and dist[i] <= 2.6]
+    donors = [i for i in np.argsort(dist, kind="stable") if symbols[i] in DONOR_ELEMENTS and dist[i] <= DONOR_RANGE_A]
     for chosen in islice(combinations(donors, -charge), 30):
         extra = []
         for i in chosen:
@@ -196,8 +194,8 @@ def _bonds_with_metal_ions(symbols: list[str], xyz: np.ndarray, charge: int) -> 
     valid bond assignment; a metal–ligand bond is kept outside the π system anyway (ringshift.pi.perception).
     Raises the last RDKit exception when no charge fits.
     """
-    organic = [i for i, s in enumerate(symbols) if s in _PERCEIVABLE]
-    metals = [i for i, s in enumerate(symbols) if s not in _PERCEIVABLE]
+    organic = [i for i, s in enumerate(symbols) if s in NON_METALS]
+    metals = [i for i, s in enumerate(symbols) if s not in NON_METALS]
     last: Exception | None = None
     for m in _METAL_CHARGES:
         try:
@@ -228,8 +226,8 @@ def _bonds_with_metal_ions(symbols: list[str], xyz: np.ndarray, charge: int) -> 
         ionic = rw.GetMol()
         bonded = coordinate_metals(ionic, xyz)
         names = ", ".join(sorted({symbols[i] for i in metals}))
-        how = ("bonded to the donor atoms within 2.6 Å (a single bond from each anionic donor, a dative bond from "
-               "each neutral one)" if bonded is not None else "left unbonded")
+        how = (f"bonded to the donor atoms within {DONOR_RANGE_A:g} Å (a single bond from each anionic donor, a "
+               "dative bond from each neutral one)" if bonded is not None else "left unbonded")
         warnings.warn(GeometryWarning(
             f"metal {names}: an XYZ file carries no bonds to it, so it is read as {names}{m:+d} beside ligands of "
             f"net charge {charge - m * len(metals):+d} (the first of the charges "
@@ -242,7 +240,7 @@ def _bonds_with_metal_ions(symbols: list[str], xyz: np.ndarray, charge: int) -> 
 
 def _bonds_from_xyz(symbols: list[str], xyz: np.ndarray, charge: int) -> Chem.Mol:
     """RDKit bond perception (design notes §7); raises RDKit's exception when the charge does not fit."""
-    if any(s not in _PERCEIVABLE for s in symbols) and any(s in _PERCEIVABLE for s in symbols):
+    if any(s not in NON_METALS for s in symbols) and any(s in NON_METALS for s in symbols):
         return _bonds_with_metal_ions(symbols, xyz, charge)
     rw = Chem.RWMol()
     for sym in symbols:
